@@ -1,0 +1,1 @@
+"""The `sitesettle` command (installed as the package sitesettle_cli)."""

@@ -1,0 +1,1 @@
+"""Reading project folders and writing results: the edge where units and files live."""

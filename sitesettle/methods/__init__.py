@@ -1,0 +1,1 @@
+"""Published settlement models, one module each, as pure vectorised functions."""

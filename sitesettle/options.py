@@ -1,0 +1,62 @@
+"""String options, each a :class:`Choice` that lists its valid values in errors."""
+
+from __future__ import annotations
+
+import enum
+
+
+class Choice(enum.StrEnum):
+    """A string option whose unknown values raise an error listing the valid ones."""
+
+    @classmethod
+    def parse(cls, value: object, where: str) -> "Choice":
+        """Return the member named by ``value``; raise InputError naming ``where`` otherwise."""
+        from sitesettle.errors import InputError
+
+        text = str(value).strip().lower().replace("-", "_").replace(" ", "_")
+        for member in cls:
+            if member.value == text:
+                return member
+        valid = ", ".join(f'"{m.value}"' for m in cls)
+        raise InputError(where, f'unknown value "{value}"', f"one of {valid}")
+
+
+class Behaviour(Choice):
+    """How a stratum deforms."""
+
+    GRANULAR = "granular"  #: drained, immediate settlement (sand, gravel)
+    COHESIVE = "cohesive"  #: consolidates with time (clay, silt)
+    RIGID = "rigid"  #: incompressible base: the integration stops at its top
+
+
+class GranularMethod(Choice):
+    """Settlement method for a footing's own load on granular strata."""
+
+    SCHMERTMANN = "schmertmann"  #: Schmertmann, Hartman & Brown (1978)
+    SCHMERTMANN_1970 = "schmertmann_1970"  #: Schmertmann (1970) 2B-0.6 diagram, E = 2 qc
+    ELASTIC = "elastic"  #: elastic strain integration of the Boussinesq stresses
+    BURLAND_BURBIDGE = "burland_burbidge"  #: Burland & Burbidge (1985), SPT N
+
+
+class Drainage(Choice):
+    """Drainage boundaries of a cohesive stratum."""
+
+    BOTH = "both"  #: drained at top and bottom: H_dr = H/2
+    TOP = "top"  #: drained at the top only: H_dr = H
+    BOTTOM = "bottom"  #: drained at the bottom only: H_dr = H
+
+
+class EndOfPrimary(Choice):
+    """Convention for the time at which secondary compression starts."""
+
+    U95 = "u95"  #: the time at which the average degree of consolidation reaches 95 % (Tv = 1.129)
+    U90 = "u90"  #: 90 % (Tv = 0.848)
+    TV1 = "tv1"  #: Tv = 1 (U = 93 %)
+    GIVEN = "given"  #: a time given in the stratum (key end_of_primary)
+
+
+class ShapeInterpolation(Choice):
+    """How Schmertmann (1978) parameters vary for 1 < L/B < 10."""
+
+    LINEAR = "linear"  #: linear in L/B between the two published diagrams (common practice)
+    LOG = "log"  #: modulus factor 2.5 [1 + 0.4 log10(L/B)] (from memory, Terzaghi, Peck & Mesri 1996)

@@ -1,0 +1,193 @@
+"""Results as plain data: what :func:`sitesettle.analyse` returns.
+
+Arrays are in core units (m, kPa, years, radians). Settlement is positive downward.
+Index ``i`` of every per-footing array is ``site.footings[i]``; index ``k`` of every
+per-time array is ``times[k]``.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from sitesettle.site import Site
+
+
+@dataclass(frozen=True)
+class Trace:
+    """Layer-by-layer calculation of one footing at one evaluation point.
+
+    One row per sublayer (arrays of equal length), at the design life. The
+    settlements of the sublayers add up to the footing's settlement at that point.
+
+    Attributes
+    ----------
+    point : tuple[float, float]
+        Plan position of the evaluation point [m] (centre, or a characteristic point).
+    top, bottom : ndarray
+        Sublayer top and bottom depth below ground [m].
+    stratum : tuple[str, ...]
+        Stratum of each sublayer.
+    method : tuple[str, ...]
+        Method used for the footing's own load in each sublayer.
+    sigma_v0 : ndarray
+        In-situ vertical effective stress at mid-sublayer [kPa].
+    own_stress, neighbour_stress : ndarray
+        Δσz at mid-sublayer from the footing's own load and from all the others [kPa]
+        (sustained load for cohesive strata, full service load for granular).
+    strain : ndarray
+        Vertical strain of the sublayer (own + neighbours), dimensionless.
+    own_settlement, neighbour_settlement : ndarray
+        Settlement of the sublayer [m] from the footing's own load and from the
+        others' (for consolidation: total minus own alone, see the method notes).
+    influence : ndarray
+        Schmertmann strain-influence factor Iz where that method applies, else NaN.
+    """
+
+    point: tuple[float, float]
+    top: np.ndarray
+    bottom: np.ndarray
+    stratum: tuple[str, ...]
+    method: tuple[str, ...]
+    sigma_v0: np.ndarray
+    own_stress: np.ndarray
+    neighbour_stress: np.ndarray
+    strain: np.ndarray
+    own_settlement: np.ndarray
+    neighbour_settlement: np.ndarray
+    influence: np.ndarray
+
+
+@dataclass(frozen=True)
+class SettlementMap:
+    """Settlement at the design life on a regular plan grid.
+
+    ``x`` (nx,) and ``y`` (ny,) are the grid lines [m]; ``settlement`` (ny, nx) [m];
+    ``method`` says how it was computed (shown on the figure).
+    """
+
+    x: np.ndarray
+    y: np.ndarray
+    settlement: np.ndarray
+    method: str
+
+
+@dataclass(frozen=True)
+class PairChecks:
+    """Every checked pair of footings (arrays of length n_pairs).
+
+    ``a`` and ``b`` are footing indices (``a < b`` for automatic pairs);
+    ``differential`` [m] and ``angular_distortion`` are of the checked movement
+    (after ``checked_after`` when set); ``limit`` is a readable statement of the
+    governing limit (``"angular distortion ≤ 1/500"``), ``limit_value`` its number
+    in core units, ``limit_measure`` its measure, ``limit_source`` its source;
+    ``utilisation`` = value ÷ limit of the governing (largest) utilisation.
+    """
+
+    a: np.ndarray
+    b: np.ndarray
+    span: np.ndarray
+    differential: np.ndarray
+    angular_distortion: np.ndarray
+    limit: tuple[str, ...]
+    limit_value: np.ndarray
+    limit_measure: tuple[str, ...]
+    limit_source: tuple[str, ...]
+    utilisation: np.ndarray
+    passed: np.ndarray
+    origin: tuple[str, ...] = ()  # "auto", "listed" or "line"
+
+
+@dataclass(frozen=True)
+class LineChecks:
+    """Relative deflection along each user-given structure line."""
+
+    ids: tuple[tuple[str, ...], ...]
+    length: np.ndarray  # [m]
+    relative_deflection: np.ndarray  # Δ [m], + sagging, − hogging
+    deflection_ratio: np.ndarray  # Δ/L
+    limit: tuple[str, ...]
+    limit_value: np.ndarray
+    limit_source: tuple[str, ...]
+    utilisation: np.ndarray
+    passed: np.ndarray
+
+
+@dataclass(frozen=True)
+class Checks:
+    """Outcome of the movement checks.
+
+    ``footing_passed`` (n_f,) and ``footing_reasons`` (n_f,) say, per footing, whether
+    its total settlement and tilt pass and why not; ``building_tilt`` [rad] and
+    ``building_tilt_direction`` [deg from east, direction of steepest descent]
+    come from the least-squares plane through the footing settlements.
+    ``criteria`` names the set; ``sources`` lists every source cited.
+    """
+
+    criteria: str
+    sources: tuple[str, ...]
+    pairs: PairChecks
+    lines: LineChecks | None
+    footing_passed: np.ndarray
+    footing_reasons: tuple[str, ...]
+    footing_limit_total: float
+    footing_limit_source: str
+    building_tilt: float
+    building_tilt_direction: float
+    checked_after: float = 0.0
+
+    @property
+    def all_passed(self) -> bool:
+        """True when every footing, pair and structure line passes."""
+        ok = bool(np.all(self.footing_passed)) and bool(np.all(self.pairs.passed))
+        if self.lines is not None:
+            ok = ok and bool(np.all(self.lines.passed))
+        return ok
+
+
+@dataclass(frozen=True)
+class Results:
+    """Per-footing settlements over time, traces, the map and the checks.
+
+    Settlement arrays are (n_footings, n_times) [m] at the footing level (mean of
+    the characteristic points for rigid footings, centre for flexible ones).
+    ``total = immediate + consolidation + secondary = own + neighbours``.
+    ``point_total`` (n_footings, n_points, n_times) keeps each evaluation point.
+    """
+
+    site: Site
+    times: np.ndarray
+    design_life_index: int
+    immediate: np.ndarray
+    consolidation: np.ndarray
+    secondary: np.ndarray
+    own: np.ndarray
+    neighbours: np.ndarray
+    point_xy: np.ndarray  # (n_f, n_points, 2)
+    point_total: np.ndarray  # (n_f, n_points, n_times)
+    tilt: np.ndarray  # (n_f,) [rad] at the design life
+    tilt_direction: np.ndarray  # (n_f,) [deg from east] direction of steepest descent
+    net_pressure: np.ndarray  # (n_f,) full service [kPa]
+    sustained_net_pressure: np.ndarray  # (n_f,) [kPa]
+    influence_depth: np.ndarray  # (n_f,) depth below ground where integration stopped [m]
+    methods: tuple[str, ...]  # per footing, e.g. "schmertmann + consolidation"
+    outside_hull: np.ndarray  # (n_f,) bool: footing centre outside the boreholes' hull
+    traces: dict[str, tuple[Trace, ...]]
+    map: SettlementMap | None = None
+    checks: Checks | None = None
+    warnings: tuple[str, ...] = field(default_factory=tuple)
+
+    @property
+    def total(self) -> np.ndarray:
+        """Total settlement (n_footings, n_times) [m]."""
+        return self.immediate + self.consolidation + self.secondary
+
+    @property
+    def ids(self) -> tuple[str, ...]:
+        """Footing ids in order."""
+        return tuple(f.id for f in self.site.footings)
+
+    def at_design_life(self, name: str = "total") -> np.ndarray:
+        """One settlement array (``"total"``, ``"own"``…) at the design life [m]."""
+        return getattr(self, name)[:, self.design_life_index]

@@ -1,0 +1,265 @@
+"""The site as plain data: footings, strata, boreholes, soundings and settings.
+
+No I/O here: :mod:`sitesettle.io` builds these from a project folder, tests build
+them directly. Every quantity is a float in the core units of :mod:`sitesettle.units`
+(m, kN, kPa, kN/m³, m²/yr, years). Coordinates: x east, y north, z depth below a
+level ground surface, positive down.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from sitesettle.options import Behaviour, Drainage, EndOfPrimary, GranularMethod, ShapeInterpolation
+
+#: default average unit weight of footing concrete and backfill above the base [kN/m³]
+#: (common practice: 20 kN/m³)
+DEFAULT_FILL_UNIT_WEIGHT = 20.0
+#: unit weight of water [kN/m³] (common practice: 9.81)
+WATER_UNIT_WEIGHT = 9.81
+
+
+@dataclass(frozen=True)
+class Footing:
+    """One shallow footing.
+
+    Attributes
+    ----------
+    id : str
+        Unique name (``"C12"``, ``"W3"``).
+    outline : numpy.ndarray
+        (n, 2) plan vertices [m], counter-clockwise, not closed (first != last).
+        A rectangle has 4 vertices; a circle keeps its exact shape in ``shape``
+        and ``radius`` (the outline is a fine polygon for drawing only).
+    shape : str
+        ``"rectangle"``, ``"circle"`` or ``"polygon"``.
+    x, y : float
+        Plan centroid [m].
+    width, length : float
+        B ≤ L [m]: the sides of a rectangle, the diameter of a circle, and for a
+        polygon the sides of its minimum rotated bounding rectangle.
+    rotation : float
+        Angle of the long axis (L) from east, counter-clockwise [degrees].
+    depth : float
+        Depth of the base below ground [m].
+    dead_load, live_load : float
+        Service loads on the base [kN] (column or wall load, excluding the
+        footing's own weight and backfill unless ``fill_unit_weight`` is 0).
+    sustained_live_fraction : float
+        Part of the live load that is sustained and counts for consolidation
+        and creep (0–1).
+    rigid : bool
+        Rigid footings settle as the mean of the four characteristic points.
+    fill_unit_weight : float
+        Average unit weight γ_f of footing and backfill above the base [kN/m³];
+        0 means the loads already include them.
+    """
+
+    id: str
+    outline: np.ndarray
+    shape: str
+    x: float
+    y: float
+    width: float
+    length: float
+    rotation: float
+    depth: float
+    dead_load: float
+    live_load: float = 0.0
+    sustained_live_fraction: float = 0.0
+    rigid: bool = True
+    fill_unit_weight: float = DEFAULT_FILL_UNIT_WEIGHT
+
+    @property
+    def area(self) -> float:
+        """Plan area [m²] (exact for circles)."""
+        if self.shape == "circle":
+            return math.pi * self.width**2 / 4.0
+        xy = np.asarray(self.outline, dtype=float)
+        x, y = xy[:, 0], xy[:, 1]
+        return 0.5 * abs(float(np.dot(x, np.roll(y, -1)) - np.dot(y, np.roll(x, -1))))
+
+    @property
+    def radius(self) -> float:
+        """Radius of a circular footing [m] (half the width)."""
+        return self.width / 2.0
+
+    @property
+    def service_load(self) -> float:
+        """Dead plus live load [kN]: the load for immediate settlement."""
+        return self.dead_load + self.live_load
+
+    @property
+    def sustained_load(self) -> float:
+        """Dead plus the sustained part of live load [kN]: the load for consolidation and creep."""
+        return self.dead_load + self.sustained_live_fraction * self.live_load
+
+    def axes(self) -> tuple[np.ndarray, np.ndarray]:
+        """Unit vectors along the long (L) and short (B) axes in plan."""
+        a = math.radians(self.rotation)
+        return np.array([math.cos(a), math.sin(a)]), np.array([-math.sin(a), math.cos(a)])
+
+
+@dataclass(frozen=True)
+class Stratum:
+    """One stratum of the site's ordered list (top-down).
+
+    Parameters common to all: ``name``, ``behaviour``, ``unit_weight`` (above the
+    water table) and ``saturated_unit_weight`` (below) [kN/m³], ``poisson``.
+
+    Granular: ``youngs_modulus`` [kPa] given, or ``cone_resistance`` [kPa] as a
+    value (or from the soundings when ``use_soundings``), or ``spt_n`` (blows per
+    300 mm, uncorrected); ``method`` overrides the site's granular method;
+    ``gravel`` and ``fine_or_silty`` select the Burland & Burbidge N corrections;
+    ``preconsolidation`` [kPa] marks a preloaded sand for Burland & Burbidge.
+
+    Cohesive: ``compression_index`` Cc, ``recompression_index`` Cr,
+    ``void_ratio`` e0, ``preconsolidation`` σ'p [kPa] or ``ocr``,
+    ``consolidation_coefficient`` cv [m²/yr], ``secondary_index`` Cα,
+    ``drainage``, optional ``undrained_modulus`` [kPa] for immediate settlement,
+    optional ``end_of_primary`` [yr] when the settings ask for a given time.
+    """
+
+    name: str
+    behaviour: Behaviour
+    unit_weight: float = 18.0
+    saturated_unit_weight: float = 20.0
+    poisson: float = 0.3
+    # granular
+    youngs_modulus: float | None = None
+    cone_resistance: float | None = None
+    use_soundings: bool = False
+    spt_n: float | None = None
+    method: GranularMethod | None = None
+    gravel: bool = False
+    fine_or_silty: bool = False
+    # cohesive
+    compression_index: float | None = None
+    recompression_index: float | None = None
+    void_ratio: float | None = None
+    preconsolidation: float | None = None
+    ocr: float | None = None
+    consolidation_coefficient: float | None = None
+    secondary_index: float = 0.0
+    drainage: Drainage = Drainage.BOTH
+    undrained_modulus: float | None = None
+    end_of_primary: float | None = None
+
+
+@dataclass(frozen=True)
+class Interval:
+    """One stratum met in a borehole, from ``top`` to ``bottom`` depth [m].
+
+    ``overrides`` holds measured parameter values for this interval that replace
+    the stratum's (keys are :class:`Stratum` field names, values in core units).
+    """
+
+    stratum: str
+    top: float
+    bottom: float
+    overrides: dict[str, float] = field(default_factory=dict)
+
+
+@dataclass(frozen=True)
+class Borehole:
+    """A borehole: plan position [m], intervals top-down, optional water depth [m]."""
+
+    id: str
+    x: float
+    y: float
+    intervals: tuple[Interval, ...]
+    water_depth: float | None = None
+
+
+@dataclass(frozen=True)
+class Sounding:
+    """A cone sounding: plan position, depths [m] (increasing), qc and optional fs [kPa]."""
+
+    id: str
+    x: float
+    y: float
+    depth: np.ndarray
+    qc: np.ndarray
+    fs: np.ndarray | None = None
+
+
+@dataclass(frozen=True)
+class AnalysisSettings:
+    """How the settlements are computed (keys of ``[analysis]`` in site.toml)."""
+
+    granular_method: GranularMethod = GranularMethod.SCHMERTMANN
+    shape_interpolation: ShapeInterpolation = ShapeInterpolation.LINEAR
+    report_times: tuple[float, ...] = (0.1, 1.0, 5.0, 10.0)
+    design_life: float = 50.0
+    #: the integration stops where Δσz < influence_fraction · σ'v0 (common practice 0.1–0.2)
+    influence_fraction: float = 0.1
+    #: never integrate deeper than this below the base, in footing widths
+    max_depth_widths: float = 10.0
+    #: sublayer thickness as a fraction of the footing width (capped by stratum boundaries)
+    sublayer_fraction: float = 0.1
+    end_of_primary: EndOfPrimary = EndOfPrimary.U95
+    #: Burland & Burbidge time factor: R3 and R (static loads; Burland & Burbidge 1985)
+    bb_r3: float = 0.3
+    bb_r: float = 0.2
+    #: settlement map grid spacing [m] (0: chosen from the plan) and margin [m]
+    map_spacing: float = 0.0
+    map_margin: float = 5.0
+    #: stress engine tolerance as a fraction of the largest footing pressure (0: exact)
+    stress_tolerance: float = 1e-3
+    #: clay immediate settlement from undrained_modulus where given
+    cohesive_immediate: bool = True
+
+
+@dataclass(frozen=True)
+class CheckSettings:
+    """How the movements are checked (keys of ``[checks]`` in site.toml)."""
+
+    criteria: str = "eurocode7"
+    overrides: dict[str, float] = field(default_factory=dict)
+    #: check only the movement after this time [yr] (0: all movement)
+    checked_after: float = 0.0
+    #: automatic neighbour rule ("auto") or "listed" (pairs only from the pairs file)
+    pairs: str = "auto"
+    #: user-listed pairs (a, b) and structure lines (ordered ids)
+    listed_pairs: tuple[tuple[str, str], ...] = ()
+    structure_lines: tuple[tuple[str, ...], ...] = ()
+    #: remove the building's rigid-body tilt before computing angular distortion
+    remove_tilt: bool = False
+
+
+@dataclass(frozen=True)
+class Site:
+    """Everything the analysis needs, in core units."""
+
+    name: str
+    footings: tuple[Footing, ...]
+    strata: tuple[Stratum, ...]
+    boreholes: tuple[Borehole, ...]
+    soundings: tuple[Sounding, ...] = ()
+    #: site-wide depth of the water table [m] (boreholes may give their own); inf: none
+    water_depth: float = math.inf
+    analysis: AnalysisSettings = field(default_factory=AnalysisSettings)
+    checks: CheckSettings = field(default_factory=CheckSettings)
+    #: coordinate reference system of the input (WKT or "EPSG:xxxx"), kept for outputs
+    crs: str | None = None
+    #: output units: "si" or "us"
+    units: str = "si"
+    #: free project information (client, job number, engineer, notes)
+    info: dict[str, str] = field(default_factory=dict)
+
+    def stratum(self, name: str) -> Stratum:
+        """The stratum called ``name`` (KeyError listing the names otherwise)."""
+        for s in self.strata:
+            if s.name == name:
+                return s
+        raise KeyError(f"no stratum {name!r}; strata are {[s.name for s in self.strata]}")
+
+    def footing(self, fid: str) -> Footing:
+        """The footing called ``fid`` (KeyError listing a few ids otherwise)."""
+        for f in self.footings:
+            if f.id == fid:
+                return f
+        raise KeyError(f"no footing {fid!r}; footings include {[f.id for f in self.footings[:8]]}")

@@ -1,0 +1,146 @@
+"""Quantities at the edges: one pint registry and :func:`parse`.
+
+The core of sitesettle works in plain floats in these units (its "SI" contract):
+
+=================  ===========  ==========================================
+dimension          core unit    examples accepted on input
+=================  ===========  ==========================================
+``length``         m            ``1.2``, ``"1.2 m"``, ``"4 ft"``, ``"18 in"``
+``area``           m²           ``"2.5 m^2"``, ``"30 ft^2"``
+``force``          kN           ``850``, ``"850 kN"``, ``"56 kip"``
+``pressure``       kPa          ``150``, ``"150 kPa"``, ``"1.5 ksf"``, ``"25 MPa"``, ``"2 tsf"``
+``unit_weight``    kN/m³        ``19``, ``"19 kN/m^3"``, ``"120 pcf"``
+``diffusivity``    m²/yr        ``2``, ``"0.8 m^2/yr"``, ``"10 ft^2/day"``
+``time``           yr           ``50``, ``"50 yr"``, ``"6 months"``
+``angle``          degrees      ``30``, ``"30 deg"``, ``"0.5 rad"``
+``dimensionless``  1            ``0.3``, ``"30 %"``
+=================  ===========  ==========================================
+
+A bare number takes the core unit of its dimension. ``tsf`` is the short (US) ton
+of 2000 lbf per square foot, ``pcf`` is lbf/ft³, ``ksf`` is kip/ft² (NIST SP 811).
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from functools import lru_cache
+
+from sitesettle.errors import InputError
+
+#: core unit and a human example for each dimension
+DIMENSIONS: dict[str, tuple[str, str]] = {
+    "length": ("m", '"1.2 m" or "4 ft"'),
+    "area": ("m**2", '"2.5 m^2" or "30 ft^2"'),
+    "force": ("kN", '"850 kN" or "56 kip"'),
+    "pressure": ("kPa", '"150 kPa", "1.5 ksf" or "25 MPa"'),
+    "unit_weight": ("kN/m**3", '"19 kN/m^3" or "120 pcf"'),
+    "diffusivity": ("m**2/year", '"0.8 m^2/yr" or "10 ft^2/day"'),
+    "time": ("year", '"50 yr" or "6 months"'),
+    "angle": ("degree", '"30 deg" or "0.5 rad"'),
+    "dimensionless": ("dimensionless", '"0.3" or "30 %"'),
+}
+
+_NAMES = {
+    "length": "a length",
+    "area": "an area",
+    "force": "a force",
+    "pressure": "a pressure",
+    "unit_weight": "a unit weight",
+    "diffusivity": "a coefficient of consolidation (area per time)",
+    "time": "a time",
+    "angle": "an angle",
+    "dimensionless": "a plain number",
+}
+
+
+@lru_cache(maxsize=1)
+def registry():
+    """The one pint UnitRegistry of sitesettle, with the trade's US units added."""
+    import pint
+
+    ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+    ureg.define("pcf = lbf / foot ** 3")
+    ureg.define("ksf = kip / foot ** 2")
+    ureg.define("psf = lbf / foot ** 2")
+    ureg.define("tsf = 2000 * lbf / foot ** 2")
+    return ureg
+
+
+_NUMBER = re.compile(r"^[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?$")
+
+
+def _describe(q) -> str:
+    dims = q.dimensionality
+    for name, (unit, _) in DIMENSIONS.items():
+        if dims == registry()(unit).dimensionality:
+            return _NAMES[name]
+    return f"of dimension {dims}"
+
+
+def parse(value: object, dimension: str, where: str) -> float:
+    """Parse a value with an optional unit into a float in the core unit.
+
+    Parameters
+    ----------
+    value : str, int or float
+        ``"150 kPa"``, ``"4 ft"``, ``12.5`` (a bare number takes the core unit).
+    dimension : str
+        One of the keys of :data:`DIMENSIONS`.
+    where : str
+        The place of the value, used in the error message.
+
+    Returns
+    -------
+    float
+        The value in the core unit of ``dimension``. NaN and infinities are refused.
+
+    Examples
+    --------
+    >>> round(parse("4 ft", "length", "x"), 6)
+    1.2192
+    >>> round(parse("1 ksf", "pressure", "x"), 4)
+    47.8803
+    >>> parse(12, "pressure", "x")
+    12.0
+    """
+    unit, example = DIMENSIONS[dimension]
+    if isinstance(value, bool):
+        raise InputError(where, f"{value!r} is not a number", f"{_NAMES[dimension]} such as {example}")
+    if isinstance(value, (int, float)):
+        out = float(value)
+    else:
+        text = str(value).strip()
+        if not text:
+            raise InputError(where, "the value is empty", f"{_NAMES[dimension]} such as {example}")
+        if _NUMBER.match(text):
+            out = float(text)
+        elif text.lower() in ("nan", "inf", "-inf", "+inf", "infinity", "-infinity"):
+            out = float(text)
+        else:
+            text = text.replace("^", "**").replace("%", " percent").replace("²", "**2").replace("³", "**3")
+            ureg = registry()
+            try:
+                q = ureg.Quantity(text)
+            except Exception:  # pint raises many kinds of errors on unparseable text
+                raise InputError(
+                    where, f'cannot read "{value}" as a number with a unit',
+                    f"{_NAMES[dimension]} such as {example}") from None
+            if not isinstance(q, ureg.Quantity):
+                out = float(q)
+            else:
+                try:
+                    out = float(q.to(unit).magnitude)
+                except Exception:
+                    raise InputError(
+                        where, f'"{value}" is {_describe(q)}',
+                        f"{_NAMES[dimension]} such as {example}") from None
+    if not math.isfinite(out):
+        raise InputError(where, f'"{value}" is not a finite number', f"{_NAMES[dimension]} such as {example}")
+    return out
+
+
+def convert(value: float, dimension: str, unit: str) -> float:
+    """Convert a core-unit float of ``dimension`` to ``unit`` (for output in other units)."""
+    ureg = registry()
+    return float(ureg.Quantity(value, DIMENSIONS[dimension][0]).to(unit).magnitude)
