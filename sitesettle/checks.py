@@ -1,0 +1,742 @@
+"""Movement checks: neighbour pairs, movement measures and their limits.
+
+Pure functions on arrays (core units: m, years, radians) and one entry point,
+:func:`check_movements`, that fills :class:`sitesettle.results.Checks`. The
+definitions of the measures follow Burland, Broms & de Mello (1977) and
+EN 1997-1:2004 Fig. H.1 (METHODS.md §6.1); the rule that finds neighbouring
+footings is documented in docs/criteria.md.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+
+import numpy as np
+from scipy.spatial import cKDTree
+
+from sitesettle.criteria import MEASURES, CriteriaSet, Limit, format_value, get_criteria
+from sitesettle.errors import InputError
+from sitesettle.options import Choice
+from sitesettle.results import Checks, LineChecks, PairChecks
+from sitesettle.site import CheckSettings, Footing
+
+#: relative tolerance of the neighbour rule: a footing c blocks the pair ab only when
+#: max(d(a,c), d(b,c)) < (1 − tol)·d(a,b), so that exact ties (equilateral triangles,
+#: points on a common circle) are decided the same way after rounding.
+NEIGHBOUR_TOLERANCE = 1e-9
+#: a rectangle or polygon longer than this many widths is represented by points along
+#: its long centre-line when neighbours are searched (wall strips)
+ELONGATED_RATIO = 2.0
+#: at most this many centre-line points per elongated footing
+MAX_LINE_SAMPLES = 200
+#: nearest points queried per footing before the exhaustive fallback
+_K_NEAREST = 32
+
+
+class PairRule(Choice):
+    """Which pairs of footings are checked."""
+
+    AUTO = "auto"  #: the automatic neighbour rule plus listed pairs and structure lines
+    LISTED = "listed"  #: listed pairs and consecutive footings of structure lines only
+
+
+# --- neighbour pairs ---------------------------------------------------------------------
+
+
+def _sector_candidates(xy: np.ndarray, tol: float) -> np.ndarray:
+    """Pairs (a, b) where b is the nearest point to a in one of six 60° sectors.
+
+    Every edge ab of the relative neighbourhood graph is such a pair: if c lies in
+    the same 60° sector of a as b and d(a,c) < d(a,b), then the angle bac ≤ 60° gives
+    d(b,c)² ≤ d(a,b)² − d(a,c)(d(a,b) − d(a,c)) < d(a,b)², so c blocks ab. Points at
+    the same place as a are returned as candidates too.
+    """
+    n = len(xy)
+    tree = cKDTree(xy)
+    k = min(n, _K_NEAREST)
+    dist, idx = tree.query(xy, k=k)
+    dist, idx = dist.reshape(n, k), idx.reshape(n, k)
+    scale = max(float(np.ptp(xy, axis=0).max()), 1.0)
+    tie = 1.0 + 4.0 * tol
+
+    def pick(a_rows: np.ndarray, d: np.ndarray, j: np.ndarray, complete: bool):
+        """Candidates from the neighbour lists (rows) of points a_rows."""
+        a = np.repeat(a_rows[:, None], d.shape[1], axis=1)
+        other = j != a
+        same_place = other & (d <= tol * scale)
+        use = other & ~same_place
+        delta = xy[j] - xy[a]
+        sector = np.floor((np.arctan2(delta[..., 1], delta[..., 0]) + math.pi) / (math.pi / 3))
+        sector = np.clip(sector, 0, 5).astype(int)
+        near = np.full((len(a_rows), 6), np.inf)
+        for s in range(6):
+            near[:, s] = np.where(use & (sector == s), d, np.inf).min(axis=1)
+        keep = use & (d <= np.take_along_axis(near, sector, axis=1) * tie)
+        keep |= same_place
+        if complete:
+            settled = np.ones(len(a_rows), dtype=bool)
+        else:
+            settled = np.all(near * tie < d[:, -1:], axis=1)
+        return a[keep & settled[:, None]], j[keep & settled[:, None]], a_rows[~settled]
+
+    a1, b1, todo = pick(np.arange(n), dist, idx, complete=(k == n))
+    pairs = [np.stack([a1, b1], axis=1)]
+    for a in todo:  # hull points, collinear plans: look at every point
+        d = np.hypot(*(xy - xy[a]).T)[None, :]
+        aa, bb, _ = pick(np.array([a]), d, np.arange(n)[None, :], complete=True)
+        pairs.append(np.stack([aa, bb], axis=1))
+    cand = np.concatenate(pairs).astype(np.intp)
+    cand = np.sort(cand, axis=1)
+    return np.unique(cand, axis=0)
+
+
+def neighbour_pairs(xy: np.ndarray, groups: np.ndarray | None = None) -> np.ndarray:
+    """Neighbouring points: the edges of their relative neighbourhood graph.
+
+    Parameters
+    ----------
+    xy : array_like
+        (n, 2) plan positions [m].
+    groups : array_like of int, optional
+        (n,) label of the footing each point belongs to (several points along a wall
+        strip). Pairs are then pairs of labels, and points of one label never pair.
+
+    Returns
+    -------
+    numpy.ndarray
+        (n_pairs, 2) int: each pair once, ``a < b``, sorted by (a, b).
+
+    Notes
+    -----
+    The pair ab is kept when no other point c is nearer to both:
+
+    .. math:: \\nexists c:\\ \\max(d(a,c),\\ d(b,c)) < d(a,b)
+
+    (Toussaint 1980 [1]_). The graph is connected, contains the Euclidean minimum
+    spanning tree and is a subgraph of the Delaunay triangulation; on a square
+    column grid it gives exactly the grid-line neighbours (no diagonals, since the
+    other two corners of the square block them); on a rectangular grid every
+    grid-line neighbour; points on a line pair with their immediate neighbours. It
+    has no degenerate cases: ties (``max = d(a,b)``) keep the pair, within
+    :data:`NEIGHBOUR_TOLERANCE`. Computed without a triangulation: candidates are the
+    nearest points in six 60° sectors around each point (every edge is one), each
+    tested with a k-d tree ball query.
+
+    References
+    ----------
+    .. [1] Toussaint, G.T. (1980). The relative neighbourhood graph of a finite planar
+       set. Pattern Recognition 12(4), 261–268.
+
+    Examples
+    --------
+    >>> neighbour_pairs([[0, 0], [1, 0], [0, 1], [1, 1]]).tolist()
+    [[0, 1], [0, 2], [1, 3], [2, 3]]
+    """
+    xy = np.asarray(xy, dtype=float).reshape(-1, 2)
+    if not np.all(np.isfinite(xy)):
+        raise ValueError("neighbour_pairs: every position must be finite")
+    n = len(xy)
+    g = np.arange(n) if groups is None else np.asarray(groups, dtype=np.intp)
+    if n < 2:
+        return np.zeros((0, 2), dtype=np.intp)
+    tol = NEIGHBOUR_TOLERANCE
+    cand = _sector_candidates(xy, tol)
+    cand = cand[g[cand[:, 0]] != g[cand[:, 1]]]
+    a, b = cand[:, 0], cand[:, 1]
+    r = np.hypot(*(xy[a] - xy[b]).T)
+    tree = cKDTree(xy)
+    balls = tree.query_ball_point(xy[a], r)
+    sizes = np.fromiter((len(x) for x in balls), dtype=np.intp, count=len(balls))
+    c = np.fromiter((i for ball in balls for i in ball), dtype=np.intp, count=int(sizes.sum()))
+    owner = np.repeat(np.arange(len(cand)), sizes)
+    dac = np.hypot(*(xy[c] - xy[a[owner]]).T)
+    dbc = np.hypot(*(xy[c] - xy[b[owner]]).T)
+    blocks = (c != a[owner]) & (c != b[owner]) & (np.maximum(dac, dbc) < (1 - tol) * r[owner])
+    blocked = np.zeros(len(cand), dtype=bool)
+    np.logical_or.at(blocked, owner, blocks)
+    pairs = np.sort(np.stack([g[a[~blocked]], g[b[~blocked]]], axis=1), axis=1)
+    return np.unique(pairs, axis=0).reshape(-1, 2)
+
+
+def centre_line_points(footings: Sequence[Footing]) -> tuple[np.ndarray, np.ndarray]:
+    """Points that stand for each footing in the neighbour search.
+
+    A footing is its centroid, except a rectangle or polygon longer than
+    :data:`ELONGATED_RATIO` widths (a wall strip): that is represented by points at
+    most one width apart along its long centre-line, the segment of length L − B
+    through the centroid along the long axis.
+
+    Returns
+    -------
+    xy : numpy.ndarray
+        (n_points, 2) [m].
+    groups : numpy.ndarray
+        (n_points,) index of the footing each point belongs to.
+    """
+    xy, groups = [], []
+    for i, f in enumerate(footings):
+        centre = np.array([f.x, f.y], dtype=float)
+        if f.shape != "circle" and f.width > 0 and f.length > ELONGATED_RATIO * f.width:
+            c = f.length - f.width
+            n = int(min(MAX_LINE_SAMPLES, max(2, math.ceil(c / f.width) + 1)))
+            t = np.linspace(-c / 2, c / 2, n)
+            xy.append(centre + t[:, None] * f.axes()[0])
+            groups.append(np.full(n, i))
+        else:
+            xy.append(centre[None, :])
+            groups.append(np.array([i]))
+    if not xy:
+        return np.zeros((0, 2)), np.zeros(0, dtype=np.intp)
+    return np.concatenate(xy), np.concatenate(groups).astype(np.intp)
+
+
+def footing_pairs(footings: Sequence[Footing]) -> np.ndarray:
+    """Automatic neighbour pairs of footings (indices into ``footings``).
+
+    The relative neighbourhood graph (:func:`neighbour_pairs`) of the points of
+    :func:`centre_line_points`, so that a long wall strip pairs with every pad
+    beside it, not only with the one nearest its centroid.
+
+    Returns
+    -------
+    numpy.ndarray
+        (n_pairs, 2) int, ``a < b``, sorted.
+    """
+    xy, groups = centre_line_points(footings)
+    return neighbour_pairs(xy, groups)
+
+
+# --- measures ------------------------------------------------------------------------------
+
+
+def angular_distortion(settlement_a, settlement_b, span) -> np.ndarray:
+    """Angular distortion (relative rotation) of a pair of footings.
+
+    Parameters
+    ----------
+    settlement_a, settlement_b : array_like
+        Settlements [m] (downward positive).
+    span : array_like
+        Distance between the two footings [m].
+
+    Returns
+    -------
+    numpy.ndarray
+        β = |s_a − s_b| / span [-]; ∞ for two footings at one place that settle
+        differently, 0 when they settle alike.
+
+    Notes
+    -----
+    .. math:: \\beta = \\frac{|s_a - s_b|}{L_{ab}}
+
+    Burland, Broms & de Mello (1977) [1]_ call δs/L the rotation and β the relative
+    rotation or angular distortion once the tilt of the whole structure is removed;
+    pass tilt-free settlements to get the latter (see :func:`remove_plane`).
+
+    References
+    ----------
+    .. [1] Burland, J.B., Broms, B.B. & de Mello, V.F.B. (1977). Behaviour of
+       foundations and structures. Proc. 9th ICSMFE, Tokyo, 2, 495–546.
+
+    Examples
+    --------
+    >>> float(angular_distortion(0.030, 0.018, 6.0))
+    0.002
+    """
+    diff = np.abs(np.asarray(settlement_a, dtype=float) - np.asarray(settlement_b, dtype=float))
+    span = np.asarray(span, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        beta = diff / span
+    return np.where(span > 0, beta, np.where(diff > 0, np.inf, np.where(diff == 0, 0.0, np.nan)))
+
+
+def plane_fit(xy, s) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Least-squares plane through settlements at plan points.
+
+    Parameters
+    ----------
+    xy : array_like
+        (..., n, 2) plan positions [m]; rows with a NaN coordinate are left out
+        (padding for footings with fewer evaluation points).
+    s : array_like
+        (..., n) settlements [m].
+
+    Returns
+    -------
+    c0, gx, gy : numpy.ndarray
+        (...) coefficients of s ≈ c0 + gx·x + gy·y ([m], [-], [-]). With one point, or
+        with points on one line, the unknown slope is taken as 0 (minimum-norm
+        solution: the plane is level across the line). NaN where a used settlement is NaN
+        or no point is usable.
+
+    Notes
+    -----
+    Solves the normal equations of the centred coordinates with a pseudo-inverse,
+    so the slopes do not depend on where the origin is.
+
+    Examples
+    --------
+    >>> c0, gx, gy = plane_fit([[0, 0], [2, 0], [0, 1], [2, 1]], [0.01, 0.03, 0.02, 0.04])
+    >>> [round(float(v), 6) for v in (c0, gx, gy)]
+    [0.01, 0.01, 0.01]
+    """
+    xy = np.asarray(xy, dtype=float)
+    s = np.asarray(s, dtype=float)
+    ok = np.all(np.isfinite(xy), axis=-1)  # (..., n)
+    w = ok.astype(float)
+    count = w.sum(axis=-1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        mean_xy = np.where(ok[..., None], xy, 0.0).sum(axis=-2) / count[..., None]
+        s_used = np.where(ok, s, 0.0)
+        mean_s = s_used.sum(axis=-1) / count
+    X = np.where(ok[..., None], xy - mean_xy[..., None, :], 0.0)
+    X = np.nan_to_num(X)
+    r = np.where(ok, s - mean_s[..., None], 0.0)
+    A = np.swapaxes(X, -1, -2) @ X  # (..., 2, 2)
+    rhs = np.einsum("...ni,...n->...i", X, r)
+    lam, vec = np.linalg.eigh(A)
+    big = np.max(lam, axis=-1, keepdims=True)
+    inv = np.where(lam > 1e-12 * np.maximum(big, 1e-300), 1.0 / np.where(lam > 0, lam, 1.0), 0.0)
+    proj = np.einsum("...ji,...j->...i", vec, rhs) * inv
+    g = np.einsum("...ij,...j->...i", vec, proj)
+    g = np.where(np.isfinite(rhs).all(axis=-1, keepdims=True), g, np.nan)
+    gx, gy = g[..., 0], g[..., 1]
+    c0 = mean_s - gx * mean_xy[..., 0] - gy * mean_xy[..., 1]
+    none = count == 0
+    return (np.where(none, np.nan, c0), np.where(none, np.nan, gx), np.where(none, np.nan, gy))
+
+
+def tilt_from_gradient(gx, gy) -> tuple[np.ndarray, np.ndarray]:
+    """Tilt magnitude and direction of a settlement plane s = c0 + gx·x + gy·y.
+
+    Returns
+    -------
+    tilt : numpy.ndarray
+        arctan |∇s| [rad].
+    direction : numpy.ndarray
+        Direction of steepest descent of the tilted base (the way the settlement
+        grows), degrees counter-clockwise from east in [0, 360); 0 when level.
+
+    Examples
+    --------
+    >>> t, d = tilt_from_gradient(0.0, -0.004)
+    >>> round(float(t), 6), float(d)
+    (0.004, 270.0)
+    """
+    gx = np.asarray(gx, dtype=float)
+    gy = np.asarray(gy, dtype=float)
+    tilt = np.arctan(np.hypot(gx, gy))
+    direction = np.mod(np.degrees(np.arctan2(gy, gx)), 360.0)
+    direction = np.where(np.isnan(tilt), np.nan, direction)
+    return tilt, direction
+
+
+def footing_tilt(point_xy, point_s) -> tuple[np.ndarray, np.ndarray]:
+    """Tilt of footings from the settlement of their evaluation points.
+
+    Parameters
+    ----------
+    point_xy : array_like
+        (..., n_p, 2) plan positions of each footing's evaluation points [m] (the
+        four characteristic points of a rigid footing; NaN rows for unused points).
+    point_s : array_like
+        (..., n_p) their settlements [m].
+
+    Returns
+    -------
+    tilt, direction : numpy.ndarray
+        (...) tilt [rad] and direction of steepest descent [deg from east] of the
+        least-squares plane through the points (:func:`plane_fit`); 0 for a footing
+        with a single point (flexible footings evaluated at the centre).
+
+    Examples
+    --------
+    >>> xy = [[-0.74, -0.74], [0.74, -0.74], [-0.74, 0.74], [0.74, 0.74]]
+    >>> t, d = footing_tilt(xy, [0.010, 0.012, 0.010, 0.012])
+    >>> round(float(t) * 1480), float(d)
+    (2, 0.0)
+    """
+    _, gx, gy = plane_fit(point_xy, point_s)
+    return tilt_from_gradient(gx, gy)
+
+
+def remove_plane(xy, s) -> np.ndarray:
+    """Settlements with the least-squares plane's slope removed (rigid-body tilt).
+
+    The mean is kept, so totals stay comparable; differences between points then
+    exclude the tilt ω of the whole group (β = θ − ω, Burland, Broms & de Mello 1977).
+
+    Examples
+    --------
+    >>> remove_plane([[0, 0], [10, 0], [20, 0]], [0.01, 0.02, 0.03]).round(6).tolist()
+    [0.02, 0.02, 0.02]
+    """
+    xy = np.asarray(xy, dtype=float)
+    s = np.asarray(s, dtype=float)
+    _, gx, gy = plane_fit(xy, s)
+    mean = xy.mean(axis=-2)
+    return s - (
+        gx[..., None] * (xy[..., 0] - mean[..., None, 0])
+        + gy[..., None] * (xy[..., 1] - mean[..., None, 1])
+    )
+
+
+def relative_deflection(xy, s) -> tuple[np.ndarray, np.ndarray]:
+    """Relative deflection Δ of a structure line and its length L.
+
+    Parameters
+    ----------
+    xy : array_like
+        (n, 2) plan positions of the footings along the line, in order [m].
+    s : array_like
+        (..., n) their settlements [m].
+
+    Returns
+    -------
+    delta : numpy.ndarray
+        (...) largest displacement of the settlement profile from the chord joining
+        its two ends [m]; positive when the profile sags (settles more than the
+        chord), negative when it hogs.
+    length : float
+        Length of the line measured along it [m] (the chord's abscissa is the
+        distance along the line).
+
+    Notes
+    -----
+    With chainage x_i along the line and L = x_n:
+
+    .. math:: d_i = s_i - \\left[s_1 + (s_n - s_1)\\,x_i / L\\right],\\quad
+              \\Delta = d_{k},\\ k = \\arg\\max_i |d_i|
+
+    Deflection ratio Δ/L (Burland & Wroth 1974; Burland, Broms & de Mello 1977;
+    EN 1997-1:2004 Fig. H.1).
+
+    Examples
+    --------
+    >>> d, L = relative_deflection([[0, 0], [5, 0], [10, 0]], [0.010, 0.025, 0.020])
+    >>> round(float(d), 6), float(L)
+    (0.01, 10.0)
+    """
+    xy = np.asarray(xy, dtype=float).reshape(-1, 2)
+    s = np.asarray(s, dtype=float)
+    seg = np.hypot(*np.diff(xy, axis=0).T)
+    chain = np.concatenate([[0.0], np.cumsum(seg)])
+    length = float(chain[-1])
+    if length <= 0:
+        raise ValueError("relative_deflection: the line has no length")
+    chord = s[..., :1] + (s[..., -1:] - s[..., :1]) * (chain / length)
+    d = s - chord
+    k = np.argmax(np.where(np.isnan(d), np.inf, np.abs(d)), axis=-1)
+    delta = np.take_along_axis(d, k[..., None], axis=-1)[..., 0]
+    return delta, length
+
+
+def movement_after(times, s, t_after: float) -> np.ndarray:
+    """The part of the settlement that happens after ``t_after``.
+
+    Parameters
+    ----------
+    times : array_like
+        (n_t,) increasing report times [yr] (≥ 0).
+    s : array_like
+        (..., n_t) settlement at those times [m].
+    t_after : float
+        Time from which the structure is sensitive (finishes fixed, cladding hung) [yr].
+
+    Returns
+    -------
+    numpy.ndarray
+        (..., n_t): s(t) − s(t_after) for t ≥ t_after, 0 before. s(t_after) is
+        interpolated linearly in log time between the report times (exact at a report
+        time); before the first report time it is interpolated linearly from s = 0 at
+        t = 0 (which counts some of the first movement as late: on the safe side).
+        ``t_after`` ≤ 0 returns ``s`` unchanged.
+
+    Raises
+    ------
+    InputError
+        When ``t_after`` is after the last report time.
+
+    Examples
+    --------
+    >>> movement_after([1.0, 10.0, 100.0], [0.010, 0.020, 0.030], 10.0).round(6).tolist()
+    [0.0, 0.0, 0.01]
+    >>> movement_after([1.0, 100.0], [0.010, 0.030], 10.0).round(6).tolist()
+    [0.0, 0.01]
+    """
+    times = np.asarray(times, dtype=float)
+    s = np.asarray(s, dtype=float)
+    if t_after <= 0:
+        return s.copy()
+    if t_after > times[-1]:
+        raise InputError(
+            "[checks] checked_after",
+            f"{t_after:g} yr is after the last report time ({times[-1]:g} yr)",
+            "a time within the design life",
+        )
+    t = times
+    sv = s
+    if times[0] > 0:  # prepend the origin: s = 0 at t = 0
+        t = np.concatenate([[0.0], times])
+        sv = np.concatenate([np.zeros(s.shape[:-1] + (1,)), s], axis=-1)
+    j = int(np.clip(np.searchsorted(t, t_after, side="right") - 1, 0, len(t) - 2))
+    t0, t1 = t[j], t[j + 1]
+    if t0 <= 0:
+        w = (t_after - t0) / (t1 - t0)
+    else:
+        w = (math.log(t_after) - math.log(t0)) / (math.log(t1) - math.log(t0))
+    s_after = sv[..., j] * (1 - w) + sv[..., j + 1] * w
+    return np.where(times >= t_after, s - s_after[..., None], 0.0)
+
+
+# --- the checks of a plan ----------------------------------------------------------------
+
+
+def _utilisation(value: np.ndarray, limit: Limit) -> np.ndarray:
+    return np.abs(value) / limit.value
+
+
+def _index(ids: dict[str, int], fid: str, where: str) -> int:
+    if fid not in ids:
+        some = ", ".join(f'"{k}"' for k in list(ids)[:8])
+        raise InputError(
+            where, f'unknown footing id "{fid}"', f"an id of the footings file ({some}…)"
+        )
+    return ids[fid]
+
+
+def _pair_list(footings: Sequence[Footing], settings: CheckSettings):
+    """Pairs to check: {(a, b): origin}, plus the structure lines as index arrays."""
+    rule = PairRule.parse(settings.pairs, "[checks] pairs")
+    ids = {f.id: i for i, f in enumerate(footings)}
+    if len(ids) != len(footings):
+        raise InputError("footings", "footing ids are not unique", "one row per footing id")
+    pairs: dict[tuple[int, int], str] = {}
+    if rule == PairRule.AUTO:
+        for a, b in footing_pairs(footings):
+            pairs[(int(a), int(b))] = "auto"
+    for fa, fb in settings.listed_pairs:
+        where = f'listed pair ("{fa}", "{fb}")'
+        a, b = _index(ids, fa, where), _index(ids, fb, where)
+        if a == b:
+            raise InputError(where, "a footing cannot pair with itself", "two different ids")
+        pairs[(min(a, b), max(a, b))] = "listed"
+    lines = []
+    for n, line in enumerate(settings.structure_lines):
+        where = f"structure line {n + 1} ({', '.join(line[:3])}{'…' if len(line) > 3 else ''})"
+        if len(line) < 2:
+            raise InputError(where, "a structure line needs at least two footings", "2 or more ids")
+        idx = np.array([_index(ids, fid, where) for fid in line], dtype=np.intp)
+        if np.any(idx[1:] == idx[:-1]) or len(set(idx.tolist())) != len(idx):
+            raise InputError(where, "a footing appears twice", "each footing once, in order")
+        lines.append(idx)
+        for a, b in zip(idx[:-1], idx[1:]):
+            pairs[(int(min(a, b)), int(max(a, b)))] = "line"
+    return pairs, lines
+
+
+def _govern(values: list[np.ndarray], limits: list[list[Limit | None]], n: int):
+    """Largest utilisation per item over the applicable limits (NaN if any is NaN)."""
+    util = np.full((len(values), n), -np.inf)
+    for m, (v, lims) in enumerate(zip(values, limits)):
+        lv = np.array([lim.value if lim else np.nan for lim in lims])
+        has = np.array([lim is not None for lim in lims], dtype=bool)
+        with np.errstate(invalid="ignore"):
+            u = np.abs(v) / lv
+        util[m] = np.where(has, np.where(np.isnan(u), np.nan, u), -np.inf)
+    filled = np.where(np.isnan(util), np.inf, util)
+    k = np.argmax(filled, axis=0) if len(values) else np.zeros(n, dtype=int)
+    best = util[k, np.arange(n)] if len(values) else np.full(n, -np.inf)
+    gov = [limits[k[i]][i] if len(values) else None for i in range(n)]
+    best = np.where(np.isinf(best) & (best < 0), np.nan, best)
+    no_limit = np.array([g is None for g in gov], dtype=bool)
+    passed = np.where(no_limit, True, best <= 1.0)
+    return best, gov, passed
+
+
+def check_movements(
+    footings: Sequence[Footing],
+    times: np.ndarray,
+    total: np.ndarray,
+    point_xy: np.ndarray,
+    point_total: np.ndarray,
+    settings: CheckSettings,
+    *,
+    design_life_index: int = -1,
+) -> Checks:
+    """Check every footing, neighbour pair and structure line against a criteria set.
+
+    Parameters
+    ----------
+    footings : sequence of Footing
+        The plan; index ``i`` of every array below is ``footings[i]``.
+    times : numpy.ndarray
+        (n_t,) report times [yr], increasing.
+    total : numpy.ndarray
+        (n_f, n_t) footing-level total settlement [m].
+    point_xy : numpy.ndarray
+        (n_f, n_p, 2) evaluation points of each footing [m] (NaN rows if unused).
+    point_total : numpy.ndarray
+        (n_f, n_p, n_t) their total settlement [m].
+    settings : CheckSettings
+        Criteria set and overrides, ``checked_after``, pair rule, listed pairs and
+        structure lines, ``remove_tilt``.
+    design_life_index : int
+        Column of the design life in the time axis.
+
+    Returns
+    -------
+    Checks
+
+    Notes
+    -----
+    * Total settlement is checked as computed (all of it); differential settlement,
+      angular distortion, footing tilt, building tilt and deflection ratios are of
+      the movement after ``settings.checked_after`` (:func:`movement_after`).
+    * Span = distance between footing centroids; differential = |s_a − s_b| of the
+      footing-level settlements; β = differential / span, of the settlements with
+      the building's plane removed when ``settings.remove_tilt``.
+    * A pair on a structure line that hogs (Δ < 0) is held to the set's hogging
+      angular-distortion limit when it has one.
+    * A movement that cannot be computed (NaN) fails; a movement the set has no
+      limit for passes and is reported.
+    """
+    footings = tuple(footings)
+    n_f = len(footings)
+    times = np.asarray(times, dtype=float)
+    total = np.asarray(total, dtype=float).reshape(n_f, len(times))
+    point_xy = np.asarray(point_xy, dtype=float)
+    point_total = np.asarray(point_total, dtype=float)
+    if point_xy.shape[0] != n_f or point_total.shape[:2] != point_xy.shape[:2]:
+        raise ValueError("check_movements: point arrays do not match the footings")
+    cset: CriteriaSet = get_criteria(settings.criteria, settings.overrides)
+    k = design_life_index
+    t_after = float(settings.checked_after)
+
+    moved = movement_after(times, total, t_after)[:, k]  # (n_f,)
+    point_moved = movement_after(times, point_total, t_after)[..., k]  # (n_f, n_p)
+    s_total = total[:, k]
+    xy = np.array([[f.x, f.y] for f in footings], dtype=float).reshape(n_f, 2)
+
+    # building tilt from the checked movement
+    _, gx, gy = plane_fit(xy, moved) if n_f else (np.nan, np.nan, np.nan)
+    b_tilt, b_dir = tilt_from_gradient(gx, gy)
+    s_beta = remove_plane(xy, moved) if (settings.remove_tilt and n_f) else moved
+
+    # structure lines
+    pair_origin, lines = _pair_list(footings, settings)
+    hog_pairs: set[tuple[int, int]] = set()
+    line_checks = None
+    if lines:
+        deltas, lengths = [], []
+        for idx in lines:
+            d, length = relative_deflection(xy[idx], moved[idx])
+            deltas.append(float(d))
+            lengths.append(length)
+            if d < 0:
+                hog_pairs.update(
+                    (int(min(a, b)), int(max(a, b))) for a, b in zip(idx[:-1], idx[1:])
+                )
+        deltas_a = np.array(deltas)
+        lengths_a = np.array(lengths)
+        ratio = deltas_a / lengths_a
+        sag = cset.limit("deflection_ratio")
+        hog = cset.limit("deflection_ratio_hog") or sag
+        lims = [hog if d < 0 else sag for d in deltas]
+        util, gov, passed = _govern([ratio], [lims], len(lines))
+        line_checks = LineChecks(
+            ids=tuple(tuple(footings[i].id for i in idx) for idx in lines),
+            length=lengths_a,
+            relative_deflection=deltas_a,
+            deflection_ratio=ratio,
+            limit=tuple(
+                g.describe() if g else f"no deflection-ratio limit in {cset.name}" for g in gov
+            ),
+            limit_value=np.array([g.value if g else np.nan for g in gov]),
+            limit_source=tuple(g.source if g else "" for g in gov),
+            utilisation=util,
+            passed=passed.astype(bool),
+        )
+
+    # pairs
+    keys = sorted(pair_origin)
+    a = np.array([p[0] for p in keys], dtype=np.intp)
+    b = np.array([p[1] for p in keys], dtype=np.intp)
+    n_p = len(keys)
+    span = np.hypot(*(xy[a] - xy[b]).T) if n_p else np.zeros(0)
+    differential = np.abs(moved[a] - moved[b])
+    beta = angular_distortion(s_beta[a], s_beta[b], span)
+    beta_sag = cset.limit("angular_distortion")
+    beta_hog = cset.limit("angular_distortion_hog") or beta_sag
+    beta_lims = [beta_hog if key in hog_pairs else beta_sag for key in keys]
+    diff_lim = cset.limit("differential")
+    util, gov, passed = _govern([beta, differential], [beta_lims, [diff_lim] * n_p], n_p)
+    pair_checks = PairChecks(
+        a=a,
+        b=b,
+        span=span,
+        differential=differential,
+        angular_distortion=beta,
+        limit=tuple(g.describe() if g else f"no pair limit in {cset.name}" for g in gov),
+        limit_value=np.array([g.value if g else np.nan for g in gov]),
+        limit_measure=tuple(g.measure if g else "" for g in gov),
+        limit_source=tuple(g.source if g else "" for g in gov),
+        utilisation=util,
+        passed=passed.astype(bool),
+        origin=tuple(pair_origin[key] for key in keys),
+    )
+
+    # footings: total (all of it) and tilt (of the checked movement)
+    tot_lim = cset.limit("total")
+    tilt_lim = cset.limit("tilt")
+    tilt, _ = footing_tilt(point_xy, point_moved)
+    ok = np.ones(n_f, dtype=bool)
+    reasons = []
+    for i in range(n_f):
+        why = []
+        for measure, value, lim in (("total", s_total[i], tot_lim), ("tilt", tilt[i], tilt_lim)):
+            if lim is None:
+                continue
+            if not np.isfinite(value):
+                why.append(f"{measure} not computed")
+            elif value > lim.value:
+                why.append(
+                    f"{measure} {format_value(measure, value)} > "
+                    f"{format_value(measure, lim.value)} ({lim.source})"
+                )
+        ok[i] = not why
+        reasons.append("; ".join(why))
+
+    return Checks(
+        criteria=cset.name,
+        sources=cset.sources,
+        pairs=pair_checks,
+        lines=line_checks,
+        footing_passed=ok,
+        footing_reasons=tuple(reasons),
+        footing_limit_total=tot_lim.value if tot_lim else math.nan,
+        footing_limit_source=tot_lim.source if tot_lim else "",
+        building_tilt=float(b_tilt),
+        building_tilt_direction=float(b_dir),
+        checked_after=t_after,
+    )
+
+
+__all__ = [
+    "ELONGATED_RATIO",
+    "MEASURES",
+    "NEIGHBOUR_TOLERANCE",
+    "PairRule",
+    "angular_distortion",
+    "centre_line_points",
+    "check_movements",
+    "footing_pairs",
+    "footing_tilt",
+    "movement_after",
+    "neighbour_pairs",
+    "plane_fit",
+    "relative_deflection",
+    "remove_plane",
+    "tilt_from_gradient",
+]
