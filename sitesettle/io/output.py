@@ -1,0 +1,483 @@
+"""The results folder: tables, GeoPackage, figures and report, written atomically.
+
+:func:`write_results` builds every file in a temporary folder beside the target
+and swaps it into place, so a results folder is always complete: either the new
+one or, after any error or Ctrl-C, the old one untouched.
+
+The tables are also available as DataFrames (:func:`footing_table`,
+:func:`pair_table`, :func:`time_table`) and the summary as a dict
+(:func:`summary_dict`) for the command line and for tests. Column names carry
+their units: ``total_mm``, ``span_m``, ``q_net_kPa`` in SI, ``total_in``,
+``span_ft``, ``q_net_ksf`` in US units. Conversions use the exact factors of
+NIST SP 811 (2008), Appendix B: 1 ft = 0.3048 m, 1 in = 25.4 mm,
+1 lbf = 4.448 221 615 260 5 N.
+
+CSV and JSON output is deterministic: the same Results give byte-identical
+files (fixed decimals per column, sorted JSON keys, no dates). The run date
+appears in report.html only; set ``SOURCE_DATE_EPOCH`` to make it fixed too.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import shutil
+import tempfile
+import uuid
+from collections.abc import Callable
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+import sitesettle
+from sitesettle.errors import OutputError
+from sitesettle.results import Results
+
+#: exact conversion factors, NIST SP 811 (2008) Appendix B.8 / B.9
+FOOT = 0.3048  # m
+INCH = 0.0254  # m
+KIP = 4.4482216152605  # kN (1000 lbf)
+KSF = KIP / FOOT**2  # kPa (kip per square foot)
+
+#: every file that write_results makes (section.png only when a section is given)
+OUTPUT_FILES = ("footings.csv", "pairs.csv", "settlement_time.csv", "summary.json", "site.gpkg",
+                "plan.png", "contours.png", "settlement_time.png", "section.png", "report.html")
+
+#: figure resolution [dots per inch]
+FIGURE_DPI = 150
+
+
+@dataclass(frozen=True)
+class _Unit:
+    """One output unit: column suffix, factor from the core unit, decimals written."""
+
+    suffix: str
+    factor: float
+    decimals: int
+
+
+#: quantity → (SI unit, US unit); factors multiply the core value (m, kPa, kN)
+UNITS: dict[str, dict[str, _Unit]] = {
+    "length": {"si": _Unit("m", 1.0, 3), "us": _Unit("ft", 1.0 / FOOT, 3)},
+    "settlement": {"si": _Unit("mm", 1000.0, 3), "us": _Unit("in", 1.0 / INCH, 4)},
+    "pressure": {"si": _Unit("kPa", 1.0, 2), "us": _Unit("ksf", 1.0 / KSF, 4)},
+    "force": {"si": _Unit("kN", 1.0, 1), "us": _Unit("kip", 1.0 / KIP, 2)},
+}
+#: decimals of the columns whose unit does not change
+FIXED_DECIMALS = {"tilt_direction_deg": 2, "time_yr": 4}
+#: ratios (tilt, angular distortion, utilisation) are written to 6 significant figures
+RATIO_FORMAT = "{:.6g}"
+RATIO_COLUMNS = ("tilt", "angular_distortion", "utilisation")
+
+
+def _units(units: str) -> str:
+    u = str(units).strip().lower()
+    if u not in ("si", "us"):
+        raise ValueError(f'units must be "si" or "us", not {units!r}')
+    return u
+
+
+def column(base: str, quantity: str, units: str = "si") -> str:
+    """Column name with its unit suffix: ``column("total", "settlement", "us") == "total_in"``."""
+    return f"{base}_{UNITS[quantity][_units(units)].suffix}"
+
+
+def _scale(quantity: str, units: str) -> float:
+    return UNITS[quantity][_units(units)].factor
+
+
+def _decimals(name: str) -> int | None:
+    """Decimals written for a column (None: ratio or text)."""
+    if name in FIXED_DECIMALS:
+        return FIXED_DECIMALS[name]
+    for spec in UNITS.values():
+        for unit in spec.values():
+            if name.endswith("_" + unit.suffix):
+                return unit.decimals
+    return None
+
+
+def _status(passed: bool | None) -> str:
+    if passed is None:
+        return "unchecked"
+    return "pass" if passed else "fail"
+
+
+# --------------------------------------------------------------------- tables
+
+
+def footing_table(results: Results, units: str = "si") -> pd.DataFrame:
+    """One row per footing at the design life (unrounded floats; see module notes for units)."""
+    u = _units(units)
+    L, S, P, F = (_scale(q, u) for q in ("length", "settlement", "pressure", "force"))
+    fs = results.site.footings
+    life = results.design_life_index
+    checks = results.checks
+    n = len(fs)
+    passed = [None] * n if checks is None else [bool(p) for p in checks.footing_passed]
+    reasons = [""] * n if checks is None else [str(r) for r in checks.footing_reasons]
+    return pd.DataFrame({
+        "id": [f.id for f in fs],
+        column("x", "length", u): [f.x * L for f in fs],
+        column("y", "length", u): [f.y * L for f in fs],
+        column("width", "length", u): [f.width * L for f in fs],
+        column("length", "length", u): [f.length * L for f in fs],
+        column("depth", "length", u): [f.depth * L for f in fs],
+        column("service_load", "force", u): [f.service_load * F for f in fs],
+        column("q_net", "pressure", u): np.asarray(results.net_pressure, float) * P,
+        column("immediate", "settlement", u): results.immediate[:, life] * S,
+        column("consolidation", "settlement", u): results.consolidation[:, life] * S,
+        column("secondary", "settlement", u): results.secondary[:, life] * S,
+        column("total", "settlement", u): results.total[:, life] * S,
+        column("own", "settlement", u): results.own[:, life] * S,
+        column("neighbours", "settlement", u): results.neighbours[:, life] * S,
+        "tilt": np.asarray(results.tilt, float),
+        "tilt_direction_deg": np.asarray(results.tilt_direction, float),
+        column("influence_depth", "length", u): np.asarray(results.influence_depth, float) * L,
+        "method": list(results.methods),
+        "outside_boreholes": [bool(v) for v in results.outside_hull],
+        "status": [_status(p) for p in passed],
+        "reasons": reasons,
+    })
+
+
+_PAIR_BASE = ("a", "b", "span", "differential", "angular_distortion", "limit", "limit_source",
+              "utilisation", "status", "origin")
+
+
+def pair_table(results: Results, units: str = "si") -> pd.DataFrame:
+    """One row per checked pair (empty, with the columns, when there are no checks)."""
+    u = _units(units)
+    span, diff = column("span", "length", u), column("differential", "settlement", u)
+    cols = ["a", "b", span, diff, "angular_distortion", "limit", "limit_source", "utilisation",
+            "status", "origin"]
+    if results.checks is None or len(results.checks.pairs.a) == 0:
+        return pd.DataFrame({c: pd.Series(dtype=float if c in (span, diff, "angular_distortion",
+                                                                "utilisation") else object)
+                             for c in cols})
+    pc = results.checks.pairs
+    ids = results.ids
+    k = len(pc.a)
+    origin = tuple(pc.origin) if len(pc.origin) == k else ("",) * k
+    return pd.DataFrame({
+        "a": [ids[int(i)] for i in pc.a],
+        "b": [ids[int(j)] for j in pc.b],
+        span: np.asarray(pc.span, float) * _scale("length", u),
+        diff: np.asarray(pc.differential, float) * _scale("settlement", u),
+        "angular_distortion": np.asarray(pc.angular_distortion, float),
+        "limit": list(pc.limit),
+        "limit_source": list(pc.limit_source),
+        "utilisation": np.asarray(pc.utilisation, float),
+        "status": [_status(bool(p)) for p in pc.passed],
+        "origin": list(origin),
+    })
+
+
+def time_table(results: Results, units: str = "si") -> pd.DataFrame:
+    """Settlement of every footing at every time of ``results.times`` (footing-major order)."""
+    u = _units(units)
+    S = _scale("settlement", u)
+    n, m = results.total.shape
+    return pd.DataFrame({
+        "id": np.repeat(np.array(results.ids, dtype=object), m),
+        "time_yr": np.tile(np.asarray(results.times, float), n),
+        column("total", "settlement", u): results.total.reshape(-1) * S,
+        column("immediate", "settlement", u): results.immediate.reshape(-1) * S,
+        column("consolidation", "settlement", u): results.consolidation.reshape(-1) * S,
+        column("secondary", "settlement", u): results.secondary.reshape(-1) * S,
+    })
+
+
+def _round(value: float, decimals: int | None) -> float | None:
+    """A JSON-ready float: rounded like the CSV column, None for NaN."""
+    if value is None or not math.isfinite(float(value)):
+        return None
+    if decimals is None:
+        return float(RATIO_FORMAT.format(float(value)))
+    return round(float(value), decimals)
+
+
+def summary_dict(results: Results, units: str = "si") -> dict:
+    """The summary written to summary.json (rounded as in the CSV files)."""
+    from sitesettle.report import CAUTIONS
+
+    u = _units(units)
+    S = _scale("settlement", u)
+    sd = UNITS["settlement"][u].decimals
+    total = results.at_design_life() * S
+    ids = results.ids
+    checks = results.checks
+    worst = int(np.nanargmax(total)) if np.isfinite(total).any() else None
+    out: dict = {
+        "program": "sitesettle",
+        "version": sitesettle.__version__,
+        "site": results.site.name,
+        "units": u,
+        "n_footings": len(ids),
+        column("max_total", "settlement", u): _round(np.nanmax(total), sd) if worst is not None else None,
+        "worst_footing": ids[worst] if worst is not None else None,
+        "design_life_yr": _round(results.times[results.design_life_index], FIXED_DECIMALS["time_yr"]),
+        "warnings": list(results.warnings),
+        "cautions": list(CAUTIONS),
+    }
+    diff_name = column("max_differential", "settlement", u)
+    if checks is None:
+        out.update({"n_pairs": 0, diff_name: None, "max_angular_distortion": None,
+                    "failing_footings": [], "failing_pairs": [], "worst_pair": None,
+                    "building_tilt": None, "building_tilt_direction_deg": None, "criteria": None,
+                    "criteria_sources": [], "all_passed": None})
+        return out
+    pc = checks.pairs
+    k = len(pc.a)
+    pairs = [[ids[int(i)], ids[int(j)]] for i, j in zip(pc.a, pc.b)]
+    worst_pair = None
+    if k:
+        util = np.asarray(pc.utilisation, float)
+        key = util if np.isfinite(util).any() else np.asarray(pc.angular_distortion, float)
+        worst_pair = pairs[int(np.nanargmax(key))] if np.isfinite(key).any() else None
+    out.update({
+        "n_pairs": k,
+        diff_name: _round(np.nanmax(pc.differential) * S, sd) if k else None,
+        "max_angular_distortion": _round(np.nanmax(pc.angular_distortion), None) if k else None,
+        "failing_footings": [fid for fid, p in zip(ids, checks.footing_passed) if not p],
+        "failing_pairs": [pr for pr, p in zip(pairs, pc.passed) if not p],
+        "worst_pair": worst_pair,
+        "building_tilt": _round(checks.building_tilt, None),
+        "building_tilt_direction_deg": _round(checks.building_tilt_direction, 2),
+        "criteria": checks.criteria,
+        "criteria_sources": list(checks.sources),
+        column("footing_limit_total", "settlement", u): _round(checks.footing_limit_total * S, sd),
+        "footing_limit_source": checks.footing_limit_source,
+        "all_passed": bool(checks.all_passed),
+    })
+    if checks.checked_after > 0:
+        out["checked_after_yr"] = _round(checks.checked_after, FIXED_DECIMALS["time_yr"])
+    return out
+
+
+def format_table(df: pd.DataFrame) -> pd.DataFrame:
+    """The table as text, each column with its fixed decimals (NaN → empty)."""
+    out = df.copy()
+    for name in df.columns:
+        s = df[name]
+        if s.dtype == bool or not pd.api.types.is_float_dtype(s.dtype):
+            continue
+        d = _decimals(name)
+        if d is None and name not in RATIO_COLUMNS:
+            d = 6
+        fmt = RATIO_FORMAT if d is None else "{:.%df}" % d
+        out[name] = [fmt.format(v) if math.isfinite(v) else "" for v in s.to_numpy(float)]
+    return out
+
+
+def _write_csv(df: pd.DataFrame, path: Path) -> None:
+    format_table(df).to_csv(path, index=False, lineterminator="\n")
+
+
+def _write_json(data: dict, path: Path) -> None:
+    path.write_text(json.dumps(data, indent=2, sort_keys=True, ensure_ascii=False, allow_nan=False) + "\n",
+                    encoding="utf-8")
+
+
+# ------------------------------------------------------------------ geopackage
+
+
+def _rounded(df: pd.DataFrame) -> pd.DataFrame:
+    """Float columns rounded as in the CSV (for the GeoPackage attributes)."""
+    out = df.copy()
+    for name in df.columns:
+        if pd.api.types.is_float_dtype(df[name].dtype) and df[name].dtype != bool:
+            d = _decimals(name)
+            out[name] = df[name].round(d) if d is not None else df[name]
+    return out
+
+
+def contour_table(results: Results, units: str = "si"):
+    """Contour lines of the settlement map as a GeoDataFrame (level in mm or in)."""
+    import geopandas as gpd
+
+    from sitesettle.mapping import contour_levels, contour_lines
+
+    u = _units(units)
+    S = _scale("settlement", u)
+    name = column("level", "settlement", u)
+    rows: list[tuple[float, object]] = []
+    method = ""
+    if results.map is not None:
+        method = results.map.method
+        levels = contour_levels(np.asarray(results.map.settlement, float) * S)
+        rows = [(lvl / 1000.0 * S, geom) for lvl, geom in contour_lines(results.map, levels / S * 1000.0)]
+    d = UNITS["settlement"][u].decimals
+    return gpd.GeoDataFrame({name: [round(r[0], d) for r in rows], "method": [method] * len(rows)},
+                            geometry=gpd.GeoSeries([r[1] for r in rows], crs=results.site.crs),
+                            crs=results.site.crs)
+
+
+def write_geopackage(results: Results, path: Path, units: str = "si") -> None:
+    """site.gpkg: layers ``footings`` (polygons), ``pairs`` (lines) and ``contours`` (lines)."""
+    import geopandas as gpd
+    import shapely
+
+    crs = results.site.crs
+    ft = _rounded(footing_table(results, units))
+    L = _scale("length", units)
+    polys = [shapely.Polygon(np.asarray(f.outline, float) * L) for f in results.site.footings]
+    gpd.GeoDataFrame(ft, geometry=polys, crs=crs).to_file(path, layer="footings", driver="GPKG",
+                                                          engine="pyogrio")
+    pt = _rounded(pair_table(results, units))
+    xy = {f.id: (f.x * L, f.y * L) for f in results.site.footings}
+    lines = [shapely.LineString([xy[a], xy[b]]) for a, b in zip(pt["a"], pt["b"])]
+    gpd.GeoDataFrame(pt, geometry=gpd.GeoSeries(lines, crs=crs), crs=crs).to_file(
+        path, layer="pairs", driver="GPKG", engine="pyogrio", geometry_type="LineString")
+    ct = contour_table(results, units)
+    if L != 1.0:
+        ct = ct.set_geometry(ct.geometry.scale(L, L, origin=(0, 0)))
+    ct.to_file(path, layer="contours", driver="GPKG", engine="pyogrio", geometry_type="LineString")
+
+
+# ---------------------------------------------------------------- the folder
+
+
+def _figure_bytes(fig) -> bytes:
+    import io
+
+    import matplotlib.pyplot as plt
+
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=FIGURE_DPI, metadata={"Software": f"sitesettle {sitesettle.__version__}"})
+    plt.close(fig)
+    return buf.getvalue()
+
+
+def make_figures(results: Results, *, units: str = "si", section=None) -> dict[str, bytes]:
+    """The PNG figures as bytes: plan, contours, settlement_time and (with a section) section."""
+    from sitesettle import plots
+
+    figs = {
+        "plan": _figure_bytes(plots.plan_figure(results, units=units)),
+        "contours": _figure_bytes(plots.contour_figure(results, units=units)),
+        "settlement_time": _figure_bytes(plots.time_figure(results, units=units)),
+    }
+    if section is not None:
+        figs["section"] = _figure_bytes(plots.section_figure(section, units=units))
+    return figs
+
+
+def _is_results_folder(path: Path) -> bool:
+    """An empty folder, or one that sitesettle wrote (its summary.json says so)."""
+    entries = list(path.iterdir())
+    if not entries:
+        return True
+    summary = path / "summary.json"
+    try:
+        return json.loads(summary.read_text(encoding="utf-8")).get("program") == "sitesettle"
+    except (OSError, ValueError, AttributeError):
+        return False
+
+
+def _check_target(out: Path) -> None:
+    """Raise OutputError when ``out`` cannot become a results folder (nothing is written)."""
+    if out.exists() or out.is_symlink():
+        if not out.is_dir():
+            raise OutputError(f"cannot write results to {out}: it is an existing file, not a folder; "
+                              "choose another --out or remove the file")
+        if not _is_results_folder(out):
+            raise OutputError(f"cannot write results to {out}: the folder exists and was not written by "
+                              "sitesettle (no summary.json of ours); choose an empty or new folder")
+    ancestor = out.parent
+    while not ancestor.exists():
+        ancestor = ancestor.parent
+    if not ancestor.is_dir():
+        raise OutputError(f"cannot write results to {out}: {ancestor} is a file, not a folder")
+    if not os.access(ancestor, os.W_OK | os.X_OK):
+        raise OutputError(f"cannot write results to {out}: no permission to write in {ancestor}")
+
+
+def _swap(tmp: Path, out: Path) -> None:
+    """Put the finished folder ``tmp`` in place of ``out`` (renames on one file system)."""
+    if not out.exists():
+        os.replace(tmp, out)
+        return
+    old = out.parent / f".{out.name}.old-{uuid.uuid4().hex[:8]}"
+    os.replace(out, old)
+    try:
+        os.replace(tmp, out)
+    except BaseException:
+        os.replace(old, out)
+        raise
+    shutil.rmtree(old, ignore_errors=True)
+
+
+def write_results(results: Results, out_dir: str | os.PathLike, *, units: str = "si",
+                  progress: Callable[[str], None] | None = None, section=None) -> Path:
+    """Write every output file into ``out_dir``, atomically.
+
+    Parameters
+    ----------
+    results : Results
+        What :func:`sitesettle.analyse` returned.
+    out_dir : path
+        The results folder. It may exist if it is empty or an earlier results
+        folder; it is then replaced as a whole.
+    units : {"si", "us"}, optional
+        SI (m, mm, kPa, kN) or US customary units (ft, in, ksf, kip) in the tables,
+        GeoPackage, figures and report.
+    progress : callable, optional
+        Called as ``progress(file_name)`` before each file is made.
+    section : sitesettle.mapping.Section, optional
+        A section through the stratigraphy; section.png is drawn when given.
+
+    Returns
+    -------
+    pathlib.Path
+        The results folder.
+
+    Raises
+    ------
+    OutputError
+        ``out_dir`` is an existing file or a folder sitesettle did not write, or its
+        parent cannot be written; nothing is written then.
+    """
+    u = _units(units)
+    out = Path(out_dir).absolute()
+    _check_target(out)
+    try:
+        out.parent.mkdir(parents=True, exist_ok=True)
+        tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.tmp-", dir=out.parent))
+    except OSError as exc:
+        raise OutputError(f"cannot write results to {out}: {exc.strerror or exc}") from None
+    try:
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o777 & ~umask)
+        _write_all(results, tmp, u, progress or (lambda name: None), section)
+        _swap(tmp, out)
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
+    return out
+
+
+def _write_all(results: Results, folder: Path, units: str, progress: Callable[[str], None], section) -> None:
+    from sitesettle.report import render_report
+
+    progress("footings.csv")
+    _write_csv(footing_table(results, units), folder / "footings.csv")
+    progress("pairs.csv")
+    _write_csv(pair_table(results, units), folder / "pairs.csv")
+    progress("settlement_time.csv")
+    _write_csv(time_table(results, units), folder / "settlement_time.csv")
+    progress("summary.json")
+    _write_json(summary_dict(results, units), folder / "summary.json")
+    progress("site.gpkg")
+    write_geopackage(results, folder / "site.gpkg", units)
+    progress("figures")
+    figures = make_figures(results, units=units, section=section)
+    for name, png in figures.items():
+        (folder / f"{name}.png").write_bytes(png)
+    progress("report.html")
+    html = render_report(results, figures, units=units)
+    (folder / "report.html").write_text(html, encoding="utf-8")

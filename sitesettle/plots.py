@@ -1,0 +1,426 @@
+"""Figures of the results: plan, contour map, settlement with time, section.
+
+Every function draws on a given matplotlib ``ax`` (or a new figure), returns the
+figure and never calls ``show()``. matplotlib is imported inside the functions with
+the Agg backend, so importing this module costs nothing and needs no display.
+
+Visual language (our own): settlement runs on the perceptually uniform *cividis*
+colour map (dark blue = little, yellow = much, readable in grey and by colour-blind
+readers); anything that fails a check is drawn in :data:`FAIL_COLOUR`, a magenta
+that cividis never uses, with thick lines; passing pairs are thin grey lines.
+Settlement axes point downward, as the ground moves. User text (ids, names) is
+escaped so that a ``$`` never starts matplotlib mathtext.
+"""
+
+from __future__ import annotations
+
+import math
+import textwrap
+
+import numpy as np
+
+from sitesettle.mapping import Section, contour_levels, nice_step, plan_extent
+from sitesettle.results import Results
+
+#: colour map of settlement
+SETTLEMENT_CMAP = "cividis"
+#: failing footings and pairs (not a colour of the settlement map)
+FAIL_COLOUR = "#d4148c"
+#: passing pairs
+PAIR_COLOUR = "#8c8c8c"
+#: water table
+WATER_COLOUR = "#1f6fd1"
+#: stratum fills by behaviour: (face colours to cycle, hatch)
+STRATUM_STYLE = {
+    "granular": (("#e9d8a6", "#dcc48e", "#f1e6c4"), ".."),
+    "cohesive": (("#b7c9b0", "#9fb7a4", "#c9d6c1"), "--"),
+    "rigid": (("#9e9e9e", "#8a8a8a"), "xx"),
+    "": (("#d9d9d9", "#c6c6c6"), ""),
+}
+#: the most footings whose ids are written on the plan
+MAX_LABELS = 300
+#: how many footings the settlement-time figure shows
+TIME_FIGURE_FOOTINGS = 5
+
+
+def _plt():
+    import matplotlib
+
+    matplotlib.use("Agg", force=False)
+    import matplotlib.pyplot as plt
+
+    return plt
+
+
+def _esc(text: object) -> str:
+    """User text safe from mathtext: every ``$`` is drawn as a dollar sign."""
+    return str(text).replace("$", r"\$")
+
+
+def _settlement_unit(units: str) -> tuple[float, str]:
+    """(factor from m, label) of settlement in the figures."""
+    return (1000.0 / 25.4, "in") if units == "us" else (1000.0, "mm")
+
+
+def _length_unit(units: str) -> tuple[float, str]:
+    return (1.0 / 0.3048, "ft") if units == "us" else (1.0, "m")
+
+
+def _new_axes(ax, figsize):
+    plt = _plt()
+    if ax is not None:
+        return ax.figure, ax
+    fig, ax = plt.subplots(figsize=figsize, layout="constrained")
+    return fig, ax
+
+
+def _failing(results: Results) -> tuple[np.ndarray, np.ndarray]:
+    """(footing failed (n,), pair failed (k,)) as bool arrays."""
+    n = len(results.site.footings)
+    if results.checks is None:
+        return np.zeros(n, bool), np.zeros(0, bool)
+    return ~np.asarray(results.checks.footing_passed, bool), ~np.asarray(results.checks.pairs.passed, bool)
+
+
+def _design_life_label(results: Results) -> str:
+    t = float(results.times[results.design_life_index])
+    return f"{t:g} yr"
+
+
+def _add_north_arrow(ax) -> None:
+    ax.annotate("", xy=(0.955, 0.95), xytext=(0.955, 0.85), xycoords="axes fraction",
+                arrowprops=dict(arrowstyle="-|>,head_length=0.6,head_width=0.3", lw=1.6, color="black"))
+    ax.text(0.955, 0.955, "N", transform=ax.transAxes, ha="center", va="bottom", fontsize=10,
+            fontweight="bold")
+
+
+def _add_scale_bar(ax, length_label: str) -> None:
+    from matplotlib.patches import Rectangle
+
+    x0, x1 = ax.get_xlim()
+    y0, y1 = ax.get_ylim()
+    span = abs(x1 - x0)
+    bar = nice_step(span / 5.0, up=False)
+    h = 0.012 * abs(y1 - y0)
+    bx, by = min(x0, x1) + 0.04 * span, min(y0, y1) + 0.04 * abs(y1 - y0)
+    for k in range(4):
+        ax.add_patch(Rectangle((bx + k * bar / 4, by), bar / 4, h, facecolor="black" if k % 2 == 0 else "white",
+                               edgecolor="black", lw=0.8, zorder=6))
+    ax.text(bx, by + 1.6 * h, "0", ha="center", va="bottom", fontsize=7, zorder=6)
+    ax.text(bx + bar, by + 1.6 * h, f"{bar:g} {length_label}", ha="center", va="bottom", fontsize=7, zorder=6)
+
+
+def _set_plan_limits(ax, results: Results, L: float, pad_fraction: float = 0.08) -> None:
+    xmin, ymin, xmax, ymax = (v * L for v in plan_extent(results.site.footings))
+    pad = pad_fraction * max(xmax - xmin, ymax - ymin, 1.0)
+    ax.set_xlim(xmin - pad, xmax + pad)
+    ax.set_ylim(ymin - 1.6 * pad, ymax + 1.6 * pad)  # room for the scale bar and the north arrow
+    ax.set_aspect("equal")
+
+
+def _footing_patches(results: Results, L: float):
+    from matplotlib.patches import Polygon
+
+    return [Polygon(np.asarray(f.outline, float) * L, closed=True) for f in results.site.footings]
+
+
+def _label_footings(ax, results: Results, L: float, *, only=None, fontsize: float = 7.0) -> None:
+    """Write footing ids beside the footings where they are legible."""
+    import matplotlib.patheffects as pe
+
+    fs = results.site.footings
+    if len(fs) > MAX_LABELS and only is None:
+        return
+    fig = ax.figure
+    fig.canvas.draw_idle()
+    bbox = ax.get_window_extent()
+    x0, x1 = ax.get_xlim()
+    points_per_unit = bbox.width / abs(x1 - x0) * 72.0 / fig.dpi
+    xy = np.array([[f.x, f.y] for f in fs]) * L
+    if len(fs) > 1:
+        d = np.hypot(*(xy[:, None, :] - xy[None, :, :]).transpose(2, 0, 1))
+        np.fill_diagonal(d, np.inf)
+        nearest = d.min(axis=1) * points_per_unit
+    else:
+        nearest = np.array([np.inf])
+    for i, f in enumerate(fs):
+        if only is not None and not only[i]:
+            continue
+        if nearest[i] < 2.2 * fontsize and (only is None):
+            continue  # too crowded to read
+        half = 0.5 * float(np.ptp(np.asarray(f.outline, float)[:, 1])) * L
+        ax.text(f.x * L, f.y * L + half, _esc(f.id), ha="center", va="bottom", fontsize=fontsize, zorder=7,
+                path_effects=[pe.withStroke(linewidth=2.2, foreground="white")])
+
+
+def plan_figure(results: Results, *, ax=None, units: str = "si"):
+    """Plan of the footings to scale, coloured by total settlement at the design life.
+
+    Failing footings get a thick outline and failing pairs a thick line, both in
+    :data:`FAIL_COLOUR`; passing pairs are thin grey lines. A colour bar, a legend,
+    a north arrow (plan y axis = north) and a scale bar complete it.
+    """
+    from matplotlib.collections import LineCollection, PatchCollection
+    from matplotlib.colors import Normalize
+    from matplotlib.lines import Line2D
+    from matplotlib.patches import Patch
+
+    fig, ax = _new_axes(ax, (9.0, 7.0))
+    S, su = _settlement_unit(units)
+    L, lu = _length_unit(units)
+    total = results.at_design_life() * S
+    bad_f, bad_p = _failing(results)
+    finite = total[np.isfinite(total)]
+    vmax = float(finite.max()) if finite.size else 1.0
+    top = 1.0
+    if vmax > 0:
+        step = nice_step(vmax / 5.0)
+        top = math.ceil(vmax / step - 1e-9) * step
+    norm = Normalize(vmin=0.0, vmax=top)
+
+    xy = np.array([[f.x, f.y] for f in results.site.footings]) * L
+    handles = []
+    if results.checks is not None and len(results.checks.pairs.a):
+        pc = results.checks.pairs
+        segs = np.stack([xy[np.asarray(pc.a, int)], xy[np.asarray(pc.b, int)]], axis=1)
+        ax.add_collection(LineCollection(segs[~bad_p], colors=PAIR_COLOUR, linewidths=0.8, zorder=1))
+        handles.append(Line2D([], [], color=PAIR_COLOUR, lw=0.8, label="checked pair, passes"))
+        if bad_p.any():
+            ax.add_collection(LineCollection(segs[bad_p], colors=FAIL_COLOUR, linewidths=3.2, zorder=4,
+                                             capstyle="round"))
+            handles.append(Line2D([], [], color=FAIL_COLOUR, lw=3.2, label="pair fails its limit"))
+
+    patches = PatchCollection(_footing_patches(results, L), cmap=SETTLEMENT_CMAP, norm=norm,
+                              edgecolor="#222222", linewidths=0.6, zorder=3)
+    patches.set_array(np.ma.masked_invalid(total))
+    ax.add_collection(patches)
+    if bad_f.any():
+        from matplotlib.patches import Polygon
+
+        for f, bad in zip(results.site.footings, bad_f):
+            if bad:
+                ax.add_patch(Polygon(np.asarray(f.outline, float) * L, closed=True, fill=False,
+                                     edgecolor=FAIL_COLOUR, linewidth=2.6, zorder=5))
+        handles.append(Patch(facecolor="none", edgecolor=FAIL_COLOUR, linewidth=2.6, label="footing fails"))
+    if results.checks is None:
+        handles.append(Patch(facecolor="none", edgecolor="none", label="no checks were run"))
+
+    _set_plan_limits(ax, results, L)
+    cb = fig.colorbar(patches, ax=ax, shrink=0.85, pad=0.02)
+    cb.set_label(f"total settlement at {_design_life_label(results)} [{su}]")
+    _label_footings(ax, results, L)
+    _add_north_arrow(ax)
+    _add_scale_bar(ax, lu)
+    ax.set_xlabel(f"x (east) [{lu}]")
+    ax.set_ylabel(f"y (north) [{lu}]")
+    ax.set_title(f"{_esc(results.site.name)} — plan, total settlement", loc="left", fontsize=11)
+    ax.grid(True, color="#e6e6e6", lw=0.5, zorder=0)
+    ax.set_axisbelow(True)
+    if handles:
+        ax.legend(handles=handles, loc="upper left", fontsize=8, framealpha=0.9)
+    return fig
+
+
+def contour_figure(results: Results, *, ax=None, units: str = "si"):
+    """Filled contours of the settlement map with labelled lines and the footings.
+
+    Without a map, the footing values are interpolated on their Delaunay triangles
+    and the figure says so: such contours are not a computed settlement field.
+    """
+    import matplotlib.patheffects as pe
+    from matplotlib.collections import PatchCollection
+
+    fig, ax = _new_axes(ax, (9.0, 7.0))
+    S, su = _settlement_unit(units)
+    L, lu = _length_unit(units)
+    m = results.map
+    cmap = SETTLEMENT_CMAP
+    filled = None
+    if m is not None:
+        z = np.asarray(m.settlement, float) * S
+        levels = contour_levels(z)
+        x, y = np.asarray(m.x, float) * L, np.asarray(m.y, float) * L
+        if levels.size >= 2:
+            step = levels[1] - levels[0]
+            fill_levels = np.concatenate([[levels[0] - step] if np.nanmin(z) < levels[0] else [],
+                                          levels, [levels[-1] + step] if np.nanmax(z) > levels[-1] else []])
+            filled = ax.contourf(x, y, np.ma.masked_invalid(z), levels=fill_levels, cmap=cmap, zorder=1)
+            # the same contour generator (contourpy) as sitesettle.mapping.contour_lines uses for
+            # site.gpkg; matplotlib places the labels in gaps along the lines
+            cs = ax.contour(x, y, np.ma.masked_invalid(z), levels=levels, colors="black", linewidths=0.7,
+                            zorder=2)
+            ax.clabel(cs, fmt="%g", fontsize=7, inline=True, inline_spacing=3)
+        method = f"map: {_esc(m.method)}"
+    else:
+        method = "no settlement map was computed: contours interpolated between footing values (not a computed field)"
+        xy = np.array([[f.x, f.y] for f in results.site.footings]) * L
+        total = results.at_design_life() * S
+        levels = contour_levels(total)
+        ok = np.isfinite(total)
+        if ok.sum() >= 3 and levels.size >= 2 and np.linalg.matrix_rank(xy[ok] - xy[ok].mean(axis=0)) == 2:
+            import matplotlib.tri as mtri
+
+            tri = mtri.Triangulation(xy[ok, 0], xy[ok, 1])
+            step = levels[1] - levels[0]
+            filled = ax.tricontourf(tri, total[ok], levels=np.concatenate([[levels[0] - step], levels,
+                                                                           [levels[-1] + step]]),
+                                    cmap=cmap, zorder=1)
+            cs = ax.tricontour(tri, total[ok], levels=levels, colors="black", linewidths=0.7, zorder=2)
+            ax.clabel(cs, fmt="%g", fontsize=7)
+    ax.add_collection(PatchCollection(_footing_patches(results, L), facecolor=(1, 1, 1, 0.55),
+                                      edgecolor="black", linewidths=0.9, zorder=4))
+    _set_plan_limits(ax, results, L, pad_fraction=0.1)
+    if m is not None:
+        ax.set_xlim(min(ax.get_xlim()[0], float(np.min(m.x)) * L), max(ax.get_xlim()[1], float(np.max(m.x)) * L))
+        ax.set_ylim(min(ax.get_ylim()[0], float(np.min(m.y)) * L), max(ax.get_ylim()[1], float(np.max(m.y)) * L))
+    if filled is not None:
+        cb = fig.colorbar(filled, ax=ax, shrink=0.85, pad=0.02)
+        cb.set_label(f"settlement at {_design_life_label(results)} [{su}]")
+    _label_footings(ax, results, L)
+    _add_north_arrow(ax)
+    _add_scale_bar(ax, lu)
+    ax.text(0.99, 0.015, textwrap.fill(method, 60), transform=ax.transAxes, fontsize=8, ha="right",
+            va="bottom", zorder=8,
+            bbox=dict(boxstyle="round,pad=0.3", facecolor="white", edgecolor="#999999", alpha=0.95))
+    ax.set_xlabel(f"x (east) [{lu}]")
+    ax.set_ylabel(f"y (north) [{lu}]")
+    ax.set_title(f"{_esc(results.site.name)} — settlement contours", loc="left", fontsize=11)
+    return fig
+
+
+def _worst_pair(results: Results) -> int | None:
+    if results.checks is None or len(results.checks.pairs.a) == 0:
+        return None
+    pc = results.checks.pairs
+    key = np.asarray(pc.utilisation, float)
+    if not np.isfinite(key).any():
+        key = np.asarray(pc.angular_distortion, float)
+    return int(np.nanargmax(key)) if np.isfinite(key).any() else None
+
+
+def _downward(ax) -> None:
+    """Settlement axis from 0 at the top, growing downward (as the ground moves)."""
+    lo, hi = ax.get_ylim()
+    ax.set_ylim(max(lo, hi, 0.0) * 1.05 or 1.0, 0.0)
+
+
+def time_figure(results: Results, *, ax=None, units: str = "si"):
+    """Settlement against log time for the worst footings, and the worst pair's differential.
+
+    With ``ax`` given, only the footings panel is drawn on it.
+    """
+    plt = _plt()
+    S, su = _settlement_unit(units)
+    times = np.asarray(results.times, float)
+    total = results.total * S
+    life = float(times[results.design_life_index])
+    if ax is None:
+        fig, (ax1, ax2) = plt.subplots(1, 2, figsize=(11.0, 4.6), layout="constrained")
+    else:
+        fig, ax1, ax2 = ax.figure, ax, None
+    order = np.argsort(-np.nan_to_num(total[:, results.design_life_index], nan=-np.inf), kind="stable")
+    bad_f, _ = _failing(results)
+    colours = plt.get_cmap("tab10")
+    for k, i in enumerate(order[:TIME_FIGURE_FOOTINGS]):
+        style = dict(lw=2.4 if bad_f[i] else 1.5, ls="-" if bad_f[i] else "--")
+        ax1.plot(times, total[i], marker="o", ms=3.5, color=colours(k % 10),
+                 label=_esc(results.ids[i]) + (" (fails)" if bad_f[i] else ""), **style)
+    if results.checks is not None:
+        lim = results.checks.footing_limit_total * S
+        if math.isfinite(lim):
+            ax1.axhline(lim, color=FAIL_COLOUR, lw=1.2, ls=":", label=f"limit {lim:g} {su}")
+    for a in (ax1, ax2):
+        if a is None:
+            continue
+        a.set_xscale("log")
+        a.axvline(life, color="#555555", lw=0.8, ls="-.")
+        a.text(life, 1.0, " design life", transform=a.get_xaxis_transform(), fontsize=7, va="top",
+               color="#555555")
+        a.grid(True, which="both", color="#e6e6e6", lw=0.5)
+        a.set_xlabel("time since loading [yr] (log scale)")
+    _downward(ax1)
+    ax1.set_ylabel(f"total settlement [{su}]")
+    ax1.set_title(f"worst {min(TIME_FIGURE_FOOTINGS, len(order))} footings", loc="left", fontsize=10)
+    ax1.legend(fontsize=8, loc="lower left")
+    if ax2 is not None:
+        p = _worst_pair(results)
+        if p is None:
+            ax2.text(0.5, 0.5, "no pairs were checked", transform=ax2.transAxes, ha="center", va="center")
+        else:
+            pc = results.checks.pairs
+            a, b = int(pc.a[p]), int(pc.b[p])
+            diff = np.abs(total[a] - total[b])
+            ax2.plot(times, diff, marker="s", ms=3.5, color="#333333", lw=1.8,
+                     label=f"|s({_esc(results.ids[a])}) − s({_esc(results.ids[b])})|")
+            measure = pc.limit_measure[p] if len(pc.limit_measure) > p else ""
+            allowed = math.nan
+            if measure == "angular_distortion":
+                allowed = float(pc.limit_value[p]) * float(pc.span[p]) * S
+            elif measure == "differential":
+                allowed = float(pc.limit_value[p]) * S
+            if math.isfinite(allowed):
+                ax2.axhline(allowed, color=FAIL_COLOUR, lw=1.2, ls=":",
+                            label=f"allowed {allowed:.3g} {su} ({_esc(pc.limit[p])})")
+            _downward(ax2)
+            ax2.legend(fontsize=8, loc="lower left")
+        ax2.set_ylabel(f"differential settlement [{su}]")
+        ax2.set_title("worst pair", loc="left", fontsize=10)
+    fig.suptitle(f"{_esc(results.site.name)} — settlement with time", x=0.01, ha="left", fontsize=11)
+    return fig
+
+
+def section_figure(section: Section, *, ax=None, units: str = "si"):
+    """A vertical section: strata as bands, the water table and the footings on the line."""
+    from matplotlib.lines import Line2D
+    from matplotlib.patches import Patch, Polygon, Rectangle
+
+    fig, ax = _new_axes(ax, (10.0, 5.0))
+    L, lu = _length_unit(units)
+    S, su = _settlement_unit(units)
+    d = np.asarray(section.distance, float) * L
+    bounds = section.boundaries() * L
+    handles = []
+    used: dict[str, int] = {}
+    for i, name in enumerate(section.strata):
+        beh = section.behaviours[i] if i < len(section.behaviours) else ""
+        colours, hatch = STRATUM_STYLE.get(beh, STRATUM_STYLE[""])
+        k = used.get(beh, 0)
+        used[beh] = k + 1
+        colour = colours[k % len(colours)]
+        ax.fill_between(d, bounds[i], bounds[i + 1], facecolor=colour, edgecolor="#6b6b6b", hatch=hatch,
+                        linewidth=0.0, zorder=1)
+        ax.plot(d, bounds[i], color="#4d4d4d", lw=0.8, zorder=2)
+        label = _esc(name) + (f" ({beh})" if beh else "")
+        handles.append(Patch(facecolor=colour, edgecolor="#6b6b6b", hatch=hatch, label=label))
+    ax.plot(d, np.zeros_like(d), color="black", lw=1.4, zorder=3)
+    w = np.asarray(section.water_depth, float) * L
+    if np.isfinite(w).any():
+        ax.plot(d, np.where(np.isfinite(w), w, np.nan), color=WATER_COLOUR, lw=1.6, zorder=4)
+        j = int(np.flatnonzero(np.isfinite(w))[len(np.flatnonzero(np.isfinite(w))) // 5])
+        lift = 0.025 * (float(section.bottom) + 2.2) * L  # the triangle's tip on the water surface
+        ax.plot([d[j]], [w[j] - lift], marker="v", color=WATER_COLOUR, ms=9, zorder=5)
+        handles.append(Line2D([], [], color=WATER_COLOUR, lw=1.6, marker="v", label="water table"))
+    for f in section.footings:
+        x0, width, base = f.distance * L, f.width * L, f.depth * L
+        thick = min(0.5 * L, 0.45 * base) if base > 0 else 0.3 * L
+        ax.add_patch(Rectangle((x0 - width / 2, base - thick), width, thick, facecolor="#5a5a5a",
+                               edgecolor="black", zorder=6))
+        stub = max(width * 0.18, 0.25 * L)
+        ax.add_patch(Polygon([[x0 - stub / 2, -0.6 * L], [x0 + stub / 2, -0.6 * L],
+                              [x0 + stub / 2, base - thick], [x0 - stub / 2, base - thick]],
+                             facecolor="#8a8a8a", edgecolor="black", zorder=6))
+        label = _esc(f.id)
+        if math.isfinite(f.settlement):
+            label += f"\n{f.settlement * S:.1f} {su}"
+        ax.text(x0, -0.7 * L, label, ha="center", va="bottom", fontsize=8, zorder=7)
+    handles.append(Patch(facecolor="#5a5a5a", edgecolor="black", label="footing"))
+    ax.set_xlim(float(d.min()), float(d.max()))
+    ax.set_ylim(float(section.bottom) * L, -2.2 * L)
+    ax.set_xlabel(f"distance along the section [{lu}]")
+    ax.set_ylabel(f"depth below ground [{lu}]")
+    title = section.title or "Section"
+    (x0, y0), (x1, y1) = section.start, section.end
+    ax.set_title(f"{_esc(title)} — from ({x0 * L:.1f}, {y0 * L:.1f}) to ({x1 * L:.1f}, {y1 * L:.1f}) {lu}",
+                 loc="left", fontsize=10)
+    ax.legend(handles=handles, loc="center left", bbox_to_anchor=(1.01, 0.5), fontsize=8, frameon=False)
+    return fig
