@@ -82,6 +82,11 @@ def _sector_candidates(xy: np.ndarray, tol: float) -> np.ndarray:
 
     a1, b1, todo = pick(np.arange(n), dist, idx, complete=(k == n))
     pairs = [np.stack([a1, b1], axis=1)]
+    k2 = min(n, 8 * _K_NEAREST)
+    if len(todo) and k2 > k:  # near the plan's edge: look further
+        d2, i2 = tree.query(xy[todo], k=k2)
+        a2, b2, todo = pick(todo, d2.reshape(len(todo), k2), i2.reshape(len(todo), k2), k2 == n)
+        pairs.append(np.stack([a2, b2], axis=1))
     for a in todo:  # hull points, collinear plans: look at every point
         d = np.hypot(*(xy - xy[a]).T)[None, :]
         aa, bb, _ = pick(np.array([a]), d, np.arange(n)[None, :], complete=True)
