@@ -43,6 +43,9 @@ class Trace:
         others' (for consolidation: total minus own alone, see the method notes).
     influence : ndarray
         Schmertmann strain-influence factor Iz where that method applies, else NaN.
+    modulus : ndarray or None
+        Young's modulus used for the sublayer [kPa] (granular strata; the
+        equivalent modulus for Burland & Burbidge; undrained E of clay), else NaN.
     """
 
     point: tuple[float, float]
@@ -57,6 +60,7 @@ class Trace:
     own_settlement: np.ndarray
     neighbour_settlement: np.ndarray
     influence: np.ndarray
+    modulus: np.ndarray | None = None
 
 
 @dataclass(frozen=True)
