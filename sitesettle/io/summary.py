@@ -1,0 +1,60 @@
+"""The short terminal summary printed by ``sitesettle check``."""
+
+from __future__ import annotations
+
+import numpy as np
+
+from sitesettle.results import Results
+
+#: how many of the worst footings and pairs the summary lists
+SHOWN = 5
+
+
+def _fmt_beta(beta: float) -> str:
+    return f"1/{1 / beta:,.0f}" if beta > 0 else "0"
+
+
+def format_summary(results: Results, summary: dict, units: str = "si") -> str:
+    """A few lines: counts, the worst footings and pairs with their limits, the verdict."""
+    scale, unit = (1000.0, "mm") if units == "si" else (1000.0 / 25.4, "in")
+    ids = results.ids
+    total = results.at_design_life() * scale
+    life = results.times[results.design_life_index]
+    chk = results.checks
+    out = [f"sitesettle — {results.site.name}",
+           f"{len(ids)} footings, {summary.get('n_pairs', 0)} neighbour pairs, design life {life:g} years"]
+    if chk is not None:
+        out.append(f"criteria: {chk.criteria}"
+                   + (f"; movement checked after {chk.checked_after:g} years" if chk.checked_after > 0 else ""))
+    out.append("")
+    out.append(f"Largest total settlements ({unit}):")
+    for i in np.argsort(-total, kind="stable")[:SHOWN]:
+        status = ""
+        if chk is not None:
+            status = "pass" if chk.footing_passed[i] else "FAIL " + chk.footing_reasons[i]
+        out.append(f"  {ids[i]:<12} {total[i]:8.1f}   {results.methods[i]:<32} {status}")
+    if chk is not None and len(chk.pairs.a):
+        pc = chk.pairs
+        out.append("")
+        out.append("Most utilised pairs:")
+        for k in np.argsort(-np.nan_to_num(pc.utilisation, nan=-1.0), kind="stable")[:SHOWN]:
+            a, b = ids[int(pc.a[k])], ids[int(pc.b[k])]
+            out.append(
+                f"  {a + ' – ' + b:<22} diff {pc.differential[k] * scale:6.1f} {unit}  "
+                f"β {_fmt_beta(pc.angular_distortion[k]):>8}  limit {pc.limit[k]} "
+                f"({pc.limit_source[k]})  use {pc.utilisation[k]:.2f}  "
+                f"{'pass' if pc.passed[k] else 'FAIL'}")
+    if results.warnings:
+        out.append("")
+        out.append(f"{len(results.warnings)} warning(s); the first:")
+        out.extend(f"  {w}" for w in results.warnings[:3])
+    out.append("")
+    if chk is None:
+        out.append("checks not run")
+    else:
+        nff = int(np.count_nonzero(~np.asarray(chk.footing_passed, bool)))
+        nfp = int(np.count_nonzero(~np.asarray(chk.pairs.passed, bool)))
+        verdict = "PASS — every check passes" if chk.all_passed else (
+            f"FAIL — {nff} footing(s) and {nfp} pair(s) exceed their limits")
+        out.append(verdict)
+    return "\n".join(out)
