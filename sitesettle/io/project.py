@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import math
 import pathlib
+import re
 import tomllib
 import warnings
 
@@ -159,7 +160,8 @@ def parse_limit(value: object, where: str) -> float:
         if not (math.isfinite(out) and out > 0):
             raise InputError(where, f'"{value}" is not a positive ratio', 'a ratio such as "1/500"')
         return out
-    for dim in ("length", "dimensionless", "angle"):
+    angle = re.search(r"(deg|degrees?|rad|radians?|°)\s*$", text.lower()) is not None
+    for dim in ("angle",) if angle else ("length", "dimensionless"):
         try:
             out = units.parse(value, dim, where)
         except InputError:

@@ -1,0 +1,102 @@
+"""Units at the edge: conversion factors against their definitions, header units, warnings."""
+
+import math
+
+import pytest
+
+from sitesettle import units
+from sitesettle.errors import InputError, InputWarning
+from sitesettle.io.project import parse_limit
+from sitesettle.io.strata import parse_stratum
+from sitesettle.io.tables import parse_csv
+
+# Exact definitions, NIST SP 811 (2008), Appendix B: 1 ft = 0.3048 m exactly
+# (international foot, 1959); 1 lbf = 4.4482216152605 N exactly (pound mass
+# 0.45359237 kg times standard gravity 9.80665 m/s²).
+FT = 0.3048
+LBF = 4.4482216152605  # N
+KIP = 1000 * LBF
+# Floats carry ~16 digits; the derived factors go through a few products → rtol 1e-12.
+EXACT = 1e-12
+
+
+@pytest.mark.parametrize(
+    "text, dimension, expected",
+    [
+        ("1 ft", "length", FT),
+        ("12 in", "length", FT),  # 12 in = 1 ft, by definition
+        ("1 lbf", "force", LBF / 1000),
+        ("56 kip", "force", 56 * KIP / 1000),
+        ("1 ksf", "pressure", KIP / FT**2 / 1000),  # kip per square foot
+        ("1 psf", "pressure", LBF / FT**2 / 1000),
+        ("1 tsf", "pressure", 2000 * LBF / FT**2 / 1000),  # short ton (2000 lbf) per ft²
+        ("120 pcf", "unit_weight", 120 * LBF / FT**3 / 1000),  # lbf per cubic foot
+        ("25 MPa", "pressure", 25_000.0),
+        ("0.8 m^2/yr", "diffusivity", 0.8),
+        ("1 ft^2/day", "diffusivity", FT**2 * 365.25),  # pint's year is the Julian year, 365.25 d
+        ("6 months", "time", 0.5),
+        ("30 %", "dimensionless", 0.3),
+        ("1.2 m", "length", 1.2),
+    ],
+)
+def test_unit_factors_match_their_definitions(text, dimension, expected):
+    assert units.parse(text, dimension, "x") == pytest.approx(expected, rel=EXACT)
+
+
+def test_ksf_in_kpa_to_the_printed_digits():
+    # NIST SP 811 Appendix B.8 prints 1 kip/in² = 6.894 757 E+03 kPa → ksf = that / 144
+    assert units.parse("1 ksf", "pressure", "x") == pytest.approx(6894.757 / 144, rel=1e-6)
+
+
+def test_wrong_dimension_names_the_place_and_the_dimension():
+    with pytest.raises(InputError, match=r'footings.csv row 2, column "width": "3 kg" is .*; expected a length'):
+        units.parse("3 kg", "length", 'footings.csv row 2, column "width"')
+
+
+def test_header_unit_applies_to_bare_numbers_only():
+    t = parse_csv("id,width [ft]\nA,4\nB,1.2 m\n", "f.csv")
+    assert t.quantity(t.rows[0], "width", "length") == pytest.approx(4 * FT, rel=EXACT)
+    assert t.quantity(t.rows[1], "width", "length") == pytest.approx(1.2, rel=EXACT)
+
+
+def test_header_unit_of_the_wrong_dimension_is_an_error_naming_the_column():
+    t = parse_csv("id,width [kPa]\nA,4\n", "f.csv")
+    with pytest.raises(InputError, match=r'f.csv column "width \[kPa\]".*expected a length'):
+        t.check_columns({"id": "text", "width": "length"}, strict=True)
+
+
+@pytest.mark.parametrize("value", ["nan", "inf", "-inf"])
+def test_nan_and_infinity_are_refused(value):
+    with pytest.raises(InputError, match="not a finite number"):
+        units.parse(value, "length", "x")
+
+
+@pytest.mark.parametrize(
+    "text, expected",
+    [("1/500", 0.002), ("25 mm", 0.025), ("0.002", 0.002), ("0.2 %", 0.002),
+     # an angle limit becomes its slope: tan(1°) = 0.017455 (trigonometry)
+     ("1 deg", math.tan(math.radians(1.0)))],
+)
+def test_limits_are_lengths_or_ratios(text, expected):
+    assert parse_limit(text, "x") == pytest.approx(expected, rel=EXACT)
+
+
+def test_suspicious_modulus_warns_but_loads():
+    # 25 kPa is two orders below any soil modulus (common practice: ≥ 1 MPa); likely MPa meant
+    with pytest.warns(InputWarning, match="youngs_modulus.*25 kPa is outside the usual range"):
+        s = parse_stratum({"name": "sand", "behaviour": "granular", "youngs_modulus": "25 kPa"}, "site.toml")
+    assert s.youngs_modulus == 25.0
+
+
+def test_suspicious_unit_weight_warns():
+    # 200 kN/m³ is ten times any soil (common practice: 12–25 kN/m³); likely a N/m³ or pcf slip
+    with pytest.warns(InputWarning, match="unit_weight.*outside the usual range"):
+        parse_stratum({"name": "sand", "behaviour": "granular", "unit_weight": 200,
+                       "saturated_unit_weight": 210, "youngs_modulus": "20 MPa"}, "site.toml")
+
+
+def test_pcf_unit_weight_is_plausible():
+    # 120 pcf = 18.85 kN/m³ (NIST factors above), a normal soil: no warning (warnings are errors here)
+    s = parse_stratum({"name": "sand", "behaviour": "granular", "unit_weight": "120 pcf",
+                       "saturated_unit_weight": "125 pcf", "youngs_modulus": "20 MPa"}, "site.toml")
+    assert s.unit_weight == pytest.approx(120 * LBF / FT**3 / 1000, rel=EXACT)
