@@ -1,4 +1,4 @@
-"""One-dimensional consolidation of clay: primary strain, Terzaghi time factor, secondary compression.
+"""One-dimensional consolidation of clay: primary strain, time factor, secondary compression.
 
 Per sublayer of a cohesive stratum, with mid-depth stresses:
 
