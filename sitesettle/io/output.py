@@ -317,7 +317,20 @@ def contour_table(results: Results, units: str = "si"):
 
 
 def write_geopackage(results: Results, path: Path, units: str = "si") -> None:
-    """site.gpkg: layers ``footings`` (polygons), ``pairs`` (lines) and ``contours`` (lines)."""
+    """site.gpkg: layers ``footings`` (polygons), ``pairs`` (lines) and ``contours`` (lines).
+
+    The layers carry the site's CRS; a site without one gives layers without one
+    (the library's warning about that is expected and silenced).
+    """
+    import warnings
+
+    with warnings.catch_warnings():
+        if results.site.crs is None:
+            warnings.filterwarnings("ignore", message="'crs' was not provided", category=UserWarning)
+        _write_layers(results, path, units)
+
+
+def _write_layers(results: Results, path: Path, units: str) -> None:
     import geopandas as gpd
     import shapely
 
