@@ -95,7 +95,8 @@ def contour_levels(values: np.ndarray | Sequence[float], *, max_levels: int = 12
     lo, hi = float(v.min()), float(v.max())
     if not hi > lo:
         return np.array([], dtype=float)
-    step = nice_step((hi - lo) / max_levels)
+    # any step below spread / (max_levels + 1) gives too many levels: start there, go up
+    step = nice_step((hi - lo) / (max_levels + 1))
     while True:
         k = np.arange(math.ceil(lo / step - 1e-9), math.floor(hi / step + 1e-9) + 1)
         if k.size <= max_levels:
