@@ -199,17 +199,28 @@ def centre_line_points(footings: Sequence[Footing]) -> tuple[np.ndarray, np.ndar
 def footing_pairs(footings: Sequence[Footing]) -> np.ndarray:
     """Automatic neighbour pairs of footings (indices into ``footings``).
 
-    The relative neighbourhood graph (:func:`neighbour_pairs`) of the points of
-    :func:`centre_line_points`, so that a long wall strip pairs with every pad
-    beside it, not only with the one nearest its centroid.
+    The union of two relative neighbourhood graphs (:func:`neighbour_pairs`):
+
+    * of the footing centroids, for every pair;
+    * of the points of :func:`centre_line_points`, kept only for pairs that involve
+      an elongated footing (a wall strip), so that a long strip pairs with every pad
+      beside it, not only with the one nearest its centroid. Its points never block a
+      pair of two compact footings (a row of pads beside a wall keeps its grid-line
+      pairs).
 
     Returns
     -------
     numpy.ndarray
         (n_pairs, 2) int, ``a < b``, sorted.
     """
+    centroids = np.array([[f.x, f.y] for f in footings], dtype=float).reshape(-1, 2)
+    pairs = [neighbour_pairs(centroids)]
     xy, groups = centre_line_points(footings)
-    return neighbour_pairs(xy, groups)
+    elongated = np.bincount(groups, minlength=len(footings)) > 1
+    if elongated.any():
+        extra = neighbour_pairs(xy, groups)
+        pairs.append(extra[elongated[extra[:, 0]] | elongated[extra[:, 1]]])
+    return np.unique(np.concatenate(pairs), axis=0).reshape(-1, 2)
 
 
 # --- measures ------------------------------------------------------------------------------
