@@ -2,6 +2,8 @@
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from methods_support import check_array_forms
 from scipy import integrate
 
@@ -355,3 +357,40 @@ def test_settlement_nan_in_any_input_gives_nan(position):
     bad = list(args)
     bad[position] = np.where(np.arange(2) == 1, np.nan, np.asarray(args[position], dtype=float))
     assert np.isnan(sm.settlement(*bad))
+
+
+# ---------------------------------------------------------------- laws (hypothesis)
+
+depths = st.floats(-1.0, 12.0, allow_nan=False)
+
+
+@settings(max_examples=200, deadline=None)
+@given(
+    a=depths,
+    b=depths,
+    c=depths,
+    ratio=st.floats(1.0, 15.0),
+    width=st.floats(0.3, 4.0),
+    izp=st.floats(0.5, 1.0),
+)
+def test_integral_is_additive_over_intervals(a, b, c, ratio, width, izp):
+    # ∫[a,b] + ∫[b,c] = ∫[a,c] for any order of a, b, c: what lets sublayers of any
+    # thickness add up to the whole diagram
+    d = sm.diagram(ratio)
+    ab = sm.influence_integral(a, b, width, d, izp)
+    bc = sm.influence_integral(b, c, width, d, izp)
+    ac = sm.influence_integral(a, c, width, d, izp)
+    assert ab + bc == pytest.approx(ac, abs=1e-12)
+
+
+@settings(max_examples=200, deadline=None)
+@given(
+    z=st.floats(0.0, 12.0),
+    ratio=st.floats(1.0, 15.0),
+    width=st.floats(0.3, 4.0),
+    izp=st.floats(0.5, 1.0),
+)
+def test_influence_factor_within_diagram_bounds(z, ratio, width, izp):
+    # Iz is never negative and never above the peak
+    iz = sm.influence_factor(z, width, sm.diagram(ratio), izp)
+    assert 0.0 <= iz <= izp + 1e-15
