@@ -22,6 +22,8 @@ References
 
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 from numpy.typing import ArrayLike
 
@@ -308,7 +310,13 @@ def end_of_primary_time_factor(convention: str) -> float:
         return TV1_TIME_FACTOR
     if c is EndOfPrimary.GIVEN:
         raise ValueError('the "given" convention has no time factor; pass the time itself')
-    return float(time_factor(END_OF_PRIMARY_DEGREE[c]))
+    return _time_factor_of_degree(END_OF_PRIMARY_DEGREE[c])
+
+
+@functools.lru_cache(maxsize=8)
+def _time_factor_of_degree(degree: float) -> float:
+    # the inverse is a root search: cache it, the conventions are a handful of constants
+    return float(time_factor(degree))
 
 
 def end_of_primary_time(
