@@ -45,15 +45,17 @@ from sitesettle.site import CheckSettings, Footing
 
 
 def brute_force_rng(xy: np.ndarray) -> set[tuple[int, int]]:
-    """Toussaint's (1980) definition, O(n³), with the module's tie tolerance."""
+    """Toussaint's (1980) definition over every triple, with the module's tie tolerance."""
     xy = np.asarray(xy, float)
     n = len(xy)
     d = np.hypot(*(xy[:, None, :] - xy[None, :, :]).transpose(2, 0, 1))
     out = set()
-    for a, b in itertools.combinations(range(n), 2):
-        others = [c for c in range(n) if c not in (a, b)]
-        if not any(max(d[a, c], d[b, c]) < (1 - NEIGHBOUR_TOLERANCE) * d[a, b] for c in others):
-            out.add((a, b))
+    for a in range(n):
+        m = np.maximum(d[a][None, :], d)  # m[b, c] = max(d(a,c), d(b,c))
+        m[:, a] = np.inf
+        np.fill_diagonal(m, np.inf)  # c = b
+        blocked = (m < (1 - NEIGHBOUR_TOLERANCE) * d[a][:, None]).any(axis=1)
+        out |= {(a, int(b)) for b in np.flatnonzero(~blocked) if b > a}
     return out
 
 
@@ -226,6 +228,17 @@ def test_order_and_translation_do_not_matter(points, tx, ty, rnd):
     permuted = neighbour_pairs(xy[perm])
     assert {tuple(sorted((perm[a], perm[b]))) for a, b in permuted} == base
     assert as_set(neighbour_pairs(xy + [tx, ty])) == base
+
+
+@pytest.mark.parametrize("seed", [0, 1])
+def test_large_plans_match_the_definition(seed):
+    # beyond the 32 and 256 nearest points searched first: plan-edge points need the
+    # exhaustive search; a clustered plan (two buildings) and a uniform one
+    rng = np.random.default_rng(seed)
+    uniform = rng.random((700, 2)) * 300
+    clusters = np.concatenate([rng.normal(0, 5, (300, 2)), rng.normal([200, 50], 8, (300, 2))])
+    for xy in (uniform, clusters):
+        assert as_set(neighbour_pairs(xy)) == brute_force_rng(xy)
 
 
 @settings(max_examples=40, deadline=None)
