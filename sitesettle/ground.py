@@ -112,7 +112,9 @@ class PlanInterpolator:
             f = np.where(span > 0, (tc - self._t[j]) / np.where(span > 0, span, 1.0), 0.0)
             idx = np.column_stack([self._order[j], self._order[j + 1]])
             w = np.column_stack([1.0 - f, f])
-            outside = (off > self._tol) | (t < self._t[0] - self._tol) | (t > self._t[-1] + self._tol)
+            outside = (
+                (off > self._tol) | (t < self._t[0] - self._tol) | (t > self._t[-1] + self._tol)
+            )
         else:
             simplex = self._tri.find_simplex(safe, tol=self._tol)
             inside = simplex >= 0
@@ -208,7 +210,9 @@ class Column:
         zw = self.water_depth
         above = np.clip(np.minimum(np.minimum(zz, self.bottoms), zw) - self.tops, 0.0, None)
         below = np.clip(np.minimum(zz, self.bottoms) - np.maximum(self.tops, zw), 0.0, None)
-        sigma = (np.where(above > 0, above * dry, 0.0) + np.where(below > 0, below * sat, 0.0)).sum(axis=-1)
+        sigma = (np.where(above > 0, above * dry, 0.0) + np.where(below > 0, below * sat, 0.0)).sum(
+            axis=-1
+        )
         return np.where(np.isnan(z) | (z < 0), np.nan, sigma)
 
     def pore_pressure(self, z) -> np.ndarray:
@@ -270,8 +274,13 @@ class Ground:
         self._plan = PlanInterpolator(xy)
         self._tops = _borehole_tops(site)
         # water table: each borehole's own depth, else the site's; boreholes with neither left out
-        water = np.array([b.water_depth if b.water_depth is not None else site.water_depth
-                          for b in site.boreholes], dtype=float)
+        water = np.array(
+            [
+                b.water_depth if b.water_depth is not None else site.water_depth
+                for b in site.boreholes
+            ],
+            dtype=float,
+        )
         has = np.isfinite(water)
         self._water = (PlanInterpolator(xy[has]), water[has]) if has.any() else None
         # measured interval values: (stratum index, field) → (positions, values)
@@ -286,8 +295,11 @@ class Ground:
             arr = np.array(rows, dtype=float)
             self._overrides[key] = (cKDTree(arr[:, :2]), arr[:, 2])
         self.soundings: tuple[Sounding, ...] = tuple(site.soundings)
-        self._sounding_tree = (cKDTree(np.array([[s.x, s.y] for s in self.soundings], dtype=float))
-                               if self.soundings else None)
+        self._sounding_tree = (
+            cKDTree(np.array([[s.x, s.y] for s in self.soundings], dtype=float))
+            if self.soundings
+            else None
+        )
 
     # -- vectorised helpers ---------------------------------------------------
     def tops(self, x, y) -> np.ndarray:
@@ -320,8 +332,15 @@ class Ground:
             _, j = tree.query([x, y])
             extra = {"use_soundings": False} if field == "cone_resistance" else {}
             strata[i] = dataclasses.replace(strata[i], **{field: float(values[j])}, **extra)
-        return Column(x=float(x), y=float(y), strata=tuple(strata), tops=tops, bottoms=bottoms,
-                      water_depth=float(self.water_depth(x, y)), outside_hull=bool(self.outside_hull(x, y)))
+        return Column(
+            x=float(x),
+            y=float(y),
+            strata=tuple(strata),
+            tops=tops,
+            bottoms=bottoms,
+            water_depth=float(self.water_depth(x, y)),
+            outside_hull=bool(self.outside_hull(x, y)),
+        )
 
     # -- cone soundings -------------------------------------------------------
     def nearest_sounding(self, x: float, y: float) -> Sounding | None:
@@ -336,7 +355,9 @@ class Ground:
         if self._sounding_tree is None:
             return np.full(xb.shape, np.nan)
         ends = np.array([s.depth[-1] for s in self.soundings])
-        return ends[self._sounding_tree.query(np.column_stack([xb.ravel(), yb.ravel()]))[1]].reshape(xb.shape)
+        return ends[
+            self._sounding_tree.query(np.column_stack([xb.ravel(), yb.ravel()]))[1]
+        ].reshape(xb.shape)
 
     def cone_resistance(self, x, y, z) -> np.ndarray:
         """Cone resistance qc [kPa] at (x, y, z) from the nearest sounding, broadcast.
@@ -344,7 +365,9 @@ class Ground:
         Linear in depth between readings; the first reading is held above it and
         the last below it. NaN where the site has no soundings or z is NaN.
         """
-        xb, yb, zb = np.broadcast_arrays(np.asarray(x, float), np.asarray(y, float), np.asarray(z, float))
+        xb, yb, zb = np.broadcast_arrays(
+            np.asarray(x, float), np.asarray(y, float), np.asarray(z, float)
+        )
         out = np.full(zb.shape, np.nan)
         if self._sounding_tree is None:
             return out

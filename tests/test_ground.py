@@ -9,7 +9,9 @@ from sitesettle.ground import Ground, PlanInterpolator, cone_resistance_at, stra
 from sitesettle.options import Behaviour
 from sitesettle.site import WATER_UNIT_WEIGHT, Borehole, Interval, Site, Sounding, Stratum
 
-SAND = Stratum("sand", Behaviour.GRANULAR, unit_weight=18.0, saturated_unit_weight=20.0, youngs_modulus=2e4)
+SAND = Stratum(
+    "sand", Behaviour.GRANULAR, unit_weight=18.0, saturated_unit_weight=20.0, youngs_modulus=2e4
+)
 CLAY = Stratum("clay", Behaviour.COHESIVE, unit_weight=16.0, saturated_unit_weight=17.0)
 ROCK = Stratum("rock", Behaviour.RIGID, unit_weight=23.0, saturated_unit_weight=23.0)
 STRATA = (SAND, CLAY, ROCK)
@@ -17,7 +19,11 @@ STRATA = (SAND, CLAY, ROCK)
 
 def bh(bid, x, y, sand, clay, end=None, water=None, **over):
     """A borehole with sand 0–sand, clay sand–clay and rock below (to ``end``)."""
-    iv = [Interval("sand", 0.0, sand, over), Interval("clay", sand, clay), Interval("rock", clay, end or clay + 1)]
+    iv = [
+        Interval("sand", 0.0, sand, over),
+        Interval("clay", sand, clay),
+        Interval("rock", clay, end or clay + 1),
+    ]
     return Borehole(bid, x, y, tuple(i for i in iv if i.bottom > i.top), water)
 
 
@@ -56,8 +62,9 @@ def test_outside_the_hull_takes_the_nearest_borehole_and_is_flagged():
     col = g.column(12.0, -1.0)  # nearest: B
     assert col.outside_hull
     np.testing.assert_allclose(col.tops, [0.0, 4.0, 9.0])
-    np.testing.assert_array_equal(g.outside_hull([5.0, 6.0, 2.0, -0.1], [5.0, 6.0, 2.0, 1.0]),
-                                  [False, True, False, True])  # (5,5) lies on the hull edge
+    np.testing.assert_array_equal(
+        g.outside_hull([5.0, 6.0, 2.0, -0.1], [5.0, 6.0, 2.0, 1.0]), [False, True, False, True]
+    )  # (5,5) lies on the hull edge
 
 
 def test_one_borehole_everywhere():
@@ -82,8 +89,11 @@ def test_collinear_boreholes_use_the_line_rule():
 
 
 def test_absent_stratum_has_zero_thickness_where_it_would_sit():
-    s = site(Borehole("A", 0, 0, (Interval("sand", 0, 3), Interval("rock", 3, 5))), bh("B", 10, 0, 2.0, 6.0),
-             bh("C", 0, 10, 2.0, 6.0))
+    s = site(
+        Borehole("A", 0, 0, (Interval("sand", 0, 3), Interval("rock", 3, 5))),
+        bh("B", 10, 0, 2.0, 6.0),
+        bh("C", 0, 10, 2.0, 6.0),
+    )
     col = Ground(s).column(0, 0)
     np.testing.assert_allclose(col.tops, [0.0, 3.0, 3.0])
     assert col.thicknesses[1] == 0.0
@@ -91,17 +101,22 @@ def test_absent_stratum_has_zero_thickness_where_it_would_sit():
 
 
 def test_stratum_below_a_short_borehole_is_estimated_from_the_others_but_not_above_its_end():
-    short = Borehole("A", 0, 0, (Interval("sand", 0, 2), Interval("clay", 2, 5)))  # ends in clay at 5 m
+    short = Borehole(
+        "A", 0, 0, (Interval("sand", 0, 2), Interval("clay", 2, 5))
+    )  # ends in clay at 5 m
     s = site(short, bh("B", 10, 0, 4.0, 9.0), bh("C", 0, 10, 3.0, 3.5))
     tops = Ground(s).column(0, 0).tops
-    # rock at A: interpolated from B (9 m) and C (3.5 m) along their line (A projects mid-way: 6.25 m)
+    # rock at A: interpolated from B (9 m) and C (3.5 m) on the B–C line; A projects mid-way: 6.25 m
     assert tops[2] == pytest.approx(6.25)
     s2 = site(short, bh("B", 10, 0, 4.0, 4.5), bh("C", 0, 10, 3.0, 3.5))
     assert Ground(s2).column(0, 0).tops[2] == pytest.approx(5.0)  # never above the borehole's end
 
 
 def test_stratum_no_borehole_reached_starts_at_infinity():
-    s = site(Borehole("A", 0, 0, (Interval("sand", 0, 4),)), Borehole("B", 9, 0, (Interval("sand", 0, 5),)))
+    s = site(
+        Borehole("A", 0, 0, (Interval("sand", 0, 4),)),
+        Borehole("B", 9, 0, (Interval("sand", 0, 5),)),
+    )
     col = Ground(s).column(3, 0)
     assert col.tops[1] == math.inf and col.base_depth == math.inf
     assert col.total_stress(10.0) == pytest.approx(180.0)  # 10 m of sand at 18 kN/m³
@@ -114,11 +129,18 @@ def test_strata_stay_ordered_on_random_sites():
         holes = []
         for i in range(n):
             t = np.cumsum(rng.uniform(0, 5, 3))
-            layers = [Interval(nm, a, b) for nm, a, b in zip(["sand", "clay", "rock"], [0, t[0], t[1]], t)
-                      if b > a]
+            layers = [
+                Interval(nm, a, b)
+                for nm, a, b in zip(["sand", "clay", "rock"], [0, t[0], t[1]], t)
+                if b > a
+            ]
             holes.append(Borehole(str(i), *rng.uniform(0, 50, 2), tuple(layers)))
         tops = Ground(site(*holes)).tops(rng.uniform(-20, 70, 200), rng.uniform(-20, 70, 200))
-        assert tops.shape == (200, 3) and np.all(np.diff(tops, axis=1) >= 0) and np.all(tops[:, 0] == 0)
+        assert (
+            tops.shape == (200, 3)
+            and np.all(np.diff(tops, axis=1) >= 0)
+            and np.all(tops[:, 0] == 0)
+        )
 
 
 def test_vectorised_tops_match_single_columns():
@@ -130,7 +152,9 @@ def test_vectorised_tops_match_single_columns():
 
 
 def test_interpolator_nan_in_nan_out():
-    out = PlanInterpolator([[0, 0], [1, 0], [0, 1]])(np.array([1.0, 2.0, 3.0]), [np.nan, 0.0], [0.0, 0.0])
+    out = PlanInterpolator([[0, 0], [1, 0], [0, 1]])(
+        np.array([1.0, 2.0, 3.0]), [np.nan, 0.0], [0.0, 0.0]
+    )
     assert np.isnan(out[0]) and out[1] == pytest.approx(1.0)
 
 
@@ -142,7 +166,9 @@ def test_in_situ_stress_with_water_inside_a_stratum():
     col = Ground(site(bh("A", 0, 0, 4.0, 10.0), water=2.0)).column(0, 0)
     z = np.array([0.0, 1.0, 2.0, 3.0, 4.0, 6.0])
     np.testing.assert_allclose(col.total_stress(z), [0, 18, 36, 56, 76, 110], rtol=1e-12)
-    np.testing.assert_allclose(col.pore_pressure(z), WATER_UNIT_WEIGHT * np.array([0, 0, 0, 1, 2, 4]), rtol=1e-12)
+    np.testing.assert_allclose(
+        col.pore_pressure(z), WATER_UNIT_WEIGHT * np.array([0, 0, 0, 1, 2, 4]), rtol=1e-12
+    )
     assert col.effective_stress(6.0) == pytest.approx(110 - 4 * 9.81, rel=1e-12)
 
 
@@ -152,7 +178,9 @@ def test_stress_shapes_and_nan():
     assert col.effective_stress(np.ones((2, 3))).shape == (2, 3)
     out = col.effective_stress(np.array([np.nan, -1.0, 3.0]))
     assert np.isnan(out[0]) and np.isnan(out[1]) and out[2] == pytest.approx(56 - 9.81)
-    np.testing.assert_array_equal(col.index_at(np.array([np.nan, -1, 0, 3.99, 4, 50])), [-1, -1, 0, 0, 1, 2])
+    np.testing.assert_array_equal(
+        col.index_at(np.array([np.nan, -1, 0, 3.99, 4, 50])), [-1, -1, 0, 0, 1, 2]
+    )
 
 
 def test_no_water_table():
@@ -167,7 +195,12 @@ def test_rigid_base_depth():
 
 
 def test_borehole_water_depths_interpolated_site_value_where_missing():
-    s = site(bh("A", 0, 0, 2, 6, water=1.0), bh("B", 10, 0, 2, 6, water=3.0), bh("C", 0, 10, 2, 6), water=5.0)
+    s = site(
+        bh("A", 0, 0, 2, 6, water=1.0),
+        bh("B", 10, 0, 2, 6, water=3.0),
+        bh("C", 0, 10, 2, 6),
+        water=5.0,
+    )
     g = Ground(s)
     assert g.column(5, 0).water_depth == pytest.approx(2.0)  # mid-way A–B, linear
     assert g.column(0, 10).water_depth == pytest.approx(5.0)  # C has none: the site value
@@ -176,7 +209,9 @@ def test_borehole_water_depths_interpolated_site_value_where_missing():
 
 
 def test_interval_overrides_from_the_nearest_borehole_that_gives_them():
-    s = site(bh("A", 0, 0, 2, 6, spt_n=10.0), bh("B", 10, 0, 2, 6, spt_n=30.0), bh("C", 0, 10, 2, 6))
+    s = site(
+        bh("A", 0, 0, 2, 6, spt_n=10.0), bh("B", 10, 0, 2, 6, spt_n=30.0), bh("C", 0, 10, 2, 6)
+    )
     g = Ground(s)
     assert g.column(1, 9).strata[0].spt_n == 10.0  # C is nearest but gives none: A
     assert g.column(9, 1).strata[0].spt_n == 30.0
@@ -189,7 +224,9 @@ def test_cone_resistance_nearest_sounding_linear_in_depth():
     c2 = Sounding("C2", 20, 0, np.array([0.5, 3.0]), np.array([500.0, 1000.0]))
     s = site(bh("A", 0, 0, 2, 6), soundings=(c1, c2))
     g = Ground(s)
-    np.testing.assert_allclose(g.cone_resistance(1.0, 0.0, [0.2, 0.75, 1.5, 5.0]), [2000, 3000, 6000, 8000])
+    np.testing.assert_allclose(
+        g.cone_resistance(1.0, 0.0, [0.2, 0.75, 1.5, 5.0]), [2000, 3000, 6000, 8000]
+    )
     np.testing.assert_allclose(g.cone_resistance([1.0, 15.0], [0.0, 0.0], 1.75), [7000, 750])
     assert np.isnan(g.cone_resistance(0, 0, np.nan))
     assert g.sounding_end(18, 0) == 3.0 and g.nearest_sounding(18, 0).id == "C2"

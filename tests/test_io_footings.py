@@ -10,7 +10,12 @@ from shapely import affinity
 from shapely.geometry import MultiPolygon, Polygon, box
 
 from sitesettle.errors import InputError, InputWarning
-from sitesettle.io.footings import FootingDefaults, parse_footings_csv, parse_footings_frame, read_footings
+from sitesettle.io.footings import (
+    FootingDefaults,
+    parse_footings_csv,
+    parse_footings_frame,
+    read_footings,
+)
 
 # An invented plan: two pads, a rotated strip, a square turned 30° (3 significant
 # figures of the coordinates are exact binary fractions or simple decimals).
@@ -24,31 +29,53 @@ Q1,16,4,2.5,2.5,30,1.0,700,200,0.3,yes
 
 def _plan_polygons():
     """The same plan drawn independently with shapely (box, then rotate about the centre)."""
+
     def rect(x, y, w, l, rot):
         return affinity.rotate(box(x - l / 2, y - w / 2, x + l / 2, y + w / 2), rot, origin=(x, y))
-    return [rect(0, 0, 2.0, 2.0, 0), rect(8, 0, 2.0, 3.0, 0), rect(4, 9, 1.0, 10.0, 30),
-            # clockwise ring, to test orientation
-            Polygon(list(rect(16, 4, 2.5, 2.5, 30).exterior.coords)[::-1])]
+
+    return [
+        rect(0, 0, 2.0, 2.0, 0),
+        rect(8, 0, 2.0, 3.0, 0),
+        rect(4, 9, 1.0, 10.0, 30),
+        # clockwise ring, to test orientation
+        Polygon(list(rect(16, 4, 2.5, 2.5, 30).exterior.coords)[::-1]),
+    ]
 
 
 def _plan_frame(crs="EPSG:32633"):
-    attrs = {"id": ["P1", "P2", "S1", "Q1"], "depth": [1.0, 1.2, 0.8, 1.0],
-             "dead_load": [600.0, 800.0, 1500.0, 700.0], "live_load": [200.0, 250.0, 500.0, 200.0],
-             "sustained": [0.3, 0.3, 0.5, 0.3], "rigid": [1, 1, 0, 1]}
+    attrs = {
+        "id": ["P1", "P2", "S1", "Q1"],
+        "depth": [1.0, 1.2, 0.8, 1.0],
+        "dead_load": [600.0, 800.0, 1500.0, 700.0],
+        "live_load": [200.0, 250.0, 500.0, 200.0],
+        "sustained": [0.3, 0.3, 0.5, 0.3],
+        "rigid": [1, 1, 0, 1],
+    }
     return gpd.GeoDataFrame(attrs, geometry=_plan_polygons(), crs=crs)
 
 
 def _same(a, b):
     # GIS files store doubles (GeoJSON as decimal text, ~15 digits): 1e-9 m is far below any drawing
     assert (a.id, a.shape, a.rigid) == (b.id, b.shape, b.rigid)
-    for name in ("x", "y", "width", "length", "rotation", "depth", "dead_load", "live_load",
-                 "sustained_live_fraction", "fill_unit_weight"):
+    for name in (
+        "x",
+        "y",
+        "width",
+        "length",
+        "rotation",
+        "depth",
+        "dead_load",
+        "live_load",
+        "sustained_live_fraction",
+        "fill_unit_weight",
+    ):
         assert getattr(a, name) == pytest.approx(getattr(b, name), abs=1e-9), name
     np.testing.assert_allclose(a.outline, b.outline, atol=1e-9)
 
 
-@pytest.mark.parametrize("suffix, driver", [(".geojson", "GeoJSON"), (".gpkg", "GPKG"),
-                                            (".shp", "ESRI Shapefile")])
+@pytest.mark.parametrize(
+    "suffix, driver", [(".geojson", "GeoJSON"), (".gpkg", "GPKG"), (".shp", "ESRI Shapefile")]
+)
 def test_same_plan_from_csv_and_gis_files(tmp_path, suffix, driver):
     from_csv = parse_footings_csv(PLAN_CSV)
     path = tmp_path / f"plan{suffix}"
@@ -66,7 +93,9 @@ def test_csv_rectangle_geometry():
     assert f.area == pytest.approx(10.0, rel=1e-12)
     # the long axis is at 30° from east: the far corner lies 5 m along it and 0.5 m across
     a = math.radians(30)
-    corner = np.array([4 + 5 * math.cos(a) - 0.5 * -math.sin(a), 9 + 5 * math.sin(a) - 0.5 * math.cos(a)])
+    corner = np.array(
+        [4 + 5 * math.cos(a) - 0.5 * -math.sin(a), 9 + 5 * math.sin(a) - 0.5 * math.cos(a)]
+    )
     assert np.min(np.hypot(*(f.outline - corner).T)) < 1e-12
     assert Polygon(f.outline).exterior.is_ccw
 
@@ -97,7 +126,10 @@ def test_polygon_footprint_uses_minimum_rotated_rectangle():
 
 
 def test_pressure_columns_and_header_units():
-    text = "id,x [ft],y [ft],width [ft],depth [ft],dead_pressure [ksf],live_load [kip]\nA,0,0,10,3,2,50\n"
+    text = (
+        "id,x [ft],y [ft],width [ft],depth [ft],dead_pressure [ksf],live_load [kip]\n"
+        "A,0,0,10,3,2,50\n"
+    )
     f = parse_footings_csv(text)[0]
     ft, lbf = 0.3048, 4.4482216152605e-3  # NIST SP 811: exact; lbf in kN
     assert f.width == pytest.approx(10 * ft, rel=1e-12)
@@ -109,12 +141,20 @@ def test_pressure_columns_and_header_units():
 def test_defaults_fill_blank_columns():
     d = FootingDefaults(depth=1.5, sustained_live_fraction=0.25, rigid=False, fill_unit_weight=0.0)
     f = parse_footings_csv("id,x,y,width,dead_load,live_load\nA,0,0,2,500,100\n", defaults=d)[0]
-    assert (f.depth, f.sustained_live_fraction, f.rigid, f.fill_unit_weight) == (1.5, 0.25, False, 0.0)
+    assert (f.depth, f.sustained_live_fraction, f.rigid, f.fill_unit_weight) == (
+        1.5,
+        0.25,
+        False,
+        0.0,
+    )
 
 
 def test_extra_columns_are_ignored_but_typos_are_not():
     parse_footings_csv("id,x,y,width,depth,dead_load,grid_line\nA,0,0,2,1,500,B/3\n")
-    with pytest.raises(InputError, match=r'footings.csv column "widht": unknown column; expected did you mean "width"'):
+    with pytest.raises(
+        InputError,
+        match=r'footings.csv column "widht": unknown column; expected did you mean "width"',
+    ):
         parse_footings_csv("id,x,y,width,widht,depth,dead_load\nA,0,0,2,2,1,500\n")
 
 
@@ -132,10 +172,19 @@ HEAD = "id,x,y,width,length,depth,dead_load,live_load\n"
         ("A,0,0,2,2,-1,500,0\n", r'row 2, column "depth": the base depth -1 m is negative'),
         ("A,0,0,nan,2,1,500,0\n", r'row 2, column "width": "nan" is not a finite number'),
         ("A,0,inf,2,2,1,500,0\n", r'row 2, column "y": "inf" is not a finite number'),
-        ("A,0,0,2,2,1,500 kPa,0\n", r'row 2, column "dead_load": "500 kPa" is a pressure; expected a force'),
+        (
+            "A,0,0,2,2,1,500 kPa,0\n",
+            r'row 2, column "dead_load": "500 kPa" is a pressure; expected a force',
+        ),
         ("A,0,0,2,2,1,,0\n", r'row 2, column "dead_load": the dead load is missing'),
-        ("A,0,0,2,2,1,500,0\nA,5,0,2,2,1,500,0\n", r'row 3: the footing id "A" is used again \(first at row 2\)'),
-        ("A,0,0,2,2,1,500,0\nB,1.5,0,2,2,1,500,0\n", r'row 3: footing "B" overlaps footing "A" \(row 2\) by 1 m²'),
+        (
+            "A,0,0,2,2,1,500,0\nA,5,0,2,2,1,500,0\n",
+            r'row 3: the footing id "A" is used again \(first at row 2\)',
+        ),
+        (
+            "A,0,0,2,2,1,500,0\nB,1.5,0,2,2,1,500,0\n",
+            r'row 3: footing "B" overlaps footing "A" \(row 2\) by 1 m²',
+        ),
     ],
 )
 def test_footing_rows_are_validated(rows, match):
@@ -163,12 +212,16 @@ def test_empty_footing_file():
 def test_missing_required_column():
     with pytest.raises(InputError, match=r'footings.csv: the required column "width" is missing'):
         parse_footings_csv("id,x,y,depth,dead_load\nA,0,0,1,500\n")
-    with pytest.raises(InputError, match=r'footings.csv: the required column "dead_load" \(or "dead_pressure"\)'):
+    with pytest.raises(
+        InputError, match=r'footings.csv: the required column "dead_load" \(or "dead_pressure"\)'
+    ):
         parse_footings_csv("id,x,y,width,depth\nA,0,0,1,1\n")
 
 
 def test_both_load_and_pressure_is_an_error():
-    with pytest.raises(InputError, match=r'row 2, column "dead_pressure": both dead_load and dead_pressure'):
+    with pytest.raises(
+        InputError, match=r'row 2, column "dead_pressure": both dead_load and dead_pressure'
+    ):
         parse_footings_csv("id,x,y,width,depth,dead_load,dead_pressure\nA,0,0,2,1,500,100\n")
 
 
@@ -181,13 +234,19 @@ def test_suspicious_pressure_warns():
 @pytest.mark.parametrize(
     "geom, match",
     [
-        (Polygon([(0, 0), (2, 2), (2, 0), (0, 2)]), r"feature 1: the polygon is invalid \(Self-intersection"),
+        (
+            Polygon([(0, 0), (2, 2), (2, 0), (0, 2)]),
+            r"feature 1: the polygon is invalid \(Self-intersection",
+        ),
         (Polygon(), "feature 1: the geometry is empty"),
         (MultiPolygon([box(0, 0, 1, 1), box(3, 0, 4, 1)]), "feature 1: the geometry has 2 parts"),
         (shapely.Point(0, 0).buffer(0), "feature 1: the geometry is empty"),
         (shapely.LineString([(0, 0), (1, 1)]), "feature 1: the geometry is a LineString"),
         (Polygon([(0, 0), (2, 0), (4, 0)]), r"feature 1: the polygon (has no area|is invalid)"),
-        (Polygon(box(0, 0, 4, 4).exterior, [box(1, 1, 2, 2).exterior]), "feature 1: the polygon has a hole"),
+        (
+            Polygon(box(0, 0, 4, 4).exterior, [box(1, 1, 2, 2).exterior]),
+            "feature 1: the polygon has a hole",
+        ),
     ],
 )
 def test_bad_geometries(geom, match):
@@ -197,8 +256,10 @@ def test_bad_geometries(geom, match):
 
 
 def test_single_part_multipolygon_is_accepted(tmp_path):
-    frame = gpd.GeoDataFrame({"id": ["A"], "depth": [1.0], "dead_load": [500.0]},
-                             geometry=[MultiPolygon([box(0, 0, 2, 3)])])
+    frame = gpd.GeoDataFrame(
+        {"id": ["A"], "depth": [1.0], "dead_load": [500.0]},
+        geometry=[MultiPolygon([box(0, 0, 2, 3)])],
+    )
     (f,), _ = parse_footings_frame(frame)
     assert f.shape == "rectangle" and (f.width, f.length) == pytest.approx((2.0, 3.0))
     assert f.rotation == pytest.approx(90.0)  # long side (3 m) along north

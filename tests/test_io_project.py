@@ -57,9 +57,16 @@ BH1,0,0,rock,9,10
 """
 
 
-def write_project(folder: pathlib.Path, files: dict[str, str | bytes] | None = None, **replace) -> pathlib.Path:
+def write_project(
+    folder: pathlib.Path, files: dict[str, str | bytes] | None = None, **replace
+) -> pathlib.Path:
     """Write a project folder from strings; ``files`` adds or replaces files (None deletes)."""
-    content = {"site.toml": SITE, "footings.csv": FOOTINGS, "boreholes.csv": BOREHOLES, **(files or {})}
+    content = {
+        "site.toml": SITE,
+        "footings.csv": FOOTINGS,
+        "boreholes.csv": BOREHOLES,
+        **(files or {}),
+    }
     folder.mkdir(parents=True, exist_ok=True)
     for name, text in content.items():
         if text is None:
@@ -88,33 +95,63 @@ def test_load_site_accepts_the_toml_path(tmp_path):
 
 
 def test_analysis_and_checks_keys():
-    a = parse_analysis({"granular_method": "Burland-Burbidge", "report_times": ["10 yr", "6 months"],
-                        "design_life": "100 yr", "influence_fraction": 0.2, "map_spacing": "10 ft",
-                        "end_of_primary": "given", "time_factor_r3": 0.7, "cohesive_immediate": "no"})
+    a = parse_analysis(
+        {
+            "granular_method": "Burland-Burbidge",
+            "report_times": ["10 yr", "6 months"],
+            "design_life": "100 yr",
+            "influence_fraction": 0.2,
+            "map_spacing": "10 ft",
+            "end_of_primary": "given",
+            "time_factor_r3": 0.7,
+            "cohesive_immediate": "no",
+        }
+    )
     assert a.granular_method == GranularMethod.BURLAND_BURBIDGE
     assert a.report_times == (0.5, 10.0) and a.design_life == 100.0 and a.bb_r3 == 0.7
     assert a.map_spacing == pytest.approx(3.048, rel=1e-12)  # 10 ft, NIST SP 811 exact foot
     assert a.end_of_primary == EndOfPrimary.GIVEN and a.cohesive_immediate is False
-    c = parse_checks({"criteria": "Bjerrum", "overrides": {"total_settlement": "1 in",
-                      "angular_distortion": "1/500"}, "checked_after": "1 month", "pairs": "listed"})
+    c = parse_checks(
+        {
+            "criteria": "Bjerrum",
+            "overrides": {"total_settlement": "1 in", "angular_distortion": "1/500"},
+            "checked_after": "1 month",
+            "pairs": "listed",
+        }
+    )
     assert c.criteria == "bjerrum" and c.pairs == "listed"
     assert c.overrides == pytest.approx({"total_settlement": 0.0254, "angular_distortion": 0.002})
     assert c.checked_after == pytest.approx(1 / 12)
 
 
 def test_stratum_keys_and_units():
-    (s,) = parse_strata([{"name": "clay", "behaviour": "cohesive", "unit_weight": "110 pcf",
-                          "saturated_unit_weight": "115 pcf", "compression_index": 0.3,
-                          "recompression_index": 0.04, "void_ratio": 1.0, "preconsolidation": "2 ksf",
-                          "consolidation_coefficient": "0.05 ft^2/day", "drainage": "top",
-                          "poisson_ratio": 0.4, "secondary_index": 0.01}])
+    (s,) = parse_strata(
+        [
+            {
+                "name": "clay",
+                "behaviour": "cohesive",
+                "unit_weight": "110 pcf",
+                "saturated_unit_weight": "115 pcf",
+                "compression_index": 0.3,
+                "recompression_index": 0.04,
+                "void_ratio": 1.0,
+                "preconsolidation": "2 ksf",
+                "consolidation_coefficient": "0.05 ft^2/day",
+                "drainage": "top",
+                "poisson_ratio": 0.4,
+                "secondary_index": 0.01,
+            }
+        ]
+    )
     assert s.drainage == Drainage.TOP and s.poisson == 0.4
     assert s.preconsolidation == pytest.approx(2 * 4448.2216152605 / 0.3048**2 / 1000, rel=1e-12)
     assert s.consolidation_coefficient == pytest.approx(0.05 * 0.3048**2 * 365.25, rel=1e-12)
 
 
 def test_from_soundings_marks_the_stratum():
-    (s,) = parse_strata([{"name": "sand", "behaviour": "granular", "cone_resistance": "From Soundings"}])
+    (s,) = parse_strata(
+        [{"name": "sand", "behaviour": "granular", "cone_resistance": "From Soundings"}]
+    )
     assert s.use_soundings and s.cone_resistance is None
 
 
@@ -126,7 +163,9 @@ def test_toml_syntax_error_names_the_line(tmp_path):
 
 
 def test_not_utf8_names_the_line(tmp_path):
-    write_project(tmp_path, {"footings.csv": (FOOTINGS + "C,12,0,2,600 # caf\xe9\n").encode("latin-1")})
+    write_project(
+        tmp_path, {"footings.csv": (FOOTINGS + "C,12,0,2,600 # caf\xe9\n").encode("latin-1")}
+    )
     with pytest.raises(InputError, match="footings.csv line 4: the file is not UTF-8 text"):
         load_site(tmp_path)
 
@@ -139,7 +178,10 @@ def test_utf8_with_byte_order_mark_is_fine(tmp_path):
 def test_missing_referenced_file(tmp_path):
     write_project(tmp_path)
     (tmp_path / "boreholes.csv").unlink()
-    with pytest.raises(InputError, match=r"site.toml \[boreholes\], key 'file': the file \"boreholes.csv\" does not exist"):
+    with pytest.raises(
+        InputError,
+        match=r"site.toml \[boreholes\], key 'file': the file \"boreholes.csv\" does not exist",
+    ):
         load_site(tmp_path)
 
 
@@ -152,13 +194,31 @@ def test_missing_project_file(tmp_path):
     "old, new, match",
     [
         ("[analysis]", "", None),
-        ("[groundwater]", "[groundwatr]", r'site.toml, \[groundwatr\]: unknown table .*did you mean "groundwater"'),
-        ('client = "Nobody"', 'cliant = "Nobody"', r"site.toml \[project\], key 'cliant': unknown key; expected did you mean \"client\""),
-        ('youngs_modulus = "20 MPa"', 'youngs_modulos = "20 MPa"',
-         r"\[\[strata\]\] 1 \('sand'\), key 'youngs_modulos': unknown key; expected did you mean \"youngs_modulus\""),
-        ('behaviour = "granular"', 'behaviour = "sandy"',
-         r"\[\[strata\]\] 1 \('sand'\), key 'behaviour': unknown value \"sandy\"; expected one of \"granular\""),
-        ('output_units = "us"', 'output_units = "imperial"', r"key 'output_units': unknown value \"imperial\""),
+        (
+            "[groundwater]",
+            "[groundwatr]",
+            r'site.toml, \[groundwatr\]: unknown table .*did you mean "groundwater"',
+        ),
+        (
+            'client = "Nobody"',
+            'cliant = "Nobody"',
+            r"site.toml \[project\], key 'cliant': unknown key; expected did you mean \"client\"",
+        ),
+        (
+            'youngs_modulus = "20 MPa"',
+            'youngs_modulos = "20 MPa"',
+            r"1 \('sand'\), key 'youngs_modulos': unknown key; expected .*\"youngs_modulus\"",
+        ),
+        (
+            'behaviour = "granular"',
+            'behaviour = "sandy"',
+            r"1 \('sand'\), key 'behaviour': unknown value \"sandy\"; expected one of \"granular\"",
+        ),
+        (
+            'output_units = "us"',
+            'output_units = "imperial"',
+            r"key 'output_units': unknown value \"imperial\"",
+        ),
     ],
 )
 def test_unknown_keys_and_values(tmp_path, old, new, match):
@@ -170,73 +230,116 @@ def test_unknown_keys_and_values(tmp_path, old, new, match):
 
 
 def test_unknown_analysis_key_suggests_the_nearest():
-    with pytest.raises(InputError, match=r"\[analysis\], key 'design_lfe': unknown key; expected did you mean \"design_life\""):
+    with pytest.raises(
+        InputError,
+        match=r"\[analysis\], key 'design_lfe': unknown key; expected did you mean \"design_life\"",
+    ):
         parse_toml('[analysis]\ndesign_lfe = "50 yr"\n')
 
 
 def test_wrong_dimension_in_a_key():
-    with pytest.raises(InputError, match=r"\[analysis\], key 'design_life': \"50 m\" is a length; expected a time"):
+    with pytest.raises(
+        InputError, match=r"\[analysis\], key 'design_life': \"50 m\" is a length; expected a time"
+    ):
         parse_analysis({"design_life": "50 m"})
 
 
 def test_out_of_range_settings():
     with pytest.raises(InputError, match=r"key 'influence_fraction': 1.5 is out of range"):
         parse_analysis({"influence_fraction": 1.5})
-    with pytest.raises(InputError, match=r"key 'report_times' item 2: the time 0 yr is not positive"):
+    with pytest.raises(
+        InputError, match=r"key 'report_times' item 2: the time 0 yr is not positive"
+    ):
         parse_analysis({"report_times": [1, 0]})
 
 
 # --------------------------------------------------------------------------- strata errors
 def test_missing_parameter_for_the_method(tmp_path):
     write_project(tmp_path, {"site.toml": SITE.replace('youngs_modulus = "20 MPa"', "")})
-    with pytest.raises(InputError, match=r"\[\[strata\]\] 1 \('sand'\), key 'youngs_modulus': the schmertmann "
-                                         r"method needs a modulus or a cone resistance"):
+    with pytest.raises(
+        InputError,
+        match=r"\[\[strata\]\] 1 \('sand'\), key 'youngs_modulus': the schmertmann "
+        r"method needs a modulus or a cone resistance",
+    ):
         load_site(tmp_path)
 
 
 def test_burland_burbidge_needs_spt_n_which_boreholes_may_give(tmp_path):
-    site = SITE.replace("[[strata]]\nname = \"sand\"", "[analysis]\ngranular_method = \"burland_burbidge\"\n\n"
-                        "[[strata]]\nname = \"sand\"", 1)
+    site = SITE.replace(
+        '[[strata]]\nname = "sand"',
+        '[analysis]\ngranular_method = "burland_burbidge"\n\n[[strata]]\nname = "sand"',
+        1,
+    )
     write_project(tmp_path, {"site.toml": site})
-    with pytest.raises(InputError, match=r"\('sand'\), key 'spt_n': Burland & Burbidge needs the SPT blow count"):
+    with pytest.raises(
+        InputError, match=r"\('sand'\), key 'spt_n': Burland & Burbidge needs the SPT blow count"
+    ):
         load_site(tmp_path)
-    write_project(tmp_path, {"boreholes.csv": BOREHOLES.replace("top,bottom", "top,bottom,spt_n")
-                             .replace("sand,0,4", "sand,0,4,12")})
+    write_project(
+        tmp_path,
+        {
+            "boreholes.csv": BOREHOLES.replace("top,bottom", "top,bottom,spt_n").replace(
+                "sand,0,4", "sand,0,4,12"
+            )
+        },
+    )
     s = load_site(tmp_path)
     assert s.boreholes[0].intervals[0].overrides == {"spt_n": 12.0}
 
 
 def test_overconsolidated_clay_needs_cr(tmp_path):
     write_project(tmp_path, {"site.toml": SITE.replace("recompression_index = 0.05", "")})
-    with pytest.raises(InputError, match=r"\('clay'\), key 'recompression_index': an overconsolidated clay"):
+    with pytest.raises(
+        InputError, match=r"\('clay'\), key 'recompression_index': an overconsolidated clay"
+    ):
         load_site(tmp_path)
 
 
 def test_cohesive_needs_ocr_or_preconsolidation(tmp_path):
     write_project(tmp_path, {"site.toml": SITE.replace("ocr = 1.5", "")})
-    with pytest.raises(InputError, match=r"\('clay'\), key 'ocr': neither preconsolidation nor ocr"):
+    with pytest.raises(
+        InputError, match=r"\('clay'\), key 'ocr': neither preconsolidation nor ocr"
+    ):
         load_site(tmp_path)
 
 
 def test_from_soundings_without_soundings(tmp_path):
-    write_project(tmp_path, {"site.toml": SITE.replace('youngs_modulus = "20 MPa"',
-                                                       'cone_resistance = "from soundings"')})
-    with pytest.raises(InputError, match=r"\('sand'\), key 'cone_resistance': \"from soundings\" but the project has no soundings"):
+    write_project(
+        tmp_path,
+        {
+            "site.toml": SITE.replace(
+                'youngs_modulus = "20 MPa"', 'cone_resistance = "from soundings"'
+            )
+        },
+    )
+    with pytest.raises(
+        InputError,
+        match=r"\('sand'\), key 'cone_resistance': \"from soundings\" but the project has no",
+    ):
         load_site(tmp_path)
 
 
 @pytest.mark.parametrize(
     "tables, match",
     [
-        ([{"name": "a", "behaviour": "rigid"}, {"name": "b", "behaviour": "granular"}],
-         r"\[\[strata\]\] 1 \('a'\): a rigid stratum is not the last one"),
-        ([{"name": "a", "behaviour": "granular"}, {"name": "a", "behaviour": "granular"}],
-         r'\[\[strata\]\] 2: the stratum name "a" is used twice'),
+        (
+            [{"name": "a", "behaviour": "rigid"}, {"name": "b", "behaviour": "granular"}],
+            r"\[\[strata\]\] 1 \('a'\): a rigid stratum is not the last one",
+        ),
+        (
+            [{"name": "a", "behaviour": "granular"}, {"name": "a", "behaviour": "granular"}],
+            r'\[\[strata\]\] 2: the stratum name "a" is used twice',
+        ),
         ([{"behaviour": "granular"}], r'\[\[strata\]\] 1: the key "name" is missing'),
-        ([{"name": "a", "behaviour": "granular", "poisson_ratio": 0.5}],
-         r"key 'poisson_ratio': 0.5 is out of range; expected a value ≥ 0 and < 0.5"),
+        (
+            [{"name": "a", "behaviour": "granular", "poisson_ratio": 0.5}],
+            r"key 'poisson_ratio': 0.5 is out of range; expected a value ≥ 0 and < 0.5",
+        ),
         ([{"name": "a", "behaviour": "cohesive", "ocr": 0.8}], r"key 'ocr': 0.8 is out of range"),
-        ([{"name": "a", "behaviour": "cohesive", "method": "elastic"}], r"key 'method': a granular method on a cohesive"),
+        (
+            [{"name": "a", "behaviour": "cohesive", "method": "elastic"}],
+            r"key 'method': a granular method on a cohesive",
+        ),
         ([], r"no \[\[strata\]\] tables"),
     ],
 )
@@ -246,8 +349,13 @@ def test_strata_list_rules(tables, match):
 
 
 # --------------------------------------------------------------------------- boreholes
-STRATA = parse_strata([{"name": "fill", "behaviour": "granular"}, {"name": "sand", "behaviour": "granular"},
-                       {"name": "clay", "behaviour": "cohesive"}])
+STRATA = parse_strata(
+    [
+        {"name": "fill", "behaviour": "granular"},
+        {"name": "sand", "behaviour": "granular"},
+        {"name": "clay", "behaviour": "cohesive"},
+    ]
+)
 
 
 def test_boreholes_long_form_with_units_overrides_and_water():
@@ -260,7 +368,9 @@ B2,100,0,sand,0,12,,
     b1, b2 = parse_boreholes(text, STRATA)
     assert (b1.x, b1.y, b1.water_depth) == (0.0, 0.0, 1.5)
     assert [iv.stratum for iv in b1.intervals] == ["fill", "sand", "clay"]
-    assert b1.intervals[1].top == pytest.approx(3 * 0.3048) and b1.intervals[1].overrides == {"spt_n": 14.0}
+    assert b1.intervals[1].top == pytest.approx(3 * 0.3048) and b1.intervals[1].overrides == {
+        "spt_n": 14.0
+    }
     assert b2.x == pytest.approx(30.48) and b2.water_depth is None
 
 
@@ -269,13 +379,28 @@ B2,100,0,sand,0,12,,
     [
         ("B1,0,0,silt,0,2\n", r'boreholes.csv row 2, column "stratum": unknown stratum "silt"'),
         ("B1,0,0,snad,0,2\n", r'unknown stratum "snad"; expected did you mean "sand"\?'),
-        ("B1,0,0,fill,0,2\nB1,0,0,sand,1.5,4\n", r"row 3, column \"top\": in borehole \"B1\" the interval 1.5–4 m overlaps 0–2 m \(row 2\)"),
-        ("B1,0,0,fill,0,2\nB1,0,0,sand,2.5,4\n", r'row 3, column "top": in borehole "B1" there is a gap from 2 to 2.5 m'),
-        ("B1,0,0,sand,0,2\nB1,0,0,fill,2,4\n", r'row 3, column "stratum": in borehole "B1" "fill" lies below "sand"'),
+        (
+            "B1,0,0,fill,0,2\nB1,0,0,sand,1.5,4\n",
+            r"row 3, column \"top\": in borehole \"B1\" the interval 1.5–4 m overlaps 0–2 m",
+        ),
+        (
+            "B1,0,0,fill,0,2\nB1,0,0,sand,2.5,4\n",
+            r'row 3, column "top": in borehole "B1" there is a gap from 2 to 2.5 m',
+        ),
+        (
+            "B1,0,0,sand,0,2\nB1,0,0,fill,2,4\n",
+            r'row 3, column "stratum": in borehole "B1" "fill" lies below "sand"',
+        ),
         ("B1,0,0,fill,0.5,2\n", r'row 2, column "top": borehole "B1" starts at 0.5 m'),
         ("B1,0,0,fill,2,1\n", r'row 2, column "bottom": the bottom 1 m is not below the top 2 m'),
-        ("B1,0,0,fill,0,2\nB1,5,0,sand,2,4\n", r'row 3, column "x": borehole "B1" has x = 0 m at row 2 but 5 m here'),
-        ("B1,0,0,fill,0,2\nB2,0,0,fill,0,2\n", r'row 3: borehole "B2" is at the same position as borehole "B1"'),
+        (
+            "B1,0,0,fill,0,2\nB1,5,0,sand,2,4\n",
+            r'row 3, column "x": borehole "B1" has x = 0 m at row 2 but 5 m here',
+        ),
+        (
+            "B1,0,0,fill,0,2\nB2,0,0,fill,0,2\n",
+            r'row 3: borehole "B2" is at the same position as borehole "B1"',
+        ),
         ("B1,0,0,fill,0,two\n", r'row 2, column "bottom": cannot read "two"'),
     ],
 )
@@ -287,13 +412,20 @@ def test_borehole_rules(rows, match):
 def test_borehole_missing_column_and_unknown_column():
     with pytest.raises(InputError, match=r'boreholes.csv: the required column "bottom" is missing'):
         parse_boreholes("borehole,x,y,stratum,top\nB1,0,0,fill,0\n", STRATA)
-    with pytest.raises(InputError, match=r'boreholes.csv column "spt": unknown column; expected did you mean "spt_n"'):
+    with pytest.raises(
+        InputError,
+        match=r'boreholes.csv column "spt": unknown column; expected did you mean "spt_n"',
+    ):
         parse_boreholes("borehole,x,y,stratum,top,bottom,spt\nB1,0,0,fill,0,1,5\n", STRATA)
 
 
 def test_borehole_interval_values_are_checked():
-    with pytest.warns(InputWarning, match=r'row 2, column "youngs_modulus": 25 kPa is outside the usual range'):
-        parse_boreholes("borehole,x,y,stratum,top,bottom,youngs_modulus\nB1,0,0,fill,0,1,25\n", STRATA)
+    with pytest.warns(
+        InputWarning, match=r'row 2, column "youngs_modulus": 25 kPa is outside the usual range'
+    ):
+        parse_boreholes(
+            "borehole,x,y,stratum,top,bottom,youngs_modulus\nB1,0,0,fill,0,1,25\n", STRATA
+        )
 
 
 # --------------------------------------------------------------------------- soundings
@@ -302,15 +434,23 @@ def test_soundings_with_mixed_units():
     (c,) = parse_soundings(text)
     np.testing.assert_allclose(c.depth, [0.5, 1.0])
     # 60 tsf = 60 × 2000 lbf/ft² (NIST SP 811 factors) = 5745.6 kPa
-    np.testing.assert_allclose(c.qc, [5000.0, 60 * 2000 * 4.4482216152605e-3 / 0.3048**2], rtol=1e-12)
+    np.testing.assert_allclose(
+        c.qc, [5000.0, 60 * 2000 * 4.4482216152605e-3 / 0.3048**2], rtol=1e-12
+    )
     assert c.fs[0] == 40.0 and np.isnan(c.fs[1])
 
 
 @pytest.mark.parametrize(
     "rows, match",
     [
-        ("C1,0,0,1.0,5\nC1,0,0,1.0,6\n", r'soundings.csv row 3, column "depth": in sounding "C1" the depth 1 m does not increase'),
-        ("C1,0,0,1.0,5\nC1,0,0,0.8,6\n", r"row 3, column \"depth\": .*does not increase \(previous 1 m\)"),
+        (
+            "C1,0,0,1.0,5\nC1,0,0,1.0,6\n",
+            r'soundings.csv row 3, column "depth": in sounding "C1" the depth 1 m does not incr',
+        ),
+        (
+            "C1,0,0,1.0,5\nC1,0,0,0.8,6\n",
+            r"row 3, column \"depth\": .*does not increase \(previous 1 m\)",
+        ),
         ("C1,0,0,1.0,0\n", r'row 2, column "qc": the cone resistance 0 kPa is not positive'),
         ("C1,0,0,1.0,5 m\n", r'row 2, column "qc": "5 m" is a length; expected a pressure'),
     ],
@@ -321,17 +461,27 @@ def test_sounding_rules(rows, match):
 
 
 def test_suspicious_qc_warns_once():
-    # qc = 5 kPa (bare number: kPa) is far below any soil (common practice ≥ 0.1 MPa): MPa likely meant
+    # qc = 5 kPa (a bare number is kPa) is far below any soil (common practice ≥ 0.1 MPa)
     with pytest.warns(InputWarning, match=r"row 2, column \"qc\": 2 cone reading\(s\) outside"):
         parse_soundings("sounding,x,y,depth,qc\nC1,0,0,1,5\nC1,0,0,2,6\n")
 
 
 # --------------------------------------------------------------------------- pairs, CRS
 def test_pairs_and_structure_lines(tmp_path):
-    site = SITE.replace("[[strata]]", '[checks]\npairs = "listed"\npairs_file = "pairs.csv"\n'
-                        'structure_lines_file = "lines.csv"\n\n[[strata]]', 1)
-    write_project(tmp_path, {"site.toml": site, "pairs.csv": "a,b\nA,B\nB,A\n",
-                             "lines.csv": "line,footing\nwall,A\nwall,B\n"})
+    site = SITE.replace(
+        "[[strata]]",
+        '[checks]\npairs = "listed"\npairs_file = "pairs.csv"\n'
+        'structure_lines_file = "lines.csv"\n\n[[strata]]',
+        1,
+    )
+    write_project(
+        tmp_path,
+        {
+            "site.toml": site,
+            "pairs.csv": "a,b\nA,B\nB,A\n",
+            "lines.csv": "line,footing\nwall,A\nwall,B\n",
+        },
+    )
     s = load_site(tmp_path)
     assert s.checks.listed_pairs == (("A", "B"),) and s.checks.structure_lines == (("A", "B"),)
     write_project(tmp_path, {"site.toml": site, "pairs.csv": "a,b\nA,C\n"})
@@ -347,7 +497,9 @@ def test_listed_pairs_need_a_file(tmp_path):
 
 
 def _gis_site(tmp_path, crs_key):
-    gdf = gpd.GeoDataFrame({"id": ["A"], "dead_load": [600.0]}, geometry=[box(0, 0, 2, 2)], crs="EPSG:32633")
+    gdf = gpd.GeoDataFrame(
+        {"id": ["A"], "dead_load": [600.0]}, geometry=[box(0, 0, 2, 2)], crs="EPSG:32633"
+    )
     gdf.to_file(tmp_path / "plan.gpkg", driver="GPKG")
     site = SITE.replace('file = "footings.csv"', 'file = "plan.gpkg"')
     if crs_key:
@@ -362,7 +514,10 @@ def test_crs_kept_from_the_gis_file(tmp_path):
 
 
 def test_crs_mismatch_between_files(tmp_path):
-    with pytest.raises(InputError, match=r"key 'crs': EPSG:27700 differs from the coordinate system of plan.gpkg \(EPSG:32633\)"):
+    with pytest.raises(
+        InputError,
+        match=r"key 'crs': EPSG:27700 differs from the coordinate system of plan.gpkg \(EPSG:32633",
+    ):
         _gis_site(tmp_path, "EPSG:27700")
 
 

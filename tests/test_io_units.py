@@ -49,7 +49,9 @@ def test_ksf_in_kpa_to_the_printed_digits():
 
 
 def test_wrong_dimension_names_the_place_and_the_dimension():
-    with pytest.raises(InputError, match=r'footings.csv row 2, column "width": "3 kg" is .*; expected a length'):
+    with pytest.raises(
+        InputError, match=r'footings.csv row 2, column "width": "3 kg" is .*; expected a length'
+    ):
         units.parse("3 kg", "length", 'footings.csv row 2, column "width"')
 
 
@@ -73,9 +75,14 @@ def test_nan_and_infinity_are_refused(value):
 
 @pytest.mark.parametrize(
     "text, expected",
-    [("1/500", 0.002), ("25 mm", 0.025), ("0.002", 0.002), ("0.2 %", 0.002),
-     # an angle limit becomes its slope: tan(1°) = 0.017455 (trigonometry)
-     ("1 deg", math.tan(math.radians(1.0)))],
+    [
+        ("1/500", 0.002),
+        ("25 mm", 0.025),
+        ("0.002", 0.002),
+        ("0.2 %", 0.002),
+        # an angle limit becomes its slope: tan(1°) = 0.017455 (trigonometry)
+        ("1 deg", math.tan(math.radians(1.0))),
+    ],
 )
 def test_limits_are_lengths_or_ratios(text, expected):
     assert parse_limit(text, "x") == pytest.approx(expected, rel=EXACT)
@@ -84,19 +91,37 @@ def test_limits_are_lengths_or_ratios(text, expected):
 def test_suspicious_modulus_warns_but_loads():
     # 25 kPa is two orders below any soil modulus (common practice: ≥ 1 MPa); likely MPa meant
     with pytest.warns(InputWarning, match="youngs_modulus.*25 kPa is outside the usual range"):
-        s = parse_stratum({"name": "sand", "behaviour": "granular", "youngs_modulus": "25 kPa"}, "site.toml")
+        s = parse_stratum(
+            {"name": "sand", "behaviour": "granular", "youngs_modulus": "25 kPa"}, "site.toml"
+        )
     assert s.youngs_modulus == 25.0
 
 
 def test_suspicious_unit_weight_warns():
     # 200 kN/m³ is ten times any soil (common practice: 12–25 kN/m³); likely a N/m³ or pcf slip
     with pytest.warns(InputWarning, match="unit_weight.*outside the usual range"):
-        parse_stratum({"name": "sand", "behaviour": "granular", "unit_weight": 200,
-                       "saturated_unit_weight": 210, "youngs_modulus": "20 MPa"}, "site.toml")
+        parse_stratum(
+            {
+                "name": "sand",
+                "behaviour": "granular",
+                "unit_weight": 200,
+                "saturated_unit_weight": 210,
+                "youngs_modulus": "20 MPa",
+            },
+            "site.toml",
+        )
 
 
 def test_pcf_unit_weight_is_plausible():
-    # 120 pcf = 18.85 kN/m³ (NIST factors above), a normal soil: no warning (warnings are errors here)
-    s = parse_stratum({"name": "sand", "behaviour": "granular", "unit_weight": "120 pcf",
-                       "saturated_unit_weight": "125 pcf", "youngs_modulus": "20 MPa"}, "site.toml")
+    # 120 pcf = 18.85 kN/m³ (NIST factors above), a normal soil: no warning (warnings are errors)
+    s = parse_stratum(
+        {
+            "name": "sand",
+            "behaviour": "granular",
+            "unit_weight": "120 pcf",
+            "saturated_unit_weight": "125 pcf",
+            "youngs_modulus": "20 MPa",
+        },
+        "site.toml",
+    )
     assert s.unit_weight == pytest.approx(120 * LBF / FT**3 / 1000, rel=EXACT)

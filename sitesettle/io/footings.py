@@ -69,18 +69,22 @@ def _load(table: Table, row: Row, kind: str, area: float) -> float:
     has_load = table.has(row, f"{kind}_load")
     has_pressure = table.has(row, f"{kind}_pressure")
     if has_load and has_pressure:
-        raise InputError(table.where(row, f"{kind}_pressure"),
-                         f"both {kind}_load and {kind}_pressure are given",
-                         "one of them (a total force, or a pressure on the base area)")
+        raise InputError(
+            table.where(row, f"{kind}_pressure"),
+            f"both {kind}_load and {kind}_pressure are given",
+            "one of them (a total force, or a pressure on the base area)",
+        )
     if has_pressure:
         return table.quantity(row, f"{kind}_pressure", "pressure") * area
     if has_load:
         return table.quantity(row, f"{kind}_load", "force")
     if kind == "dead":
         column = "dead_load" if "dead_load" in table.columns else "dead_pressure"
-        raise InputError(table.where(row, column), "the dead load is missing",
-                         'a force such as "850 kN" (dead_load) or a pressure such as "150 kPa" '
-                         "(dead_pressure)")
+        raise InputError(
+            table.where(row, column),
+            "the dead load is missing",
+            'a force such as "850 kN" (dead_load) or a pressure such as "150 kPa" (dead_pressure)',
+        )
     return 0.0
 
 
@@ -89,37 +93,72 @@ def _attributes(table: Table, row: Row, shape: dict, defaults: FootingDefaults) 
     where = table.where(row)
     depth = table.quantity(row, "depth", "length", default=defaults.depth)
     if depth < 0:
-        raise InputError(table.where(row, "depth"), f"the base depth {depth:g} m is negative",
-                         "a depth below ground ≥ 0")
-    area = (math.pi * shape["width"] ** 2 / 4.0 if shape["shape"] == "circle"
-            else abs(geometry._signed_area(shape["outline"])))
+        raise InputError(
+            table.where(row, "depth"),
+            f"the base depth {depth:g} m is negative",
+            "a depth below ground ≥ 0",
+        )
+    area = (
+        math.pi * shape["width"] ** 2 / 4.0
+        if shape["shape"] == "circle"
+        else abs(geometry._signed_area(shape["outline"]))
+    )
     dead = _load(table, row, "dead", area)
     live = _load(table, row, "live", area)
     if not dead > 0:
-        raise InputError(table.where(row, "dead_load" if table.has(row, "dead_load") else "dead_pressure"),
-                         f"the dead load {dead:g} kN is not positive", "a dead load > 0")
+        raise InputError(
+            table.where(row, "dead_load" if table.has(row, "dead_load") else "dead_pressure"),
+            f"the dead load {dead:g} kN is not positive",
+            "a dead load > 0",
+        )
     if live < 0:
-        raise InputError(table.where(row, "live_load" if table.has(row, "live_load") else "live_pressure"),
-                         f"the live load {live:g} kN is negative", "a live load ≥ 0")
-    fraction = table.quantity(row, "sustained_live_fraction", "dimensionless",
-                              default=defaults.sustained_live_fraction)
+        raise InputError(
+            table.where(row, "live_load" if table.has(row, "live_load") else "live_pressure"),
+            f"the live load {live:g} kN is negative",
+            "a live load ≥ 0",
+        )
+    fraction = table.quantity(
+        row, "sustained_live_fraction", "dimensionless", default=defaults.sustained_live_fraction
+    )
     if not 0.0 <= fraction <= 1.0:
-        raise InputError(table.where(row, "sustained_live_fraction"), f"{fraction:g} is outside 0–1",
-                         "a fraction between 0 and 1 (such as 0.3 or 30 %)")
+        raise InputError(
+            table.where(row, "sustained_live_fraction"),
+            f"{fraction:g} is outside 0–1",
+            "a fraction between 0 and 1 (such as 0.3 or 30 %)",
+        )
     fill = table.quantity(row, "fill_unit_weight", "unit_weight", default=defaults.fill_unit_weight)
     if fill < 0:
-        raise InputError(table.where(row, "fill_unit_weight"), f"{fill:g} kN/m³ is negative",
-                         "a unit weight ≥ 0 (0: the loads include footing and backfill)")
+        raise InputError(
+            table.where(row, "fill_unit_weight"),
+            f"{fill:g} kN/m³ is negative",
+            "a unit weight ≥ 0 (0: the loads include footing and backfill)",
+        )
     rigid = table.flag(row, "rigid", defaults.rigid)
     pressure = (dead + live) / area
     if not PRESSURE_RANGE[0] <= pressure <= PRESSURE_RANGE[1]:
-        warnings.warn(f"{where}: footing {fid!r} carries {pressure:.0f} kPa under service load, "
-                      f"outside the usual {PRESSURE_RANGE[0]:g}–{PRESSURE_RANGE[1]:g} kPa; check the "
-                      "loads and their units", InputWarning, stacklevel=4)
-    return Footing(id=fid, outline=shape["outline"], shape=shape["shape"], x=shape["x"], y=shape["y"],
-                   width=shape["width"], length=shape["length"], rotation=shape["rotation"],
-                   depth=depth, dead_load=dead, live_load=live, sustained_live_fraction=fraction,
-                   rigid=rigid, fill_unit_weight=fill)
+        warnings.warn(
+            f"{where}: footing {fid!r} carries {pressure:.0f} kPa under service load, "
+            f"outside the usual {PRESSURE_RANGE[0]:g}–{PRESSURE_RANGE[1]:g} kPa; check the "
+            "loads and their units",
+            InputWarning,
+            stacklevel=4,
+        )
+    return Footing(
+        id=fid,
+        outline=shape["outline"],
+        shape=shape["shape"],
+        x=shape["x"],
+        y=shape["y"],
+        width=shape["width"],
+        length=shape["length"],
+        rotation=shape["rotation"],
+        depth=depth,
+        dead_load=dead,
+        live_load=live,
+        sustained_live_fraction=fraction,
+        rigid=rigid,
+        fill_unit_weight=fill,
+    )
 
 
 def _check_plan(footings: list[Footing], labels: list[str], source: str) -> tuple[Footing, ...]:
@@ -128,24 +167,34 @@ def _check_plan(footings: list[Footing], labels: list[str], source: str) -> tupl
     seen: dict[str, str] = {}
     for f, label in zip(footings, labels):
         if f.id in seen:
-            raise InputError(f"{source} {label}", f'the footing id "{f.id}" is used again '
-                             f"(first at {seen[f.id]})", "a unique id for each footing")
+            raise InputError(
+                f"{source} {label}",
+                f'the footing id "{f.id}" is used again (first at {seen[f.id]})',
+                "a unique id for each footing",
+            )
         seen[f.id] = label
     for i, j, common in geometry.find_overlaps([f.outline for f in footings]):
-        raise InputError(f"{source} {labels[j]}",
-                         f'footing "{footings[j].id}" overlaps footing "{footings[i].id}" '
-                         f"({labels[i]}) by {common:.3g} m²",
-                         "footings that do not overlap (merge a combined footing into one)")
+        raise InputError(
+            f"{source} {labels[j]}",
+            f'footing "{footings[j].id}" overlaps footing "{footings[i].id}" '
+            f"({labels[i]}) by {common:.3g} m²",
+            "footings that do not overlap (merge a combined footing into one)",
+        )
     return tuple(footings)
 
 
 def _missing_dead(table: Table) -> None:
     if "dead_load" not in table.columns and "dead_pressure" not in table.columns:
-        raise InputError(table.source, 'the required column "dead_load" (or "dead_pressure") is missing',
-                         "a dead load per footing as a force or as a pressure on the base")
+        raise InputError(
+            table.source,
+            'the required column "dead_load" (or "dead_pressure") is missing',
+            "a dead load per footing as a force or as a pressure on the base",
+        )
 
 
-def parse_footings_table(table: Table, defaults: FootingDefaults = FootingDefaults()) -> tuple[Footing, ...]:
+def parse_footings_table(
+    table: Table, defaults: FootingDefaults = FootingDefaults()
+) -> tuple[Footing, ...]:
     """Footings from a CSV-style :class:`Table` (centre, sides, rotation, shape per row).
 
     Parameters
@@ -165,39 +214,62 @@ def parse_footings_table(table: Table, defaults: FootingDefaults = FootingDefaul
     for row in table.rows:
         shape_name = table.text(row, "shape", default="rectangle").lower()
         if shape_name not in ("rectangle", "circle", "square"):
-            raise InputError(table.where(row, "shape"), f'unknown shape "{shape_name}"',
-                             '"rectangle" or "circle" (polygons come from a GIS file)')
+            raise InputError(
+                table.where(row, "shape"),
+                f'unknown shape "{shape_name}"',
+                '"rectangle" or "circle" (polygons come from a GIS file)',
+            )
         x = table.quantity(row, "x", "length")
         y = table.quantity(row, "y", "length")
         width = table.quantity(row, "width", "length")
         if not width > 0:
-            raise InputError(table.where(row, "width"), f"the width {width:g} m is not positive",
-                             "a width > 0")
+            raise InputError(
+                table.where(row, "width"), f"the width {width:g} m is not positive", "a width > 0"
+            )
         if shape_name == "circle":
-            shape = {"shape": "circle", "outline": geometry.circle_outline(x, y, width), "x": x, "y": y,
-                     "width": width, "length": width, "rotation": 0.0}
+            shape = {
+                "shape": "circle",
+                "outline": geometry.circle_outline(x, y, width),
+                "x": x,
+                "y": y,
+                "width": width,
+                "length": width,
+                "rotation": 0.0,
+            }
         else:
             length = table.quantity(row, "length", "length", default=width)
             if not length > 0:
-                raise InputError(table.where(row, "length"), f"the length {length:g} m is not positive",
-                                 "a length > 0 (blank for a square)")
+                raise InputError(
+                    table.where(row, "length"),
+                    f"the length {length:g} m is not positive",
+                    "a length > 0 (blank for a square)",
+                )
             rotation = table.quantity(row, "rotation", "angle", default=0.0)
             b, l, rot = geometry.normalise_sides(width, length, rotation)
-            shape = {"shape": "rectangle", "outline": geometry.rectangle_outline(x, y, b, l, rot),
-                     "x": x, "y": y, "width": b, "length": l, "rotation": rot}
+            shape = {
+                "shape": "rectangle",
+                "outline": geometry.rectangle_outline(x, y, b, l, rot),
+                "x": x,
+                "y": y,
+                "width": b,
+                "length": l,
+                "rotation": rot,
+            }
         footings.append(_attributes(table, row, shape, defaults))
         labels.append(row.label)
     return _check_plan(footings, labels, table.source)
 
 
-def parse_footings_csv(text: str, source: str = "footings.csv",
-                       defaults: FootingDefaults = FootingDefaults()) -> tuple[Footing, ...]:
+def parse_footings_csv(
+    text: str, source: str = "footings.csv", defaults: FootingDefaults = FootingDefaults()
+) -> tuple[Footing, ...]:
     """Footings from the text of a CSV file."""
     return parse_footings_table(parse_csv(text, source), defaults)
 
 
-def parse_footings_frame(frame, source: str = "footings",
-                         defaults: FootingDefaults = FootingDefaults()) -> tuple[tuple[Footing, ...], str | None]:
+def parse_footings_frame(
+    frame, source: str = "footings", defaults: FootingDefaults = FootingDefaults()
+) -> tuple[tuple[Footing, ...], str | None]:
     """Footings from a GeoDataFrame (polygons plus attribute columns) and its CRS text.
 
     Rows are named "feature n", 1-based in file order.
@@ -221,8 +293,9 @@ def parse_footings_frame(frame, source: str = "footings",
     return _check_plan(footings, labels, source), crs
 
 
-def read_footings(path: pathlib.Path, defaults: FootingDefaults = FootingDefaults(), *,
-                  layer: str | None = None) -> tuple[tuple[Footing, ...], str | None]:
+def read_footings(
+    path: pathlib.Path, defaults: FootingDefaults = FootingDefaults(), *, layer: str | None = None
+) -> tuple[tuple[Footing, ...], str | None]:
     """Read footings from a CSV or GIS file; return them and the file's CRS (None for CSV)."""
     path = pathlib.Path(path)
     if path.suffix.lower() in (".csv", ".txt", ".tsv"):
@@ -234,8 +307,11 @@ def read_footings(path: pathlib.Path, defaults: FootingDefaults = FootingDefault
     try:
         frame = geopandas.read_file(path, layer=layer) if layer else geopandas.read_file(path)
     except Exception as exc:  # pyogrio raises several kinds of errors for unreadable files
-        raise InputError(path.name, f"cannot read the file as GIS data ({exc})",
-                         "a GeoPackage, GeoJSON or shapefile with polygon features") from None
+        raise InputError(
+            path.name,
+            f"cannot read the file as GIS data ({exc})",
+            "a GeoPackage, GeoJSON or shapefile with polygon features",
+        ) from None
     if len(frame) == 0:
         raise InputError(path.name, "the file has no footings", "at least one polygon feature")
     return parse_footings_frame(frame, path.name, defaults)

@@ -44,7 +44,9 @@ def normalise_sides(width: float, length: float, rotation: float) -> tuple[float
     return float(width), float(length), rotation
 
 
-def rectangle_outline(x: float, y: float, width: float, length: float, rotation: float) -> np.ndarray:
+def rectangle_outline(
+    x: float, y: float, width: float, length: float, rotation: float
+) -> np.ndarray:
     """The 4 corners of a rectangle, counter-clockwise, from its centre, sides and rotation.
 
     ``length`` runs along the direction ``rotation`` (degrees CCW from east).
@@ -97,24 +99,33 @@ def polygon_footprint(geom, where: str) -> dict:
         raise InputError(where, "the geometry is empty", "a polygon outlining the footing")
     if isinstance(geom, MultiPolygon):
         if len(geom.geoms) != 1:
-            raise InputError(where, f"the geometry has {len(geom.geoms)} parts",
-                             "one polygon per footing (split a multi-part feature)")
+            raise InputError(
+                where,
+                f"the geometry has {len(geom.geoms)} parts",
+                "one polygon per footing (split a multi-part feature)",
+            )
         geom = geom.geoms[0]
     if not isinstance(geom, Polygon):
-        raise InputError(where, f"the geometry is a {geom.geom_type}", "a polygon outlining the footing")
+        raise InputError(
+            where, f"the geometry is a {geom.geom_type}", "a polygon outlining the footing"
+        )
     if geom.has_z:
         geom = shapely.force_2d(geom)
     if len(geom.interiors):
         raise InputError(where, "the polygon has a hole", "a footing outline without holes")
     if not geom.is_valid:
-        raise InputError(where, f"the polygon is invalid ({shapely.is_valid_reason(geom)})",
-                         "a simple polygon whose edges do not cross")
+        raise InputError(
+            where,
+            f"the polygon is invalid ({shapely.is_valid_reason(geom)})",
+            "a simple polygon whose edges do not cross",
+        )
     if geom.area <= 0.0 or not math.isfinite(geom.area):
         raise InputError(where, "the polygon has no area", "a polygon with a positive area")
     ring = np.asarray(geom.exterior.coords, dtype=float)[:-1]
     if not np.all(np.isfinite(ring)):
-        raise InputError(where, "the polygon has a coordinate that is not a finite number",
-                         "finite coordinates")
+        raise InputError(
+            where, "the polygon has a coordinate that is not a finite number", "finite coordinates"
+        )
     if _signed_area(ring) < 0:
         ring = ring[::-1]
     c = geom.centroid
@@ -130,9 +141,15 @@ def polygon_footprint(geom, where: str) -> dict:
         outline = rectangle_outline(c.x, c.y, width, length, rotation)
     else:
         outline = ring
-    return {"shape": "rectangle" if is_rect else "polygon", "outline": outline,
-            "x": float(c.x), "y": float(c.y), "width": width, "length": length,
-            "rotation": rotation}
+    return {
+        "shape": "rectangle" if is_rect else "polygon",
+        "outline": outline,
+        "x": float(c.x),
+        "y": float(c.y),
+        "width": width,
+        "length": length,
+        "rotation": rotation,
+    }
 
 
 def find_overlaps(outlines, tolerance: float = OVERLAP_TOLERANCE) -> list[tuple[int, int, float]]:

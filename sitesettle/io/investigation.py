@@ -55,12 +55,17 @@ def _same_per_group(table: Table, rows, name: str, dim: str, where_id: str):
         if value is None:
             value, first = v, row
         elif abs(v - value) > 1e-6:
-            raise InputError(table.where(row, name), f"{where_id} has {name} = {value:g} m at "
-                             f"{first.label} but {v:g} m here", f"one {name} per {where_id}")
+            raise InputError(
+                table.where(row, name),
+                f"{where_id} has {name} = {value:g} m at {first.label} but {v:g} m here",
+                f"one {name} per {where_id}",
+            )
     return value, first
 
 
-def parse_boreholes(data, strata: tuple[Stratum, ...], source: str = "boreholes.csv") -> tuple[Borehole, ...]:
+def parse_boreholes(
+    data, strata: tuple[Stratum, ...], source: str = "boreholes.csv"
+) -> tuple[Borehole, ...]:
     """Boreholes from long-form rows (borehole, x, y, stratum, top, bottom, …).
 
     Parameters
@@ -84,7 +89,9 @@ def parse_boreholes(data, strata: tuple[Stratum, ...], source: str = "boreholes.
     table.check_columns({**BOREHOLE_COLUMNS, **override_cols}, strict=True)
     table.require(["borehole", "x", "y", "stratum", "top", "bottom"])
     if not table.rows:
-        raise InputError(source, "the file has no borehole rows", "one row per stratum met in a borehole")
+        raise InputError(
+            source, "the file has no borehole rows", "one row per stratum met in a borehole"
+        )
     order = {s.name: i for i, s in enumerate(strata)}
     groups: dict[str, list] = {}
     for row in table.rows:
@@ -95,30 +102,48 @@ def parse_boreholes(data, strata: tuple[Stratum, ...], source: str = "boreholes.
         x, _ = _same_per_group(table, rows, "x", "length", f'borehole "{bid}"')
         y, _ = _same_per_group(table, rows, "y", "length", f'borehole "{bid}"')
         if x is None or y is None:
-            raise InputError(table.where(rows[0], "x" if x is None else "y"),
-                             f'borehole "{bid}" has no position', "x and y on at least one of its rows")
+            raise InputError(
+                table.where(rows[0], "x" if x is None else "y"),
+                f'borehole "{bid}" has no position',
+                "x and y on at least one of its rows",
+            )
         if (x, y) in positions:
-            raise InputError(table.where(rows[0]), f'borehole "{bid}" is at the same position as '
-                             f'borehole "{positions[(x, y)]}"', "one borehole per position")
+            raise InputError(
+                table.where(rows[0]),
+                f'borehole "{bid}" is at the same position as borehole "{positions[(x, y)]}"',
+                "one borehole per position",
+            )
         positions[(x, y)] = bid
         water, wrow = _same_per_group(table, rows, "water_depth", "length", f'borehole "{bid}"')
         if water is not None and water < 0:
-            raise InputError(table.where(wrow, "water_depth"), f"the water depth {water:g} m is negative",
-                             "a depth below ground ≥ 0")
+            raise InputError(
+                table.where(wrow, "water_depth"),
+                f"the water depth {water:g} m is negative",
+                "a depth below ground ≥ 0",
+            )
         items = []
         for row in rows:
             name = table.text(row, "stratum")
             if name not in order:
-                raise InputError(table.where(row, "stratum"), f'unknown stratum "{name}"',
-                                 suggest(name, order) or f"one of the [[strata]] names: {', '.join(order)}")
+                raise InputError(
+                    table.where(row, "stratum"),
+                    f'unknown stratum "{name}"',
+                    suggest(name, order) or f"one of the [[strata]] names: {', '.join(order)}",
+                )
             top = table.quantity(row, "top", "length")
             bottom = table.quantity(row, "bottom", "length")
             if top < 0:
-                raise InputError(table.where(row, "top"), f"the top {top:g} m is above ground",
-                                 "a depth below ground ≥ 0")
+                raise InputError(
+                    table.where(row, "top"),
+                    f"the top {top:g} m is above ground",
+                    "a depth below ground ≥ 0",
+                )
             if not bottom > top:
-                raise InputError(table.where(row, "bottom"), f"the bottom {bottom:g} m is not below the "
-                                 f"top {top:g} m", "bottom > top (depths below ground, positive down)")
+                raise InputError(
+                    table.where(row, "bottom"),
+                    f"the bottom {bottom:g} m is not below the top {top:g} m",
+                    "bottom > top (depths below ground, positive down)",
+                )
             overrides = {}
             for key, (field, dim) in QUANTITY_KEYS.items():
                 if table.has(row, key):
@@ -127,25 +152,36 @@ def parse_boreholes(data, strata: tuple[Stratum, ...], source: str = "boreholes.
             items.append((top, bottom, name, row, overrides))
         items.sort(key=lambda t: t[0])
         if abs(items[0][0]) > CONTACT_TOLERANCE:
-            raise InputError(table.where(items[0][3], "top"), f'borehole "{bid}" starts at {items[0][0]:g} m',
-                             "the first interval from the ground surface (top = 0)")
+            raise InputError(
+                table.where(items[0][3], "top"),
+                f'borehole "{bid}" starts at {items[0][0]:g} m',
+                "the first interval from the ground surface (top = 0)",
+            )
         for prev, cur in zip(items, items[1:]):
             if cur[0] < prev[1] - CONTACT_TOLERANCE:
-                raise InputError(table.where(cur[3], "top"),
-                                 f'in borehole "{bid}" the interval {cur[0]:g}–{cur[1]:g} m overlaps '
-                                 f"{prev[0]:g}–{prev[1]:g} m ({prev[3].label})",
-                                 "each interval's top at the bottom of the one above")
+                raise InputError(
+                    table.where(cur[3], "top"),
+                    f'in borehole "{bid}" the interval {cur[0]:g}–{cur[1]:g} m overlaps '
+                    f"{prev[0]:g}–{prev[1]:g} m ({prev[3].label})",
+                    "each interval's top at the bottom of the one above",
+                )
             if cur[0] > prev[1] + CONTACT_TOLERANCE:
-                raise InputError(table.where(cur[3], "top"),
-                                 f'in borehole "{bid}" there is a gap from {prev[1]:g} to {cur[0]:g} m',
-                                 "each interval's top at the bottom of the one above")
+                raise InputError(
+                    table.where(cur[3], "top"),
+                    f'in borehole "{bid}" there is a gap from {prev[1]:g} to {cur[0]:g} m',
+                    "each interval's top at the bottom of the one above",
+                )
             if order[cur[2]] <= order[prev[2]]:
-                raise InputError(table.where(cur[3], "stratum"),
-                                 f'in borehole "{bid}" "{cur[2]}" lies below "{prev[2]}"',
-                                 f"the strata in the [[strata]] order ({', '.join(order)}); one interval "
-                                 "per stratum")
-        intervals = tuple(Interval(stratum=n, top=0.0 if i == 0 else t, bottom=b, overrides=o)
-                          for i, (t, b, n, _, o) in enumerate(items))
+                raise InputError(
+                    table.where(cur[3], "stratum"),
+                    f'in borehole "{bid}" "{cur[2]}" lies below "{prev[2]}"',
+                    f"the strata in the [[strata]] order ({', '.join(order)}); one interval "
+                    "per stratum",
+                )
+        intervals = tuple(
+            Interval(stratum=n, top=0.0 if i == 0 else t, bottom=b, overrides=o)
+            for i, (t, b, n, _, o) in enumerate(items)
+        )
         # make contacts exact after the tolerance check
         fixed = [intervals[0]]
         for iv in intervals[1:]:
@@ -179,38 +215,54 @@ def parse_soundings(data, source: str = "soundings.csv") -> tuple[Sounding, ...]
         x, _ = _same_per_group(table, rows, "x", "length", f'sounding "{sid}"')
         y, _ = _same_per_group(table, rows, "y", "length", f'sounding "{sid}"')
         if x is None or y is None:
-            raise InputError(table.where(rows[0], "x" if x is None else "y"),
-                             f'sounding "{sid}" has no position', "x and y on at least one of its rows")
+            raise InputError(
+                table.where(rows[0], "x" if x is None else "y"),
+                f'sounding "{sid}" has no position',
+                "x and y on at least one of its rows",
+            )
         depth, qc, fs = [], [], []
         has_fs = "fs" in table.columns
         for row in rows:
             z = table.quantity(row, "depth", "length")
             if z < 0:
-                raise InputError(table.where(row, "depth"), f"the depth {z:g} m is above ground",
-                                 "a depth below ground ≥ 0")
+                raise InputError(
+                    table.where(row, "depth"),
+                    f"the depth {z:g} m is above ground",
+                    "a depth below ground ≥ 0",
+                )
             if depth and not z > depth[-1]:
-                raise InputError(table.where(row, "depth"),
-                                 f'in sounding "{sid}" the depth {z:g} m does not increase '
-                                 f"(previous {depth[-1]:g} m)", "depths increasing down each sounding")
+                raise InputError(
+                    table.where(row, "depth"),
+                    f'in sounding "{sid}" the depth {z:g} m does not increase '
+                    f"(previous {depth[-1]:g} m)",
+                    "depths increasing down each sounding",
+                )
             q = table.quantity(row, "qc", "pressure")
             if not q > 0:
-                raise InputError(table.where(row, "qc"), f"the cone resistance {q:g} kPa is not positive",
-                                 "qc > 0")
+                raise InputError(
+                    table.where(row, "qc"),
+                    f"the cone resistance {q:g} kPa is not positive",
+                    "qc > 0",
+                )
             if not QC_USUAL[0] <= q <= QC_USUAL[1]:
                 unusual.append(table.where(row, "qc"))
             f = table.quantity(row, "fs", "pressure", default=np.nan) if has_fs else np.nan
             if f < 0:
-                raise InputError(table.where(row, "fs"), f"the sleeve friction {f:g} kPa is negative",
-                                 "fs ≥ 0")
+                raise InputError(
+                    table.where(row, "fs"), f"the sleeve friction {f:g} kPa is negative", "fs ≥ 0"
+                )
             depth.append(z)
             qc.append(q)
             fs.append(f)
         fs_arr = np.array(fs) if has_fs and not np.all(np.isnan(fs)) else None
         out.append(Sounding(id=sid, x=x, y=y, depth=np.array(depth), qc=np.array(qc), fs=fs_arr))
     if unusual:
-        warnings.warn(f"{unusual[0]}: {len(unusual)} cone reading(s) outside the usual "
-                      f"{QC_USUAL[0]:g}–{QC_USUAL[1]:g} kPa (first shown); check the qc unit",
-                      InputWarning, stacklevel=2)
+        warnings.warn(
+            f"{unusual[0]}: {len(unusual)} cone reading(s) outside the usual "
+            f"{QC_USUAL[0]:g}–{QC_USUAL[1]:g} kPa (first shown); check the qc unit",
+            InputWarning,
+            stacklevel=2,
+        )
     return tuple(out)
 
 

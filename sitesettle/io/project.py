@@ -48,12 +48,31 @@ TABLES: dict[str, tuple[str, ...]] = {
     "boreholes": ("file",),
     "soundings": ("file",),
     "strata": (),
-    "analysis": ("granular_method", "shape_interpolation", "report_times", "design_life",
-                 "influence_fraction", "max_depth_widths", "sublayer_fraction", "end_of_primary",
-                 "time_factor_r3", "time_factor_r", "map_spacing", "map_margin", "stress_tolerance",
-                 "cohesive_immediate"),
-    "checks": ("criteria", "overrides", "checked_after", "pairs", "pairs_file",
-               "structure_lines_file", "remove_tilt"),
+    "analysis": (
+        "granular_method",
+        "shape_interpolation",
+        "report_times",
+        "design_life",
+        "influence_fraction",
+        "max_depth_widths",
+        "sublayer_fraction",
+        "end_of_primary",
+        "time_factor_r3",
+        "time_factor_r",
+        "map_spacing",
+        "map_margin",
+        "stress_tolerance",
+        "cohesive_immediate",
+    ),
+    "checks": (
+        "criteria",
+        "overrides",
+        "checked_after",
+        "pairs",
+        "pairs_file",
+        "structure_lines_file",
+        "remove_tilt",
+    ),
 }
 
 #: numeric [analysis] keys: key → (AnalysisSettings field, dimension, lowest, highest)
@@ -79,20 +98,31 @@ def parse_toml(text: str, source: str = SITE_FILE) -> dict:
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise InputError(source, f"not valid TOML: {exc}",
-                         'key = value lines under [table] headers; text in quotes, e.g. depth = "1.2 m"') from None
+        raise InputError(
+            source,
+            f"not valid TOML: {exc}",
+            'key = value lines under [table] headers; text in quotes, e.g. depth = "1.2 m"',
+        ) from None
     for name, value in data.items():
         if name not in TABLES:
-            raise InputError(f"{source}, [{name}]", "unknown table or key at the top level",
-                             suggest(name, TABLES) or f"one of the tables {', '.join(TABLES)}")
+            raise InputError(
+                f"{source}, [{name}]",
+                "unknown table or key at the top level",
+                suggest(name, TABLES) or f"one of the tables {', '.join(TABLES)}",
+            )
         if name == "strata":
             continue
         if not isinstance(value, dict):
-            raise InputError(f"{source}, {name}", "expected a [table]", f"[{name}] followed by its keys")
+            raise InputError(
+                f"{source}, {name}", "expected a [table]", f"[{name}] followed by its keys"
+            )
         for key in value:
             if key not in TABLES[name]:
-                raise InputError(f"{source} [{name}], key {key!r}", "unknown key",
-                                 suggest(key, TABLES[name]) or f"one of {', '.join(TABLES[name])}")
+                raise InputError(
+                    f"{source} [{name}], key {key!r}",
+                    "unknown key",
+                    suggest(key, TABLES[name]) or f"one of {', '.join(TABLES[name])}",
+                )
     return data
 
 
@@ -106,8 +136,11 @@ def parse_analysis(table: dict, where: str = f"{SITE_FILE} [analysis]") -> Analy
     """The ``[analysis]`` table as :class:`AnalysisSettings` (defaults for absent keys)."""
     default = AnalysisSettings()
     kw: dict = {}
-    for key, cls in (("granular_method", GranularMethod), ("shape_interpolation", ShapeInterpolation),
-                     ("end_of_primary", EndOfPrimary)):
+    for key, cls in (
+        ("granular_method", GranularMethod),
+        ("shape_interpolation", ShapeInterpolation),
+        ("end_of_primary", EndOfPrimary),
+    ):
         if key in table:
             kw[key] = cls.parse(table[key], f"{where}, key {key!r}")
     for key, (field, dim, lo, hi) in ANALYSIS_NUMBERS.items():
@@ -116,23 +149,32 @@ def parse_analysis(table: dict, where: str = f"{SITE_FILE} [analysis]") -> Analy
             v = units.parse(table[key], dim, kwhere)
             if not (lo < v <= hi):
                 low = "> 0" if lo == 0.0 else "≥ 0"
-                raise InputError(kwhere, f"{v:g} is out of range",
-                                 f"a value {low}" + (f" and ≤ {hi:g}" if math.isfinite(hi) else ""))
+                raise InputError(
+                    kwhere,
+                    f"{v:g} is out of range",
+                    f"a value {low}" + (f" and ≤ {hi:g}" if math.isfinite(hi) else ""),
+                )
             kw[field] = v
     if "report_times" in table:
         raw = table["report_times"]
         kwhere = f"{where}, key 'report_times'"
         if not isinstance(raw, list) or not raw:
-            raise InputError(kwhere, "not a list", 'a list of times such as ["1 month", "1 yr", "10 yr"]')
+            raise InputError(
+                kwhere, "not a list", 'a list of times such as ["1 month", "1 yr", "10 yr"]'
+            )
         times = [units.parse(v, "time", f"{kwhere} item {i}") for i, v in enumerate(raw, start=1)]
         for i, t in enumerate(times, start=1):
             if not t > 0:
-                raise InputError(f"{kwhere} item {i}", f"the time {t:g} yr is not positive",
-                                 "times after loading > 0")
+                raise InputError(
+                    f"{kwhere} item {i}",
+                    f"the time {t:g} yr is not positive",
+                    "times after loading > 0",
+                )
         kw["report_times"] = tuple(sorted(set(times)))
     if "cohesive_immediate" in table:
-        kw["cohesive_immediate"] = parse_flag(table["cohesive_immediate"],
-                                              f"{where}, key 'cohesive_immediate'")
+        kw["cohesive_immediate"] = parse_flag(
+            table["cohesive_immediate"], f"{where}, key 'cohesive_immediate'"
+        )
     settings = AnalysisSettings(**{**default.__dict__, **kw})
     return settings
 
@@ -156,7 +198,9 @@ def parse_limit(value: object, where: str) -> float:
         try:
             out = float(num) / float(den)
         except (ValueError, ZeroDivisionError):
-            raise InputError(where, f'cannot read "{value}" as a ratio', 'a ratio such as "1/500"') from None
+            raise InputError(
+                where, f'cannot read "{value}" as a ratio', 'a ratio such as "1/500"'
+            ) from None
         if not (math.isfinite(out) and out > 0):
             raise InputError(where, f'"{value}" is not a positive ratio', 'a ratio such as "1/500"')
         return out
@@ -170,8 +214,11 @@ def parse_limit(value: object, where: str) -> float:
         if not out > 0:
             raise InputError(where, f'the limit "{value}" is not positive', "a limit > 0")
         return out
-    raise InputError(where, f'cannot read "{value}" as a limit',
-                     'a settlement such as "25 mm" or a ratio such as "1/500"')
+    raise InputError(
+        where,
+        f'cannot read "{value}" as a limit',
+        'a settlement such as "25 mm" or a ratio such as "1/500"',
+    )
 
 
 def parse_checks(table: dict, where: str = f"{SITE_FILE} [checks]") -> CheckSettings:
@@ -180,14 +227,21 @@ def parse_checks(table: dict, where: str = f"{SITE_FILE} [checks]") -> CheckSett
     if "criteria" in table:
         name = str(table["criteria"]).strip().lower().replace("-", "_").replace(" ", "_")
         if not name:
-            raise InputError(f"{where}, key 'criteria'", "the name is empty", "the name of a criteria set")
+            raise InputError(
+                f"{where}, key 'criteria'", "the name is empty", "the name of a criteria set"
+            )
         kw["criteria"] = name
     if "overrides" in table:
         ov = table["overrides"]
         if not isinstance(ov, dict):
-            raise InputError(f"{where}, key 'overrides'", "not a table",
-                             'overrides = { total_settlement = "40 mm", angular_distortion = "1/300" }')
-        kw["overrides"] = {str(k): parse_limit(v, f"{where}, overrides key {k!r}") for k, v in ov.items()}
+            raise InputError(
+                f"{where}, key 'overrides'",
+                "not a table",
+                'overrides = { total_settlement = "40 mm", angular_distortion = "1/300" }',
+            )
+        kw["overrides"] = {
+            str(k): parse_limit(v, f"{where}, overrides key {k!r}") for k, v in ov.items()
+        }
     if "checked_after" in table:
         t = units.parse(table["checked_after"], "time", f"{where}, key 'checked_after'")
         if t < 0:
@@ -213,11 +267,17 @@ def parse_pairs(data, footing_ids, source: str = "pairs.csv") -> tuple[tuple[str
         a, b = table.text(row, "a"), table.text(row, "b")
         for col, fid in (("a", a), ("b", b)):
             if fid not in ids:
-                raise InputError(table.where(row, col), f'unknown footing "{fid}"',
-                                 suggest(fid, ids) or "the id of a footing of the plan")
+                raise InputError(
+                    table.where(row, col),
+                    f'unknown footing "{fid}"',
+                    suggest(fid, ids) or "the id of a footing of the plan",
+                )
         if a == b:
-            raise InputError(table.where(row, "b"), f'the pair joins footing "{a}" to itself',
-                             "two different footings")
+            raise InputError(
+                table.where(row, "b"),
+                f'the pair joins footing "{a}" to itself',
+                "two different footings",
+            )
         key = frozenset((a, b))
         if key not in seen:
             seen.add(key)
@@ -225,7 +285,9 @@ def parse_pairs(data, footing_ids, source: str = "pairs.csv") -> tuple[tuple[str
     return tuple(out)
 
 
-def parse_structure_lines(data, footing_ids, source: str = "lines.csv") -> tuple[tuple[str, ...], ...]:
+def parse_structure_lines(
+    data, footing_ids, source: str = "lines.csv"
+) -> tuple[tuple[str, ...], ...]:
     """Structure lines: columns ``line`` and ``footing``, footings in order along each line."""
     table = data if isinstance(data, Table) else parse_csv(data, source)
     table.check_columns({"line": "text", "footing": "text"}, strict=True)
@@ -235,25 +297,35 @@ def parse_structure_lines(data, footing_ids, source: str = "lines.csv") -> tuple
     for row in table.rows:
         name, fid = table.text(row, "line"), table.text(row, "footing")
         if fid not in ids:
-            raise InputError(table.where(row, "footing"), f'unknown footing "{fid}"',
-                             suggest(fid, ids) or "the id of a footing of the plan")
+            raise InputError(
+                table.where(row, "footing"),
+                f'unknown footing "{fid}"',
+                suggest(fid, ids) or "the id of a footing of the plan",
+            )
         lines.setdefault(name, []).append(fid)
     for name, members in lines.items():
         if len(members) < 2:
-            raise InputError(source, f'the line "{name}" has only one footing', "two or more footings per line")
+            raise InputError(
+                source, f'the line "{name}" has only one footing', "two or more footings per line"
+            )
     return tuple(tuple(v) for v in lines.values())
 
 
 # --------------------------------------------------------------------------- site
-def _file(folder: pathlib.Path, table: dict, key: str, where: str, required: bool) -> pathlib.Path | None:
+def _file(
+    folder: pathlib.Path, table: dict, key: str, where: str, required: bool
+) -> pathlib.Path | None:
     if key not in table:
         if required:
             raise InputError(where, f'the key "{key}" is missing', f'{key} = "name of the file"')
         return None
     path = folder / str(table[key])
     if not path.exists():
-        raise InputError(f"{where}, key {key!r}", f'the file "{table[key]}" does not exist in {folder}',
-                         "a path relative to the project folder")
+        raise InputError(
+            f"{where}, key {key!r}",
+            f'the file "{table[key]}" does not exist in {folder}',
+            "a path relative to the project folder",
+        )
     return path
 
 
@@ -263,12 +335,16 @@ def _footing_defaults(table: dict, where: str) -> FootingDefaults:
         kw["depth"] = units.parse(table["depth"], "length", f"{where}, key 'depth'")
     if "sustained_live_fraction" in table:
         kw["sustained_live_fraction"] = units.parse(
-            table["sustained_live_fraction"], "dimensionless", f"{where}, key 'sustained_live_fraction'")
+            table["sustained_live_fraction"],
+            "dimensionless",
+            f"{where}, key 'sustained_live_fraction'",
+        )
     if "rigid" in table:
         kw["rigid"] = parse_flag(table["rigid"], f"{where}, key 'rigid'")
     if "fill_unit_weight" in table:
-        kw["fill_unit_weight"] = units.parse(table["fill_unit_weight"], "unit_weight",
-                                             f"{where}, key 'fill_unit_weight'")
+        kw["fill_unit_weight"] = units.parse(
+            table["fill_unit_weight"], "unit_weight", f"{where}, key 'fill_unit_weight'"
+        )
     return FootingDefaults(**kw)
 
 
@@ -276,25 +352,34 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
     """The :class:`Site` from parsed site.toml data; reads the files it names from ``folder``."""
     folder = pathlib.Path(folder)
     project = config.get("project", {})
-    info = {k: str(project[k]) for k in ("client", "job_number", "engineer", "notes") if k in project}
+    info = {
+        k: str(project[k]) for k in ("client", "job_number", "engineer", "notes") if k in project
+    }
     name = str(project.get("name", folder.resolve().name))
-    out_units = OutputUnits.parse(project.get("output_units", "si"),
-                                  f"{source} [project], key 'output_units'").value
+    out_units = OutputUnits.parse(
+        project.get("output_units", "si"), f"{source} [project], key 'output_units'"
+    ).value
     crs = None
     if "crs" in project:
         try:
             crs = geometry.crs_text(str(project["crs"]))
         except Exception:  # pyproj raises CRSError with a long text
-            raise InputError(f"{source} [project], key 'crs'", f'unknown coordinate system "{project["crs"]}"',
-                             'a code such as "EPSG:32633" or a WKT text') from None
+            raise InputError(
+                f"{source} [project], key 'crs'",
+                f'unknown coordinate system "{project["crs"]}"',
+                'a code such as "EPSG:32633" or a WKT text',
+            ) from None
 
     water = math.inf
     gw = config.get("groundwater", {})
     if "depth" in gw and str(gw["depth"]).strip().lower() not in ("none", ""):
         water = units.parse(gw["depth"], "length", f"{source} [groundwater], key 'depth'")
         if water < 0:
-            raise InputError(f"{source} [groundwater], key 'depth'", f"{water:g} m is above ground",
-                             'a depth below ground ≥ 0, or "none"')
+            raise InputError(
+                f"{source} [groundwater], key 'depth'",
+                f"{water:g} m is above ground",
+                'a depth below ground ≥ 0, or "none"',
+            )
 
     strata = parse_strata(config.get("strata"), source)
     analysis = parse_analysis(config.get("analysis", {}), f"{source} [analysis]")
@@ -302,27 +387,39 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
 
     ftable = config.get("footings", {})
     fpath = _file(folder, ftable, "file", f"{source} [footings]", required=True)
-    footings, file_crs = read_footings(fpath, _footing_defaults(ftable, f"{source} [footings]"),
-                                       layer=ftable.get("layer"))
+    footings, file_crs = read_footings(
+        fpath, _footing_defaults(ftable, f"{source} [footings]"), layer=ftable.get("layer")
+    )
     if file_crs is not None:
         if crs is not None and not geometry.same_crs(crs, file_crs):
-            raise InputError(f"{source} [project], key 'crs'",
-                             f"{crs} differs from the coordinate system of {fpath.name} ({file_crs})",
-                             "the same coordinate system for all files (or no crs key)")
+            raise InputError(
+                f"{source} [project], key 'crs'",
+                f"{crs} differs from the coordinate system of {fpath.name} ({file_crs})",
+                "the same coordinate system for all files (or no crs key)",
+            )
         crs = file_crs
 
-    bpath = _file(folder, config.get("boreholes", {}), "file", f"{source} [boreholes]", required=True)
+    bpath = _file(
+        folder, config.get("boreholes", {}), "file", f"{source} [boreholes]", required=True
+    )
     boreholes = read_boreholes(bpath, strata)
-    spath = _file(folder, config.get("soundings", {}), "file", f"{source} [soundings]", required=False)
+    spath = _file(
+        folder, config.get("soundings", {}), "file", f"{source} [soundings]", required=False
+    )
     soundings = read_soundings(spath) if spath is not None else ()
 
     measured: dict[str, set[str]] = {}
     for b in boreholes:
         for iv in b.intervals:
             measured.setdefault(iv.stratum, set()).update(iv.overrides)
-    check_requirements(strata, granular_method=analysis.granular_method,
-                       end_of_primary=analysis.end_of_primary, measured=measured,
-                       has_soundings=bool(soundings), where=source)
+    check_requirements(
+        strata,
+        granular_method=analysis.granular_method,
+        end_of_primary=analysis.end_of_primary,
+        measured=measured,
+        has_soundings=bool(soundings),
+        where=source,
+    )
     _warn_soundings_cover(strata, boreholes, soundings)
 
     ids = [f.id for f in footings]
@@ -333,15 +430,29 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
     if ppath is not None:
         listed = parse_pairs(read_text(ppath, "pairs file"), ids, ppath.name)
     elif checks.pairs == PairRule.LISTED:
-        raise InputError(f"{source} [checks], key 'pairs'", '"listed" but no pairs_file is given',
-                         'pairs_file = "pairs.csv", or pairs = "auto"')
+        raise InputError(
+            f"{source} [checks], key 'pairs'",
+            '"listed" but no pairs_file is given',
+            'pairs_file = "pairs.csv", or pairs = "auto"',
+        )
     lpath = _file(folder, ctable, "structure_lines_file", f"{source} [checks]", required=False)
     if lpath is not None:
         lines = parse_structure_lines(read_text(lpath, "structure lines file"), ids, lpath.name)
     checks = CheckSettings(**{**checks.__dict__, "listed_pairs": listed, "structure_lines": lines})
 
-    return Site(name=name, footings=footings, strata=strata, boreholes=boreholes, soundings=soundings,
-                water_depth=water, analysis=analysis, checks=checks, crs=crs, units=out_units, info=info)
+    return Site(
+        name=name,
+        footings=footings,
+        strata=strata,
+        boreholes=boreholes,
+        soundings=soundings,
+        water_depth=water,
+        analysis=analysis,
+        checks=checks,
+        crs=crs,
+        units=out_units,
+        info=info,
+    )
 
 
 def _warn_soundings_cover(strata, boreholes, soundings) -> None:
@@ -360,9 +471,12 @@ def _warn_soundings_cover(strata, boreholes, soundings) -> None:
                 if iv.stratum == name and ((snd.depth >= iv.top) & (snd.depth < iv.bottom)).any():
                     hit = True
         if not hit:
-            warnings.warn(f'stratum "{name}" takes qc from the soundings, but no sounding reading falls '
-                          "inside it at the nearest borehole; the cone resistance there is extrapolated",
-                          InputWarning, stacklevel=3)
+            warnings.warn(
+                f'stratum "{name}" takes qc from the soundings, but no sounding reading falls '
+                "inside it at the nearest borehole; the cone resistance there is extrapolated",
+                InputWarning,
+                stacklevel=3,
+            )
 
 
 def read_site_toml(path: pathlib.Path) -> dict:
@@ -388,7 +502,10 @@ def load_site(folder) -> Site:
     if path.is_dir():
         path = path / SITE_FILE
     if not path.exists():
-        raise InputError(str(path), "no project file here",
-                         f"a folder with a {SITE_FILE} (sitesettle new DIR writes a starter project)")
+        raise InputError(
+            str(path),
+            "no project file here",
+            f"a folder with a {SITE_FILE} (sitesettle new DIR writes a starter project)",
+        )
     config = read_site_toml(path)
     return build_site(config, path.parent, path.name)

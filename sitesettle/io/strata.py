@@ -44,8 +44,16 @@ OTHER_KEYS: dict[str, str] = {
     "fine_or_silty": "flag",
     "description": "text",
 }
-ALL_KEYS = ["name", "behaviour", "description", *QUANTITY_KEYS, "method", "drainage",
-            "gravel", "fine_or_silty"]
+ALL_KEYS = [
+    "name",
+    "behaviour",
+    "description",
+    *QUANTITY_KEYS,
+    "method",
+    "drainage",
+    "gravel",
+    "fine_or_silty",
+]
 
 #: the value of ``cone_resistance`` that takes qc from the cone soundings
 FROM_SOUNDINGS = "from soundings"
@@ -81,8 +89,13 @@ USUAL: dict[str, tuple[float, float]] = {
     "secondary_index": (0.0, 0.1),
     "undrained_modulus": (500.0, 5.0e5),
 }
-_UNITS = {"unit_weight": "kN/m³", "pressure": "kPa", "diffusivity": "m²/yr", "time": "yr",
-          "dimensionless": ""}
+_UNITS = {
+    "unit_weight": "kN/m³",
+    "pressure": "kPa",
+    "diffusivity": "m²/yr",
+    "time": "yr",
+    "dimensionless": "",
+}
 
 
 def check_value(field: str, value: float, where: str, dimension: str) -> float:
@@ -97,9 +110,12 @@ def check_value(field: str, value: float, where: str, dimension: str) -> float:
     if field in USUAL:
         a, b = USUAL[field]
         if not a <= value <= b:
-            warnings.warn(f"{where}: {shown} is outside the usual range {a:g}–{b:g}"
-                          f"{' ' + unit if unit else ''}; check the value and its unit",
-                          InputWarning, stacklevel=3)
+            warnings.warn(
+                f"{where}: {shown} is outside the usual range {a:g}–{b:g}"
+                f"{' ' + unit if unit else ''}; check the value and its unit",
+                InputWarning,
+                stacklevel=3,
+            )
     return value
 
 
@@ -115,23 +131,34 @@ def parse_stratum(table: dict, where: str) -> Stratum:
     """
     for key in table:
         if key not in QUANTITY_KEYS and key not in OTHER_KEYS:
-            raise InputError(f"{where}, key {key!r}", "unknown key",
-                             suggest(key, ALL_KEYS) or f"one of {', '.join(ALL_KEYS)}")
+            raise InputError(
+                f"{where}, key {key!r}",
+                "unknown key",
+                suggest(key, ALL_KEYS) or f"one of {', '.join(ALL_KEYS)}",
+            )
     if "name" not in table or not str(table["name"]).strip():
         raise InputError(where, 'the key "name" is missing', 'a name such as name = "dense sand"')
     name = str(table["name"]).strip()
     if "behaviour" not in table:
-        raise InputError(f"{where}, key 'behaviour'", "the key is missing",
-                         'behaviour = "granular", "cohesive" or "rigid"')
-    kw: dict = {"name": name,
-                "behaviour": Behaviour.parse(table["behaviour"], f"{where}, key 'behaviour'")}
+        raise InputError(
+            f"{where}, key 'behaviour'",
+            "the key is missing",
+            'behaviour = "granular", "cohesive" or "rigid"',
+        )
+    kw: dict = {
+        "name": name,
+        "behaviour": Behaviour.parse(table["behaviour"], f"{where}, key 'behaviour'"),
+    }
     for key, (field, dim) in QUANTITY_KEYS.items():
         if key not in table:
             continue
         value = table[key]
         kwhere = f"{where}, key {key!r}"
-        if key == "cone_resistance" and isinstance(value, str) and \
-                " ".join(value.lower().replace("_", " ").split()) == FROM_SOUNDINGS:
+        if (
+            key == "cone_resistance"
+            and isinstance(value, str)
+            and " ".join(value.lower().replace("_", " ").split()) == FROM_SOUNDINGS
+        ):
             kw["use_soundings"] = True
             continue
         kw[field] = check_value(field, units.parse(value, dim, kwhere), kwhere, dim)
@@ -144,42 +171,65 @@ def parse_stratum(table: dict, where: str) -> Stratum:
             kw[key] = parse_flag(table[key], f"{where}, key {key!r}")
     s = Stratum(**kw)
     if s.saturated_unit_weight < s.unit_weight:
-        warnings.warn(f"{where}: the saturated unit weight {s.saturated_unit_weight:g} kN/m³ is below "
-                      f"the unit weight above water {s.unit_weight:g} kN/m³", InputWarning, stacklevel=2)
+        warnings.warn(
+            f"{where}: the saturated unit weight {s.saturated_unit_weight:g} kN/m³ is below "
+            f"the unit weight above water {s.unit_weight:g} kN/m³",
+            InputWarning,
+            stacklevel=2,
+        )
     if s.behaviour != Behaviour.GRANULAR and "method" in table:
-        raise InputError(f"{where}, key 'method'", f"a granular method on a {s.behaviour} stratum",
-                         "no method key (it applies to granular strata)")
+        raise InputError(
+            f"{where}, key 'method'",
+            f"a granular method on a {s.behaviour} stratum",
+            "no method key (it applies to granular strata)",
+        )
     if s.ocr is not None and s.preconsolidation is not None:
-        raise InputError(f"{where}, key 'ocr'", "both ocr and preconsolidation are given",
-                         "one of them")
+        raise InputError(
+            f"{where}, key 'ocr'", "both ocr and preconsolidation are given", "one of them"
+        )
     return s
 
 
 def parse_strata(tables, where: str = "site.toml") -> tuple[Stratum, ...]:
     """The ordered ``[[strata]]`` list (top-down): unique names, a rigid stratum only last."""
     if not isinstance(tables, list) or not tables:
-        raise InputError(where, "no [[strata]] tables", "one [[strata]] table per stratum, top-down")
+        raise InputError(
+            where, "no [[strata]] tables", "one [[strata]] table per stratum, top-down"
+        )
     strata = []
     for i, t in enumerate(tables, start=1):
         if not isinstance(t, dict):
-            raise InputError(f"{where} strata", "strata must be [[strata]] tables", "[[strata]] tables")
+            raise InputError(
+                f"{where} strata", "strata must be [[strata]] tables", "[[strata]] tables"
+            )
         label = f"{where} [[strata]] {i}" + (f" ({t['name']!r})" if "name" in t else "")
         strata.append(parse_stratum(t, label))
     names = [s.name for s in strata]
     for i, s in enumerate(strata):
         if names.index(s.name) != i:
-            raise InputError(f"{where} [[strata]] {i + 1}", f'the stratum name "{s.name}" is used twice',
-                             "a unique name per stratum")
+            raise InputError(
+                f"{where} [[strata]] {i + 1}",
+                f'the stratum name "{s.name}" is used twice',
+                "a unique name per stratum",
+            )
         if s.behaviour == Behaviour.RIGID and i != len(strata) - 1:
-            raise InputError(f"{where} [[strata]] {i + 1} ({s.name!r})",
-                             "a rigid stratum is not the last one",
-                             "the rigid base as the last [[strata]] table (the integration stops at it)")
+            raise InputError(
+                f"{where} [[strata]] {i + 1} ({s.name!r})",
+                "a rigid stratum is not the last one",
+                "the rigid base as the last [[strata]] table (the integration stops at it)",
+            )
     return tuple(strata)
 
 
-def check_requirements(strata, *, granular_method: GranularMethod, end_of_primary: EndOfPrimary,
-                       measured: dict[str, set[str]], has_soundings: bool,
-                       where: str = "site.toml") -> None:
+def check_requirements(
+    strata,
+    *,
+    granular_method: GranularMethod,
+    end_of_primary: EndOfPrimary,
+    measured: dict[str, set[str]],
+    has_soundings: bool,
+    where: str = "site.toml",
+) -> None:
     """Raise InputError naming the stratum and key when a method lacks a parameter.
 
     ``measured`` maps a stratum name to the Stratum fields that some borehole
@@ -194,35 +244,56 @@ def check_requirements(strata, *, granular_method: GranularMethod, end_of_primar
         if s.behaviour == Behaviour.GRANULAR:
             method = s.method or granular_method
             if s.use_soundings and not has_soundings:
-                raise InputError(f"{place}, key 'cone_resistance'",
-                                 '"from soundings" but the project has no soundings file',
-                                 "a [soundings] file, or a cone resistance value")
+                raise InputError(
+                    f"{place}, key 'cone_resistance'",
+                    '"from soundings" but the project has no soundings file',
+                    "a [soundings] file, or a cone resistance value",
+                )
             if method == GranularMethod.BURLAND_BURBIDGE:
                 if not given(s, "spt_n"):
-                    raise InputError(f"{place}, key 'spt_n'",
-                                     "Burland & Burbidge needs the SPT blow count, which is missing",
-                                     "spt_n on the stratum or per interval in the boreholes file")
+                    raise InputError(
+                        f"{place}, key 'spt_n'",
+                        "Burland & Burbidge needs the SPT blow count, which is missing",
+                        "spt_n on the stratum or per interval in the boreholes file",
+                    )
             elif not (given(s, "youngs_modulus") or given(s, "cone_resistance") or s.use_soundings):
-                raise InputError(f"{place}, key 'youngs_modulus'",
-                                 f"the {method} method needs a modulus or a cone resistance; neither is given",
-                                 'youngs_modulus, or cone_resistance (a value or "from soundings")')
+                raise InputError(
+                    f"{place}, key 'youngs_modulus'",
+                    f"the {method} method needs a modulus or a cone resistance; neither is given",
+                    'youngs_modulus, or cone_resistance (a value or "from soundings")',
+                )
         elif s.behaviour == Behaviour.COHESIVE:
             for f in ("compression_index", "void_ratio", "consolidation_coefficient"):
                 if not given(s, f):
-                    raise InputError(f"{place}, key {f!r}", "consolidation needs this parameter, which is missing",
-                                     f"{f} on the stratum or per interval in the boreholes file")
+                    raise InputError(
+                        f"{place}, key {f!r}",
+                        "consolidation needs this parameter, which is missing",
+                        f"{f} on the stratum or per interval in the boreholes file",
+                    )
             if not (given(s, "preconsolidation") or given(s, "ocr")):
-                raise InputError(f"{place}, key 'ocr'",
-                                 "neither preconsolidation nor ocr is given",
-                                 "ocr = 1 for a normally consolidated clay, or the preconsolidation pressure")
-            normally = s.ocr == 1.0 and "ocr" not in measured.get(s.name, set()) \
+                raise InputError(
+                    f"{place}, key 'ocr'",
+                    "neither preconsolidation nor ocr is given",
+                    "ocr = 1 for a normally consolidated clay, or the preconsolidation pressure",
+                )
+            normally = (
+                s.ocr == 1.0
+                and "ocr" not in measured.get(s.name, set())
                 and "preconsolidation" not in measured.get(s.name, set())
+            )
             if not normally and not given(s, "recompression_index"):
-                raise InputError(f"{place}, key 'recompression_index'",
-                                 "an overconsolidated clay needs the recompression index, which is missing",
-                                 "recompression_index (Cr), or ocr = 1")
-            if end_of_primary == EndOfPrimary.GIVEN and s.secondary_index > 0 and not given(s, "end_of_primary"):
-                raise InputError(f"{place}, key 'end_of_primary'",
-                                 '[analysis] end_of_primary = "given" but this stratum gives no time',
-                                 'end_of_primary = "2 yr" (a time) on the stratum')
-
+                raise InputError(
+                    f"{place}, key 'recompression_index'",
+                    "an overconsolidated clay needs the recompression index, which is missing",
+                    "recompression_index (Cr), or ocr = 1",
+                )
+            if (
+                end_of_primary == EndOfPrimary.GIVEN
+                and s.secondary_index > 0
+                and not given(s, "end_of_primary")
+            ):
+                raise InputError(
+                    f"{place}, key 'end_of_primary'",
+                    '[analysis] end_of_primary = "given" but this stratum gives no time',
+                    'end_of_primary = "2 yr" (a time) on the stratum',
+                )

@@ -43,15 +43,21 @@ def read_text(path: pathlib.Path, what: str = "file") -> str:
         where = path.name
         if path.exists():
             raise InputError(where, f"the {what} {str(path)!r} is not a file", "a path to a file")
-        raise InputError(where, f"the {what} {str(path)!r} does not exist",
-                         "a path relative to the project folder")
+        raise InputError(
+            where,
+            f"the {what} {str(path)!r} does not exist",
+            "a path relative to the project folder",
+        )
     data = path.read_bytes()
     try:
         return data.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
         line = data[: exc.start].count(b"\n") + 1
-        raise InputError(f"{path.name} line {line}", "the file is not UTF-8 text",
-                         "a file saved as UTF-8 (in a spreadsheet: 'CSV UTF-8')") from None
+        raise InputError(
+            f"{path.name} line {line}",
+            "the file is not UTF-8 text",
+            "a file saved as UTF-8 (in a spreadsheet: 'CSV UTF-8')",
+        ) from None
 
 
 def normalise_name(text: str) -> str:
@@ -124,12 +130,13 @@ class Table:
         """Raise InputError if any of ``names`` is not a column."""
         for name in names:
             if name not in self.columns:
-                hint = ""
-                close = suggest(name, self.columns)
-                if close:
-                    hint = f' (found "{self.headers[difflib.get_close_matches(name, self.columns, 1, 0.6)[0]]}")'
-                raise InputError(self.source, f'the required column "{name}" is missing{hint}',
-                                 f"columns {', '.join(repr(n) for n in names)}")
+                close = difflib.get_close_matches(name, self.columns, 1, 0.6)
+                hint = f' (found "{self.headers[close[0]]}")' if close else ""
+                raise InputError(
+                    self.source,
+                    f'the required column "{name}" is missing{hint}',
+                    f"columns {', '.join(repr(n) for n in names)}",
+                )
 
     def check_columns(self, known: dict[str, str], *, strict: bool) -> None:
         """Check column names and header units against ``known`` (name → dimension).
@@ -141,19 +148,27 @@ class Table:
         """
         for name in self.columns:
             if name not in known:
-                close = difflib.get_close_matches(name, list(known), n=1, cutoff=0.8 if not strict else 0.6)
+                close = difflib.get_close_matches(
+                    name, list(known), n=1, cutoff=0.8 if not strict else 0.6
+                )
                 if strict or close:
                     hint = f'did you mean "{close[0]}"?' if close else ""
-                    raise InputError(self.where(column=name), "unknown column",
-                                     hint or f"one of {', '.join(known)}")
+                    raise InputError(
+                        self.where(column=name),
+                        "unknown column",
+                        hint or f"one of {', '.join(known)}",
+                    )
                 continue
             unit = self.header_units.get(name)
             if unit is None:
                 continue
             dim = known[name]
             if dim not in units.DIMENSIONS:
-                raise InputError(self.where(column=name), f'a unit "[{unit}]" on a column without one',
-                                 f'the header "{name}" alone')
+                raise InputError(
+                    self.where(column=name),
+                    f'a unit "[{unit}]" on a column without one',
+                    f'the header "{name}" alone',
+                )
             units.parse(f"1 {unit}", dim, self.where(column=name) + " (unit in the header)")
 
     # -- cells --------------------------------------------------------------
@@ -182,8 +197,11 @@ class Table:
         where = self.where(row, name)
         if value is None:
             if default is None:
-                raise InputError(where, "the value is missing",
-                                 f"{units._NAMES[dimension]} such as {units.DIMENSIONS[dimension][1]}")
+                raise InputError(
+                    where,
+                    "the value is missing",
+                    f"{units._NAMES[dimension]} such as {units.DIMENSIONS[dimension][1]}",
+                )
             return default
         unit = self.header_units.get(name)
         if unit:
@@ -215,7 +233,11 @@ def parse_flag(value: object, where: str) -> bool:
     """A boolean from ``True``, ``"yes"``, ``1``, ``"rigid"`` … or InputError naming ``where``."""
     if isinstance(value, bool):
         return value
-    text = str(int(value) if isinstance(value, float) and value.is_integer() else value).strip().lower()
+    text = (
+        str(int(value) if isinstance(value, float) and value.is_integer() else value)
+        .strip()
+        .lower()
+    )
     if text in TRUE_WORDS:
         return True
     if text in FALSE_WORDS:
@@ -227,10 +249,17 @@ def _split_header(cell: str, source: str, position: int) -> tuple[str, str | Non
     header = cell.strip()
     m = _HEADER.match(header)
     if not m or not m.group("name").strip():
-        raise InputError(f"{source} row 1, column {position}", f'cannot read the header "{cell}"',
-                         'a name with an optional unit in brackets, such as "width [ft]"')
+        raise InputError(
+            f"{source} row 1, column {position}",
+            f'cannot read the header "{cell}"',
+            'a name with an optional unit in brackets, such as "width [ft]"',
+        )
     unit = m.group("unit")
-    return normalise_name(m.group("name")), (unit.strip() or None) if unit is not None else None, header
+    return (
+        normalise_name(m.group("name")),
+        (unit.strip() or None) if unit is not None else None,
+        header,
+    )
 
 
 def _new_table(source: str, header_cells, *, header_label: str) -> Table:
@@ -238,8 +267,9 @@ def _new_table(source: str, header_cells, *, header_label: str) -> Table:
     for pos, cell in enumerate(header_cells, start=1):
         name, unit, header = _split_header(str(cell), source, pos)
         if name in headers:
-            raise InputError(f"{source} {header_label}", f'the column "{name}" appears twice',
-                             "each column once")
+            raise InputError(
+                f"{source} {header_label}", f'the column "{name}" appears twice', "each column once"
+            )
         columns.append(name)
         headers[name] = header
         if unit:
@@ -283,16 +313,23 @@ def parse_csv(text: str, source: str) -> Table:
                 table = _new_table(source, cells, header_label=f"row {line}")
                 continue
             label = f"row {line}"
-            if len(cells) > len(table.columns) and any(c.strip() for c in cells[len(table.columns):]):
-                raise InputError(f"{source} {label}",
-                                 f"{len(cells)} cells but the header has {len(table.columns)} columns",
-                                 "one cell per column (is there an unquoted comma in a value?)")
-            values = {name: (cells[i].strip() if i < len(cells) else None)
-                      for i, name in enumerate(table.columns)}
+            if len(cells) > len(table.columns) and any(
+                c.strip() for c in cells[len(table.columns) :]
+            ):
+                raise InputError(
+                    f"{source} {label}",
+                    f"{len(cells)} cells but the header has {len(table.columns)} columns",
+                    "one cell per column (is there an unquoted comma in a value?)",
+                )
+            values = {
+                name: (cells[i].strip() if i < len(cells) else None)
+                for i, name in enumerate(table.columns)
+            }
             table.rows.append(Row(label, values))
     except csv.Error as exc:
-        raise InputError(f"{source} row {reader.line_num}", f"malformed CSV ({exc})",
-                         "comma-separated values") from None
+        raise InputError(
+            f"{source} row {reader.line_num}", f"malformed CSV ({exc})", "comma-separated values"
+        ) from None
     if table is None:
         raise InputError(source, "the file is empty", "a header row and at least one data row")
     return table
