@@ -153,7 +153,7 @@ def test_extra_columns_are_ignored_but_typos_are_not():
     parse_footings_csv("id,x,y,width,depth,dead_load,grid_line\nA,0,0,2,1,500,B/3\n")
     with pytest.raises(
         InputError,
-        match=r'footings.csv column "widht": unknown column; expected did you mean "width"',
+        match=r'footings.csv column "widht": unknown column; did you mean "width"',
     ):
         parse_footings_csv("id,x,y,width,widht,depth,dead_load\nA,0,0,2,2,1,500\n")
 

@@ -127,8 +127,8 @@ def parse_boreholes(
             if name not in order:
                 raise InputError(
                     table.where(row, "stratum"),
-                    f'unknown stratum "{name}"',
-                    suggest(name, order) or f"one of the [[strata]] names: {', '.join(order)}",
+                    f'unknown stratum "{name}"' + suggest(name, order),
+                    f"one of the [[strata]] names: {', '.join(order)}",
                 )
             top = table.quantity(row, "top", "length")
             bottom = table.quantity(row, "bottom", "length")

@@ -75,17 +75,18 @@ TABLES: dict[str, tuple[str, ...]] = {
     ),
 }
 
-#: numeric [analysis] keys: key → (AnalysisSettings field, dimension, lowest, highest)
-ANALYSIS_NUMBERS: dict[str, tuple[str, str, float, float]] = {
-    "design_life": ("design_life", "time", 0.0, math.inf),
-    "influence_fraction": ("influence_fraction", "dimensionless", 0.0, 1.0),
-    "max_depth_widths": ("max_depth_widths", "dimensionless", 0.0, math.inf),
-    "sublayer_fraction": ("sublayer_fraction", "dimensionless", 0.0, 1.0),
-    "time_factor_r3": ("bb_r3", "dimensionless", -1e-300, math.inf),
-    "time_factor_r": ("bb_r", "dimensionless", -1e-300, math.inf),
-    "map_spacing": ("map_spacing", "length", -1e-300, math.inf),
-    "map_margin": ("map_margin", "length", -1e-300, math.inf),
-    "stress_tolerance": ("stress_tolerance", "dimensionless", -1e-300, 1.0),
+#: numeric [analysis] keys and their ranges (all values must be ≥ 0)
+ANALYSIS_NUMBERS: dict[str, tuple[str, str, bool, float]] = {
+    # key: (field, dimension, zero allowed?, highest allowed)
+    "design_life": ("design_life", "time", False, math.inf),
+    "influence_fraction": ("influence_fraction", "dimensionless", False, 1.0),
+    "max_depth_widths": ("max_depth_widths", "dimensionless", False, math.inf),
+    "sublayer_fraction": ("sublayer_fraction", "dimensionless", False, 1.0),
+    "time_factor_r3": ("bb_r3", "dimensionless", True, math.inf),
+    "time_factor_r": ("bb_r", "dimensionless", True, math.inf),
+    "map_spacing": ("map_spacing", "length", True, math.inf),
+    "map_margin": ("map_margin", "length", True, math.inf),
+    "stress_tolerance": ("stress_tolerance", "dimensionless", True, 1.0),
 }
 
 
@@ -107,8 +108,8 @@ def parse_toml(text: str, source: str = SITE_FILE) -> dict:
         if name not in TABLES:
             raise InputError(
                 f"{source}, [{name}]",
-                "unknown table or key at the top level",
-                suggest(name, TABLES) or f"one of the tables {', '.join(TABLES)}",
+                "unknown table or key at the top level" + suggest(name, TABLES),
+                f"one of the tables {', '.join(TABLES)}",
             )
         if name == "strata":
             continue
@@ -120,8 +121,8 @@ def parse_toml(text: str, source: str = SITE_FILE) -> dict:
             if key not in TABLES[name]:
                 raise InputError(
                     f"{source} [{name}], key {key!r}",
-                    "unknown key",
-                    suggest(key, TABLES[name]) or f"one of {', '.join(TABLES[name])}",
+                    "unknown key" + suggest(key, TABLES[name]),
+                    f"one of {', '.join(TABLES[name])}",
                 )
     return data
 
@@ -143,12 +144,12 @@ def parse_analysis(table: dict, where: str = f"{SITE_FILE} [analysis]") -> Analy
     ):
         if key in table:
             kw[key] = cls.parse(table[key], f"{where}, key {key!r}")
-    for key, (field, dim, lo, hi) in ANALYSIS_NUMBERS.items():
+    for key, (field, dim, zero_ok, hi) in ANALYSIS_NUMBERS.items():
         if key in table:
             kwhere = f"{where}, key {key!r}"
             v = units.parse(table[key], dim, kwhere)
-            if not (lo < v <= hi):
-                low = "> 0" if lo == 0.0 else "≥ 0"
+            if not ((v >= 0 if zero_ok else v > 0) and v <= hi):
+                low = "≥ 0" if zero_ok else "> 0"
                 raise InputError(
                     kwhere,
                     f"{v:g} is out of range",
@@ -269,8 +270,8 @@ def parse_pairs(data, footing_ids, source: str = "pairs.csv") -> tuple[tuple[str
             if fid not in ids:
                 raise InputError(
                     table.where(row, col),
-                    f'unknown footing "{fid}"',
-                    suggest(fid, ids) or "the id of a footing of the plan",
+                    f'unknown footing "{fid}"' + suggest(fid, ids),
+                    "the id of a footing of the plan",
                 )
         if a == b:
             raise InputError(
@@ -299,8 +300,8 @@ def parse_structure_lines(
         if fid not in ids:
             raise InputError(
                 table.where(row, "footing"),
-                f'unknown footing "{fid}"',
-                suggest(fid, ids) or "the id of a footing of the plan",
+                f'unknown footing "{fid}"' + suggest(fid, ids),
+                "the id of a footing of the plan",
             )
         lines.setdefault(name, []).append(fid)
     for name, members in lines.items():

@@ -133,8 +133,8 @@ def parse_stratum(table: dict, where: str) -> Stratum:
         if key not in QUANTITY_KEYS and key not in OTHER_KEYS:
             raise InputError(
                 f"{where}, key {key!r}",
-                "unknown key",
-                suggest(key, ALL_KEYS) or f"one of {', '.join(ALL_KEYS)}",
+                "unknown key" + suggest(key, ALL_KEYS),
+                f"one of {', '.join(ALL_KEYS)}",
             )
     if "name" not in table or not str(table["name"]).strip():
         raise InputError(where, 'the key "name" is missing', 'a name such as name = "dense sand"')

@@ -66,9 +66,9 @@ def normalise_name(text: str) -> str:
 
 
 def suggest(name: str, known) -> str:
-    """``'; did you mean "x"?'``-style hint for an unknown name, or an empty string."""
+    """``'; did you mean "x"?'`` for an unknown name close to a known one, else ``""``."""
     match = difflib.get_close_matches(name, list(known), n=1, cutoff=0.6)
-    return f'did you mean "{match[0]}"?' if match else ""
+    return f'; did you mean "{match[0]}"?' if match else ""
 
 
 @dataclass(frozen=True)
@@ -152,11 +152,12 @@ class Table:
                     name, list(known), n=1, cutoff=0.8 if not strict else 0.6
                 )
                 if strict or close:
-                    hint = f'did you mean "{close[0]}"?' if close else ""
+                    hint = f'; did you mean "{close[0]}"?' if close else ""
+                    names = [k for k, v in known.items() if v != "ignored"]
                     raise InputError(
                         self.where(column=name),
-                        "unknown column",
-                        hint or f"one of {', '.join(known)}",
+                        "unknown column" + hint,
+                        f"one of {', '.join(names)}",
                     )
                 continue
             unit = self.header_units.get(name)
