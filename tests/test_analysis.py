@@ -185,9 +185,9 @@ def test_group_settles_more_than_one_footing_alone_over_clay():
     single = [pad("C", 0, 0, 2.0, depth=1.0, load=600.0)]
     group = [pad(f"P{i}{j}", 5.0 * i, 5.0 * j, 2.0, depth=1.0, load=600.0)
              for i in (-1, 0, 1) for j in (-1, 0, 1)]
-    kw = dict(water=1.0, design_life=50.0)
-    r1 = analyse(uniform_site(single, [cl], [40.0], **kw), with_map=False)
-    rg = analyse(uniform_site(group, [cl], [40.0], **kw), with_map=False)
+    kw = dict(water=1.0, design_life=50.0, influence_fraction=0.0)  # to the rock: same depth for both
+    r1 = analyse(uniform_site(single, [cl, ROCK], [30.0, 5.0], **kw), with_map=False)
+    rg = analyse(uniform_site(group, [cl, ROCK], [30.0, 5.0], **kw), with_map=False)
     centre = [f.id for f in group].index("P00")
     assert rg.total[centre, -1] > 1.05 * r1.total[0, -1]  # about 10 % more at 5 m centres
     assert rg.own[centre, -1] == pytest.approx(r1.own[0, -1], rel=1e-9)
