@@ -621,11 +621,19 @@ def check_movements(
     footings = tuple(footings)
     n_f = len(footings)
     times = np.asarray(times, dtype=float)
-    total = np.asarray(total, dtype=float).reshape(n_f, len(times))
+    total = np.asarray(total, dtype=float)
     point_xy = np.asarray(point_xy, dtype=float)
     point_total = np.asarray(point_total, dtype=float)
-    if point_xy.shape[0] != n_f or point_total.shape[:2] != point_xy.shape[:2]:
-        raise ValueError("check_movements: point arrays do not match the footings")
+    n_t = len(times)
+    if total.shape != (n_f, n_t):
+        raise ValueError(f"check_movements: total is {total.shape}, expected {(n_f, n_t)}")
+    if (
+        point_xy.ndim != 3
+        or point_xy.shape[0] != n_f
+        or point_xy.shape[2] != 2
+        or point_total.shape != point_xy.shape[:2] + (n_t,)
+    ):
+        raise ValueError("check_movements: point arrays do not match the footings and times")
     cset: CriteriaSet = get_criteria(settings.criteria, settings.overrides)
     k = design_life_index
     t_after = float(settings.checked_after)

@@ -14,7 +14,6 @@ Sources of the check values:
 
 from __future__ import annotations
 
-import itertools
 import math
 
 import numpy as np
@@ -668,3 +667,50 @@ def test_overrides_reach_the_pairs():
     p = check_movements(footings, times, total, pxy, pt, cfg).pairs
     assert p.passed.all()  # 1/167 ≤ 1/100
     assert set(p.limit_source) == {"project override"}
+
+
+def test_footing_order_does_not_change_the_checks():
+    footings = column_grid()
+    times, total, pxy, pt = plan_arrays(footings, soft_corner)
+    ref = check_movements(footings, times, total, pxy, pt, CheckSettings())
+    perm = np.random.default_rng(3).permutation(len(footings))
+    got = check_movements(
+        [footings[i] for i in perm], times, total[perm], pxy[perm], pt[perm], CheckSettings()
+    )
+
+    def by_ids(checks, fs):
+        p = checks.pairs
+        return {
+            tuple(sorted((fs[a].id, fs[b].id))): (round(u, 12), ok, lim)
+            for a, b, u, ok, lim in zip(p.a, p.b, p.utilisation, p.passed, p.limit)
+        }
+
+    assert by_ids(got, [footings[i] for i in perm]) == by_ids(ref, footings)
+    assert got.building_tilt == pytest.approx(ref.building_tilt, rel=1e-12)
+    assert [got.footing_reasons[list(perm).index(i)] for i in range(len(perm))] == list(
+        ref.footing_reasons
+    )
+
+
+def test_footing_tilt_stacked_and_nan():
+    f = pad("F1", 0.0, 0.0, width=2.0, length=2.0)
+    pts = np.stack([characteristic_points(f)] * 3)  # 3 footings, 4 points each
+    s = np.array([[0.01] * 4, [0.0, 0.0, 0.002, 0.002], [0.01, np.nan, 0.01, 0.01]])
+    tilt, d = footing_tilt(pts, s)
+    assert tilt.shape == (3,)
+    assert tilt[0] == 0.0
+    # points at x = −0.74, −0.74, +0.74, +0.74 (long axis east): 2 mm over 1.48 m, east
+    assert tilt[1] == pytest.approx(math.atan(0.002 / 1.48)) and d[1] == pytest.approx(0.0)
+    assert np.isnan(tilt[2]) and np.isnan(d[2])
+
+
+def test_one_footing_and_bad_shapes():
+    f = [pad("A", 0.0, 0.0)]
+    times, total, pxy, pt = plan_arrays(f, lambda x, y, t: 0.06 + 0 * x)
+    checks = check_movements(f, times, total, pxy, pt, CheckSettings())
+    assert len(checks.pairs.a) == 0 and checks.building_tilt == 0.0
+    assert checks.footing_reasons == ("total 60 mm > 50 mm (EN 1997-1:2004 Annex H)",)
+    with pytest.raises(ValueError, match="total is"):
+        check_movements(f, times, total.T[:, :0], pxy, pt, CheckSettings())
+    with pytest.raises(ValueError, match="point arrays"):
+        check_movements(f, times, total, pxy[..., :1], pt, CheckSettings())
