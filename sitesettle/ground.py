@@ -349,21 +349,29 @@ class Ground:
             return None
         return self.soundings[int(self._sounding_tree.query([x, y])[1])]
 
+    def _nearest_sounding_index(self, xb: np.ndarray, yb: np.ndarray) -> np.ndarray:
+        """Index of the nearest sounding per point; -1 where x or y is not finite."""
+        q = np.column_stack([xb.ravel(), yb.ravel()])
+        finite = np.all(np.isfinite(q), axis=1)
+        k = np.full(len(q), -1)
+        if finite.any():
+            k[finite] = self._sounding_tree.query(q[finite])[1]
+        return k.reshape(xb.shape)
+
     def sounding_end(self, x, y) -> np.ndarray:
         """Depth of the last reading of the nearest sounding [m] (NaN: no soundings)."""
         xb, yb = np.broadcast_arrays(np.asarray(x, float), np.asarray(y, float))
         if self._sounding_tree is None:
             return np.full(xb.shape, np.nan)
         ends = np.array([s.depth[-1] for s in self.soundings])
-        return ends[
-            self._sounding_tree.query(np.column_stack([xb.ravel(), yb.ravel()]))[1]
-        ].reshape(xb.shape)
+        k = self._nearest_sounding_index(xb, yb)
+        return np.where(k >= 0, ends[np.maximum(k, 0)], np.nan)
 
     def cone_resistance(self, x, y, z) -> np.ndarray:
         """Cone resistance qc [kPa] at (x, y, z) from the nearest sounding, broadcast.
 
         Linear in depth between readings; the first reading is held above it and
-        the last below it. NaN where the site has no soundings or z is NaN.
+        the last below it. NaN where the site has no soundings or x, y or z is NaN.
         """
         xb, yb, zb = np.broadcast_arrays(
             np.asarray(x, float), np.asarray(y, float), np.asarray(z, float)
@@ -371,8 +379,7 @@ class Ground:
         out = np.full(zb.shape, np.nan)
         if self._sounding_tree is None:
             return out
-        _, k = self._sounding_tree.query(np.column_stack([xb.ravel(), yb.ravel()]))
-        k = np.asarray(k).reshape(zb.shape)
+        k = self._nearest_sounding_index(xb, yb)
         for i, s in enumerate(self.soundings):
             mask = k == i
             if mask.any():

@@ -4,6 +4,8 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import assume, given, settings
+from hypothesis import strategies as st
 
 from sitesettle.ground import Ground, PlanInterpolator, cone_resistance_at, stratigraphy_at
 from sitesettle.options import Behaviour
@@ -239,3 +241,41 @@ def test_no_soundings_gives_nan():
 
 def test_stratigraphy_at_shortcut():
     np.testing.assert_allclose(stratigraphy_at(THREE, 0, 0).tops, [0.0, 2.0, 6.0])
+
+
+def test_cone_resistance_nan_position_gives_nan():
+    c1 = Sounding("C1", 0, 0, np.array([0.5, 1.0]), np.array([2000.0, 4000.0]))
+    g = Ground(site(bh("A", 0, 0, 2, 6), soundings=(c1,)))
+    out = g.cone_resistance([np.nan, 0.0], 0.0, 1.0)
+    assert np.isnan(out[0]) and out[1] == 4000.0
+    assert np.isnan(g.sounding_end(np.nan, 0.0))
+
+
+# --------------------------------------------------------------------------- laws
+@settings(max_examples=30, deadline=None)
+@given(
+    dx=st.floats(-1e4, 1e4),
+    dy=st.floats(-1e4, 1e4),
+    px=st.floats(-5, 15),
+    py=st.floats(-5, 15),
+)
+def test_translating_the_site_changes_nothing(dx, dy, px, py):
+    def moved(b):
+        return Borehole(b.id, b.x + dx, b.y + dy, b.intervals, b.water_depth)
+
+    a = Ground(THREE).column(px, py)
+    b = Ground(site(*[moved(h) for h in THREE.boreholes])).column(px + dx, py + dy)
+    # coordinates up to 1e4 m lose ~1e-12 relative in the barycentric solve → atol 1e-8 m
+    np.testing.assert_allclose(a.tops, b.tops, atol=1e-8)
+
+
+@settings(max_examples=20, deadline=None)
+@given(order=st.permutations([0, 1, 2]), px=st.floats(-5, 15), py=st.floats(-5, 15))
+def test_borehole_order_changes_nothing(order, px, py):
+    # outside the hull the nearest borehole is used: on a tie (equal distances) the
+    # choice is arbitrary, so ties are left out
+    d = sorted(math.hypot(px - b.x, py - b.y) for b in THREE.boreholes)
+    assume(d[1] - d[0] > 1e-6)
+    a = Ground(THREE).tops(px, py)
+    b = Ground(site(*[THREE.boreholes[i] for i in order])).tops(px, py)
+    np.testing.assert_allclose(a, b, atol=1e-12)
