@@ -49,8 +49,11 @@ def _sector_candidates(xy: np.ndarray, tol: float) -> np.ndarray:
 
     Every edge ab of the relative neighbourhood graph is such a pair: if c lies in
     the same 60° sector of a as b and d(a,c) < d(a,b), then the angle bac ≤ 60° gives
-    d(b,c)² ≤ d(a,b)² − d(a,c)(d(a,b) − d(a,c)) < d(a,b)², so c blocks ab. Points at
-    the same place as a are returned as candidates too.
+    d(b,c)² ≤ d(a,b)² − d(a,c)(d(a,b) − d(a,c)) < d(a,b)², so c blocks ab. With the
+    tie tolerance the bound still blocks when 4·tol < d(a,c)/d(a,b) < 1 − 4·tol, so
+    points within 4·tol of the nearest in a sector are kept as candidates and points
+    closer than 4·tol·(plan size) to a (the same place) are candidates and do not fill
+    a sector.
     """
     n = len(xy)
     tree = cKDTree(xy)
@@ -64,7 +67,7 @@ def _sector_candidates(xy: np.ndarray, tol: float) -> np.ndarray:
         """Candidates from the neighbour lists (rows) of points a_rows."""
         a = np.repeat(a_rows[:, None], d.shape[1], axis=1)
         other = j != a
-        same_place = other & (d <= tol * scale)
+        same_place = other & (d <= 4.0 * tol * scale)  # see the tie note above
         use = other & ~same_place
         delta = xy[j] - xy[a]
         sector = np.floor((np.arctan2(delta[..., 1], delta[..., 0]) + math.pi) / (math.pi / 3))
