@@ -550,3 +550,59 @@ def test_starter_site_toml_comments_every_key():
                 continue
             line = next(l for l in text.splitlines() if l.startswith(f"{key} ="))
             assert "#" in line, line
+
+
+@pytest.mark.parametrize("crs, unit", [("EPSG:4326", "degree"), ("EPSG:2263", "US survey foot")])
+def test_crs_not_in_metres_is_refused(tmp_path, crs, unit):
+    # EPSG:4326 is latitude/longitude; EPSG:2263 (New York Long Island) is in US survey feet
+    write_project(tmp_path, {"site.toml": SITE.replace('output_units = "us"', f'crs = "{crs}"')})
+    with pytest.raises(
+        InputError, match=rf"key 'crs': the coordinate system .* has its axes in {unit}"
+    ):
+        load_site(tmp_path)
+    gdf = gpd.GeoDataFrame({"id": ["A"], "dead_load": [600.0]}, geometry=[box(0, 0, 2, 2)], crs=crs)
+    gdf.to_file(tmp_path / "plan.gpkg", driver="GPKG")
+    write_project(
+        tmp_path, {"site.toml": SITE.replace('file = "footings.csv"', 'file = "plan.gpkg"')}
+    )
+    with pytest.raises(
+        InputError, match=rf"plan.gpkg: the coordinate system .* has its axes in {unit}"
+    ):
+        load_site(tmp_path)
+
+
+def test_geopackage_layer_and_text_units_in_attributes(tmp_path):
+    gdf = gpd.GeoDataFrame(
+        {"id": ["A", "B"], "depth": ["4 ft", "1.2 m"], "dead_load": ["100 kip", "500"]},
+        geometry=[box(0, 0, 2, 2), box(5, 0, 7, 3)],
+        crs="EPSG:32633",
+    )
+    gdf.to_file(tmp_path / "plan.gpkg", layer="pads", driver="GPKG")
+    gdf.iloc[:1].to_file(tmp_path / "plan.gpkg", layer="other", driver="GPKG")
+    site = SITE.replace('file = "footings.csv"', 'file = "plan.gpkg"\nlayer = "pads"')
+    write_project(tmp_path, {"site.toml": site})
+    a, b = load_site(tmp_path).footings
+    assert a.depth == pytest.approx(4 * 0.3048) and b.depth == 1.2  # NIST SP 811 foot
+    assert a.dead_load == pytest.approx(100 * 4.4482216152605)  # 100 kip in kN
+
+
+def test_boreholes_from_a_frame_count_rows_as_a_sheet():
+    import pandas as pd
+
+    frame = pd.DataFrame(
+        {
+            "borehole": ["B1", "B1"],
+            "x": [0, 0],
+            "y": [0, 0],
+            "stratum": ["fill", "silt"],
+            "top": [0, 1],
+            "bottom": [1, 2],
+        }
+    )
+    with pytest.raises(InputError, match=r'boreholes.csv row 3, column "stratum": unknown stratum'):
+        parse_boreholes(frame, STRATA)
+
+
+def test_no_water_table_by_name(tmp_path):
+    write_project(tmp_path, {"site.toml": SITE.replace('depth = "2 m"', 'depth = "none"')})
+    assert load_site(tmp_path).water_depth == float("inf")

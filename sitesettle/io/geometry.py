@@ -183,6 +183,25 @@ def crs_text(crs) -> str | None:
     return f"EPSG:{epsg}" if epsg is not None else crs.to_wkt()
 
 
+def check_metric_crs(crs: str, where: str) -> None:
+    """Raise InputError unless ``crs`` is a projected system with axes in metres.
+
+    sitesettle computes in metres; plan coordinates in degrees or feet would be
+    taken as metres, so such a file must be reprojected first.
+    """
+    from pyproj import CRS
+
+    c = CRS.from_user_input(crs)
+    units = {a.unit_name for a in c.axis_info}
+    if c.is_geographic or not c.is_projected or units != {"metre"}:
+        shown = " and ".join(sorted(units)) or "no unit"
+        raise InputError(
+            where,
+            f"the coordinate system {crs_text(crs)[:40]} has its axes in {shown}",
+            "a projected system in metres (reproject the file, e.g. to the local UTM zone)",
+        )
+
+
 def same_crs(a: str, b: str) -> bool:
     """True if two CRS descriptions name the same system."""
     from pyproj import CRS

@@ -371,6 +371,9 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
                 'a code such as "EPSG:32633" or a WKT text',
             ) from None
 
+    if crs is not None:
+        geometry.check_metric_crs(crs, f"{source} [project], key 'crs'")
+
     water = math.inf
     gw = config.get("groundwater", {})
     if "depth" in gw and str(gw["depth"]).strip().lower() not in ("none", ""):
@@ -392,6 +395,7 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
         fpath, _footing_defaults(ftable, f"{source} [footings]"), layer=ftable.get("layer")
     )
     if file_crs is not None:
+        geometry.check_metric_crs(file_crs, fpath.name)
         if crs is not None and not geometry.same_crs(crs, file_crs):
             raise InputError(
                 f"{source} [project], key 'crs'",
