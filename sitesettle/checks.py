@@ -640,6 +640,12 @@ def check_movements(
     cset: CriteriaSet = get_criteria(settings.criteria, settings.overrides)
     k = design_life_index
     t_after = float(settings.checked_after)
+    if n_t and t_after > times[k]:
+        raise InputError(
+            "[checks] checked_after",
+            f"{t_after:g} yr is after the design life ({times[k]:g} yr)",
+            "a time before the design life",
+        )
 
     moved = movement_after(times, total, t_after)[:, k]  # (n_f,)
     point_moved = movement_after(times, point_total, t_after)[..., k]  # (n_f, n_p)

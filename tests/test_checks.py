@@ -651,6 +651,7 @@ def test_nan_settlement_fails_its_pairs_and_footing():
         (CheckSettings(pairs="nearest"), r'\[checks\] pairs.*"auto"'),
         (CheckSettings(criteria="bs8004"), "unknown criteria set"),
         (CheckSettings(overrides={"rotation": 0.1}), "unknown measure"),
+        (CheckSettings(checked_after=60.0), "checked_after.*after the design life"),
     ],
 )
 def test_bad_settings_raise_input_errors(cfg, match):
