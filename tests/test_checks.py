@@ -144,6 +144,15 @@ def test_rectangular_grid(dx, dy):
     assert as_set(neighbour_pairs(grid(5, 4, dx, dy))) == grid_line_pairs(5, 4)
 
 
+@pytest.mark.parametrize("seed", range(5))
+def test_setting_out_errors_do_not_change_the_grid_pairs(seed):
+    # columns off their grid points by up to 0.25 m on a 6 m × 7.5 m grid: the pairs are
+    # still exactly the grid-line ones (a bay corner is 6 or 7.5 m from the ends of the
+    # 9.6 m diagonal, so it keeps blocking it unless it moves about 2 m)
+    xy = grid(6, 5, 6.0, 7.5) + np.random.default_rng(seed).uniform(-0.25, 0.25, (30, 2))
+    assert as_set(neighbour_pairs(xy)) == grid_line_pairs(6, 5)
+
+
 def test_grid_with_a_missing_column():
     nx, ny = 5, 4
     xy = grid(nx, ny)
