@@ -348,8 +348,9 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
     nu = _parameter(columns, seg, "poisson", 0.3)
     h = seg.thickness
 
-    # influence depth per point: first sublayer where Δσz < fraction·σ'v0
-    below = sz_full < st.influence_fraction * np.maximum(sig0, 1e-9)
+    # influence depth per point: the bottom of the deepest sublayer where Δσz ≥ fraction·σ'v0
+    # (below it the stress increase stays under that fraction)
+    strong = sz_full >= st.influence_fraction * np.maximum(sig0, 1e-9)
     active = np.ones(len(seg.top), dtype=bool)
     influence_depth = np.zeros(len(columns))
     for c in range(len(columns)):
@@ -357,9 +358,8 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
         if len(m) == 0:
             influence_depth[c] = site.footings[owners[c]].depth
             continue
-        cut = np.flatnonzero(below[m])
-        n_keep = cut[0] if len(cut) else len(m)
-        n_keep = max(n_keep, 1)
+        keep = np.flatnonzero(strong[m])
+        n_keep = max(keep[-1] + 1 if len(keep) else 1, 1)
         active[m[n_keep:]] = False
         influence_depth[c] = seg.bottom[m[n_keep - 1]]
 
@@ -671,8 +671,9 @@ def settlement_map(site: Site, ground: Ground, results: Results, loads_full: str
     axisymmetric factor — or, for SPT-only strata, the mean equivalent modulus of
     the footings' Burland & Burbidge results) and e–log σ' consolidation with
     Terzaghi time on cohesive strata; from the shallowest footing base down to the
-    deepest influence depth of the footings. Grid points inside a footing take the
-    footing's own computed settlement.
+    deepest influence depth of the footings, and at each grid point only as deep as
+    the footings' rule allows (Δσz ≥ ``influence_fraction``·σ'v0). Grid points inside a
+    footing take the footing's own computed settlement.
     """
     from sitesettle.mapping import default_grid
 
@@ -717,10 +718,15 @@ def settlement_map(site: Site, ground: Ground, results: Results, loads_full: str
         k = np.asarray(col.index_at(mid), dtype=int)
         h = np.diff(e)
         sig0 = col.effective_stress(mid)
+        # the footings' influence-depth rule: down to the deepest sublayer where Δσz ≥ fraction·σ'v0
+        strong = np.flatnonzero(s_z >= st.influence_fraction * np.maximum(sig0, 1e-9))
+        live = np.arange(n) <= (strong[-1] if len(strong) else -1)
         total = 0.0
         for j in np.unique(k):
             s = col.strata[j]
-            m = k == j
+            m = (k == j) & live
+            if not np.any(m):
+                continue
             if s.behaviour == Behaviour.GRANULAR:
                 if s.youngs_modulus is not None:
                     E = np.full(m.sum(), s.youngs_modulus)
