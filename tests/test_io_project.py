@@ -113,14 +113,14 @@ def test_analysis_and_checks_keys():
     assert a.end_of_primary == EndOfPrimary.GIVEN and a.cohesive_immediate is False
     c = parse_checks(
         {
-            "criteria": "Bjerrum",
-            "overrides": {"total_settlement": "1 in", "angular_distortion": "1/500"},
+            "criteria": "Bjerrum No-Cracking",
+            "overrides": {"total": "1 in", "angular_distortion": "1/500"},
             "checked_after": "1 month",
             "pairs": "listed",
         }
     )
-    assert c.criteria == "bjerrum" and c.pairs == "listed"
-    assert c.overrides == pytest.approx({"total_settlement": 0.0254, "angular_distortion": 0.002})
+    assert c.criteria == "bjerrum_no_cracking" and c.pairs == "listed"
+    assert c.overrides == pytest.approx({"total": 0.0254, "angular_distortion": 0.002})
     assert c.checked_after == pytest.approx(1 / 12)
 
 
@@ -235,6 +235,19 @@ def test_unknown_analysis_key_suggests_the_nearest():
         match=r"\[analysis\], key 'design_lfe': unknown key; did you mean \"design_life\"",
     ):
         parse_toml('[analysis]\ndesign_lfe = "50 yr"\n')
+
+
+def test_unknown_criteria_set_and_measure():
+    with pytest.raises(
+        InputError, match=r"key 'criteria': unknown criteria set \"eurocod7\"; did you mean"
+    ):
+        parse_checks({"criteria": "eurocod7"})
+    with pytest.raises(
+        InputError, match=r"overrides key 'totl': unknown measure; did you mean \"total\""
+    ):
+        parse_checks({"overrides": {"totl": "25 mm"}})
+    with pytest.raises(InputError, match=r"overrides key 'total': \"1/500\" .*expected a length"):
+        parse_checks({"overrides": {"total": "1/500"}})
 
 
 def test_wrong_dimension_in_a_key():

@@ -74,18 +74,36 @@ def test_nan_and_infinity_are_refused(value):
 
 
 @pytest.mark.parametrize(
-    "text, expected",
+    "text, unit, expected",
     [
-        ("1/500", 0.002),
-        ("25 mm", 0.025),
-        ("0.002", 0.002),
-        ("0.2 %", 0.002),
-        # an angle limit becomes its slope: tan(1°) = 0.017455 (trigonometry)
-        ("1 deg", math.tan(math.radians(1.0))),
+        ("1/500", "-", 0.002),
+        ("25 mm", "m", 0.025),
+        ("1 in", "m", 0.0254),  # 1 in = 25.4 mm exactly (NIST SP 811)
+        (0.03, "m", 0.03),
+        ("0.002", "-", 0.002),
+        ("0.2 %", "-", 0.002),
+        # an angle limit on a ratio becomes its slope: tan(1°) = 0.017455 (trigonometry)
+        ("1 deg", "-", math.tan(math.radians(1.0))),
+        # tilt is in radians: 1° = π/180 rad; a ratio is taken as radians (small angle)
+        ("1 deg", "rad", math.pi / 180),
+        ("1/250", "rad", 0.004),
     ],
 )
-def test_limits_are_lengths_or_ratios(text, expected):
-    assert parse_limit(text, "x") == pytest.approx(expected, rel=EXACT)
+def test_limits_in_the_unit_of_their_measure(text, unit, expected):
+    assert parse_limit(text, "x", unit) == pytest.approx(expected, rel=EXACT)
+
+
+@pytest.mark.parametrize(
+    "text, unit, match",
+    [
+        ("1/500", "m", "expected a length"),
+        ("25 mm", "-", "is a length"),
+        ("-1/500", "-", "not positive"),
+    ],
+)
+def test_limits_of_the_wrong_kind(text, unit, match):
+    with pytest.raises(InputError, match=match):
+        parse_limit(text, "x", unit)
 
 
 def test_suspicious_modulus_warns_but_loads():

@@ -14,6 +14,7 @@ import tomllib
 import warnings
 
 from sitesettle import units
+from sitesettle.criteria import CRITERIA, MEASURES
 from sitesettle.errors import InputError, InputWarning
 from sitesettle.io import geometry
 from sitesettle.io.footings import FootingDefaults, read_footings
@@ -180,21 +181,33 @@ def parse_analysis(table: dict, where: str = f"{SITE_FILE} [analysis]") -> Analy
     return settings
 
 
-def parse_limit(value: object, where: str) -> float:
-    """A limit value: a length [m], a ratio (``"1/500"``, ``0.002``, ``"0.2 %"``) or an angle.
+def parse_limit(value: object, where: str, unit: str = "-") -> float:
+    """A limit value in the core unit of its measure.
 
-    An angle is turned into its tangent (a slope), so tilt and angular
-    distortion limits are plain ratios.
+    Parameters
+    ----------
+    value : str or float
+        ``"25 mm"``, ``"1 in"``, ``0.025`` for a settlement; ``"1/500"``,
+        ``0.002``, ``"0.2 %"`` or an angle (``"0.1 deg"``) for a ratio.
+    where : str
+        Place for messages.
+    unit : str
+        The measure's core unit (:data:`sitesettle.criteria.MEASURES`): ``"m"``
+        for settlements, ``"-"`` for ratios, ``"rad"`` for tilt. An angle given
+        for a ratio becomes its tangent (a slope); a ratio given for tilt is
+        taken as radians (small angles).
 
     Examples
     --------
     >>> parse_limit("1/500", "x")
     0.002
-    >>> parse_limit("25 mm", "x")
+    >>> parse_limit("25 mm", "x", "m")
     0.025
     """
     text = str(value).strip()
-    if "/" in text and not any(c.isalpha() for c in text):
+    if unit == "m":
+        out = units.parse(value, "length", where)
+    elif "/" in text and not any(c.isalpha() for c in text):
         num, _, den = text.partition("/")
         try:
             out = float(num) / float(den)
@@ -202,24 +215,14 @@ def parse_limit(value: object, where: str) -> float:
             raise InputError(
                 where, f'cannot read "{value}" as a ratio', 'a ratio such as "1/500"'
             ) from None
-        if not (math.isfinite(out) and out > 0):
-            raise InputError(where, f'"{value}" is not a positive ratio', 'a ratio such as "1/500"')
-        return out
-    angle = re.search(r"(deg|degrees?|rad|radians?|°)\s*$", text.lower()) is not None
-    for dim in ("angle",) if angle else ("length", "dimensionless"):
-        try:
-            out = units.parse(value, dim, where)
-        except InputError:
-            continue
-        out = math.tan(math.radians(out)) if dim == "angle" else out
-        if not out > 0:
-            raise InputError(where, f'the limit "{value}" is not positive', "a limit > 0")
-        return out
-    raise InputError(
-        where,
-        f'cannot read "{value}" as a limit',
-        'a settlement such as "25 mm" or a ratio such as "1/500"',
-    )
+    elif re.search(r"(deg|degrees?|rad|radians?)\s*$", text.lower()):
+        out = math.radians(units.parse(value, "angle", where))
+        out = out if unit == "rad" else math.tan(out)
+    else:
+        out = units.parse(value, "dimensionless", where)
+    if not (math.isfinite(out) and out > 0):
+        raise InputError(where, f'the limit "{value}" is not positive', "a limit > 0")
+    return out
 
 
 def parse_checks(table: dict, where: str = f"{SITE_FILE} [checks]") -> CheckSettings:
@@ -231,6 +234,12 @@ def parse_checks(table: dict, where: str = f"{SITE_FILE} [checks]") -> CheckSett
             raise InputError(
                 f"{where}, key 'criteria'", "the name is empty", "the name of a criteria set"
             )
+        if name not in CRITERIA:
+            raise InputError(
+                f"{where}, key 'criteria'",
+                f'unknown criteria set "{table["criteria"]}"' + suggest(name, CRITERIA),
+                f"one of {', '.join(CRITERIA)}",
+            )
         kw["criteria"] = name
     if "overrides" in table:
         ov = table["overrides"]
@@ -238,10 +247,18 @@ def parse_checks(table: dict, where: str = f"{SITE_FILE} [checks]") -> CheckSett
             raise InputError(
                 f"{where}, key 'overrides'",
                 "not a table",
-                'overrides = { total_settlement = "40 mm", angular_distortion = "1/300" }',
+                'overrides = { total = "40 mm", angular_distortion = "1/300" }',
             )
+        for k in ov:
+            if k not in MEASURES:
+                raise InputError(
+                    f"{where}, overrides key {k!r}",
+                    "unknown measure" + suggest(str(k), MEASURES),
+                    f"one of {', '.join(MEASURES)}",
+                )
         kw["overrides"] = {
-            str(k): parse_limit(v, f"{where}, overrides key {k!r}") for k, v in ov.items()
+            str(k): parse_limit(v, f"{where}, overrides key {k!r}", MEASURES[k])
+            for k, v in ov.items()
         }
     if "checked_after" in table:
         t = units.parse(table["checked_after"], "time", f"{where}, key 'checked_after'")
