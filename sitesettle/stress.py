@@ -38,7 +38,9 @@ References
 from __future__ import annotations
 
 import math
+import os
 from collections.abc import Sequence
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -75,7 +77,7 @@ _BIG = 1e100
 
 #: elements (points × loads × quadrature nodes) held at once by the dense loops;
 #: about 8 bytes × 20 temporaries each, so 2e6 keeps a chunk near 300 MB at worst
-_CHUNK_ELEMENTS = 2_000_000
+_CHUNK_ELEMENTS = 1 << 15
 
 
 # ---------------------------------------------------------------------------
@@ -204,18 +206,27 @@ def _rect_terms(half_length, half_width, u, v, w):
     y1, y0 = half_width - v, -half_width - v
     w2 = w * w
     xx1, xx0, yy1, yy0 = x1 * x1 + w2, x0 * x0 + w2, y1 * y1 + w2, y0 * y0 + w2
-    sz = 0.0
-    om = 0.0
+    kk = 0.0
+    re, im = [], []
     for xs, xx, sx in ((x1, xx1, 1.0), (x0, xx0, -1.0)):
         for ys, yy, sy in ((y1, yy1, 1.0), (y0, yy0, -1.0)):
             r3 = np.sqrt(xx + ys * ys)
             xy = xs * ys
-            o = np.arctan2(xy, w * r3)
+            re.append(w * r3)
+            im.append(xy)
             k = xy * w / (r3 + _TINY) * (1.0 / (yy + _TINY) + 1.0 / (xx + _TINY))
-            s = sx * sy
-            om = om + s * o
-            sz = sz + s * (o + k)
-    return sz / _TWO_PI, om
+            kk = kk + (sx * sy) * k
+    # Ω = Σ ± atan2(XY, w R3); each pair difference of two angles in [−π/2, π/2]
+    # lies in [−π, π], so it is one atan2 of the product z1·conj(z2)
+    om = np.arctan2(im[0] * re[1] - re[0] * im[1], re[0] * re[1] + im[0] * im[1]) + np.arctan2(
+        im[3] * re[2] - re[3] * im[2], re[3] * re[2] + im[3] * im[2])
+    sz = (om + kk) / _TWO_PI
+    if np.any(w <= 0):
+        # surface limit: 1 inside, 1/2 on an edge, 1/4 at a corner, 0 outside
+        frac = 0.25 * (np.sign(x1) - np.sign(x0)) * (np.sign(y1) - np.sign(y0))
+        sz = np.where(w > 0, sz, frac)
+        om = np.where(w > 0, om, _TWO_PI * frac)
+    return sz, om
 
 
 def rectangle_stress(pressure, length, width, x, y, z):
@@ -445,7 +456,8 @@ def _circle_terms(radius, r, w):
     """
     a = np.asarray(radius, dtype=float)[..., None]
     r = np.asarray(r, dtype=float)[..., None]
-    w = np.asarray(w, dtype=float)[..., None]
+    w0 = np.asarray(w, dtype=float)[..., None]
+    w = np.where(w0 > 0, w0, 1.0)  # the surface limit is set below
     w2 = w * w
     # inside: θ ∈ [0, π], θ = 0 points away from the centre; two halves so that
     # the panels are graded towards θ = 0 and both sides of θ = π/2
@@ -476,7 +488,7 @@ def _circle_terms(radius, r, w):
     om_out = 2.0 * np.sum((w / (s1 + _TINY) - w / s2) * jac, axis=-1)
     inside = r[..., 0] <= a[..., 0]
     # surface limit (w = 0): 1, 1/2, 0 of q; 2π, π, 0 of Ω
-    wz = w[..., 0] <= 0
+    wz = w0[..., 0] <= 0
     edge = np.where(r[..., 0] < a[..., 0], 1.0, np.where(r[..., 0] == a[..., 0], 0.5, 0.0))
     sz = np.where(wz, edge, np.where(inside, sz_in, sz_out))
     om = np.where(wz, _TWO_PI * edge, np.where(inside, om_in, om_out))
@@ -927,8 +939,8 @@ def own_stress(loads: Loads, points, owner) -> tuple[np.ndarray, np.ndarray]:
     kind = np.where(has, loads.kind[np.maximum(owner, 0)], -1)
     for k, fn in ((RECTANGLE, _rect_pairs), (CIRCLE, _circle_pairs)):
         sel = np.flatnonzero(kind == k)
-        for s0 in range(0, len(sel), _CHUNK_ELEMENTS // 256):
-            ss = sel[s0:s0 + _CHUNK_ELEMENTS // 256]
+        for s0 in range(0, len(sel), _CHUNK_ELEMENTS):
+            ss = sel[s0:s0 + _CHUNK_ELEMENTS]
             sz[ss], tt[ss] = fn(loads, owner[ss], pts[ss, 0], pts[ss, 1], pts[ss, 2])
     sel = np.flatnonzero(kind == POLYGON)
     for j in np.unique(owner[sel]):
@@ -1034,27 +1046,40 @@ class _Tree:
 
     def bounds(self, lo, hi):
         """Per node: truncation bound valid at every point of the box [lo, hi], and
-        whether the node contributes nothing there (all points above its planes)."""
-        # the segment from C to any source point lies in the convex hull of the
-        # cluster, hence in its bounding box: r_min = distance between the boxes
-        gap = np.maximum(np.maximum(lo - self.hi, self.lo - hi), 0.0)
-        rmin = np.sqrt((gap * gap).sum(axis=1))
-        wmax = hi[2] - self.dmin
-        wmin = lo[2] - self.dmax
-        zero = wmax <= 0
-        ok = (wmin > 0) & (rmin > 0) & ~zero
+        whether the node contributes nothing there (all points above its planes).
+
+        Each term of the bound has the form W^a / r^b with W the kernel's vertical
+        distance and r its 3-D distance, at a point of the segment from C to a
+        source. With h the plan gap between the box and the cluster's bounding
+        box, v = z − d_max the vertical gap and Δ = d_max − d_min, one has
+        W ≤ v + Δ and r² ≥ h² + v², and (v + Δ)^a (h² + v²)^(−b/2) is unimodal in
+        v with its maximum at the positive root of (b − a)v² + bΔv − ah² = 0; the
+        sup over the box's depth range is taken at that root clipped to the range.
+        """
+        gap = np.maximum(np.maximum(lo[:2] - self.hi[:, :2], self.lo[:, :2] - hi[:2]), 0.0)
+        h2 = (gap * gap).sum(axis=1)
+        vmin = lo[2] - self.dmax
+        vmax = hi[2] - self.dmax
+        zero = hi[2] <= self.dmin
+        ok = (vmin > 0) & ~zero
+        dl = self.dmax - self.dmin
         e = np.full(self.n, np.inf)
-        r = np.where(ok, rmin, 1.0)
-        wm = np.where(ok, wmax, 0.0)
+
+        def sup(a, b, sel):
+            hh, dd = h2[sel], dl[sel]
+            vs = (-b * dd + np.sqrt((b * dd) ** 2 + 4.0 * (b - a) * a * hh)) / (2.0 * (b - a))
+            v = np.clip(vs, vmin[sel], vmax[sel])
+            return (v + dd) ** a / (hh + v * v) ** (b / 2.0)
+
         for order in (3, 4):
             sel = ok & (self.order == order)
             if not sel.any():
                 continue
             sig, the = _BOUND[order]
-            es = sum(cf * wm[sel] ** (3 - j) * self.delta[sel] ** j * self.M[sel, order - j]
-                     / r[sel] ** (5 + order - j) for j, cf in sig)
-            et = sum(cf * wm[sel] ** (1 - j) * self.delta[sel] ** j * self.M[sel, order - j]
-                     / r[sel] ** (3 + order - j) for j, cf in the)
+            es = sum(cf * sup(3 - j, 5 + order - j, sel) * self.delta[sel] ** j * self.M[sel, order - j]
+                     for j, cf in sig)
+            et = sum(cf * sup(1 - j, 3 + order - j, sel) * self.delta[sel] ** j * self.M[sel, order - j]
+                     for j, cf in the)
             e[sel] = np.maximum(es, et)
         e[zero] = 0.0
         return e, zero
@@ -1127,7 +1152,7 @@ def _blocks(pts, size):
             out.append(ix)
             continue
         p = pts[ix]
-        ax = int(np.argmax(p.max(axis=0) - p.min(axis=0)))
+        ax = int(np.argmax((p.max(axis=0) - p.min(axis=0)) * _BLOCK_AXIS_WEIGHT))
         half = len(ix) // 2
         part = np.argpartition(p[:, ax], half)
         stack.append(ix[part[:half]])
@@ -1138,7 +1163,12 @@ def _blocks(pts, size):
 #: points per block of the treecode (a compromise between Python overhead per
 #: block and the size of the near field a block's bounding box drags in; measured
 #: with benchmarks/stress_bench.py)
-_BLOCK_SIZE = 384
+_BLOCK_SIZE = 768
+#: weights of the x, y, z extents when choosing the axis to split a block: the
+#: bounds grow with the block's depth range (w_max³), so depth is split sooner
+_BLOCK_AXIS_WEIGHT = np.array([1.0, 1.0, 1.0])
+#: worker threads of the treecode (blocks in parallel)
+_THREADS = max(1, min(2, os.cpu_count() or 1))
 #: ratios tried for the per-block acceptance threshold τ (multiples of ε / F_total)
 _TAU_STEPS = tuple(2.0**k for k in range(16, -1, -1))
 
@@ -1188,10 +1218,11 @@ def stress_sums(loads: Loads, points, *, tolerance: float = 1e-3) -> tuple[np.nd
     M_k = Σ|q|∫|s − C|^k dA (bounded from each load's area, polar moment μ2,
     reach a: μ1 ≤ √(Aμ2), μ3 ≤ aμ2, μ4 ≤ a²μ2, and the binomial expansion of
     |s − C| ≤ |s − c_i| + |c_i − C|), δ the largest depth offset of the
-    cluster's planes from C, w_max the largest vertical distance and r_min the
-    smallest distance between the block's box and the cluster's bounding box
-    (which holds every segment from C to a source point, C being inside the
-    cluster's convex hull).
+    cluster's planes from C, and each w^a/r^b replaced by its supremum over the
+    segments from C to the sources and the points of a block (``_Tree.bounds``):
+    every such segment lies in the cluster's bounding box (C is inside the
+    cluster's convex hull), which bounds r from below by the plan gap and the
+    vertical gap between that box and the block's box.
     Order n = 3 for clusters and polygons; n = 4 for a single rectangle or
     circle, whose third moments vanish by central symmetry. The formula of a
     load is exact only below its plane, so a cluster whose deepest plane is not
@@ -1227,19 +1258,20 @@ def stress_sums(loads: Loads, points, *, tolerance: float = 1e-3) -> tuple[np.nd
     tree = _Tree(loads, active)
     tau0 = eps / tree.F[0]
     rs, rt = np.zeros(len(p)), np.zeros(len(p))
-    for blk in _blocks(p, _BLOCK_SIZE):
+
+    def run(blk):
         bp = p[blk]
         lo, hi = bp.min(axis=0), bp.max(axis=0)
         e, zero = tree.bounds(lo, hi)
         if zero[0]:
-            continue
+            return
         for step in _TAU_STEPS:
             acc, exact = tree.frontier(e, tau0 * step)
             if e[acc].sum() <= eps:
                 break
         far = np.flatnonzero(acc & ~zero)
         if len(far):
-            fc = max(1, _CHUNK_ELEMENTS // (8 * len(blk)))
+            fc = max(1, _CHUNK_ELEMENTS // len(blk))
             for f0 in range(0, len(far), fc):
                 a, b = tree.far(far[f0:f0 + fc], bp[:, 0], bp[:, 1], bp[:, 2])
                 rs[blk] += a
@@ -1249,6 +1281,11 @@ def stress_sums(loads: Loads, points, *, tolerance: float = 1e-3) -> tuple[np.nd
             a, b = _exact_dense(loads, ex, bp[:, 0], bp[:, 1], bp[:, 2])
             rs[blk] += a
             rt[blk] += b
+
+    # blocks are independent and write disjoint entries; numpy releases the GIL
+    # inside its loops, so two threads use both cores of a small machine
+    with ThreadPoolExecutor(max_workers=_THREADS) as pool:
+        list(pool.map(run, _blocks(p, _BLOCK_SIZE)))
     sz[good], tt[good] = rs, rt
     return sz, tt
 
