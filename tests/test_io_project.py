@@ -10,6 +10,7 @@ from shapely.geometry import box
 
 import sitesettle
 from sitesettle.errors import InputError, InputWarning
+from sitesettle.ground import Ground
 from sitesettle.io.investigation import parse_boreholes, parse_soundings
 from sitesettle.io.project import load_site, parse_analysis, parse_checks, parse_toml
 from sitesettle.io.strata import parse_strata
@@ -551,6 +552,8 @@ def test_starter_project_loads_cleanly(tmp_path):
     assert len(site.footings) == 6 and len(site.boreholes) == 3 and len(site.soundings) == 2
     assert {f.shape for f in site.footings} == {"rectangle", "circle"}
     assert site.strata[-1].behaviour == Behaviour.RIGID
+    ground = Ground(site)
+    assert not ground.outside_hull([f.x for f in site.footings], [f.y for f in site.footings]).any()
 
 
 def test_starter_site_toml_comments_every_key():

@@ -164,6 +164,8 @@ class Table:
             if unit is None:
                 continue
             dim = known[name]
+            if dim == "ignored":
+                continue
             if dim not in units.DIMENSIONS:
                 raise InputError(
                     self.where(column=name),
