@@ -101,6 +101,8 @@ class Table:
     headers: dict[str, str]
     header_units: dict[str, str]
     rows: list[Row] = field(default_factory=list)
+    #: conversion factor of each header unit, by (column, dimension)
+    _factors: dict = field(default_factory=dict, repr=False)
 
     # -- places -------------------------------------------------------------
     def where(self, row: Row | None = None, column: str | None = None) -> str:
@@ -208,9 +210,12 @@ class Table:
             return default
         unit = self.header_units.get(name)
         if unit:
-            text = str(value).strip() if not isinstance(value, (int, float)) else repr(float(value))
-            if isinstance(value, (int, float)) or units._NUMBER.match(text):
-                value = f"{text} {unit}"
+            number = isinstance(value, (int, float)) and not isinstance(value, bool)
+            if number or units._NUMBER.match(str(value).strip()):
+                key = (name, dimension)
+                if key not in self._factors:
+                    self._factors[key] = units.parse(f"1 {unit}", dimension, where)
+                value = float(value) * self._factors[key]
         return units.parse(value, dimension, where)
 
     def text(self, row: Row, name: str, default: str | None = None) -> str:
