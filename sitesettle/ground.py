@@ -130,13 +130,14 @@ class PlanInterpolator:
         w = np.where(finite[:, None], w, np.nan)
         return idx, w, outside & finite
 
-    def __call__(self, values, x, y) -> np.ndarray:
+    def __call__(self, values, x, y, *, weights=None) -> np.ndarray:
         """Interpolate ``values`` (n, …) at the points (x, y); returns shape (m, …).
 
         Infinite values stay infinite where they carry weight (0·inf counts 0).
+        ``weights`` may pass the result of :meth:`weights` for the same points.
         """
         values = np.asarray(values, dtype=float)
-        idx, w, _ = self.weights(x, y)
+        idx, w, _ = self.weights(x, y) if weights is None else weights
         v = values[idx]  # (m, k, …)
         wk = w.reshape(w.shape + (1,) * (values.ndim - 1))
         terms = np.where(wk > 0, wk * np.where(np.isfinite(v), v, 0.0), 0.0)
@@ -282,7 +283,11 @@ class Ground:
             dtype=float,
         )
         has = np.isfinite(water)
-        self._water = (PlanInterpolator(xy[has]), water[has]) if has.any() else None
+        self._water = None
+        if has.all():
+            self._water = (self._plan, water)
+        elif has.any():
+            self._water = (PlanInterpolator(xy[has]), water[has])
         # measured interval values: (stratum index, field) → (positions, values)
         self._overrides: dict[tuple[int, str], tuple[cKDTree, np.ndarray]] = {}
         found: dict[tuple[int, str], list] = {}
@@ -325,22 +330,56 @@ class Ground:
     # -- one point ------------------------------------------------------------
     def column(self, x: float, y: float) -> Column:
         """The :class:`Column` of strata at plan position (x, y) [m]."""
-        tops = self.tops(float(x), float(y))
-        bottoms = np.append(tops[1:], np.inf)
-        strata = list(self.strata)
-        for (i, field), (tree, values) in self._overrides.items():
-            _, j = tree.query([x, y])
-            extra = {"use_soundings": False} if field == "cone_resistance" else {}
-            strata[i] = dataclasses.replace(strata[i], **{field: float(values[j])}, **extra)
-        return Column(
-            x=float(x),
-            y=float(y),
-            strata=tuple(strata),
-            tops=tops,
-            bottoms=bottoms,
-            water_depth=float(self.water_depth(x, y)),
-            outside_hull=bool(self.outside_hull(x, y)),
-        )
+        return self.columns([x], [y])[0]
+
+    def columns(self, x, y) -> list[Column]:
+        """The :class:`Column` at each of many plan positions (one interpolation pass).
+
+        Parameters
+        ----------
+        x, y : array_like
+            Plan positions [m], broadcast together and flattened.
+        """
+        xb, yb = np.broadcast_arrays(np.asarray(x, float), np.asarray(y, float))
+        xf, yf = xb.ravel(), yb.ravel()
+        weights = self._plan.weights(xf, yf)
+        tops = np.maximum.accumulate(self._plan(self._tops, xf, yf, weights=weights), axis=-1)
+        if self._water is None:
+            water = np.full(len(xf), self.site.water_depth)
+        elif self._water[0] is self._plan:
+            water = self._plan(self._water[1], xf, yf, weights=weights)
+        else:
+            water = self._water[0](self._water[1], xf, yf)
+        picks = {}
+        for key, (tree, values) in self._overrides.items():
+            q = np.column_stack([xf, yf])
+            ok = np.all(np.isfinite(q), axis=1)
+            j = np.zeros(len(xf), dtype=int)
+            if ok.any():
+                j[ok] = tree.query(q[ok])[1]
+            picks[key] = values[j]
+        out = []
+        for m in range(len(xf)):
+            strata = list(self.strata)
+            changes: dict[int, dict] = {}
+            for (i, field), vals in picks.items():
+                changes.setdefault(i, {})[field] = float(vals[m])
+                if field == "cone_resistance":
+                    changes[i]["use_soundings"] = False
+            for i, kw in changes.items():
+                strata[i] = dataclasses.replace(strata[i], **kw)
+            out.append(
+                Column(
+                    x=float(xf[m]),
+                    y=float(yf[m]),
+                    strata=tuple(strata),
+                    tops=tops[m],
+                    bottoms=np.append(tops[m, 1:], np.inf),
+                    water_depth=float(water[m]),
+                    outside_hull=bool(weights[2][m]),
+                )
+            )
+        return out
 
     # -- cone soundings -------------------------------------------------------
     def nearest_sounding(self, x: float, y: float) -> Sounding | None:

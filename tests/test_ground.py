@@ -281,3 +281,22 @@ def test_borehole_order_changes_nothing(order, px, py):
     a = Ground(THREE).tops(px, py)
     b = Ground(site(*[THREE.boreholes[i] for i in order])).tops(px, py)
     np.testing.assert_allclose(a, b, atol=1e-12)
+
+
+def test_columns_match_column_one_by_one():
+    s = site(
+        bh("A", 0, 0, 2, 6, water=1.0, spt_n=10.0),
+        bh("B", 10, 0, 4, 9, water=3.0, spt_n=30.0),
+        bh("C", 0, 10, 3, 12, water=2.0),
+    )
+    g = Ground(s)
+    xs, ys = np.array([1.0, 8.0, 20.0]), np.array([1.0, 1.0, 5.0])
+    for col, x, y in zip(g.columns(xs, ys), xs, ys):
+        one = g.column(x, y)
+        np.testing.assert_array_equal(col.tops, one.tops)
+        assert (col.water_depth, col.outside_hull, col.strata) == (
+            one.water_depth,
+            one.outside_hull,
+            one.strata,
+        )
+    assert g.columns(xs, ys)[2].water_depth == 3.0  # outside: nearest borehole B
