@@ -120,14 +120,9 @@ def _at(total: np.ndarray, times: np.ndarray, t: float) -> np.ndarray:
 def _checks(site: Site, total: np.ndarray, checked: np.ndarray, checked_after: float) -> Checks:
     """Grid-neighbour pairs checked against 1/500 and footings against 50 mm."""
     xy = np.array([[f.x, f.y] for f in site.footings])
-    a, b = [], []
-    for i in range(len(xy)):
-        for j in range(i + 1, len(xy)):
-            d = np.hypot(*(xy[i] - xy[j]))
-            if d < 1.01 * np.min([np.hypot(*(xy[k] - xy[m])) for k in range(len(xy)) for m in range(len(xy)) if k != m]):
-                a.append(i)
-                b.append(j)
-    a, b = np.array(a), np.array(b)
+    d = np.hypot(*(xy[:, None, :] - xy[None, :, :]).transpose(2, 0, 1))
+    np.fill_diagonal(d, np.inf)
+    a, b = np.nonzero(np.triu(d <= 1.01 * d.min(), 1))  # grid neighbours, a < b
     span = np.hypot(*(xy[a] - xy[b]).T)
     movement = checked if checked_after > 0 else total
     diff = np.abs(movement[a] - movement[b])
