@@ -1,7 +1,9 @@
 """The ground at any plan position: strata from the boreholes, water table, in-situ stress.
 
 :class:`Ground` is built once from a :class:`~sitesettle.site.Site`;
-``Ground(site).column(x, y)`` gives the :class:`Column` of strata at a point.
+``Ground(site).column(x, y)`` gives the :class:`Column` of strata at a point,
+``Ground(site).columns(xs, ys)`` those at many points in one pass, and
+``Ground(site).tops(x, y)`` the stratum tops on any array of points.
 
 Interpolation between boreholes (docs/input.md, "How the ground is built"):
 

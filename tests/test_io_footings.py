@@ -270,3 +270,42 @@ def test_unreadable_gis_file(tmp_path):
     p.write_bytes(b"not a geopackage")
     with pytest.raises(InputError, match="plan.gpkg: cannot read the file as GIS data"):
         read_footings(p)
+
+
+@pytest.mark.parametrize(
+    "text, match",
+    [
+        (
+            HEAD + "A,0,0,2,2,1,500,0,extra\n",
+            r"footings.csv row 2: 9 cells but the header has 8 columns",
+        ),
+        (
+            "id,x,x,width,depth,dead_load\nA,0,0,2,1,500\n",
+            r'footings.csv row 1: the column "x" appears twice',
+        ),
+        (
+            "id,shape,x,y,width,depth,dead_load\nA,hexagon,0,0,2,1,500\n",
+            r'column "shape": unknown shape "hexagon"',
+        ),
+        (
+            "id,x,y,width,depth,dead_load,sustained_live_fraction\nA,0,0,2,1,500,1.5\n",
+            r'column "sustained_live_fraction": 1.5 is outside 0–1',
+        ),
+        (
+            "id,x,y,width,depth,dead_load,rigid\nA,0,0,2,1,500,maybe\n",
+            r'column "rigid": cannot read "maybe"',
+        ),
+        (
+            "id,x,y,width,depth,dead_load\n,0,0,2,1,500\n",
+            r'row 2, column "id": the value is missing',
+        ),
+    ],
+)
+def test_malformed_footing_files(text, match):
+    with pytest.raises(InputError, match=match):
+        parse_footings_csv(text)
+
+
+def test_semicolon_separated_file_is_read():
+    f = parse_footings_csv("id;x;y;width;depth;dead_load\nA;0;0;2;1;500\n")
+    assert f[0].width == 2.0

@@ -622,3 +622,15 @@ def test_boreholes_from_a_frame_count_rows_as_a_sheet():
 def test_no_water_table_by_name(tmp_path):
     write_project(tmp_path, {"site.toml": SITE.replace('depth = "2 m"', 'depth = "none"')})
     assert load_site(tmp_path).water_depth == float("inf")
+
+
+def test_soundings_missing_column():
+    with pytest.raises(InputError, match=r'soundings.csv: the required column "qc" is missing'):
+        parse_soundings("sounding,x,y,depth\nC1,0,0,1\n")
+
+
+def test_strata_as_a_single_table_is_an_error(tmp_path):
+    site = SITE.replace("[[strata]]", "[strata]", 1).split("[[strata]]")[0]
+    write_project(tmp_path, {"site.toml": site})
+    with pytest.raises(InputError, match=r"no \[\[strata\]\] tables"):
+        load_site(tmp_path)
