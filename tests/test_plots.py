@@ -127,8 +127,9 @@ def test_dollar_signs_in_ids_are_drawn_literally():
     r = make_results(["C$1$", "$x$", "C3", "a$b", "C5", "C6"], name="Site $2$")
     from matplotlib.text import Text
 
-    for fig in (plots.plan_figure(r), plots.contour_figure(r), plots.time_figure(r),
-                plots.section_figure(make_section(r))):
+    figures = [(plots.plan_figure(r), True), (plots.contour_figure(r), True), (plots.time_figure(r), True),
+               (plots.section_figure(make_section(r)), False)]  # the section is titled by its footings
+    for fig, titled_by_site in figures:
         fig.canvas.draw()  # would raise on broken mathtext
         shown_texts = []
         for t in fig.findobj(Text):
@@ -140,7 +141,7 @@ def test_dollar_signs_in_ids_are_drawn_literally():
             assert is_math is False, raw
             shown_texts.append(shown)
         joined = " ".join(shown_texts)
-        assert "Site $2$" in joined
+        assert "Site $2$" in joined or not titled_by_site
         assert any(fid in joined for fid in ("C$1$", "$x$", "a$b"))  # each figure names some of them
 
 
