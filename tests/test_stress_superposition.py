@@ -1,0 +1,329 @@
+"""Loads, superposition and the bounded far field of sitesettle.stress.
+
+Independent references: scipy quadrature (equilibrium of a deep plane), the
+Boussinesq point-load formula (far-field limit), the exact sum (tolerance=0)
+for the far-field bound, and laws that must hold (linearity, invariance under
+rotation and translation, order of loads).
+"""
+
+from __future__ import annotations
+
+import math
+import tracemalloc
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from scipy import integrate
+
+from sitesettle import stress as S
+from sitesettle.errors import InputError
+
+
+def grid_plan(nx=12, ny=10, spacing=6.0, seed=0, x0=0.0, y0=0.0):
+    """An invented column grid of rectangular pads (not any real project)."""
+    rng = np.random.default_rng(seed)
+    gx, gy = np.meshgrid(x0 + np.arange(nx) * spacing, y0 + np.arange(ny) * spacing)
+    n = gx.size
+    b = rng.uniform(1.5, 4.0, n)
+    return S.Loads.rectangles(gx.ravel(), gy.ravel(), b, b * rng.uniform(1.0, 1.5, n),
+                              rng.uniform(0, 180, n), rng.uniform(100, 300, n), rng.uniform(1.0, 1.5, n))
+
+
+def random_points(rng, n, xlim, ylim, zlim):
+    return np.column_stack([rng.uniform(*xlim, n), rng.uniform(*ylim, n), rng.uniform(*zlim, n)])
+
+
+# ---------------------------------------------------------------------------
+# Loads
+# ---------------------------------------------------------------------------
+
+def test_loads_construction_and_order():
+    r = S.Loads.rectangles([0, 10], [0, 0], 2.0, 3.0, 0.0, [100, 200], 1.0)
+    c = S.Loads.circles(5.0, 5.0, 1.5, 150.0, 2.0)
+    p = S.Loads.polygons([[(0, 0), (2, 0), (0, 2), (0, 0)]], 120.0, 0.5)  # closed outline accepted
+    allv = S.Loads.concat(r, c, p)
+    assert len(allv) == 4
+    np.testing.assert_array_equal(allv.pressure, [100, 200, 150, 120])
+    np.testing.assert_array_equal(allv.kind, [S.RECTANGLE, S.RECTANGLE, S.CIRCLE, S.POLYGON])
+    assert allv.x[3] == pytest.approx(2 / 3)  # triangle centroid
+    sub = allv.subset([3, 0])
+    assert len(sub) == 2 and sub.pressure[0] == 120 and sub.kind[1] == S.RECTANGLE
+    half = allv.with_pressure(allv.pressure / 2)
+    pts = np.array([[1.0, 1.0, 3.0], [5.0, 4.0, 4.0]])
+    np.testing.assert_allclose(S.vertical_stress(half, pts, tolerance=0),
+                               S.vertical_stress(allv, pts, tolerance=0) / 2, rtol=1e-14)
+
+
+@pytest.mark.parametrize(("call", "match"), [
+    (lambda: S.Loads.rectangles(0, 0, -1.0, 2.0, 0, 100, 1), '"width" is -1'),
+    (lambda: S.Loads.rectangles([0, 1], [0, 1, 2], 1.0, 2.0, 0, 100, 1), "different lengths"),
+    (lambda: S.Loads.rectangles(0, 0, 1.0, 2.0, 0, np.nan, 1), '"pressure" is not finite'),
+    (lambda: S.Loads.circles(0, 0, 0.0, 100, 1), '"radius" is 0'),
+    (lambda: S.Loads.circles(0, 0, 1.0, 100, -1), '"depth" is -1'),
+    (lambda: S.Loads.polygons([[(0, 0), (1, 0)]], 100, 1), "at least 3"),
+    (lambda: S.Loads.polygons([[(0, 0), (1, 0), (2, 0)]], 100, 1), "zero area"),
+])
+def test_loads_bad_input_raises_input_error(call, match):
+    with pytest.raises(InputError, match=match):
+        call()
+
+
+def test_bad_points_and_tolerance():
+    loads = S.Loads.rectangles(0, 0, 1, 1, 0, 100, 1)
+    with pytest.raises(InputError, match="points"):
+        S.vertical_stress(loads, np.zeros((3, 2)))
+    with pytest.raises(InputError, match="tolerance"):
+        S.vertical_stress(loads, np.zeros((3, 3)), tolerance=-1)
+
+
+# ---------------------------------------------------------------------------
+# superposition rules
+# ---------------------------------------------------------------------------
+
+def test_points_above_a_load_plane_get_nothing_and_kernel_sees_z_minus_depth():
+    loads = S.Loads.rectangles(0, 0, 2.0, 3.0, 0.0, 100.0, 1.5)
+    pts = np.array([[0, 0, 0.0], [0, 0, 1.0], [0, 0, 1.5], [0.3, 0.2, 2.7]])
+    sz, tt = S.stress_sums(loads, pts, tolerance=0)
+    assert sz[0] == sz[1] == sz[2] == 0.0 and tt[2] == 0.0  # z <= depth: nothing
+    assert sz[3] == pytest.approx(S.rectangle_stress(100.0, 3.0, 2.0, 0.3, 0.2, 1.2), rel=1e-14)
+
+
+def test_nan_point_gives_nan_and_others_unaffected():
+    loads = grid_plan(3, 3)
+    pts = np.array([[1.0, 1.0, 3.0], [np.nan, 1.0, 3.0]])
+    sz = S.vertical_stress(loads, pts)
+    assert np.isnan(sz[1]) and np.isfinite(sz[0])
+
+
+def test_rectangle_cut_into_pieces_equals_the_whole():
+    whole = S.Loads.rectangles(2.0, 1.0, 2.0, 4.0, 0.0, 180.0, 1.0)  # [0, 4] × [0, 2]
+    xs = np.array([0.5, 1.75, 3.25])  # pieces [0,1], [1,2.5], [2.5,4] along x
+    widths = np.array([1.0, 1.5, 1.5])
+    pieces = S.Loads.concat(
+        S.Loads.rectangles(xs, 0.5, 1.0, widths, 0.0, 180.0, 1.0),
+        S.Loads.polygons([[(0, 1), (4, 1), (4, 2), (0, 2)]], 180.0, 1.0),
+    )
+    rng = np.random.default_rng(3)
+    pts = random_points(rng, 50, (-3, 7), (-3, 5), (1.01, 8))
+    pts[:4] = [[1.0, 1.0, 2.0], [2.5, 0.0, 1.5], [0.0, 0.0, 3.0], [4.0, 2.0, 1.2]]  # on internal edges/corners
+    np.testing.assert_allclose(S.vertical_stress(pieces, pts, tolerance=0),
+                               S.vertical_stress(whole, pts, tolerance=0), rtol=1e-11, atol=1e-12)
+    np.testing.assert_allclose(S.stress_sums(pieces, pts, tolerance=0)[1],
+                               S.stress_sums(whole, pts, tolerance=0)[1], rtol=1e-11, atol=1e-12)
+
+
+def test_kinds_agree_with_each_other():
+    # a rotated rectangle as Loads.rectangles and as a polygon; a circle as a 2000-gon
+    t = math.radians(35)
+    c, s = math.cos(t), math.sin(t)
+    corners = np.array([(-2, -0.75), (2, -0.75), (2, 0.75), (-2, 0.75)])
+    outline = corners @ np.array([[c, s], [-s, c]]) + [3.0, -1.0]
+    r = S.Loads.rectangles(3.0, -1.0, 1.5, 4.0, 35.0, 100.0, 0.5)
+    p = S.Loads.polygons([outline], 100.0, 0.5)
+    th = np.linspace(0, 2 * math.pi, 2000, endpoint=False)
+    circ = S.Loads.circles(3.0, -1.0, 1.2, 100.0, 0.5)
+    cpoly = S.Loads.polygons([np.column_stack([3 + 1.2 * np.cos(th), -1 + 1.2 * np.sin(th)])], 100.0, 0.5)
+    pts = random_points(np.random.default_rng(5), 40, (-2, 8), (-5, 3), (0.6, 6))
+    for a, b, tol in ((r, p, 1e-10), (circ, cpoly, 1e-3)):  # 2000-gon area error ~1.6e-6 relative
+        np.testing.assert_allclose(S.vertical_stress(a, pts, tolerance=0), S.vertical_stress(b, pts, tolerance=0),
+                                   atol=tol)
+
+
+def test_own_stress_is_each_load_alone():
+    loads = S.Loads.concat(grid_plan(3, 2, seed=2), S.Loads.circles(20, 20, 1.0, 90, 1.0),
+                           S.Loads.polygons([[(30, 0), (33, 0), (31, 2)]], 110, 1.2))
+    rng = np.random.default_rng(8)
+    pts = random_points(rng, 30, (-2, 35), (-2, 25), (0.5, 10))
+    owner = rng.integers(-1, len(loads), 30)
+    sz, tt = S.own_stress(loads, pts, owner)
+    for i in range(30):
+        if owner[i] < 0:
+            assert sz[i] == 0.0 and tt[i] == 0.0
+        else:
+            a, b = S.stress_sums(loads.subset([owner[i]]), pts[i:i + 1], tolerance=0)
+            assert sz[i] == pytest.approx(a[0], rel=1e-12, abs=1e-14)
+            assert tt[i] == pytest.approx(b[0], rel=1e-12, abs=1e-14)
+
+
+def test_horizontal_sum_with_poisson_array():
+    loads = grid_plan(2, 2)
+    pts = np.array([[0.0, 0.0, 2.0], [3.0, 3.0, 4.0]])
+    nu = np.array([0.2, 0.45])
+    sz, tt = S.stress_sums(loads, pts, tolerance=0)
+    np.testing.assert_allclose(S.horizontal_stress_sum(loads, pts, nu, tolerance=0), (1 + nu) * tt - sz)
+
+
+@pytest.mark.parametrize("kind", ["rectangle", "circle", "polygon"])
+def test_equilibrium_on_a_deep_plane(kind):
+    # ∫∫ σz dA over the plane z = 3 m below the load returns the total load q·A
+    # (statics; scipy dblquad in polar coordinates to infinity about the load centre)
+    q = 200.0
+    if kind == "rectangle":
+        loads, area = S.Loads.rectangles(0, 0, 1.5, 2.5, 20.0, q, 0.0), 1.5 * 2.5
+    elif kind == "circle":
+        loads, area = S.Loads.circles(0, 0, 1.0, q, 0.0), math.pi
+    else:
+        tri = np.array([(-1.0, -1.0), (2.0, -1.0), (-1.0, 1.0)])
+        loads = S.Loads.polygons([tri - tri.mean(axis=0)], q, 0.0)
+        area = 3.0
+
+    def f(rho, th):
+        p = np.array([[rho * math.cos(th), rho * math.sin(th), 3.0]])
+        return rho * S.vertical_stress(loads, p, tolerance=0)[0]
+
+    total, _ = integrate.dblquad(f, 0, 2 * math.pi, 0, np.inf, epsabs=1e-6, epsrel=1e-8)
+    assert total == pytest.approx(q * area, rel=1e-6)
+
+
+def test_memory_stays_bounded():
+    # 400 loads × 30,000 points exact: the chunked loops hold a few MB, not loads × points
+    loads = grid_plan(20, 20)
+    pts = random_points(np.random.default_rng(1), 30_000, (0, 114), (0, 114), (1.5, 20))
+    tracemalloc.start()
+    S.stress_sums(loads, pts, tolerance=0)
+    _, peak = tracemalloc.get_traced_memory()
+    tracemalloc.stop()
+    assert peak < 50 * 2**20  # a dense 400 × 30,000 array alone would be 96 MB
+
+
+# ---------------------------------------------------------------------------
+# far field and its bound
+# ---------------------------------------------------------------------------
+
+def test_far_from_a_load_the_point_load_formula_holds():
+    # σz → 3Pz³/(2πR⁵) with relative error O((a/R)²) (METHODS.md §1.1)
+    loads = S.Loads.rectangles(0, 0, 2.0, 3.0, 30.0, 150.0, 1.0)
+    for r in (30.0, 100.0):
+        p = np.array([[r * 0.6, r * 0.8, 1.0 + 5.0]])
+        exact = S.vertical_stress(loads, p, tolerance=0)[0]
+        point = S.point_load_stress(150.0 * 6.0, r * 0.6, r * 0.8, 5.0)
+        assert exact == pytest.approx(float(point), rel=20 * (2.0 / r) ** 2)
+
+
+def test_tree_leaf_multipole_error_inside_its_bound():
+    # one rectangle, points at several distances: the multipole value (quadrupole
+    # about the centroid) differs from the exact value by no more than the bound
+    loads = S.Loads.rectangles([0.0, 0.0], [0.0, 0.0], [2.0, 0.5], [3.0, 0.5], [25.0, 0.0], [200.0, 1.0], 1.0)
+    tree = S._Tree(loads, np.array([0]))
+    for p in ([8.0, 3.0, 2.0], [15.0, -4.0, 6.0], [40.0, 10.0, 20.0], [5.0, 0.0, 12.0]):
+        p = np.array(p)
+        e, zero = tree.bounds(p, p)
+        a, b = tree.far(np.array([0]), p[:1], p[1:2], p[2:])
+        ex, et = S.stress_sums(loads.subset([0]), p[None, :], tolerance=0)
+        assert abs(a[0] - ex[0]) <= e[0] and abs(b[0] - et[0]) <= e[0]
+        assert abs(a[0] - ex[0]) > 1e-4 * e[0]  # the bound is not absurdly loose here
+
+
+def test_derivative_bound_of_the_proof():
+    # the Leibniz–Gegenbauer bound used in stress_sums' proof, checked by finite
+    # differences along random lines: |d⁴/dt⁴ k(u + t h)| ≤ Σ_j … for both kernels
+    rng = np.random.default_rng(11)
+    for _ in range(200):
+        u = rng.normal(size=3)
+        u[2] = abs(u[2]) + 0.2
+        h = rng.normal(size=3) * 0.05
+        r = np.linalg.norm(u)
+        step = 0.02
+        ts = np.arange(-2, 3) * step
+
+        def k(t):
+            v = u[None, :] + t[:, None] * h
+            rr = np.linalg.norm(v, axis=1)
+            return 1.5 / math.pi * v[:, 2] ** 3 / rr**5
+
+        d4 = np.dot([1, -4, 6, -4, 1], k(ts)) / step**4
+        hn, hw = np.linalg.norm(h), abs(h[2])
+        sig, _ = S._BOUND[4]
+        bound = sum(cf * math.factorial(4) * abs(u[2]) ** (3 - j) * hw**j * hn ** (4 - j) / (0.95 * r) ** (9 - j)
+                    for j, cf in sig)
+        assert abs(d4) <= bound
+
+
+@settings(max_examples=12, deadline=None)
+@given(seed=st.integers(0, 2**31 - 1), tol=st.sampled_from([1e-3, 1e-2, 3e-4]),
+       spacing=st.floats(4.0, 12.0), mixed=st.booleans())
+def test_far_field_within_its_bound(seed, tol, spacing, mixed):
+    # tolerance > 0 keeps |σz − exact| and |T − exact| ≤ tolerance · max|q| at every point
+    rng = np.random.default_rng(seed)
+    loads = grid_plan(10, 9, spacing=spacing, seed=seed)
+    if mixed:  # add circles, polygons and an unloading (negative) area
+        loads = S.Loads.concat(
+            loads, S.Loads.circles(rng.uniform(0, 50, 5), rng.uniform(0, 50, 5), 1.5, rng.uniform(50, 250, 5), 1.2),
+            S.Loads.polygons([[(0, -10), (8, -10), (4, -6)]], -80.0, 0.8))
+    pts = random_points(rng, 2500, (-10, 10 * spacing + 10), (-12, 9 * spacing + 10), (0.0, 30.0))
+    fast = S.stress_sums(loads, pts, tolerance=tol)
+    exact = S.stress_sums(loads, pts, tolerance=0)
+    allowed = tol * np.abs(loads.pressure).max()
+    assert np.abs(fast[0] - exact[0]).max() <= allowed
+    assert np.abs(fast[1] - exact[1]).max() <= allowed
+
+
+@settings(max_examples=15, deadline=None)
+@given(angle=st.floats(0, 360), dx=st.floats(-1e4, 1e4), dy=st.floats(-1e4, 1e4))
+def test_rotation_and_translation_change_nothing(angle, dx, dy):
+    rng = np.random.default_rng(4)
+    base = S.Loads.concat(
+        S.Loads.rectangles([0, 7], [0, 1], [2, 1.5], [3, 2], [10, 80], [150, 220], [1.0, 1.4]),
+        S.Loads.circles(3, 6, 1.2, 180, 1.1),
+        S.Loads.polygons([[(10, 0), (14, 0), (14, 3), (12, 1), (10, 3)]], 130, 1.2))
+    pts = random_points(rng, 25, (-5, 18), (-5, 10), (1.5, 12))
+    t = math.radians(angle)
+    c, s = math.cos(t), math.sin(t)
+
+    def move(x, y):
+        return x * c - y * s + dx, x * s + y * c + dy
+
+    n_rect = 2
+    rx, ry = move(base.x[:n_rect], base.y[:n_rect])
+    cx, cy = move(base.x[2:3], base.y[2:3])
+    ox, oy = move(base.outlines[3][:, 0], base.outlines[3][:, 1])
+    moved = S.Loads.concat(
+        S.Loads.rectangles(rx, ry, base.width[:2], base.length[:2], base.rotation[:2] + angle,
+                           base.pressure[:2], base.depth[:2]),
+        S.Loads.circles(cx, cy, 1.2, 180, 1.1),
+        S.Loads.polygons([np.column_stack([ox, oy])], 130, 1.2))
+    px, py = move(pts[:, 0], pts[:, 1])
+    mpts = np.column_stack([px, py, pts[:, 2]])
+    a = S.stress_sums(base, pts, tolerance=0)
+    b = S.stress_sums(moved, mpts, tolerance=0)
+    # coordinates up to 1e4 m: rounding of the offsets ~1e-12 m → stresses to ~1e-8 kPa
+    np.testing.assert_allclose(a[0], b[0], atol=1e-7)
+    np.testing.assert_allclose(a[1], b[1], atol=1e-7)
+
+
+@settings(max_examples=20, deadline=None)
+@given(z=st.floats(0.01, 0.5), q=st.floats(10, 500), size=st.floats(40, 400))
+def test_just_below_the_middle_of_a_large_load_sigma_is_q(z, q, size):
+    # σz/q = 1 − O((z/size)³) at the centre (limit of the centreline formula)
+    loads = S.Loads.rectangles(0, 0, size, 1.3 * size, 17.0, q, 1.0)
+    sz = S.vertical_stress(loads, [[0.0, 0.0, 1.0 + z]])[0]
+    assert sz == pytest.approx(q, rel=5 * (2 * z / size) ** 2)
+    circle = S.Loads.circles(0, 0, size / 2, q, 1.0)
+    assert S.vertical_stress(circle, [[0.0, 0.0, 1.0 + z]])[0] == pytest.approx(q, rel=5 * (2 * z / size) ** 2)
+
+
+@settings(max_examples=20, deadline=None)
+@given(r=st.floats(50, 500), theta=st.floats(0, 2 * math.pi), z=st.floats(1, 60))
+def test_far_away_sigma_is_the_point_load_value(r, theta, z):
+    # relative error of the point-load formula for an area of extent a at distance R is O((a/R)²)
+    loads = S.Loads.polygons([[(-1, -1), (2, -1), (1.5, 1), (-1, 1.5)]], 200.0, 0.0)
+    area = 0.5 * abs(3 * 2 - 0 * 2.5 + 2.5 * 2.5 - 2 * 0)  # shoelace about (−1, −1): 6.125 m²
+    x, y = loads.x[0] + r * math.cos(theta), loads.y[0] + r * math.sin(theta)
+    got = S.vertical_stress(loads, [[x, y, z]], tolerance=0)[0]
+    want = float(S.point_load_stress(200.0 * area, r * math.cos(theta), r * math.sin(theta), z))
+    assert got == pytest.approx(want, rel=40 * (3.0 / math.hypot(r, z)) ** 2)
+
+
+@settings(max_examples=15, deadline=None)
+@given(scale=st.floats(-3, 3), seed=st.integers(0, 1000))
+def test_linear_in_load_and_order_free(scale, seed):
+    loads = grid_plan(4, 3, seed=seed)
+    rng = np.random.default_rng(seed)
+    pts = random_points(rng, 20, (-3, 25), (-3, 15), (1.6, 10))
+    a = S.vertical_stress(loads, pts, tolerance=0)
+    b = S.vertical_stress(loads.with_pressure(scale * loads.pressure), pts, tolerance=0)
+    np.testing.assert_allclose(b, scale * a, atol=1e-10)
+    perm = rng.permutation(len(loads))
+    np.testing.assert_allclose(S.vertical_stress(loads.subset(perm), pts, tolerance=0), a, rtol=1e-12, atol=1e-12)
