@@ -130,8 +130,16 @@ def _table(header: list[str], rows: list[list[str]], *, row_classes: list[str] |
     return "".join(out)
 
 
-def _df_table(df) -> str:
-    """A formatted DataFrame (text cells) as an escaped table; failing rows highlighted."""
+#: footing columns shown in the settlement table (the rest go in the geometry table)
+_SETTLEMENT_COLUMNS = ("immediate_", "consolidation_", "secondary_", "total_", "own_", "neighbours_", "tilt")
+
+
+def _df_table(df, status=None) -> str:
+    """A formatted DataFrame (text cells) as an escaped table; failing rows highlighted.
+
+    ``status`` (a Series of "pass"/"fail") marks the rows when the table has no
+    status column of its own.
+    """
     from sitesettle.io.output import format_table
 
     text = format_table(df)
@@ -148,8 +156,20 @@ def _df_table(df) -> str:
             else:
                 cells.append(_e(v))
         rows.append(cells)
-        classes.append("fail" if r.get("status") == "fail" else "")
-    return _table([_e(c) for c in text.columns], rows, row_classes=classes, numeric=numeric)
+        st = r.get("status") if status is None else status.iloc[len(classes)]
+        classes.append("fail" if st == "fail" else "")
+    return _table([_e(_header(c)) for c in text.columns], rows, row_classes=classes, numeric=numeric)
+
+
+_HEADER_UNITS = ("mm", "in", "m", "ft", "kPa", "ksf", "kN", "kip", "deg", "yr")
+
+
+def _header(column: str) -> str:
+    """A column name as a table heading: ``total_mm`` → ``total [mm]``."""
+    base, _, unit = column.rpartition("_")
+    if base and unit in _HEADER_UNITS:
+        return f"{base.replace('_', ' ')} [{'°' if unit == 'deg' else unit}]"
+    return column.replace("_", " ")
 
 
 def run_date() -> str:
@@ -326,8 +346,13 @@ def render_report(results: Results, figures: dict[str, bytes], *, units: str = "
     body.append(f"<h2 id='methods'>{SECTIONS[2]}</h2>")
     body.append(_methods(results))
     body.append(f"<h2 id='results'>{SECTIONS[3]}</h2>")
-    body.append(f"<h3>Footings at the design life ({_e(summary['design_life_yr'])} yr)</h3>")
-    body.append(_df_table(footing_table(results, units)))
+    ft = footing_table(results, units)
+    settle_cols = [c for c in ft.columns if c.startswith(_SETTLEMENT_COLUMNS)]
+    body.append(f"<h3>Footing settlements at the design life ({_e(summary['design_life_yr'])} yr)</h3>")
+    body.append(_df_table(ft[["id"] + settle_cols + ["status", "reasons"]], status=ft["status"]))
+    body.append("<h3>Footing geometry, loads and methods</h3>")
+    body.append(_df_table(ft[[c for c in ft.columns if c not in settle_cols + ["status", "reasons"]]],
+                          status=ft["status"]))
     body.append("<h3>Pairs</h3>")
     pt = pair_table(results, units)
     body.append(_df_table(pt) if len(pt) else "<p>No pairs were checked.</p>")
