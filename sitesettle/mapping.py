@@ -105,8 +105,9 @@ def contour_levels(values: np.ndarray | Sequence[float], *, max_levels: int = 12
     return np.array([_tidy(float(i) * step) for i in k], dtype=float)
 
 
-def contour_lines(settlement_map: SettlementMap, levels: np.ndarray | Sequence[float]
-                  ) -> list[tuple[float, shapely.LineString]]:
+def contour_lines(
+    settlement_map: SettlementMap, levels: np.ndarray | Sequence[float]
+) -> list[tuple[float, shapely.LineString]]:
     """Contour lines of a settlement map at the given levels.
 
     Parameters
@@ -131,8 +132,9 @@ def contour_lines(settlement_map: SettlementMap, levels: np.ndarray | Sequence[f
         raise ValueError(f"settlement map shape {z.shape} is not (ny, nx) = {(y.size, x.size)}")
     if z.size == 0 or not np.isfinite(z).any() or x.size < 2 or y.size < 2:
         return []
-    gen = contourpy.contour_generator(x, y, np.ma.masked_invalid(z), name="serial",
-                                      line_type=contourpy.LineType.Separate)
+    gen = contourpy.contour_generator(
+        x, y, np.ma.masked_invalid(z), name="serial", line_type=contourpy.LineType.Separate
+    )
     out: list[tuple[float, shapely.LineString]] = []
     for level in levels:
         for segment in gen.lines(float(level)):
@@ -146,11 +148,17 @@ def plan_extent(footings: Sequence[Footing]) -> tuple[float, float, float, float
     if not footings:
         raise ValueError("no footings: the plan has no extent")
     xy = np.concatenate([np.asarray(f.outline, dtype=float).reshape(-1, 2) for f in footings])
-    return float(xy[:, 0].min()), float(xy[:, 1].min()), float(xy[:, 0].max()), float(xy[:, 1].max())
+    return (
+        float(xy[:, 0].min()),
+        float(xy[:, 1].min()),
+        float(xy[:, 0].max()),
+        float(xy[:, 1].max()),
+    )
 
 
-def default_grid(footings: Sequence[Footing], spacing: float = 0.0, margin: float = 5.0
-                 ) -> tuple[np.ndarray, np.ndarray]:
+def default_grid(
+    footings: Sequence[Footing], spacing: float = 0.0, margin: float = 5.0
+) -> tuple[np.ndarray, np.ndarray]:
     """Grid lines of a settlement map covering the plan and a margin.
 
     Parameters

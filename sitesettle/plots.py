@@ -79,7 +79,9 @@ def _failing(results: Results) -> tuple[np.ndarray, np.ndarray]:
     n = len(results.site.footings)
     if results.checks is None:
         return np.zeros(n, bool), np.zeros(0, bool)
-    return ~np.asarray(results.checks.footing_passed, bool), ~np.asarray(results.checks.pairs.passed, bool)
+    return ~np.asarray(results.checks.footing_passed, bool), ~np.asarray(
+        results.checks.pairs.passed, bool
+    )
 
 
 def _design_life_label(results: Results) -> str:
@@ -88,10 +90,23 @@ def _design_life_label(results: Results) -> str:
 
 
 def _add_north_arrow(ax) -> None:
-    ax.annotate("", xy=(0.955, 0.95), xytext=(0.955, 0.85), xycoords="axes fraction",
-                arrowprops=dict(arrowstyle="-|>,head_length=0.6,head_width=0.3", lw=1.6, color="black"))
-    ax.text(0.955, 0.955, "N", transform=ax.transAxes, ha="center", va="bottom", fontsize=10,
-            fontweight="bold")
+    ax.annotate(
+        "",
+        xy=(0.955, 0.95),
+        xytext=(0.955, 0.85),
+        xycoords="axes fraction",
+        arrowprops=dict(arrowstyle="-|>,head_length=0.6,head_width=0.3", lw=1.6, color="black"),
+    )
+    ax.text(
+        0.955,
+        0.955,
+        "N",
+        transform=ax.transAxes,
+        ha="center",
+        va="bottom",
+        fontsize=10,
+        fontweight="bold",
+    )
 
 
 def _add_scale_bar(ax, length_label: str) -> None:
@@ -104,10 +119,27 @@ def _add_scale_bar(ax, length_label: str) -> None:
     h = 0.012 * abs(y1 - y0)
     bx, by = min(x0, x1) + 0.04 * span, min(y0, y1) + 0.04 * abs(y1 - y0)
     for k in range(4):
-        ax.add_patch(Rectangle((bx + k * bar / 4, by), bar / 4, h, facecolor="black" if k % 2 == 0 else "white",
-                               edgecolor="black", lw=0.8, zorder=6))
+        ax.add_patch(
+            Rectangle(
+                (bx + k * bar / 4, by),
+                bar / 4,
+                h,
+                facecolor="black" if k % 2 == 0 else "white",
+                edgecolor="black",
+                lw=0.8,
+                zorder=6,
+            )
+        )
     ax.text(bx, by + 1.6 * h, "0", ha="center", va="bottom", fontsize=7, zorder=6)
-    ax.text(bx + bar, by + 1.6 * h, f"{bar:g} {length_label}", ha="center", va="bottom", fontsize=7, zorder=6)
+    ax.text(
+        bx + bar,
+        by + 1.6 * h,
+        f"{bar:g} {length_label}",
+        ha="center",
+        va="bottom",
+        fontsize=7,
+        zorder=6,
+    )
 
 
 def _set_plan_limits(ax, results: Results, L: float, pad_fraction: float = 0.08) -> None:
@@ -149,8 +181,16 @@ def _label_footings(ax, results: Results, L: float, *, only=None, fontsize: floa
         if nearest[i] < 2.2 * fontsize and (only is None):
             continue  # too crowded to read
         half = 0.5 * float(np.ptp(np.asarray(f.outline, float)[:, 1])) * L
-        ax.text(f.x * L, f.y * L + half, _esc(f.id), ha="center", va="bottom", fontsize=fontsize, zorder=7,
-                path_effects=[pe.withStroke(linewidth=2.2, foreground="white")])
+        ax.text(
+            f.x * L,
+            f.y * L + half,
+            _esc(f.id),
+            ha="center",
+            va="bottom",
+            fontsize=fontsize,
+            zorder=7,
+            path_effects=[pe.withStroke(linewidth=2.2, foreground="white")],
+        )
 
 
 def plan_figure(results: Results, *, ax=None, units: str = "si"):
@@ -183,15 +223,26 @@ def plan_figure(results: Results, *, ax=None, units: str = "si"):
     if results.checks is not None and len(results.checks.pairs.a):
         pc = results.checks.pairs
         segs = np.stack([xy[np.asarray(pc.a, int)], xy[np.asarray(pc.b, int)]], axis=1)
-        ax.add_collection(LineCollection(segs[~bad_p], colors=PAIR_COLOUR, linewidths=0.8, zorder=1))
+        ax.add_collection(
+            LineCollection(segs[~bad_p], colors=PAIR_COLOUR, linewidths=0.8, zorder=1)
+        )
         handles.append(Line2D([], [], color=PAIR_COLOUR, lw=0.8, label="checked pair, passes"))
         if bad_p.any():
-            ax.add_collection(LineCollection(segs[bad_p], colors=FAIL_COLOUR, linewidths=3.2, zorder=4,
-                                             capstyle="round"))
+            ax.add_collection(
+                LineCollection(
+                    segs[bad_p], colors=FAIL_COLOUR, linewidths=3.2, zorder=4, capstyle="round"
+                )
+            )
             handles.append(Line2D([], [], color=FAIL_COLOUR, lw=3.2, label="pair fails its limit"))
 
-    patches = PatchCollection(_footing_patches(results, L), cmap=SETTLEMENT_CMAP, norm=norm,
-                              edgecolor="#222222", linewidths=0.6, zorder=3)
+    patches = PatchCollection(
+        _footing_patches(results, L),
+        cmap=SETTLEMENT_CMAP,
+        norm=norm,
+        edgecolor="#222222",
+        linewidths=0.6,
+        zorder=3,
+    )
     patches.set_array(np.ma.masked_invalid(total))
     ax.add_collection(patches)
     if bad_f.any():
@@ -199,9 +250,19 @@ def plan_figure(results: Results, *, ax=None, units: str = "si"):
 
         for f, bad in zip(results.site.footings, bad_f):
             if bad:
-                ax.add_patch(Polygon(np.asarray(f.outline, float) * L, closed=True, fill=False,
-                                     edgecolor=FAIL_COLOUR, linewidth=2.6, zorder=5))
-        handles.append(Patch(facecolor="none", edgecolor=FAIL_COLOUR, linewidth=2.6, label="footing fails"))
+                ax.add_patch(
+                    Polygon(
+                        np.asarray(f.outline, float) * L,
+                        closed=True,
+                        fill=False,
+                        edgecolor=FAIL_COLOUR,
+                        linewidth=2.6,
+                        zorder=5,
+                    )
+                )
+        handles.append(
+            Patch(facecolor="none", edgecolor=FAIL_COLOUR, linewidth=2.6, label="footing fails")
+        )
     if results.checks is None:
         handles.append(Patch(facecolor="none", edgecolor="none", label="no checks were run"))
 
@@ -227,7 +288,6 @@ def contour_figure(results: Results, *, ax=None, units: str = "si"):
     Without a map, the footing values are interpolated on their Delaunay triangles
     and the figure says so: such contours are not a computed settlement field.
     """
-    import matplotlib.patheffects as pe
     from matplotlib.collections import PatchCollection
 
     fig, ax = _new_axes(ax, (9.0, 7.0))
@@ -242,46 +302,94 @@ def contour_figure(results: Results, *, ax=None, units: str = "si"):
         x, y = np.asarray(m.x, float) * L, np.asarray(m.y, float) * L
         if levels.size >= 2:
             step = levels[1] - levels[0]
-            fill_levels = np.concatenate([[levels[0] - step] if np.nanmin(z) < levels[0] else [],
-                                          levels, [levels[-1] + step] if np.nanmax(z) > levels[-1] else []])
-            filled = ax.contourf(x, y, np.ma.masked_invalid(z), levels=fill_levels, cmap=cmap, zorder=1)
+            fill_levels = np.concatenate(
+                [
+                    [levels[0] - step] if np.nanmin(z) < levels[0] else [],
+                    levels,
+                    [levels[-1] + step] if np.nanmax(z) > levels[-1] else [],
+                ]
+            )
+            filled = ax.contourf(
+                x, y, np.ma.masked_invalid(z), levels=fill_levels, cmap=cmap, zorder=1
+            )
             # the same contour generator (contourpy) as sitesettle.mapping.contour_lines uses for
             # site.gpkg; matplotlib places the labels in gaps along the lines
-            cs = ax.contour(x, y, np.ma.masked_invalid(z), levels=levels, colors="black", linewidths=0.7,
-                            zorder=2)
+            cs = ax.contour(
+                x,
+                y,
+                np.ma.masked_invalid(z),
+                levels=levels,
+                colors="black",
+                linewidths=0.7,
+                zorder=2,
+            )
             ax.clabel(cs, fmt="%g", fontsize=7, inline=True, inline_spacing=3)
         method = f"map: {_esc(m.method)}"
     else:
-        method = "no settlement map was computed: contours interpolated between footing values (not a computed field)"
+        method = (
+            "no settlement map was computed: contours interpolated between footing values "
+            "(not a computed field)"
+        )
         xy = np.array([[f.x, f.y] for f in results.site.footings]) * L
         total = results.at_design_life() * S
         levels = contour_levels(total)
         ok = np.isfinite(total)
-        if ok.sum() >= 3 and levels.size >= 2 and np.linalg.matrix_rank(xy[ok] - xy[ok].mean(axis=0)) == 2:
+        if (
+            ok.sum() >= 3
+            and levels.size >= 2
+            and np.linalg.matrix_rank(xy[ok] - xy[ok].mean(axis=0)) == 2
+        ):
             import matplotlib.tri as mtri
 
             tri = mtri.Triangulation(xy[ok, 0], xy[ok, 1])
             step = levels[1] - levels[0]
-            filled = ax.tricontourf(tri, total[ok], levels=np.concatenate([[levels[0] - step], levels,
-                                                                           [levels[-1] + step]]),
-                                    cmap=cmap, zorder=1)
-            cs = ax.tricontour(tri, total[ok], levels=levels, colors="black", linewidths=0.7, zorder=2)
+            filled = ax.tricontourf(
+                tri,
+                total[ok],
+                levels=np.concatenate([[levels[0] - step], levels, [levels[-1] + step]]),
+                cmap=cmap,
+                zorder=1,
+            )
+            cs = ax.tricontour(
+                tri, total[ok], levels=levels, colors="black", linewidths=0.7, zorder=2
+            )
             ax.clabel(cs, fmt="%g", fontsize=7)
-    ax.add_collection(PatchCollection(_footing_patches(results, L), facecolor=(1, 1, 1, 0.55),
-                                      edgecolor="black", linewidths=0.9, zorder=4))
+    ax.add_collection(
+        PatchCollection(
+            _footing_patches(results, L),
+            facecolor=(1, 1, 1, 0.55),
+            edgecolor="black",
+            linewidths=0.9,
+            zorder=4,
+        )
+    )
     _set_plan_limits(ax, results, L, pad_fraction=0.1)
     if m is not None:
-        ax.set_xlim(min(ax.get_xlim()[0], float(np.min(m.x)) * L), max(ax.get_xlim()[1], float(np.max(m.x)) * L))
-        ax.set_ylim(min(ax.get_ylim()[0], float(np.min(m.y)) * L), max(ax.get_ylim()[1], float(np.max(m.y)) * L))
+        ax.set_xlim(
+            min(ax.get_xlim()[0], float(np.min(m.x)) * L),
+            max(ax.get_xlim()[1], float(np.max(m.x)) * L),
+        )
+        ax.set_ylim(
+            min(ax.get_ylim()[0], float(np.min(m.y)) * L),
+            max(ax.get_ylim()[1], float(np.max(m.y)) * L),
+        )
     if filled is not None:
         cb = fig.colorbar(filled, ax=ax, shrink=0.85, pad=0.02)
         cb.set_label(f"settlement at {_design_life_label(results)} [{su}]")
     _label_footings(ax, results, L)
     _add_north_arrow(ax)
     _add_scale_bar(ax, lu)
-    ax.text(0.99, 0.015, textwrap.fill(method, 60), transform=ax.transAxes, fontsize=8, ha="right",
-            va="bottom", zorder=8,
-            bbox=dict(boxstyle="round,pad=0.3", facecolor="white", edgecolor="#999999", alpha=0.95))
+    ax.text(
+        0.99,
+        0.015,
+        textwrap.fill(method, 60),
+        transform=ax.transAxes,
+        fontsize=8,
+        ha="right",
+        va="bottom",
+        zorder=8,
+        bbox=dict(boxstyle="round,pad=0.3", facecolor="white", edgecolor="#999999", alpha=0.95),
+    )
     ax.set_xlabel(f"x (east) [{lu}]")
     ax.set_ylabel(f"y (north) [{lu}]")
     ax.set_title(f"{_esc(results.site.name)} — settlement contours", loc="left", fontsize=11)
@@ -318,13 +426,22 @@ def time_figure(results: Results, *, ax=None, units: str = "si"):
         fig, (ax1, ax2) = plt.subplots(1, 2, figsize=(11.0, 4.6), layout="constrained")
     else:
         fig, ax1, ax2 = ax.figure, ax, None
-    order = np.argsort(-np.nan_to_num(total[:, results.design_life_index], nan=-np.inf), kind="stable")
+    order = np.argsort(
+        -np.nan_to_num(total[:, results.design_life_index], nan=-np.inf), kind="stable"
+    )
     bad_f, _ = _failing(results)
     colours = plt.get_cmap("tab10")
     for k, i in enumerate(order[:TIME_FIGURE_FOOTINGS]):
         style = dict(lw=2.4 if bad_f[i] else 1.5, ls="-" if bad_f[i] else "--")
-        ax1.plot(times, total[i], marker="o", ms=3.5, color=colours(k % 10),
-                 label=_esc(results.ids[i]) + (" (fails)" if bad_f[i] else ""), **style)
+        ax1.plot(
+            times,
+            total[i],
+            marker="o",
+            ms=3.5,
+            color=colours(k % 10),
+            label=_esc(results.ids[i]) + (" (fails)" if bad_f[i] else ""),
+            **style,
+        )
     if results.checks is not None:
         lim = results.checks.footing_limit_total * S
         if math.isfinite(lim):
@@ -334,24 +451,42 @@ def time_figure(results: Results, *, ax=None, units: str = "si"):
             continue
         a.set_xscale("log")
         a.axvline(life, color="#555555", lw=0.8, ls="-.")
-        a.text(life, 1.0, " design life", transform=a.get_xaxis_transform(), fontsize=7, va="top",
-               color="#555555")
+        a.text(
+            life,
+            1.0,
+            " design life",
+            transform=a.get_xaxis_transform(),
+            fontsize=7,
+            va="top",
+            color="#555555",
+        )
         a.grid(True, which="both", color="#e6e6e6", lw=0.5)
         a.set_xlabel("time since loading [yr] (log scale)")
     _downward(ax1)
     ax1.set_ylabel(f"total settlement [{su}]")
-    ax1.set_title(f"worst {min(TIME_FIGURE_FOOTINGS, len(order))} footings", loc="left", fontsize=10)
+    ax1.set_title(
+        f"worst {min(TIME_FIGURE_FOOTINGS, len(order))} footings", loc="left", fontsize=10
+    )
     ax1.legend(fontsize=8, loc="lower left")
     if ax2 is not None:
         p = _worst_pair(results)
         if p is None:
-            ax2.text(0.5, 0.5, "no pairs were checked", transform=ax2.transAxes, ha="center", va="center")
+            ax2.text(
+                0.5, 0.5, "no pairs were checked", transform=ax2.transAxes, ha="center", va="center"
+            )
         else:
             pc = results.checks.pairs
             a, b = int(pc.a[p]), int(pc.b[p])
             diff = np.abs(total[a] - total[b])
-            ax2.plot(times, diff, marker="s", ms=3.5, color="#333333", lw=1.8,
-                     label=f"|s({_esc(results.ids[a])}) − s({_esc(results.ids[b])})|")
+            ax2.plot(
+                times,
+                diff,
+                marker="s",
+                ms=3.5,
+                color="#333333",
+                lw=1.8,
+                label=f"|s({_esc(results.ids[a])}) − s({_esc(results.ids[b])})|",
+            )
             measure = pc.limit_measure[p] if len(pc.limit_measure) > p else ""
             allowed = math.nan
             if measure == "angular_distortion":
@@ -359,13 +494,20 @@ def time_figure(results: Results, *, ax=None, units: str = "si"):
             elif measure == "differential":
                 allowed = float(pc.limit_value[p]) * S
             if math.isfinite(allowed):
-                ax2.axhline(allowed, color=FAIL_COLOUR, lw=1.2, ls=":",
-                            label=f"allowed {allowed:.3g} {su} ({_esc(pc.limit[p])})")
+                ax2.axhline(
+                    allowed,
+                    color=FAIL_COLOUR,
+                    lw=1.2,
+                    ls=":",
+                    label=f"allowed {allowed:.3g} {su} ({_esc(pc.limit[p])})",
+                )
             _downward(ax2)
             ax2.legend(fontsize=8, loc="lower left")
         ax2.set_ylabel(f"differential settlement [{su}]")
         ax2.set_title("worst pair", loc="left", fontsize=10)
-    fig.suptitle(f"{_esc(results.site.name)} — settlement with time", x=0.01, ha="left", fontsize=11)
+    fig.suptitle(
+        f"{_esc(results.site.name)} — settlement with time", x=0.01, ha="left", fontsize=11
+    )
     return fig
 
 
@@ -387,8 +529,16 @@ def section_figure(section: Section, *, ax=None, units: str = "si"):
         k = used.get(beh, 0)
         used[beh] = k + 1
         colour = colours[k % len(colours)]
-        ax.fill_between(d, bounds[i], bounds[i + 1], facecolor=colour, edgecolor="#6b6b6b", hatch=hatch,
-                        linewidth=0.0, zorder=1)
+        ax.fill_between(
+            d,
+            bounds[i],
+            bounds[i + 1],
+            facecolor=colour,
+            edgecolor="#6b6b6b",
+            hatch=hatch,
+            linewidth=0.0,
+            zorder=1,
+        )
         ax.plot(d, bounds[i], color="#4d4d4d", lw=0.8, zorder=2)
         label = _esc(name) + (f" ({beh})" if beh else "")
         handles.append(Patch(facecolor=colour, edgecolor="#6b6b6b", hatch=hatch, label=label))
@@ -403,12 +553,30 @@ def section_figure(section: Section, *, ax=None, units: str = "si"):
     for f in section.footings:
         x0, width, base = f.distance * L, f.width * L, f.depth * L
         thick = min(0.5 * L, 0.45 * base) if base > 0 else 0.3 * L
-        ax.add_patch(Rectangle((x0 - width / 2, base - thick), width, thick, facecolor="#5a5a5a",
-                               edgecolor="black", zorder=6))
+        ax.add_patch(
+            Rectangle(
+                (x0 - width / 2, base - thick),
+                width,
+                thick,
+                facecolor="#5a5a5a",
+                edgecolor="black",
+                zorder=6,
+            )
+        )
         stub = max(width * 0.18, 0.25 * L)
-        ax.add_patch(Polygon([[x0 - stub / 2, -0.6 * L], [x0 + stub / 2, -0.6 * L],
-                              [x0 + stub / 2, base - thick], [x0 - stub / 2, base - thick]],
-                             facecolor="#8a8a8a", edgecolor="black", zorder=6))
+        ax.add_patch(
+            Polygon(
+                [
+                    [x0 - stub / 2, -0.6 * L],
+                    [x0 + stub / 2, -0.6 * L],
+                    [x0 + stub / 2, base - thick],
+                    [x0 - stub / 2, base - thick],
+                ],
+                facecolor="#8a8a8a",
+                edgecolor="black",
+                zorder=6,
+            )
+        )
         label = _esc(f.id)
         if math.isfinite(f.settlement):
             label += f"\n{f.settlement * S:.1f} {su}"
@@ -420,7 +588,12 @@ def section_figure(section: Section, *, ax=None, units: str = "si"):
     ax.set_ylabel(f"depth below ground [{lu}]")
     title = section.title or "Section"
     (x0, y0), (x1, y1) = section.start, section.end
-    ax.set_title(f"{_esc(title)} — from ({x0 * L:.1f}, {y0 * L:.1f}) to ({x1 * L:.1f}, {y1 * L:.1f}) {lu}",
-                 loc="left", fontsize=10)
-    ax.legend(handles=handles, loc="center left", bbox_to_anchor=(1.01, 0.5), fontsize=8, frameon=False)
+    ax.set_title(
+        f"{_esc(title)} — from ({x0 * L:.1f}, {y0 * L:.1f}) to ({x1 * L:.1f}, {y1 * L:.1f}) {lu}",
+        loc="left",
+        fontsize=10,
+    )
+    ax.legend(
+        handles=handles, loc="center left", bbox_to_anchor=(1.01, 0.5), fontsize=8, frameon=False
+    )
     return fig

@@ -22,51 +22,87 @@ from sitesettle.results import Results
 #: the cautions shown in every report and summary.json
 CAUTIONS: tuple[str, ...] = (
     "These results support, and never replace, the judgement of a licensed engineer.",
-    "Local codes and the project's own acceptance criteria govern; the built-in limits are published "
+    "Local codes and the project's own acceptance criteria govern; the built-in limits are "
+    "published "
     "guidance, not a code requirement for this project.",
     "Each method holds only within its range of validity (see Methods): Schmertmann's method for "
     "granular soils under static load; elastic strain integration for a linear elastic half-space; "
     "consolidation for saturated clays in one dimension; Burland & Burbidge for sand and gravel "
     "characterised by SPT.",
-    "Check the inputs echoed in this report against the site investigation before relying on the results.",
+    "Check the inputs echoed in this report against the site investigation before relying on the "
+    "results.",
 )
 
 #: (method, source, range of validity, keyword in Results.methods)
 METHOD_NOTES: tuple[tuple[str, str, str, str], ...] = (
-    ("Vertical stress from every footing (Boussinesq superposition)",
-     "Boussinesq (1885); Newmark (1935) rectangle corner formula; exact polygon edge sum",
-     "Linear elastic, homogeneous, isotropic half-space under flexible uniform loads; the stress of "
-     "all footings is superposed.", ""),
-    ("Schmertmann strain-influence method",
-     "Schmertmann (1970); Schmertmann, Hartman & Brown (1978) improved strain-influence diagrams",
-     "Granular soils (sand, gravel) under static load; modulus from cone resistance or given; "
-     "1978 diagrams with interpolation for 1 < L/B < 10.", "schmertmann"),
-    ("Elastic strain integration",
-     "Linear elastic half-space stresses (Boussinesq); Steinbrenner (1934) as a check on a layer",
-     "Linear elastic strata; ε_z = [Δσ_z − ν(Δσ_x + Δσ_y)] / E integrated to the influence depth or a "
-     "rigid base.", "elastic"),
-    ("Primary consolidation and secondary compression",
-     "Terzaghi (1925, 1943) one-dimensional consolidation; e–log σ' with Cc, Cr, σ'p; Cα after the end "
-     "of primary consolidation",
-     "Saturated clays and silts, one-dimensional compression and drainage; uniform initial excess "
-     "pore pressure.", "consolidation"),
-    ("Burland & Burbidge",
-     "Burland & Burbidge (1985), Settlement of foundations on sand and gravel, Proc. ICE 78",
-     "Sand and gravel characterised by SPT blow counts; static loads with the published time factor.",
-     "burland"),
+    (
+        "Vertical stress from every footing (Boussinesq superposition)",
+        "Boussinesq (1885); Newmark (1935) rectangle corner formula; exact polygon edge sum",
+        "Linear elastic, homogeneous, isotropic half-space under flexible uniform loads; the "
+        "stress of "
+        "all footings is superposed.",
+        "",
+    ),
+    (
+        "Schmertmann strain-influence method",
+        "Schmertmann (1970); Schmertmann, Hartman & Brown (1978) improved strain-influence "
+        "diagrams",
+        "Granular soils (sand, gravel) under static load; modulus from cone resistance or given; "
+        "1978 diagrams with interpolation for 1 < L/B < 10.",
+        "schmertmann",
+    ),
+    (
+        "Elastic strain integration",
+        "Linear elastic half-space stresses (Boussinesq); Steinbrenner (1934) as a check on a "
+        "layer",
+        "Linear elastic strata; ε_z = [Δσ_z − ν(Δσ_x + Δσ_y)] / E integrated to the influence "
+        "depth or a "
+        "rigid base.",
+        "elastic",
+    ),
+    (
+        "Primary consolidation and secondary compression",
+        "Terzaghi (1925, 1943) one-dimensional consolidation; e–log σ' with Cc, Cr, σ'p; Cα after "
+        "the end "
+        "of primary consolidation",
+        "Saturated clays and silts, one-dimensional compression and drainage; uniform initial "
+        "excess "
+        "pore pressure.",
+        "consolidation",
+    ),
+    (
+        "Burland & Burbidge",
+        "Burland & Burbidge (1985), Settlement of foundations on sand and gravel, Proc. ICE 78",
+        "Sand and gravel characterised by SPT blow counts; static loads with the published time "
+        "factor.",
+        "burland",
+    ),
 )
 
 #: headings of the report's sections, in order (tests look for every one)
-SECTIONS: tuple[str, ...] = ("Project", "Inputs", "Methods", "Results", "Figures", "Checks", "Warnings",
-                             "Cautions", "About this report")
+SECTIONS: tuple[str, ...] = (
+    "Project",
+    "Inputs",
+    "Methods",
+    "Results",
+    "Figures",
+    "Checks",
+    "Warnings",
+    "Cautions",
+    "About this report",
+)
 
 FIGURE_CAPTIONS: dict[str, str] = {
-    "plan": "Plan of the footings coloured by total settlement at the design life; failing footings and "
-            "pairs are outlined in magenta.",
-    "contours": "Settlement contours with the footings overlaid; the map's method is stated on the figure.",
-    "settlement_time": "Settlement with time of the worst footings, and the differential settlement of "
-                       "the worst pair.",
-    "section": "Section through the stratigraphy along a line through two footings, with the water table.",
+    "plan": "Plan of the footings coloured by total settlement at the design life; failing "
+    "footings and "
+    "pairs are outlined in magenta.",
+    "contours": "Settlement contours with the footings overlaid; the map's method is stated on the "
+    "figure.",
+    "settlement_time": "Settlement with time of the worst footings, and the differential "
+    "settlement of "
+    "the worst pair.",
+    "section": "Section through the stratigraphy along a line through two footings, with the water "
+    "table.",
 }
 
 _CSS = """
@@ -74,7 +110,8 @@ body{font-family:"DejaVu Sans",Helvetica,Arial,sans-serif;color:#1d1d1d;margin:0
 line-height:1.45;font-size:14px}
 main{max-width:1180px;margin:0 auto;padding:24px 32px 48px;background:#fff}
 h1{font-size:24px;margin:0 0 4px;border-bottom:3px solid #2f4b7c;padding-bottom:6px}
-h2{font-size:19px;margin:34px 0 10px;color:#2f4b7c;border-bottom:1px solid #c9d1de;padding-bottom:3px}
+h2{font-size:19px;margin:34px 0 10px;color:#2f4b7c;border-bottom:1px solid #c9d1de;
+padding-bottom:3px}
 h3{font-size:15px;margin:20px 0 6px}
 table{border-collapse:collapse;margin:6px 0 14px;font-size:12.5px}
 th,td{border:1px solid #cfd3d8;padding:3px 7px;text-align:left;vertical-align:top}
@@ -114,8 +151,13 @@ def _num(value: object, fmt: str = "{:.3g}") -> str:
     return fmt.format(v)
 
 
-def _table(header: list[str], rows: list[list[str]], *, row_classes: list[str] | None = None,
-           numeric: set[int] | None = None) -> str:
+def _table(
+    header: list[str],
+    rows: list[list[str]],
+    *,
+    row_classes: list[str] | None = None,
+    numeric: set[int] | None = None,
+) -> str:
     """An HTML table; cells must already be escaped."""
     numeric = numeric or set()
     out = ["<div class='scroll'><table><thead><tr>"]
@@ -124,14 +166,25 @@ def _table(header: list[str], rows: list[list[str]], *, row_classes: list[str] |
     for k, row in enumerate(rows):
         cls = f" class='{row_classes[k]}'" if row_classes and row_classes[k] else ""
         out.append(f"<tr{cls}>")
-        out += [f"<td class='num'>{c}</td>" if j in numeric else f"<td>{c}</td>" for j, c in enumerate(row)]
+        out += [
+            f"<td class='num'>{c}</td>" if j in numeric else f"<td>{c}</td>"
+            for j, c in enumerate(row)
+        ]
         out.append("</tr>")
     out.append("</tbody></table></div>")
     return "".join(out)
 
 
 #: footing columns shown in the settlement table (the rest go in the geometry table)
-_SETTLEMENT_COLUMNS = ("immediate_", "consolidation_", "secondary_", "total_", "own_", "neighbours_", "tilt")
+_SETTLEMENT_COLUMNS = (
+    "immediate_",
+    "consolidation_",
+    "secondary_",
+    "total_",
+    "own_",
+    "neighbours_",
+    "tilt",
+)
 
 
 def _df_table(df, status=None) -> str:
@@ -150,7 +203,9 @@ def _df_table(df, status=None) -> str:
         for c in text.columns:
             v = r[c]
             if c == "status":
-                cells.append(f"<span class='{_e(v) if v in ('pass', 'fail') else ''}'>{_e(v)}</span>")
+                cells.append(
+                    f"<span class='{_e(v) if v in ('pass', 'fail') else ''}'>{_e(v)}</span>"
+                )
             elif isinstance(v, (bool, np.bool_)):
                 cells.append("yes" if v else "no")
             else:
@@ -158,7 +213,9 @@ def _df_table(df, status=None) -> str:
         rows.append(cells)
         st = r.get("status") if status is None else status.iloc[len(classes)]
         classes.append("fail" if st == "fail" else "")
-    return _table([_e(_header(c)) for c in text.columns], rows, row_classes=classes, numeric=numeric)
+    return _table(
+        [_e(_header(c)) for c in text.columns], rows, row_classes=classes, numeric=numeric
+    )
 
 
 _HEADER_UNITS = ("mm", "in", "m", "ft", "kPa", "ksf", "kN", "kip", "deg", "yr")
@@ -183,19 +240,30 @@ def run_date() -> str:
 
 
 _STRATUM_FIELDS = (
-    ("behaviour", "behaviour", None), ("γ [kN/m³]", "unit_weight", "{:.1f}"),
-    ("γsat [kN/m³]", "saturated_unit_weight", "{:.1f}"), ("ν", "poisson", "{:.2f}"),
-    ("E [kPa]", "youngs_modulus", "{:.0f}"), ("qc [kPa]", "cone_resistance", "{:.0f}"),
-    ("N", "spt_n", "{:.0f}"), ("Cc", "compression_index", "{:.3g}"), ("Cr", "recompression_index", "{:.3g}"),
-    ("e0", "void_ratio", "{:.3g}"), ("σ'p [kPa]", "preconsolidation", "{:.0f}"), ("OCR", "ocr", "{:.2f}"),
-    ("cv [m²/yr]", "consolidation_coefficient", "{:.3g}"), ("Cα", "secondary_index", "{:.3g}"),
+    ("behaviour", "behaviour", None),
+    ("γ [kN/m³]", "unit_weight", "{:.1f}"),
+    ("γsat [kN/m³]", "saturated_unit_weight", "{:.1f}"),
+    ("ν", "poisson", "{:.2f}"),
+    ("E [kPa]", "youngs_modulus", "{:.0f}"),
+    ("qc [kPa]", "cone_resistance", "{:.0f}"),
+    ("N", "spt_n", "{:.0f}"),
+    ("Cc", "compression_index", "{:.3g}"),
+    ("Cr", "recompression_index", "{:.3g}"),
+    ("e0", "void_ratio", "{:.3g}"),
+    ("σ'p [kPa]", "preconsolidation", "{:.0f}"),
+    ("OCR", "ocr", "{:.2f}"),
+    ("cv [m²/yr]", "consolidation_coefficient", "{:.3g}"),
+    ("Cα", "secondary_index", "{:.3g}"),
     ("drainage", "drainage", None),
 )
 
 
 def _inputs(results: Results) -> str:
     site = results.site
-    parts = ["<h3>Strata</h3>", "<p class='note'>Parameters in core units as read (top-down order).</p>"]
+    parts = [
+        "<h3>Strata</h3>",
+        "<p class='note'>Parameters in core units as read (top-down order).</p>",
+    ]
     rows = []
     for s in site.strata:
         cells = [_e(s.name)]
@@ -208,22 +276,51 @@ def _inputs(results: Results) -> str:
         if s.use_soundings:
             cells[6] = "from soundings"
         rows.append(cells)
-    parts.append(_table(["name"] + [h for h, _, _ in _STRATUM_FIELDS], rows,
-                        numeric=set(range(2, len(_STRATUM_FIELDS) + 1)) - {15}))
+    parts.append(
+        _table(
+            ["name"] + [h for h, _, _ in _STRATUM_FIELDS],
+            rows,
+            numeric=set(range(2, len(_STRATUM_FIELDS) + 1)) - {15},
+        )
+    )
     parts.append("<h3>Boreholes</h3>")
     rows = []
     for b in site.boreholes:
-        layers = "; ".join(f"{_e(iv.stratum)} {iv.top:g}–{iv.bottom:g} m"
-                           + (" (" + ", ".join(f"{_e(k)} = {v:g}" for k, v in sorted(iv.overrides.items())) + ")"
-                              if iv.overrides else "")
-                           for iv in b.intervals)
-        rows.append([_e(b.id), _num(b.x, "{:.2f}"), _num(b.y, "{:.2f}"),
-                     _num(b.water_depth, "{:.2f}") if b.water_depth is not None else "–", layers])
-    parts.append(_table(["id", "x [m]", "y [m]", "water depth [m]", "strata (depth below ground)"], rows,
-                        numeric={1, 2, 3}))
+        layers = "; ".join(
+            f"{_e(iv.stratum)} {iv.top:g}–{iv.bottom:g} m"
+            + (
+                " (" + ", ".join(f"{_e(k)} = {v:g}" for k, v in sorted(iv.overrides.items())) + ")"
+                if iv.overrides
+                else ""
+            )
+            for iv in b.intervals
+        )
+        rows.append(
+            [
+                _e(b.id),
+                _num(b.x, "{:.2f}"),
+                _num(b.y, "{:.2f}"),
+                _num(b.water_depth, "{:.2f}") if b.water_depth is not None else "–",
+                layers,
+            ]
+        )
+    parts.append(
+        _table(
+            ["id", "x [m]", "y [m]", "water depth [m]", "strata (depth below ground)"],
+            rows,
+            numeric={1, 2, 3},
+        )
+    )
     if site.soundings:
-        rows = [[_e(s.id), _num(s.x, "{:.2f}"), _num(s.y, "{:.2f}"),
-                 _num(float(np.max(s.depth)) if len(s.depth) else math.nan, "{:.2f}")] for s in site.soundings]
+        rows = [
+            [
+                _e(s.id),
+                _num(s.x, "{:.2f}"),
+                _num(s.y, "{:.2f}"),
+                _num(float(np.max(s.depth)) if len(s.depth) else math.nan, "{:.2f}"),
+            ]
+            for s in site.soundings
+        ]
         parts.append("<h3>Cone soundings</h3>")
         parts.append(_table(["id", "x [m]", "y [m]", "final depth [m]"], rows, numeric={1, 2, 3}))
     fs = site.footings
@@ -239,11 +336,13 @@ def _inputs(results: Results) -> str:
             f"<dt>number</dt><dd>{len(fs)} ({_e(', '.join(shapes))})</dd>"
             f"<dt>width B</dt><dd>{min(widths):.2f} – {max(widths):.2f} m</dd>"
             f"<dt>base depth D</dt><dd>{min(depths):.2f} – {max(depths):.2f} m</dd>"
-            f"<dt>service load</dt><dd>{min(loads):.0f} – {max(loads):.0f} kN (total {sum(loads):.0f} kN)</dd>"
+            f"<dt>service load</dt><dd>{min(loads):.0f} – {max(loads):.0f} kN (total "
+            f"{sum(loads):.0f} kN)</dd>"
             f"<dt>site water table</dt><dd>{_e(water)}</dd>"
             f"<dt>design life</dt><dd>{site.analysis.design_life:g} yr</dd>"
             f"<dt>coordinate system</dt><dd>{_e(site.crs) if site.crs else 'none given'}</dd>"
-            "</dl>")
+            "</dl>"
+        )
     return "".join(parts)
 
 
@@ -255,10 +354,20 @@ def _methods(results: Results) -> str:
         rows.append([_e(name), _e(source), _e(validity), flag])
     rows_html = _table(["method", "source", "range of validity", "used here"], rows)
     m = results.map
-    note = (f"<p>Settlement map: {_e(m.method)}.</p>" if m is not None
-            else "<p>No settlement map was computed; any contours are interpolated between footing values.</p>")
-    return rows_html + note + ("<p class='note'>Rigid footings settle as the mean of their four "
-                               "characteristic points; flexible ones report the centre.</p>")
+    note = (
+        f"<p>Settlement map: {_e(m.method)}.</p>"
+        if m is not None
+        else "<p>No settlement map was computed; any contours are interpolated between footing "
+        "values.</p>"
+    )
+    return (
+        rows_html
+        + note
+        + (
+            "<p class='note'>Rigid footings settle as the mean of their four "
+            "characteristic points; flexible ones report the centre.</p>"
+        )
+    )
 
 
 def _checks(results: Results, units: str) -> str:
@@ -267,42 +376,77 @@ def _checks(results: Results, units: str) -> str:
         return "<p>No movement checks were run.</p>"
     S, su = (1000.0 / 25.4, "in") if units == "us" else (1000.0, "mm")
     ids = results.ids
-    verdict = ("<span class='pass'>all checks pass</span>" if c.all_passed
-               else "<span class='fail'>some checks fail</span>")
+    verdict = (
+        "<span class='pass'>all checks pass</span>"
+        if c.all_passed
+        else "<span class='fail'>some checks fail</span>"
+    )
     parts = [f"<p>Criteria: <b>{_e(c.criteria)}</b> — {verdict}.</p>"]
     limits = sorted({(lim, src) for lim, src in zip(c.pairs.limit, c.pairs.limit_source)})
-    rows = [["total settlement of a footing", f"≤ {c.footing_limit_total * S:.4g} {su}",
-             _e(c.footing_limit_source)]]
+    rows = [
+        [
+            "total settlement of a footing",
+            f"≤ {c.footing_limit_total * S:.4g} {su}",
+            _e(c.footing_limit_source),
+        ]
+    ]
     rows += [["pairs", _e(lim), _e(src)] for lim, src in limits]
     if c.lines is not None:
-        rows += [["structure lines", _e(lim), _e(src)]
-                 for lim, src in sorted(set(zip(c.lines.limit, c.lines.limit_source)))]
+        rows += [
+            ["structure lines", _e(lim), _e(src)]
+            for lim, src in sorted(set(zip(c.lines.limit, c.lines.limit_source)))
+        ]
     parts.append(_table(["applies to", "limit", "source"], rows))
     if c.checked_after > 0:
         parts.append(f"<p>Only the movement after {c.checked_after:g} yr is checked for pairs.</p>")
     bad_f = [_e(i) for i, p in zip(ids, c.footing_passed) if not p]
-    bad_p = [f"{_e(ids[int(a)])} – {_e(ids[int(b)])}" for a, b, p in zip(c.pairs.a, c.pairs.b, c.pairs.passed)
-             if not p]
-    parts.append("<dl class='kv'>"
-                 f"<dt>failing footings</dt><dd>{', '.join(bad_f) if bad_f else 'none'}</dd>"
-                 f"<dt>failing pairs</dt><dd>{', '.join(bad_p) if bad_p else 'none'}</dd>"
-                 f"<dt>building tilt</dt><dd>{_num(c.building_tilt, '{:.3g}')} rad toward "
-                 f"{_num(c.building_tilt_direction, '{:.0f}')}° from east</dd>"
-                 "</dl>")
+    bad_p = [
+        f"{_e(ids[int(a)])} – {_e(ids[int(b)])}"
+        for a, b, p in zip(c.pairs.a, c.pairs.b, c.pairs.passed)
+        if not p
+    ]
+    parts.append(
+        "<dl class='kv'>"
+        f"<dt>failing footings</dt><dd>{', '.join(bad_f) if bad_f else 'none'}</dd>"
+        f"<dt>failing pairs</dt><dd>{', '.join(bad_p) if bad_p else 'none'}</dd>"
+        f"<dt>building tilt</dt><dd>{_num(c.building_tilt, '{:.3g}')} rad toward "
+        f"{_num(c.building_tilt_direction, '{:.0f}')}° from east</dd>"
+        "</dl>"
+    )
     if c.lines is not None and len(c.lines.ids):
-        rows = [[_e(" → ".join(line)), _num(length, "{:.2f}"), _num(ratio, "{:.3g}"), _e(lim),
-                 _num(u, "{:.2f}"), "pass" if p else "fail"]
-                for line, length, ratio, lim, u, p in zip(c.lines.ids, c.lines.length, c.lines.deflection_ratio,
-                                                          c.lines.limit, c.lines.utilisation, c.lines.passed)]
+        rows = [
+            [
+                _e(" → ".join(line)),
+                _num(length, "{:.2f}"),
+                _num(ratio, "{:.3g}"),
+                _e(lim),
+                _num(u, "{:.2f}"),
+                "pass" if p else "fail",
+            ]
+            for line, length, ratio, lim, u, p in zip(
+                c.lines.ids,
+                c.lines.length,
+                c.lines.deflection_ratio,
+                c.lines.limit,
+                c.lines.utilisation,
+                c.lines.passed,
+            )
+        ]
         parts.append("<h3>Structure lines</h3>")
-        parts.append(_table(["footings", "length [m]", "Δ/L", "limit", "utilisation", "status"], rows,
-                            numeric={1, 2, 4}))
+        parts.append(
+            _table(
+                ["footings", "length [m]", "Δ/L", "limit", "utilisation", "status"],
+                rows,
+                numeric={1, 2, 4},
+            )
+        )
     parts.append("<p>Sources cited: " + "; ".join(_e(s) for s in c.sources) + ".</p>")
     return "".join(parts)
 
 
-def render_report(results: Results, figures: dict[str, bytes], *, units: str = "si",
-                  date: str | None = None) -> str:
+def render_report(
+    results: Results, figures: dict[str, bytes], *, units: str = "si", date: str | None = None
+) -> str:
     """The whole report as one HTML string.
 
     Parameters
@@ -323,9 +467,12 @@ def render_report(results: Results, figures: dict[str, bytes], *, units: str = "
     summary = summary_dict(results, units)
     S, su = (1000.0 / 25.4, "in") if units == "us" else (1000.0, "mm")
     title = f"Settlement report — {_e(site.name)}"
-    body = [f"<h1>{title}</h1>",
-            f"<p class='note'>sitesettle {_e(sitesettle.__version__)} · design life "
-            f"{_e(summary['design_life_yr'])} yr · units {'US customary' if units == 'us' else 'SI'}</p>"]
+    body = [
+        f"<h1>{title}</h1>",
+        f"<p class='note'>sitesettle {_e(sitesettle.__version__)} · design life "
+        f"{_e(summary['design_life_yr'])} yr · units "
+        f"{'US customary' if units == 'us' else 'SI'}</p>",
+    ]
 
     body.append(f"<h2 id='project'>{SECTIONS[0]}</h2>")
     info = "".join(f"<dt>{_e(k)}</dt><dd>{_e(v)}</dd>" for k, v in site.info.items())
@@ -333,13 +480,18 @@ def render_report(results: Results, figures: dict[str, bytes], *, units: str = "
     total = results.at_design_life() * S
     verdict = ""
     if results.checks is not None:
-        verdict = (" All checks pass." if results.checks.all_passed else
-                   f" <span class='fail'>{len(summary['failing_footings'])} footing(s) and "
-                   f"{len(summary['failing_pairs'])} pair(s) fail.</span>")
+        verdict = (
+            " All checks pass."
+            if results.checks.all_passed
+            else f" <span class='fail'>{len(summary['failing_footings'])} footing(s) and "
+            f"{len(summary['failing_pairs'])} pair(s) fail.</span>"
+        )
     if np.isfinite(total).any():
         worst = summary["worst_footing"]
-        body.append(f"<p>{len(results.ids)} footings; largest total settlement {np.nanmax(total):.1f} {su} "
-                    f"at footing {_e(worst)}.{verdict}</p>")
+        body.append(
+            f"<p>{len(results.ids)} footings; largest total settlement {np.nanmax(total):.1f} {su} "
+            f"at footing {_e(worst)}.{verdict}</p>"
+        )
 
     body.append(f"<h2 id='inputs'>{SECTIONS[1]}</h2>")
     body.append(_inputs(results))
@@ -348,11 +500,17 @@ def render_report(results: Results, figures: dict[str, bytes], *, units: str = "
     body.append(f"<h2 id='results'>{SECTIONS[3]}</h2>")
     ft = footing_table(results, units)
     settle_cols = [c for c in ft.columns if c.startswith(_SETTLEMENT_COLUMNS)]
-    body.append(f"<h3>Footing settlements at the design life ({_e(summary['design_life_yr'])} yr)</h3>")
+    body.append(
+        f"<h3>Footing settlements at the design life ({_e(summary['design_life_yr'])} yr)</h3>"
+    )
     body.append(_df_table(ft[["id"] + settle_cols + ["status", "reasons"]], status=ft["status"]))
     body.append("<h3>Footing geometry, loads and methods</h3>")
-    body.append(_df_table(ft[[c for c in ft.columns if c not in settle_cols + ["status", "reasons"]]],
-                          status=ft["status"]))
+    body.append(
+        _df_table(
+            ft[[c for c in ft.columns if c not in settle_cols + ["status", "reasons"]]],
+            status=ft["status"],
+        )
+    )
     body.append("<h3>Pairs</h3>")
     pt = pair_table(results, units)
     body.append(_df_table(pt) if len(pt) else "<p>No pairs were checked.</p>")
@@ -363,8 +521,10 @@ def render_report(results: Results, figures: dict[str, bytes], *, units: str = "
     for name, png in figures.items():
         data = base64.b64encode(png).decode("ascii")
         caption = FIGURE_CAPTIONS.get(name, name)
-        body.append(f"<figure><img src='data:image/png;base64,{data}' alt='{_e(name)} figure'>"
-                    f"<figcaption>{_e(caption)}</figcaption></figure>")
+        body.append(
+            f"<figure><img src='data:image/png;base64,{data}' alt='{_e(name)} figure'>"
+            f"<figcaption>{_e(caption)}</figcaption></figure>"
+        )
 
     body.append(f"<h2 id='checks'>{SECTIONS[5]}</h2>")
     body.append(_checks(results, units))
@@ -374,10 +534,16 @@ def render_report(results: Results, figures: dict[str, bytes], *, units: str = "
     else:
         body.append("<p>No warnings.</p>")
     body.append(f"<h2 id='cautions'>{SECTIONS[7]}</h2>")
-    body.append("<div class='box'><ul>" + "".join(f"<li>{_e(c)}</li>" for c in CAUTIONS) + "</ul></div>")
+    body.append(
+        "<div class='box'><ul>" + "".join(f"<li>{_e(c)}</li>" for c in CAUTIONS) + "</ul></div>"
+    )
     body.append(f"<h2 id='about'>{SECTIONS[8]}</h2>")
-    body.append(f"<p>Made by sitesettle {_e(sitesettle.__version__)} on {_e(date or run_date())}.</p>")
-    return ("<!DOCTYPE html>\n<html lang='en'><head><meta charset='utf-8'>"
-            "<meta name='viewport' content='width=device-width, initial-scale=1'>"
-            f"<title>{title}</title><style>{_CSS}</style></head>"
-            f"<body><main>{''.join(body)}</main></body></html>\n")
+    body.append(
+        f"<p>Made by sitesettle {_e(sitesettle.__version__)} on {_e(date or run_date())}.</p>"
+    )
+    return (
+        "<!DOCTYPE html>\n<html lang='en'><head><meta charset='utf-8'>"
+        "<meta name='viewport' content='width=device-width, initial-scale=1'>"
+        f"<title>{title}</title><style>{_CSS}</style></head>"
+        f"<body><main>{''.join(body)}</main></body></html>\n"
+    )

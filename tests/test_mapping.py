@@ -24,13 +24,26 @@ ROUND_MANTISSAS = (1.0, 2.0, 2.5, 5.0)
 
 def _is_round(step: float) -> bool:
     """step is 1, 2, 2.5 or 5 × 10^k (to a relative 1e-6: levels carry binary noise)."""
-    return any(abs(step / (m * 10.0**e) - 1.0) < 1e-6 for e in range(-9, 9) for m in ROUND_MANTISSAS)
+    return any(
+        abs(step / (m * 10.0**e) - 1.0) < 1e-6 for e in range(-9, 9) for m in ROUND_MANTISSAS
+    )
 
 
-@pytest.mark.parametrize("value, up, expected", [
-    (1.0, True, 1.0), (1.01, True, 2.0), (2.1, True, 2.5), (2.6, True, 5.0), (7.0, True, 10.0),
-    (0.0031, True, 0.005), (4300.0, True, 5000.0), (3.2, False, 2.5), (4.0, False, 5.0), (1.3, False, 1.0),
-])
+@pytest.mark.parametrize(
+    "value, up, expected",
+    [
+        (1.0, True, 1.0),
+        (1.01, True, 2.0),
+        (2.1, True, 2.5),
+        (2.6, True, 5.0),
+        (7.0, True, 10.0),
+        (0.0031, True, 0.005),
+        (4300.0, True, 5000.0),
+        (3.2, False, 2.5),
+        (4.0, False, 5.0),
+        (1.3, False, 1.0),
+    ],
+)
 def test_nice_step(value, up, expected):
     assert nice_step(value, up=up) == expected
 
@@ -46,7 +59,9 @@ def test_contour_levels_are_round_multiples_inside_the_range(lo, spread, max_lev
     hi = lo + spread
     levels = contour_levels(np.array([lo, hi, np.nan]), max_levels=max_levels)
     assert 1 <= levels.size <= max_levels
-    assert levels.min() >= lo - 1e-9 * max(1, abs(lo)) and levels.max() <= hi + 1e-9 * max(1, abs(hi))
+    assert levels.min() >= lo - 1e-9 * max(1, abs(lo)) and levels.max() <= hi + 1e-9 * max(
+        1, abs(hi)
+    )
     if levels.size >= 2:
         steps = np.diff(levels)
         step = steps[0]
@@ -54,7 +69,12 @@ def test_contour_levels_are_round_multiples_inside_the_range(lo, spread, max_lev
         assert _is_round(step)
         assert np.allclose(levels / step, np.round(levels / step), atol=1e-6)
         # the finest round step that fits: the next finer round step gives too many levels
-        finer = max(m * 10.0**e for e in range(-8, 6) for m in ROUND_MANTISSAS if m * 10.0**e < step * (1 - 1e-9))
+        finer = max(
+            m * 10.0**e
+            for e in range(-8, 6)
+            for m in ROUND_MANTISSAS
+            if m * 10.0**e < step * (1 - 1e-9)
+        )
         n_finer = math.floor(hi / finer + 1e-9) - math.ceil(lo / finer - 1e-9) + 1
         assert n_finer > max_levels
 

@@ -9,7 +9,6 @@ and against pint, an independent units library.
 from __future__ import annotations
 
 import json
-import os
 import pathlib
 import subprocess
 import sys
@@ -30,12 +29,16 @@ from sitesettle.units import convert
 
 # The CSV files keep 3 decimals of mm and m (so a value is within 0.0005 of the truth)
 MM_TOL = 0.0005 + 1e-12
-CHECKER = [pathlib.Path(__file__).resolve().parents[2] / "shared" / "tools" / "check_results.py",
-           pathlib.Path("/work/shared/tools/check_results.py")]
+CHECKER = [
+    pathlib.Path(__file__).resolve().parents[2] / "shared" / "tools" / "check_results.py",
+    pathlib.Path("/work/shared/tools/check_results.py"),
+]
 
 
 def _read_csv(path):
-    return pd.read_csv(path, dtype={"id": str, "a": str, "b": str}, keep_default_na=False, na_values=[""])
+    return pd.read_csv(
+        path, dtype={"id": str, "a": str, "b": str}, keep_default_na=False, na_values=[""]
+    )
 
 
 def _snapshot(folder: pathlib.Path) -> dict[str, bytes]:
@@ -45,7 +48,9 @@ def _snapshot(folder: pathlib.Path) -> dict[str, bytes]:
 @pytest.fixture(scope="module")
 def written(tmp_path_factory):
     results = make_results()
-    out = write_results(results, tmp_path_factory.mktemp("run") / "results", section=make_section(results))
+    out = write_results(
+        results, tmp_path_factory.mktemp("run") / "results", section=make_section(results)
+    )
     return results, out
 
 
@@ -63,10 +68,17 @@ def test_footings_csv_reads_back_with_the_results_values(written):
     f = _read_csv(out / "footings.csv")
     life = r.design_life_index
     assert list(f["id"]) == list(r.ids)
-    for name, arr in [("immediate", r.immediate), ("consolidation", r.consolidation),
-                      ("secondary", r.secondary), ("total", r.total), ("own", r.own),
-                      ("neighbours", r.neighbours)]:
-        np.testing.assert_allclose(f[f"{name}_mm"], arr[:, life] * 1000, rtol=0, atol=MM_TOL, err_msg=name)
+    for name, arr in [
+        ("immediate", r.immediate),
+        ("consolidation", r.consolidation),
+        ("secondary", r.secondary),
+        ("total", r.total),
+        ("own", r.own),
+        ("neighbours", r.neighbours),
+    ]:
+        np.testing.assert_allclose(
+            f[f"{name}_mm"], arr[:, life] * 1000, rtol=0, atol=MM_TOL, err_msg=name
+        )
     np.testing.assert_allclose(f["x_m"], [ft.x for ft in r.site.footings], atol=MM_TOL)
     np.testing.assert_allclose(f["q_net_kPa"], r.net_pressure, atol=0.005 + 1e-12)
     np.testing.assert_allclose(f["tilt"], r.tilt, rtol=1e-5)  # 6 significant figures
@@ -77,7 +89,9 @@ def test_footings_csv_reads_back_with_the_results_values(written):
     assert list(f["status"]) == expected and "fail" in expected and "pass" in expected
     assert f.loc[f.status == "fail", "reasons"].str.contains("50 mm").all()
     # the contract: total = immediate + consolidation + secondary = own + neighbours
-    np.testing.assert_allclose(f.immediate_mm + f.consolidation_mm + f.secondary_mm, f.total_mm, atol=3 * MM_TOL)
+    np.testing.assert_allclose(
+        f.immediate_mm + f.consolidation_mm + f.secondary_mm, f.total_mm, atol=3 * MM_TOL
+    )
     np.testing.assert_allclose(f.own_mm + f.neighbours_mm, f.total_mm, atol=2 * MM_TOL)
 
 
@@ -113,11 +127,16 @@ def test_summary_json(written):
     assert s["max_total_mm"] == pytest.approx(total.max(), abs=MM_TOL)
     assert s["worst_footing"] == r.ids[int(np.argmax(total))]
     assert s["failing_footings"] == [i for i, ok in zip(r.ids, r.checks.footing_passed) if not ok]
-    assert s["failing_pairs"] == [[r.ids[a], r.ids[b]] for a, b, ok in
-                                  zip(r.checks.pairs.a, r.checks.pairs.b, r.checks.pairs.passed) if not ok]
+    assert s["failing_pairs"] == [
+        [r.ids[a], r.ids[b]]
+        for a, b, ok in zip(r.checks.pairs.a, r.checks.pairs.b, r.checks.pairs.passed)
+        if not ok
+    ]
     k = int(np.argmax(r.checks.pairs.utilisation))
     assert s["worst_pair"] == [r.ids[r.checks.pairs.a[k]], r.ids[r.checks.pairs.b[k]]]
-    assert s["max_angular_distortion"] == pytest.approx(r.checks.pairs.angular_distortion.max(), rel=1e-5)
+    assert s["max_angular_distortion"] == pytest.approx(
+        r.checks.pairs.angular_distortion.max(), rel=1e-5
+    )
     assert s["design_life_yr"] == 50.0 and s["criteria"] == "eurocode7"
     assert s["criteria_sources"] == list(r.checks.sources)
     assert s["version"] == sitesettle.__version__ and s["warnings"] == list(r.warnings)
@@ -177,20 +196,32 @@ def test_us_units_equal_si_converted(tmp_path):
     assert convert(1.0, "length", "ft") == pytest.approx(1 / foot_m, rel=1e-15)
     for col in ("total", "immediate", "consolidation", "secondary", "own", "neighbours"):
         # in written with 4 decimals, mm with 3: each within half a unit of the last digit
-        np.testing.assert_allclose(b[f"{col}_in"], a[f"{col}_mm"] / inch_mm, atol=5e-5 + MM_TOL / inch_mm)
+        np.testing.assert_allclose(
+            b[f"{col}_in"], a[f"{col}_mm"] / inch_mm, atol=5e-5 + MM_TOL / inch_mm
+        )
     for col in ("x", "y", "width", "length", "depth", "influence_depth"):
-        np.testing.assert_allclose(b[f"{col}_ft"], a[f"{col}_m"] / foot_m, atol=5e-4 + MM_TOL / foot_m)
-    np.testing.assert_allclose(b["q_net_ksf"], a["q_net_kPa"] / ksf_kpa, atol=5e-5 + 0.005 / ksf_kpa)
-    np.testing.assert_allclose(b["service_load_kip"], a["service_load_kN"] / kip_kn, atol=5e-3 + 0.05 / kip_kn)
+        np.testing.assert_allclose(
+            b[f"{col}_ft"], a[f"{col}_m"] / foot_m, atol=5e-4 + MM_TOL / foot_m
+        )
+    np.testing.assert_allclose(
+        b["q_net_ksf"], a["q_net_kPa"] / ksf_kpa, atol=5e-5 + 0.005 / ksf_kpa
+    )
+    np.testing.assert_allclose(
+        b["service_load_kip"], a["service_load_kN"] / kip_kn, atol=5e-3 + 0.05 / kip_kn
+    )
     assert not any(c.endswith(("_mm", "_m", "_kPa", "_kN")) for c in b.columns)
     pa, pb = _read_csv(si / "pairs.csv"), _read_csv(us / "pairs.csv")
     np.testing.assert_allclose(pb.span_ft, pa.span_m / foot_m, atol=5e-4 + MM_TOL / foot_m)
-    np.testing.assert_allclose(pb.differential_in, pa.differential_mm / inch_mm, atol=5e-5 + MM_TOL / inch_mm)
+    np.testing.assert_allclose(
+        pb.differential_in, pa.differential_mm / inch_mm, atol=5e-5 + MM_TOL / inch_mm
+    )
     np.testing.assert_allclose(pb.angular_distortion, pa.angular_distortion, rtol=1e-12)  # a ratio
     ta, tb = _read_csv(si / "settlement_time.csv"), _read_csv(us / "settlement_time.csv")
     np.testing.assert_allclose(tb.total_in, ta.total_mm / inch_mm, atol=5e-5 + MM_TOL / inch_mm)
     sa, sb = (json.loads((d / "summary.json").read_text()) for d in (si, us))
-    assert sb["max_total_in"] == pytest.approx(sa["max_total_mm"] / inch_mm, abs=5e-5 + MM_TOL / inch_mm)
+    assert sb["max_total_in"] == pytest.approx(
+        sa["max_total_mm"] / inch_mm, abs=5e-5 + MM_TOL / inch_mm
+    )
     ga = gpd.read_file(si / "site.gpkg", layer="footings", engine="pyogrio")
     gb = gpd.read_file(us / "site.gpkg", layer="footings", engine="pyogrio")
     np.testing.assert_allclose(gb.geometry.area, ga.geometry.area / foot_m**2, rtol=1e-12)
@@ -202,8 +233,15 @@ def test_csv_and_json_are_byte_identical_across_runs(tmp_path):
     r = make_results()
     a = _snapshot(write_results(r, tmp_path / "a"))
     b = _snapshot(write_results(make_results(), tmp_path / "b"))
-    for name in ("footings.csv", "pairs.csv", "settlement_time.csv", "summary.json",
-                 "plan.png", "contours.png", "settlement_time.png"):
+    for name in (
+        "footings.csv",
+        "pairs.csv",
+        "settlement_time.csv",
+        "summary.json",
+        "plan.png",
+        "contours.png",
+        "settlement_time.png",
+    ):
         assert a[name] == b[name], name
 
 
@@ -214,7 +252,9 @@ def test_rewrite_replaces_an_earlier_results_folder(tmp_path):
     write_results(make_results(scale=0.5), out)
     assert not (out / "stale.txt").exists()
     s = json.loads((out / "summary.json").read_text())
-    assert s["max_total_mm"] == pytest.approx(0.5 * 56.881, abs=0.002)  # factory: 56.881 mm at scale 1
+    assert s["max_total_mm"] == pytest.approx(
+        0.5 * 56.881, abs=0.002
+    )  # factory: 56.881 mm at scale 1
     assert sorted(p.name for p in tmp_path.iterdir()) == ["r"]
 
 
@@ -229,7 +269,9 @@ def test_failure_midway_keeps_the_old_folder_and_no_temp(tmp_path, monkeypatch, 
         calls.append(1)
         raise error
 
-    monkeypatch.setattr(output, "write_geopackage", broken)  # after the CSV files, before the figures
+    monkeypatch.setattr(
+        output, "write_geopackage", broken
+    )  # after the CSV files, before the figures
     with pytest.raises(type(error)):
         write_results(make_results(scale=2.0), out)
     assert calls == [1]
@@ -238,7 +280,9 @@ def test_failure_midway_keeps_the_old_folder_and_no_temp(tmp_path, monkeypatch, 
 
 
 def test_failure_on_first_write_leaves_nothing(tmp_path, monkeypatch):
-    monkeypatch.setattr(output, "make_figures", lambda *a, **k: (_ for _ in ()).throw(OSError("no space")))
+    monkeypatch.setattr(
+        output, "make_figures", lambda *a, **k: (_ for _ in ()).throw(OSError("no space"))
+    )
     with pytest.raises(OSError):
         write_results(make_results(), tmp_path / "r")
     assert list(tmp_path.iterdir()) == []
@@ -310,8 +354,13 @@ def test_checked_after_is_stated_and_differentials_are_the_later_movement(tmp_pa
 def _run_checker(out: pathlib.Path, rc: int) -> None:
     tool = next((c for c in CHECKER if c.exists()), None)
     if tool is None:
-        pytest.skip("shared/tools/check_results.py (the output contract checker) is not beside the repository")
-    run = subprocess.run([sys.executable, str(tool), str(out), str(rc)], capture_output=True, text=True)
+        pytest.skip(
+            "shared/tools/check_results.py (the output contract checker) "
+            "is not beside the repository"
+        )
+    run = subprocess.run(
+        [sys.executable, str(tool), str(out), str(rc)], capture_output=True, text=True
+    )
     assert run.returncode == 0, run.stdout + run.stderr
     assert run.stdout.startswith("contract ok")
 

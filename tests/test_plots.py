@@ -51,13 +51,21 @@ def test_plan_marks_every_failing_footing_and_pair():
     r = make_results()
     fig = plots.plan_figure(r)
     ax = fig.axes[0]
-    outlines = [p for p in ax.patches if isinstance(p, Polygon) and not p.get_fill()
-                and np.allclose(p.get_edgecolor(), FAIL)]
+    outlines = [
+        p
+        for p in ax.patches
+        if isinstance(p, Polygon) and not p.get_fill() and np.allclose(p.get_edgecolor(), FAIL)
+    ]
     n_fail = int((~r.checks.footing_passed).sum())
     assert n_fail > 0 and len(outlines) == n_fail
     assert all(p.get_linewidth() >= 2.0 for p in outlines)
-    fail_lines = [c for c in ax.collections if isinstance(c, LineCollection)
-                  and len(c.get_segments()) and np.allclose(c.get_colors()[0], FAIL)]
+    fail_lines = [
+        c
+        for c in ax.collections
+        if isinstance(c, LineCollection)
+        and len(c.get_segments())
+        and np.allclose(c.get_colors()[0], FAIL)
+    ]
     n_bad_pairs = int((~r.checks.pairs.passed).sum())
     assert n_bad_pairs > 0 and sum(len(c.get_segments()) for c in fail_lines) == n_bad_pairs
     texts = _texts(fig)
@@ -101,7 +109,10 @@ def test_time_figure_shows_the_worst_footings_and_pair():
     worst = r.ids[int(np.argmax(r.at_design_life()))]
     labels = [line.get_label() for line in ax1.get_lines()]
     assert any(lbl.startswith(worst) for lbl in labels)
-    assert len([lbl for lbl in labels if not lbl.startswith(("limit", "_"))]) == plots.TIME_FIGURE_FOOTINGS
+    assert (
+        len([lbl for lbl in labels if not lbl.startswith(("limit", "_"))])
+        == plots.TIME_FIGURE_FOOTINGS
+    )
     top, bottom = ax1.get_ylim()
     assert bottom == 0.0 and top > 0.0  # settlement axis points down from 0
     k = int(np.argmax(r.checks.pairs.utilisation))
@@ -127,8 +138,12 @@ def test_dollar_signs_in_ids_are_drawn_literally():
     r = make_results(["C$1$", "$x$", "C3", "a$b", "C5", "C6"], name="Site $2$")
     from matplotlib.text import Text
 
-    figures = [(plots.plan_figure(r), True), (plots.contour_figure(r), True), (plots.time_figure(r), True),
-               (plots.section_figure(make_section(r)), False)]  # the section is titled by its footings
+    figures = [
+        (plots.plan_figure(r), True),
+        (plots.contour_figure(r), True),
+        (plots.time_figure(r), True),
+        (plots.section_figure(make_section(r)), False),
+    ]  # the section is titled by its footings
     for fig, titled_by_site in figures:
         fig.canvas.draw()  # would raise on broken mathtext
         shown_texts = []
@@ -142,7 +157,9 @@ def test_dollar_signs_in_ids_are_drawn_literally():
             shown_texts.append(shown)
         joined = " ".join(shown_texts)
         assert "Site $2$" in joined or not titled_by_site
-        assert any(fid in joined for fid in ("C$1$", "$x$", "a$b"))  # each figure names some of them
+        assert any(
+            fid in joined for fid in ("C$1$", "$x$", "a$b")
+        )  # each figure names some of them
 
 
 def test_many_footings_skip_illegible_labels():

@@ -25,16 +25,28 @@ from sitesettle.io.output import make_figures
 from sitesettle.report import CAUTIONS, SECTIONS, render_report
 
 ARTIFACTS = pathlib.Path(__file__).resolve().parents[1] / "test-artifacts"
-NASTY_IDS = ["C1", "<script>alert(1)</script>", "\"&'", "<img src=x onerror=\"document.title='pwned'\">",
-             "<script>document.title='pwned'</script>", "C$6$"]
-NAME = "Quay <b>North</b> & Co's \"depot\""
+NASTY_IDS = [
+    "C1",
+    "<script>alert(1)</script>",
+    "\"&'",
+    "<img src=x onerror=\"document.title='pwned'\">",
+    "<script>document.title='pwned'</script>",
+    "C$6$",
+]
+NAME = 'Quay <b>North</b> & Co\'s "depot"'
 
 
 @pytest.fixture(scope="module")
 def nasty():
-    r = make_results(NASTY_IDS, name=NAME, info={"client": "<i>Harbour</i> & Sons", "notes": "</table><h2>fake"},
-                     warnings=("stratum <soft clay> has no cv",))
-    return r, render_report(r, make_figures(r, section=make_section(r)), date="2026-01-01 00:00 UTC")
+    r = make_results(
+        NASTY_IDS,
+        name=NAME,
+        info={"client": "<i>Harbour</i> & Sons", "notes": "</table><h2>fake"},
+        warnings=("stratum <soft clay> has no cv",),
+    )
+    return r, render_report(
+        r, make_figures(r, section=make_section(r)), date="2026-01-01 00:00 UTC"
+    )
 
 
 class _Dom(HTMLParser):
@@ -112,8 +124,12 @@ def test_sections_tables_cautions_and_version(nasty):
         assert fid in text
     pc = r.checks.pairs
     failing = [(r.ids[i], r.ids[j]) for i, j, ok in zip(pc.a, pc.b, pc.passed) if not ok]
-    assert failing and all(f"{a} – {b}" in text for a, b in failing)  # the checks' list of failing pairs
-    assert sum(t == "auto" for t in dom.text) == len(pc.a)  # one pairs-table row per pair (origin cell)
+    assert failing and all(
+        f"{a} – {b}" in text for a, b in failing
+    )  # the checks' list of failing pairs
+    assert sum(t == "auto" for t in dom.text) == len(
+        pc.a
+    )  # one pairs-table row per pair (origin cell)
     for caution in CAUTIONS:
         assert caution in text
     for stratum in r.site.strata:
@@ -155,9 +171,21 @@ def _run_chromium(tmp_path: pathlib.Path, url: str, *extra: str) -> str:
     exe = _chromium()
     if exe is None:
         pytest.skip("no chromium binary on this machine (apt-get install chromium)")
-    cmd = [exe, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-           "--disable-background-networking", "--disable-component-update", "--disable-sync",
-           "--disable-dev-shm-usage", f"--user-data-dir={tmp_path / 'profile'}", *extra, url]
+    cmd = [
+        exe,
+        "--headless",
+        "--no-sandbox",
+        "--disable-gpu",
+        "--disable-quic",
+        "--no-first-run",
+        "--disable-background-networking",
+        "--disable-component-update",
+        "--disable-sync",
+        "--disable-dev-shm-usage",
+        f"--user-data-dir={tmp_path / 'profile'}",
+        *extra,
+        url,
+    ]
     run = subprocess.run(cmd, capture_output=True, text=True, timeout=180)
     assert run.returncode == 0, run.stderr[-2000:]
     return run.stdout
@@ -167,8 +195,10 @@ def _run_chromium(tmp_path: pathlib.Path, url: str, *extra: str) -> str:
 def test_scripts_do_run_in_this_browser(tmp_path):
     """Control: without it, "no script ran" below could be a browser that runs none."""
     page = tmp_path / "control.html"
-    page.write_text("<!DOCTYPE html><html><head><title>before</title></head><body>"
-                    "<script>document.title='after'</script></body></html>")
+    page.write_text(
+        "<!DOCTYPE html><html><head><title>before</title></head><body>"
+        "<script>document.title='after'</script></body></html>"
+    )
     dom = _parse(_run_chromium(tmp_path, page.as_uri(), "--dump-dom"))
     assert dom.title == "after"
 
@@ -199,7 +229,12 @@ def test_report_screenshot_for_a_person(tmp_path, nasty):
     ARTIFACTS.mkdir(exist_ok=True)
     shot = ARTIFACTS / "report.png"
     shot.unlink(missing_ok=True)
-    _run_chromium(tmp_path, path.as_uri(), f"--screenshot={shot}", "--window-size=1280,4000",
-                  "--hide-scrollbars")
+    _run_chromium(
+        tmp_path,
+        path.as_uri(),
+        f"--screenshot={shot}",
+        "--window-size=1280,4000",
+        "--hide-scrollbars",
+    )
     data = shot.read_bytes()
     assert data[:8] == b"\x89PNG\r\n\x1a\n" and len(data) > 50_000  # a blank page is a few kB

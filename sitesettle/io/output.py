@@ -43,8 +43,18 @@ KIP = 4.4482216152605  # kN (1000 lbf)
 KSF = KIP / FOOT**2  # kPa (kip per square foot)
 
 #: every file that write_results makes (section.png only when a section is given)
-OUTPUT_FILES = ("footings.csv", "pairs.csv", "settlement_time.csv", "summary.json", "site.gpkg",
-                "plan.png", "contours.png", "settlement_time.png", "section.png", "report.html")
+OUTPUT_FILES = (
+    "footings.csv",
+    "pairs.csv",
+    "settlement_time.csv",
+    "summary.json",
+    "site.gpkg",
+    "plan.png",
+    "contours.png",
+    "settlement_time.png",
+    "section.png",
+    "report.html",
+)
 
 #: figure resolution [dots per inch]
 FIGURE_DPI = 150
@@ -119,61 +129,92 @@ def footing_table(results: Results, units: str = "si") -> pd.DataFrame:
     n = len(fs)
     passed = [None] * n if checks is None else [bool(p) for p in checks.footing_passed]
     reasons = [""] * n if checks is None else [str(r) for r in checks.footing_reasons]
-    return pd.DataFrame({
-        "id": [f.id for f in fs],
-        column("x", "length", u): [f.x * L for f in fs],
-        column("y", "length", u): [f.y * L for f in fs],
-        column("width", "length", u): [f.width * L for f in fs],
-        column("length", "length", u): [f.length * L for f in fs],
-        column("depth", "length", u): [f.depth * L for f in fs],
-        column("service_load", "force", u): [f.service_load * F for f in fs],
-        column("q_net", "pressure", u): np.asarray(results.net_pressure, float) * P,
-        column("immediate", "settlement", u): results.immediate[:, life] * S,
-        column("consolidation", "settlement", u): results.consolidation[:, life] * S,
-        column("secondary", "settlement", u): results.secondary[:, life] * S,
-        column("total", "settlement", u): results.total[:, life] * S,
-        column("own", "settlement", u): results.own[:, life] * S,
-        column("neighbours", "settlement", u): results.neighbours[:, life] * S,
-        "tilt": np.asarray(results.tilt, float),
-        "tilt_direction_deg": np.asarray(results.tilt_direction, float),
-        column("influence_depth", "length", u): np.asarray(results.influence_depth, float) * L,
-        "method": list(results.methods),
-        "outside_boreholes": [bool(v) for v in results.outside_hull],
-        "status": [_status(p) for p in passed],
-        "reasons": reasons,
-    })
+    return pd.DataFrame(
+        {
+            "id": [f.id for f in fs],
+            column("x", "length", u): [f.x * L for f in fs],
+            column("y", "length", u): [f.y * L for f in fs],
+            column("width", "length", u): [f.width * L for f in fs],
+            column("length", "length", u): [f.length * L for f in fs],
+            column("depth", "length", u): [f.depth * L for f in fs],
+            column("service_load", "force", u): [f.service_load * F for f in fs],
+            column("q_net", "pressure", u): np.asarray(results.net_pressure, float) * P,
+            column("immediate", "settlement", u): results.immediate[:, life] * S,
+            column("consolidation", "settlement", u): results.consolidation[:, life] * S,
+            column("secondary", "settlement", u): results.secondary[:, life] * S,
+            column("total", "settlement", u): results.total[:, life] * S,
+            column("own", "settlement", u): results.own[:, life] * S,
+            column("neighbours", "settlement", u): results.neighbours[:, life] * S,
+            "tilt": np.asarray(results.tilt, float),
+            "tilt_direction_deg": np.asarray(results.tilt_direction, float),
+            column("influence_depth", "length", u): np.asarray(results.influence_depth, float) * L,
+            "method": list(results.methods),
+            "outside_boreholes": [bool(v) for v in results.outside_hull],
+            "status": [_status(p) for p in passed],
+            "reasons": reasons,
+        }
+    )
 
 
-_PAIR_BASE = ("a", "b", "span", "differential", "angular_distortion", "limit", "limit_source",
-              "utilisation", "status", "origin")
+_PAIR_BASE = (
+    "a",
+    "b",
+    "span",
+    "differential",
+    "angular_distortion",
+    "limit",
+    "limit_source",
+    "utilisation",
+    "status",
+    "origin",
+)
 
 
 def pair_table(results: Results, units: str = "si") -> pd.DataFrame:
     """One row per checked pair (empty, with the columns, when there are no checks)."""
     u = _units(units)
     span, diff = column("span", "length", u), column("differential", "settlement", u)
-    cols = ["a", "b", span, diff, "angular_distortion", "limit", "limit_source", "utilisation",
-            "status", "origin"]
+    cols = [
+        "a",
+        "b",
+        span,
+        diff,
+        "angular_distortion",
+        "limit",
+        "limit_source",
+        "utilisation",
+        "status",
+        "origin",
+    ]
     if results.checks is None or len(results.checks.pairs.a) == 0:
-        return pd.DataFrame({c: pd.Series(dtype=float if c in (span, diff, "angular_distortion",
-                                                                "utilisation") else object)
-                             for c in cols})
+        return pd.DataFrame(
+            {
+                c: pd.Series(
+                    dtype=float
+                    if c in (span, diff, "angular_distortion", "utilisation")
+                    else object
+                )
+                for c in cols
+            }
+        )
     pc = results.checks.pairs
     ids = results.ids
     k = len(pc.a)
     origin = tuple(pc.origin) if len(pc.origin) == k else ("",) * k
-    return pd.DataFrame({
-        "a": [ids[int(i)] for i in pc.a],
-        "b": [ids[int(j)] for j in pc.b],
-        span: np.asarray(pc.span, float) * _scale("length", u),
-        diff: np.asarray(pc.differential, float) * _scale("settlement", u),
-        "angular_distortion": np.asarray(pc.angular_distortion, float),
-        "limit": list(pc.limit),
-        "limit_source": list(pc.limit_source),
-        "utilisation": np.asarray(pc.utilisation, float),
-        "status": [_status(bool(p)) for p in pc.passed],
-        "origin": list(origin),
-    })
+    return pd.DataFrame(
+        {
+            "a": [ids[int(i)] for i in pc.a],
+            "b": [ids[int(j)] for j in pc.b],
+            span: np.asarray(pc.span, float) * _scale("length", u),
+            diff: np.asarray(pc.differential, float) * _scale("settlement", u),
+            "angular_distortion": np.asarray(pc.angular_distortion, float),
+            "limit": list(pc.limit),
+            "limit_source": list(pc.limit_source),
+            "utilisation": np.asarray(pc.utilisation, float),
+            "status": [_status(bool(p)) for p in pc.passed],
+            "origin": list(origin),
+        }
+    )
 
 
 def time_table(results: Results, units: str = "si") -> pd.DataFrame:
@@ -181,14 +222,16 @@ def time_table(results: Results, units: str = "si") -> pd.DataFrame:
     u = _units(units)
     S = _scale("settlement", u)
     n, m = results.total.shape
-    return pd.DataFrame({
-        "id": np.repeat(np.array(results.ids, dtype=object), m),
-        "time_yr": np.tile(np.asarray(results.times, float), n),
-        column("total", "settlement", u): results.total.reshape(-1) * S,
-        column("immediate", "settlement", u): results.immediate.reshape(-1) * S,
-        column("consolidation", "settlement", u): results.consolidation.reshape(-1) * S,
-        column("secondary", "settlement", u): results.secondary.reshape(-1) * S,
-    })
+    return pd.DataFrame(
+        {
+            "id": np.repeat(np.array(results.ids, dtype=object), m),
+            "time_yr": np.tile(np.asarray(results.times, float), n),
+            column("total", "settlement", u): results.total.reshape(-1) * S,
+            column("immediate", "settlement", u): results.immediate.reshape(-1) * S,
+            column("consolidation", "settlement", u): results.consolidation.reshape(-1) * S,
+            column("secondary", "settlement", u): results.secondary.reshape(-1) * S,
+        }
+    )
 
 
 def _round(value: float, decimals: int | None) -> float | None:
@@ -217,18 +260,33 @@ def summary_dict(results: Results, units: str = "si") -> dict:
         "site": results.site.name,
         "units": u,
         "n_footings": len(ids),
-        column("max_total", "settlement", u): _round(np.nanmax(total), sd) if worst is not None else None,
+        column("max_total", "settlement", u): _round(np.nanmax(total), sd)
+        if worst is not None
+        else None,
         "worst_footing": ids[worst] if worst is not None else None,
-        "design_life_yr": _round(results.times[results.design_life_index], FIXED_DECIMALS["time_yr"]),
+        "design_life_yr": _round(
+            results.times[results.design_life_index], FIXED_DECIMALS["time_yr"]
+        ),
         "warnings": list(results.warnings),
         "cautions": list(CAUTIONS),
     }
     diff_name = column("max_differential", "settlement", u)
     if checks is None:
-        out.update({"n_pairs": 0, diff_name: None, "max_angular_distortion": None,
-                    "failing_footings": [], "failing_pairs": [], "worst_pair": None,
-                    "building_tilt": None, "building_tilt_direction_deg": None, "criteria": None,
-                    "criteria_sources": [], "all_passed": None})
+        out.update(
+            {
+                "n_pairs": 0,
+                diff_name: None,
+                "max_angular_distortion": None,
+                "failing_footings": [],
+                "failing_pairs": [],
+                "worst_pair": None,
+                "building_tilt": None,
+                "building_tilt_direction_deg": None,
+                "criteria": None,
+                "criteria_sources": [],
+                "all_passed": None,
+            }
+        )
         return out
     pc = checks.pairs
     k = len(pc.a)
@@ -238,21 +296,25 @@ def summary_dict(results: Results, units: str = "si") -> dict:
         util = np.asarray(pc.utilisation, float)
         key = util if np.isfinite(util).any() else np.asarray(pc.angular_distortion, float)
         worst_pair = pairs[int(np.nanargmax(key))] if np.isfinite(key).any() else None
-    out.update({
-        "n_pairs": k,
-        diff_name: _round(np.nanmax(pc.differential) * S, sd) if k else None,
-        "max_angular_distortion": _round(np.nanmax(pc.angular_distortion), None) if k else None,
-        "failing_footings": [fid for fid, p in zip(ids, checks.footing_passed) if not p],
-        "failing_pairs": [pr for pr, p in zip(pairs, pc.passed) if not p],
-        "worst_pair": worst_pair,
-        "building_tilt": _round(checks.building_tilt, None),
-        "building_tilt_direction_deg": _round(checks.building_tilt_direction, 2),
-        "criteria": checks.criteria,
-        "criteria_sources": list(checks.sources),
-        column("footing_limit_total", "settlement", u): _round(checks.footing_limit_total * S, sd),
-        "footing_limit_source": checks.footing_limit_source,
-        "all_passed": bool(checks.all_passed),
-    })
+    out.update(
+        {
+            "n_pairs": k,
+            diff_name: _round(np.nanmax(pc.differential) * S, sd) if k else None,
+            "max_angular_distortion": _round(np.nanmax(pc.angular_distortion), None) if k else None,
+            "failing_footings": [fid for fid, p in zip(ids, checks.footing_passed) if not p],
+            "failing_pairs": [pr for pr, p in zip(pairs, pc.passed) if not p],
+            "worst_pair": worst_pair,
+            "building_tilt": _round(checks.building_tilt, None),
+            "building_tilt_direction_deg": _round(checks.building_tilt_direction, 2),
+            "criteria": checks.criteria,
+            "criteria_sources": list(checks.sources),
+            column("footing_limit_total", "settlement", u): _round(
+                checks.footing_limit_total * S, sd
+            ),
+            "footing_limit_source": checks.footing_limit_source,
+            "all_passed": bool(checks.all_passed),
+        }
+    )
     if checks.checked_after > 0:
         out["checked_after_yr"] = _round(checks.checked_after, FIXED_DECIMALS["time_yr"])
     return out
@@ -268,7 +330,7 @@ def format_table(df: pd.DataFrame) -> pd.DataFrame:
         d = _decimals(name)
         if d is None and name not in RATIO_COLUMNS:
             d = 6
-        fmt = RATIO_FORMAT if d is None else "{:.%df}" % d
+        fmt = RATIO_FORMAT if d is None else f"{{:.{d}f}}"
         out[name] = [fmt.format(v) if math.isfinite(v) else "" for v in s.to_numpy(float)]
     return out
 
@@ -278,8 +340,10 @@ def _write_csv(df: pd.DataFrame, path: Path) -> None:
 
 
 def _write_json(data: dict, path: Path) -> None:
-    path.write_text(json.dumps(data, indent=2, sort_keys=True, ensure_ascii=False, allow_nan=False) + "\n",
-                    encoding="utf-8")
+    path.write_text(
+        json.dumps(data, indent=2, sort_keys=True, ensure_ascii=False, allow_nan=False) + "\n",
+        encoding="utf-8",
+    )
 
 
 # ------------------------------------------------------------------ geopackage
@@ -309,11 +373,16 @@ def contour_table(results: Results, units: str = "si"):
     if results.map is not None:
         method = results.map.method
         levels = contour_levels(np.asarray(results.map.settlement, float) * S)
-        rows = [(lvl / 1000.0 * S, geom) for lvl, geom in contour_lines(results.map, levels / S * 1000.0)]
+        rows = [
+            (lvl / 1000.0 * S, geom)
+            for lvl, geom in contour_lines(results.map, levels / S * 1000.0)
+        ]
     d = UNITS["settlement"][u].decimals
-    return gpd.GeoDataFrame({name: [round(r[0], d) for r in rows], "method": [method] * len(rows)},
-                            geometry=gpd.GeoSeries([r[1] for r in rows], crs=results.site.crs),
-                            crs=results.site.crs)
+    return gpd.GeoDataFrame(
+        {name: [round(r[0], d) for r in rows], "method": [method] * len(rows)},
+        geometry=gpd.GeoSeries([r[1] for r in rows], crs=results.site.crs),
+        crs=results.site.crs,
+    )
 
 
 def write_geopackage(results: Results, path: Path, units: str = "si") -> None:
@@ -326,7 +395,9 @@ def write_geopackage(results: Results, path: Path, units: str = "si") -> None:
 
     with warnings.catch_warnings():
         if results.site.crs is None:
-            warnings.filterwarnings("ignore", message="'crs' was not provided", category=UserWarning)
+            warnings.filterwarnings(
+                "ignore", message="'crs' was not provided", category=UserWarning
+            )
         _write_layers(results, path, units)
 
 
@@ -338,13 +409,15 @@ def _write_layers(results: Results, path: Path, units: str) -> None:
     ft = _rounded(footing_table(results, units))
     L = _scale("length", units)
     polys = [shapely.Polygon(np.asarray(f.outline, float) * L) for f in results.site.footings]
-    gpd.GeoDataFrame(ft, geometry=polys, crs=crs).to_file(path, layer="footings", driver="GPKG",
-                                                          engine="pyogrio")
+    gpd.GeoDataFrame(ft, geometry=polys, crs=crs).to_file(
+        path, layer="footings", driver="GPKG", engine="pyogrio"
+    )
     pt = _rounded(pair_table(results, units))
     xy = {f.id: (f.x * L, f.y * L) for f in results.site.footings}
     lines = [shapely.LineString([xy[a], xy[b]]) for a, b in zip(pt["a"], pt["b"])]
     gpd.GeoDataFrame(pt, geometry=gpd.GeoSeries(lines, crs=crs), crs=crs).to_file(
-        path, layer="pairs", driver="GPKG", engine="pyogrio", geometry_type="LineString")
+        path, layer="pairs", driver="GPKG", engine="pyogrio", geometry_type="LineString"
+    )
     ct = contour_table(results, units)
     if L != 1.0:
         ct = ct.set_geometry(ct.geometry.scale(L, L, origin=(0, 0)))
@@ -360,7 +433,12 @@ def _figure_bytes(fig) -> bytes:
     import matplotlib.pyplot as plt
 
     buf = io.BytesIO()
-    fig.savefig(buf, format="png", dpi=FIGURE_DPI, metadata={"Software": f"sitesettle {sitesettle.__version__}"})
+    fig.savefig(
+        buf,
+        format="png",
+        dpi=FIGURE_DPI,
+        metadata={"Software": f"sitesettle {sitesettle.__version__}"},
+    )
     plt.close(fig)
     return buf.getvalue()
 
@@ -395,11 +473,15 @@ def _check_target(out: Path) -> None:
     """Raise OutputError when ``out`` cannot become a results folder (nothing is written)."""
     if out.exists() or out.is_symlink():
         if not out.is_dir():
-            raise OutputError(f"cannot write results to {out}: it is an existing file, not a folder; "
-                              "choose another --out or remove the file")
+            raise OutputError(
+                f"cannot write results to {out}: it is an existing file, not a folder; "
+                "choose another --out or remove the file"
+            )
         if not _is_results_folder(out):
-            raise OutputError(f"cannot write results to {out}: the folder exists and was not written by "
-                              "sitesettle (no summary.json of ours); choose an empty or new folder")
+            raise OutputError(
+                f"cannot write results to {out}: the folder exists and was not written by "
+                "sitesettle (no summary.json of ours); choose an empty or new folder"
+            )
     ancestor = out.parent
     while not ancestor.exists():
         ancestor = ancestor.parent
@@ -424,8 +506,14 @@ def _swap(tmp: Path, out: Path) -> None:
     shutil.rmtree(old, ignore_errors=True)
 
 
-def write_results(results: Results, out_dir: str | os.PathLike, *, units: str = "si",
-                  progress: Callable[[str], None] | None = None, section=None) -> Path:
+def write_results(
+    results: Results,
+    out_dir: str | os.PathLike,
+    *,
+    units: str = "si",
+    progress: Callable[[str], None] | None = None,
+    section=None,
+) -> Path:
     """Write every output file into ``out_dir``, atomically.
 
     Parameters
@@ -474,7 +562,9 @@ def write_results(results: Results, out_dir: str | os.PathLike, *, units: str = 
     return out
 
 
-def _write_all(results: Results, folder: Path, units: str, progress: Callable[[str], None], section) -> None:
+def _write_all(
+    results: Results, folder: Path, units: str, progress: Callable[[str], None], section
+) -> None:
     from sitesettle.report import render_report
 
     progress("footings.csv")
