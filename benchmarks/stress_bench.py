@@ -30,8 +30,15 @@ def plan(n_side_x=50, n_side_y=40, seed=7):
     width = rng.uniform(1.5, 4.0, n)
     length = np.minimum(width * rng.uniform(1.0, 1.6, n), 4.0)
     width = np.minimum(width, length)
-    loads = stress.Loads.rectangles(gx.ravel(), gy.ravel(), width, length, rng.choice([0.0, 90.0], n),
-                                    rng.uniform(100.0, 300.0, n), rng.uniform(1.0, 1.5, n))
+    loads = stress.Loads.rectangles(
+        gx.ravel(),
+        gy.ravel(),
+        width,
+        length,
+        rng.choice([0.0, 90.0], n),
+        rng.uniform(100.0, 300.0, n),
+        rng.uniform(1.0, 1.5, n),
+    )
     return loads, rng
 
 
@@ -65,13 +72,25 @@ def main(quick=False):
     # 1. exact throughput
     sub = loads.subset(slice(0, 500))
     p = pts[rng.choice(len(pts), 4000, replace=False)]
-    rows.append(("exact rectangles [pairs/s]",
-                 f"{rate(lambda: stress.stress_sums(sub, p, tolerance=0), len(sub) * len(p)):.3g}"))
-    hexa = [np.column_stack([x + 1.5 * np.cos(np.arange(6) * np.pi / 3), y + 1.5 * np.sin(np.arange(6) * np.pi / 3)])
-            for x, y in zip(sub.x[:200], sub.y[:200])]
+    rows.append(
+        (
+            "exact rectangles [pairs/s]",
+            f"{rate(lambda: stress.stress_sums(sub, p, tolerance=0), len(sub) * len(p)):.3g}",
+        )
+    )
+    hexa = [
+        np.column_stack(
+            [x + 1.5 * np.cos(np.arange(6) * np.pi / 3), y + 1.5 * np.sin(np.arange(6) * np.pi / 3)]
+        )
+        for x, y in zip(sub.x[:200], sub.y[:200])
+    ]
     poly = stress.Loads.polygons(hexa, 200.0, 1.2)
-    rows.append(("exact hexagons [pairs/s]",
-                 f"{rate(lambda: stress.stress_sums(poly, p, tolerance=0), len(poly) * len(p)):.3g}"))
+    rows.append(
+        (
+            "exact hexagons [pairs/s]",
+            f"{rate(lambda: stress.stress_sums(poly, p, tolerance=0), len(poly) * len(p)):.3g}",
+        )
+    )
     # 2. the plan
     if quick:
         pts = pts[rng.choice(len(pts), 60_000, replace=False)]

@@ -38,7 +38,6 @@ References
 from __future__ import annotations
 
 import math
-import os
 from collections.abc import Sequence
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
@@ -205,21 +204,26 @@ def _rect_terms(half_length, half_width, u, v, w):
     x1, x0 = half_length - u, -half_length - u
     y1, y0 = half_width - v, -half_width - v
     w2 = w * w
-    xx1, xx0, yy1, yy0 = x1 * x1 + w2, x0 * x0 + w2, y1 * y1 + w2, y0 * y0 + w2
+    sx1, sx0, sy1, sy0 = x1 * x1, x0 * x0, y1 * y1, y0 * y0
+    ix1, ix0 = 1.0 / (sx1 + w2 + _TINY), 1.0 / (sx0 + w2 + _TINY)
+    iy1, iy0 = 1.0 / (sy1 + w2 + _TINY), 1.0 / (sy0 + w2 + _TINY)
     kk = 0.0
     re, im = [], []
-    for xs, xx, sx in ((x1, xx1, 1.0), (x0, xx0, -1.0)):
-        for ys, yy, sy in ((y1, yy1, 1.0), (y0, yy0, -1.0)):
-            r3 = np.sqrt(xx + ys * ys)
+    for xs, sxx, ixx, sgn_x in ((x1, sx1, ix1, 1.0), (x0, sx0, ix0, -1.0)):
+        for ys, syy, iyy, sgn_y in ((y1, sy1, iy1, 1.0), (y0, sy0, iy0, -1.0)):
+            r3 = np.sqrt(sxx + syy + w2)
             xy = xs * ys
-            re.append(w * r3)
+            wr = w * r3
+            re.append(wr)
             im.append(xy)
-            k = xy * w / (r3 + _TINY) * (1.0 / (yy + _TINY) + 1.0 / (xx + _TINY))
-            kk = kk + (sx * sy) * k
+            # Holl's second term XYz/R3 · (1/(X²+z²) + 1/(Y²+z²)), written as XYz²/(z R3)
+            k = (xy * w) * (ixx + iyy) / (r3 + _TINY)
+            kk = kk + k if sgn_x * sgn_y > 0 else kk - k
     # Ω = Σ ± atan2(XY, w R3); each pair difference of two angles in [−π/2, π/2]
     # lies in [−π, π], so it is one atan2 of the product z1·conj(z2)
     om = np.arctan2(im[0] * re[1] - re[0] * im[1], re[0] * re[1] + im[0] * im[1]) + np.arctan2(
-        im[3] * re[2] - re[3] * im[2], re[3] * re[2] + im[3] * im[2])
+        im[3] * re[2] - re[3] * im[2], re[3] * re[2] + im[3] * im[2]
+    )
     sz = (om + kk) / _TWO_PI
     if np.any(w <= 0):
         # surface limit: 1 inside, 1/2 on an edge, 1/4 at a corner, 0 outside
@@ -484,7 +488,9 @@ def _circle_terms(radius, r, w):
     jac = ratio * cp / np.where(ct > 0, ct, 1.0) * (0.5 * math.pi) * _CIRCLE_W
     q1, q2 = rho1 * rho1 + w2, rho2 * rho2 + w2
     s1, s2 = np.sqrt(q1), np.sqrt(q2)
-    sz_out = 2.0 * np.sum((w2 * w / (q1 * s1 + _TINY) - w2 * w / (q2 * s2)) * jac, axis=-1) / _TWO_PI
+    sz_out = (
+        2.0 * np.sum((w2 * w / (q1 * s1 + _TINY) - w2 * w / (q2 * s2)) * jac, axis=-1) / _TWO_PI
+    )
     om_out = 2.0 * np.sum((w / (s1 + _TINY) - w / s2) * jac, axis=-1)
     inside = r[..., 0] <= a[..., 0]
     # surface limit (w = 0): 1, 1/2, 0 of q; 2π, π, 0 of Ω
@@ -519,7 +525,9 @@ def circle_stress(pressure, radius, r, z):
     A 1-D polar integral of the Boussinesq kernel about the point's plan
     projection,
 
-    .. math:: \sigma_z = \frac{q}{2\pi}\int\left[1-\frac{z^3}{(\rho^2+z^2)^{3/2}}\right]_{\rho_{in}}^{\rho_{out}} d\theta
+    .. math::
+        \sigma_z = \frac{q}{2\pi}\int
+        \left[1-\frac{z^3}{(\rho^2+z^2)^{3/2}}\right]_{\rho_{in}}^{\rho_{out}} d\theta
 
     evaluated with a composite Gauss–Legendre rule (120 nodes, panels graded
     towards the places where the integrand varies fastest). Accuracy, tested
@@ -614,10 +622,14 @@ def _vector(value, n, name, where):
     try:
         arr = np.broadcast_to(arr, (n,)).astype(float)
     except ValueError:
-        raise InputError(where, f'"{name}" has {arr.size} values for {n} loads', f"1 or {n}") from None
+        raise InputError(
+            where, f'"{name}" has {arr.size} values for {n} loads', f"1 or {n}"
+        ) from None
     bad = ~np.isfinite(arr)
     if bad.any():
-        raise InputError(f"{where}, load {int(np.argmax(bad))}", f'"{name}" is not finite', "a number")
+        raise InputError(
+            f"{where}, load {int(np.argmax(bad))}", f'"{name}" is not finite', "a number"
+        )
     return arr
 
 
@@ -701,7 +713,9 @@ class Loads:
         arguments broadcast to one 1-D length.
         """
         where = "Loads.rectangles"
-        args = [np.asarray(a, dtype=float) for a in (x, y, width, length, rotation, pressure, depth)]
+        args = [
+            np.asarray(a, dtype=float) for a in (x, y, width, length, rotation, pressure, depth)
+        ]
         n = _common_length(args, where)
         names = ("x", "y", "width", "length", "rotation", "pressure", "depth")
         x, y, b, l, rot, q, d = (_vector(a, n, nm, where) for a, nm in zip(args, names))
@@ -753,7 +767,9 @@ class Loads:
         for i, xy in enumerate(outs):
             area, cx[i], cy[i], *_ = _polygon_moments(xy)
             if not area > 0:
-                raise InputError(f"{where}, load {i}", "the outline has zero area", "a simple polygon")
+                raise InputError(
+                    f"{where}, load {i}", "the outline has zero area", "a simple polygon"
+                )
         z = np.zeros(n)
         return cls(np.full(n, POLYGON, dtype=np.int8), cx, cy, z, z, z, z, q, d, outs)
 
@@ -781,8 +797,18 @@ class Loads:
     def with_pressure(self, pressure) -> Loads:
         """Same geometry, new pressures [kPa] (one value or one per load)."""
         q = _vector(pressure, len(self), "pressure", "Loads.with_pressure")
-        return Loads(self.kind, self.x, self.y, self.length, self.width, self.rotation,
-                     self.radius, q, self.depth, self.outlines)
+        return Loads(
+            self.kind,
+            self.x,
+            self.y,
+            self.length,
+            self.width,
+            self.rotation,
+            self.radius,
+            q,
+            self.depth,
+            self.outlines,
+        )
 
     # -- geometry used by the far field --------------------------------------
 
@@ -825,8 +851,13 @@ def _rect_pairs(ld, j, px, py, pz):
     dx, dy = px - ld.x[j], py - ld.y[j]
     w = pz - ld.depth[j]
     on = w > 0
-    sz, om = _rect_terms(ld.length[j] / 2.0, ld.width[j] / 2.0, dx * c + dy * s, dy * c - dx * s,
-                         np.where(on, w, 0.0))
+    sz, om = _rect_terms(
+        ld.length[j] / 2.0,
+        ld.width[j] / 2.0,
+        dx * c + dy * s,
+        dy * c - dx * s,
+        np.where(on, w, 0.0),
+    )
     q = np.where(on, ld.pressure[j], 0.0)
     return q * sz, q * om * _K_THETA
 
@@ -846,7 +877,9 @@ def _edges(ld, j):
     ax, ay, bx, by, wt, dep, own = ([] for _ in range(7))
     for k in j:
         xy = ld.outlines[k]
-        area2 = float(np.dot(xy[:, 0], np.roll(xy[:, 1], -1)) - np.dot(xy[:, 1], np.roll(xy[:, 0], -1)))
+        area2 = float(
+            np.dot(xy[:, 0], np.roll(xy[:, 1], -1)) - np.dot(xy[:, 1], np.roll(xy[:, 0], -1))
+        )
         nb = np.roll(xy, -1, axis=0)
         ax.append(xy[:, 0])
         ay.append(xy[:, 1])
@@ -863,8 +896,9 @@ def _polygon_dense(edges, px, py, pz):
     ax, ay, bx, by, wt, dep, _ = edges
     w = pz[:, None] - dep
     on = w > 0
-    om, k = _edge_terms(ax - px[:, None], ay - py[:, None], bx - px[:, None], by - py[:, None],
-                        np.where(on, w, 0.0))
+    om, k = _edge_terms(
+        ax - px[:, None], ay - py[:, None], bx - px[:, None], by - py[:, None], np.where(on, w, 0.0)
+    )
     wq = np.where(on, wt, 0.0)
     return ((om + k) * wq).sum(axis=1) / _TWO_PI, (om * wq).sum(axis=1) * _K_THETA
 
@@ -882,7 +916,7 @@ def _exact_dense(ld, idx, px, py, pz):
             continue
         lc = max(1, _CHUNK_ELEMENTS // per)
         for j0 in range(0, len(j), lc):
-            jj = j[j0:j0 + lc]
+            jj = j[j0 : j0 + lc]
             pc = max(1, _CHUNK_ELEMENTS // (per * len(jj)))
             for p0 in range(0, n, pc):
                 sl = slice(p0, p0 + pc)
@@ -895,7 +929,7 @@ def _exact_dense(ld, idx, px, py, pz):
         ne = len(edges[0])
         ec = max(1, _CHUNK_ELEMENTS // 4)
         for e0 in range(0, ne, ec):
-            part = tuple(a[e0:e0 + ec] for a in edges)
+            part = tuple(a[e0 : e0 + ec] for a in edges)
             pc = max(1, _CHUNK_ELEMENTS // len(part[0]))
             for p0 in range(0, n, pc):
                 sl = slice(p0, p0 + pc)
@@ -942,7 +976,7 @@ def own_stress(loads: Loads, points, owner) -> tuple[np.ndarray, np.ndarray]:
     for k, fn in ((RECTANGLE, _rect_pairs), (CIRCLE, _circle_pairs)):
         sel = np.flatnonzero(kind == k)
         for s0 in range(0, len(sel), _CHUNK_ELEMENTS):
-            ss = sel[s0:s0 + _CHUNK_ELEMENTS]
+            ss = sel[s0 : s0 + _CHUNK_ELEMENTS]
             sz[ss], tt[ss] = fn(loads, owner[ss], pts[ss, 0], pts[ss, 1], pts[ss, 2])
     sel = np.flatnonzero(kind == POLYGON)
     for j in np.unique(owner[sel]):
@@ -972,10 +1006,22 @@ def _bound_coefficients(n):
     Returns two lists of (j, coefficient) for σz (power 3 kernel, r^-5) and for
     T (power 1 kernel, r^-3): the bound is Σ_j coef · w^{p−j} δ^j M_{n−j} / r^{2p−1+n−j}.
     """
-    sig = [(j, _K_SIGMA / math.factorial(n) * math.comb(n, j) * math.factorial(3) / math.factorial(3 - j)
-            * _rising(5, n - j)) for j in range(min(n, 3) + 1)]
-    the = [(j, _K_THETA / math.factorial(n) * math.comb(n, j) * _rising(3, n - j))
-           for j in range(min(n, 1) + 1)]
+    sig = [
+        (
+            j,
+            _K_SIGMA
+            / math.factorial(n)
+            * math.comb(n, j)
+            * math.factorial(3)
+            / math.factorial(3 - j)
+            * _rising(5, n - j),
+        )
+        for j in range(min(n, 3) + 1)
+    ]
+    the = [
+        (j, _K_THETA / math.factorial(n) * math.comb(n, j) * _rising(3, n - j))
+        for j in range(min(n, 1) + 1)
+    ]
     return sig, the
 
 
@@ -991,7 +1037,15 @@ class _Tree:
         q = ld.pressure
         cen = np.stack([ld.x, ld.y, ld.depth], axis=1)
         mu2 = ixx + iyy
-        mu = np.stack([area, np.sqrt(area * mu2), mu2, reach * mu2, reach * reach * mu2], axis=1)
+        # radial moments μk = ∫|s − c|^k dA about each centroid: exact for k = 0, 2 and,
+        # for rectangles and circles, k = 4; otherwise bounded (Cauchy–Schwarz for
+        # k = 1, |s − c| ≤ reach for k = 3, 4)
+        mu4 = reach * reach * mu2
+        rect, circ = ld.kind == RECTANGLE, ld.kind == CIRCLE
+        l, b = ld.length[rect], ld.width[rect]
+        mu4[rect] = area[rect] * ((l**4 + b**4) / 80.0 + (l * b) ** 2 / 72.0)
+        mu4[circ] = area[circ] * ld.radius[circ] ** 4 / 3.0
+        mu = np.stack([area, np.sqrt(area * mu2), mu2, reach * mu2, mu4], axis=1)
         sym = ld.kind != POLYGON
         rows: list[dict] = []
 
@@ -1006,21 +1060,49 @@ class _Tree:
             qa = q[members] * area[members]
             d = np.sqrt((h * h).sum(axis=1))
             row.update(
-                c=c, F=f, Q0=qa.sum(), dip=(qa[:, None] * h).sum(axis=0),
-                quad=np.array([
-                    (q[members] * ixx[members] + qa * h[:, 0] ** 2).sum(),
-                    (q[members] * ixy[members] + qa * h[:, 0] * h[:, 1]).sum(),
-                    (q[members] * iyy[members] + qa * h[:, 1] ** 2).sum(),
-                    (qa * h[:, 0] * h[:, 2]).sum(), (qa * h[:, 1] * h[:, 2]).sum(),
-                    (qa * h[:, 2] ** 2).sum()]),
-                M=np.array([(np.abs(q[members]) * sum(math.comb(m, k) * d ** (m - k) * mu[members, k]
-                                                      for k in range(m + 1))).sum() for m in range(5)]),
+                c=c,
+                F=f,
+                Q0=qa.sum(),
+                dip=(qa[:, None] * h).sum(axis=0),
+                quad=np.array(
+                    [
+                        (q[members] * ixx[members] + qa * h[:, 0] ** 2).sum(),
+                        (q[members] * ixy[members] + qa * h[:, 0] * h[:, 1]).sum(),
+                        (q[members] * iyy[members] + qa * h[:, 1] ** 2).sum(),
+                        (qa * h[:, 0] * h[:, 2]).sum(),
+                        (qa * h[:, 1] * h[:, 2]).sum(),
+                        (qa * h[:, 2] ** 2).sum(),
+                    ]
+                ),
+                M=np.array(
+                    [
+                        (
+                            np.abs(q[members])
+                            * sum(
+                                math.comb(m, k) * d ** (m - k) * mu[members, k]
+                                for k in range(m + 1)
+                            )
+                        ).sum()
+                        for m in range(5)
+                    ]
+                ),
                 rho=float(np.max(d + reach[members])),
-                lo=np.array([(ld.x[members] - reach[members]).min(), (ld.y[members] - reach[members]).min(),
-                             ld.depth[members].min()]),
-                hi=np.array([(ld.x[members] + reach[members]).max(), (ld.y[members] + reach[members]).max(),
-                             ld.depth[members].max()]),
-                dmin=float(ld.depth[members].min()), dmax=float(ld.depth[members].max()),
+                lo=np.array(
+                    [
+                        (ld.x[members] - reach[members]).min(),
+                        (ld.y[members] - reach[members]).min(),
+                        ld.depth[members].min(),
+                    ]
+                ),
+                hi=np.array(
+                    [
+                        (ld.x[members] + reach[members]).max(),
+                        (ld.y[members] + reach[members]).max(),
+                        ld.depth[members].max(),
+                    ]
+                ),
+                dmin=float(ld.depth[members].min()),
+                dmax=float(ld.depth[members].max()),
                 delta=float(np.max(np.abs(h[:, 2]))),
                 order=4 if (len(members) == 1 and sym[members[0]]) else 3,
             )
@@ -1039,7 +1121,13 @@ class _Tree:
         self.n = len(rows)
         get = lambda k: np.array([r[k] for r in rows])  # noqa: E731
         self.parent, self.level, self.load = get("parent"), get("level"), get("load")
-        self.c, self.F, self.Q0, self.dip, self.quad = get("c"), get("F"), get("Q0"), get("dip"), get("quad")
+        self.c, self.F, self.Q0, self.dip, self.quad = (
+            get("c"),
+            get("F"),
+            get("Q0"),
+            get("dip"),
+            get("quad"),
+        )
         self.M, self.rho, self.delta, self.order = get("M"), get("rho"), get("delta"), get("order")
         self.dmin, self.dmax = get("dmin"), get("dmax")
         self.lo, self.hi = get("lo"), get("hi")
@@ -1078,10 +1166,14 @@ class _Tree:
             if not sel.any():
                 continue
             sig, the = _BOUND[order]
-            es = sum(cf * sup(3 - j, 5 + order - j, sel) * self.delta[sel] ** j * self.M[sel, order - j]
-                     for j, cf in sig)
-            et = sum(cf * sup(1 - j, 3 + order - j, sel) * self.delta[sel] ** j * self.M[sel, order - j]
-                     for j, cf in the)
+            es = sum(
+                cf * sup(3 - j, 5 + order - j, sel) * self.delta[sel] ** j * self.M[sel, order - j]
+                for j, cf in sig
+            )
+            et = sum(
+                cf * sup(1 - j, 3 + order - j, sel) * self.delta[sel] ** j * self.M[sel, order - j]
+                for j, cf in the
+            )
             e[sel] = np.maximum(es, et)
         e[zero] = 0.0
         return e, zero
@@ -1124,9 +1216,12 @@ class _Tree:
         g = -5.0 * (3.0 * W2 * ir7 - 7.0 * W3 * W * ir9)
         kxw, kyw = g * X, g * Y
         kww = 6.0 * W * ir5 - 35.0 * W3 * ir7 + 35.0 * W3 * W2 * ir9
-        sz = (q0 * W3 * ir5 - (d[:, 0] * kx + d[:, 1] * ky + d[:, 2] * kw)
-              + 0.5 * (qd[:, 0] * kxx + qd[:, 2] * kyy + qd[:, 5] * kww)
-              + (qd[:, 1] * kxy + qd[:, 3] * kxw + qd[:, 4] * kyw))
+        sz = (
+            q0 * W3 * ir5
+            - (d[:, 0] * kx + d[:, 1] * ky + d[:, 2] * kw)
+            + 0.5 * (qd[:, 0] * kxx + qd[:, 2] * kyy + qd[:, 5] * kww)
+            + (qd[:, 1] * kxy + qd[:, 3] * kxw + qd[:, 4] * kyw)
+        )
         # T kernel B W r⁻³
         a5 = -3.0 * W * ir5
         tx, ty = a5 * X, a5 * Y
@@ -1138,9 +1233,12 @@ class _Tree:
         g = -3.0 * (ir5 - 5.0 * W2 * ir7)
         txw, tyw = g * X, g * Y
         tww = -9.0 * W * ir5 + 15.0 * W3 * ir7
-        tt = (q0 * W * ir3 - (d[:, 0] * tx + d[:, 1] * ty + d[:, 2] * tw)
-              + 0.5 * (qd[:, 0] * txx + qd[:, 2] * tyy + qd[:, 5] * tww)
-              + (qd[:, 1] * txy + qd[:, 3] * txw + qd[:, 4] * tyw))
+        tt = (
+            q0 * W * ir3
+            - (d[:, 0] * tx + d[:, 1] * ty + d[:, 2] * tw)
+            + 0.5 * (qd[:, 0] * txx + qd[:, 2] * tyy + qd[:, 5] * tww)
+            + (qd[:, 1] * txy + qd[:, 3] * txw + qd[:, 4] * tyw)
+        )
         return _K_SIGMA * sz.sum(axis=1), _K_THETA * tt.sum(axis=1)
 
 
@@ -1277,7 +1375,7 @@ def stress_sums(loads: Loads, points, *, tolerance: float = 1e-3) -> tuple[np.nd
         if len(far):
             fc = max(1, _CHUNK_ELEMENTS // len(blk))
             for f0 in range(0, len(far), fc):
-                a, b = tree.far(far[f0:f0 + fc], bp[:, 0], bp[:, 1], bp[:, 2])
+                a, b = tree.far(far[f0 : f0 + fc], bp[:, 0], bp[:, 1], bp[:, 2])
                 rs[blk] += a
                 rt[blk] += b
         ex = tree.load[np.flatnonzero(exact)]

@@ -37,8 +37,9 @@ def invariant_kernel(px, py, z, sx, sy):
 
 def quad_rect(x0, x1, y0, y1, px, py, z, kernel=boussinesq):
     """scipy double integral of a point kernel over [x0, x1] × [y0, y1]."""
-    v, _ = integrate.dblquad(lambda sy, sx: kernel(px, py, z, sx, sy), x0, x1, y0, y1,
-                             epsabs=1e-13, epsrel=1e-12)
+    v, _ = integrate.dblquad(
+        lambda sy, sx: kernel(px, py, z, sx, sy), x0, x1, y0, y1, epsabs=1e-13, epsrel=1e-12
+    )
     return v
 
 
@@ -50,11 +51,25 @@ def quad_rect(x0, x1, y0, y1, px, py, z, kernel=boussinesq):
 #: (reproduced in METHODS.md §1.3, table of I(m, n); values agree with the
 #: published charts and tables, e.g. Das, Principles of Geotechnical Engineering)
 NEWMARK_TABLE = [
-    (0.1, 0.1, 0.0047), (0.1, 1.0, 0.0279), (0.25, 0.25, 0.0270), (0.25, 2.0, 0.0752),
-    (0.5, 0.5, 0.0840), (0.5, 1.0, 0.1202), (0.5, 3.0, 0.1368), (1.0, 1.0, 0.1752),
-    (1.0, 1.5, 0.1936), (1.0, 2.0, 0.1999), (1.5, 1.5, 0.2157), (1.5, 2.0, 0.2236),
-    (2.0, 2.0, 0.2325), (2.0, 3.0, 0.2378), (3.0, 3.0, 0.2439), (1.0, np.inf, 0.2046),
-    (2.0, np.inf, 0.2399), (0.5, np.inf, 0.1375), (np.inf, np.inf, 0.2500),
+    (0.1, 0.1, 0.0047),
+    (0.1, 1.0, 0.0279),
+    (0.25, 0.25, 0.0270),
+    (0.25, 2.0, 0.0752),
+    (0.5, 0.5, 0.0840),
+    (0.5, 1.0, 0.1202),
+    (0.5, 3.0, 0.1368),
+    (1.0, 1.0, 0.1752),
+    (1.0, 1.5, 0.1936),
+    (1.0, 2.0, 0.1999),
+    (1.5, 1.5, 0.2157),
+    (1.5, 2.0, 0.2236),
+    (2.0, 2.0, 0.2325),
+    (2.0, 3.0, 0.2378),
+    (3.0, 3.0, 0.2439),
+    (1.0, np.inf, 0.2046),
+    (2.0, np.inf, 0.2399),
+    (0.5, np.inf, 0.1375),
+    (np.inf, np.inf, 0.2500),
 ]
 
 
@@ -65,8 +80,10 @@ def test_corner_factor_matches_newmark_fadum_table(m, n, published):
     assert S.rectangle_corner_factor(n, m) == pytest.approx(published, abs=5e-5)  # symmetric
 
 
-@pytest.mark.parametrize(("m", "n"), [(0.5, 0.5), (1, 1), (1, 2), (1.5, 1.5), (1.5, 2), (2, 2), (3, 3),
-                                      (0.3, 4.0), (5.0, 5.0)])
+@pytest.mark.parametrize(
+    ("m", "n"),
+    [(0.5, 0.5), (1, 1), (1, 2), (1.5, 1.5), (1.5, 2), (2, 2), (3, 3), (0.3, 4.0), (5.0, 5.0)],
+)
 def test_corner_factor_equals_scipy_integral_of_point_load(m, n):
     # independent check: integrate Boussinesq over the B × L rectangle, z = 1;
     # (2, 2), (3, 3), (1.5, 2) have m²n² > m² + n² + 1 (Newmark's arctan branch)
@@ -105,14 +122,18 @@ def test_corner_factor_negative_is_nan():
 # rectangle at any point
 # ---------------------------------------------------------------------------
 
-@pytest.mark.parametrize(("px", "py", "z"), [
-    (0.0, 0.0, 1.0),  # centre
-    (0.7, -0.3, 0.5),  # inside
-    (1.5, 0.2, 1.0),  # under the edge x = L/2
-    (1.5, 1.0, 2.0),  # under a corner
-    (4.0, 2.5, 1.5),  # outside
-    (-3.0, 0.0, 0.3),  # outside, shallow
-])
+
+@pytest.mark.parametrize(
+    ("px", "py", "z"),
+    [
+        (0.0, 0.0, 1.0),  # centre
+        (0.7, -0.3, 0.5),  # inside
+        (1.5, 0.2, 1.0),  # under the edge x = L/2
+        (1.5, 1.0, 2.0),  # under a corner
+        (4.0, 2.5, 1.5),  # outside
+        (-3.0, 0.0, 0.3),  # outside, shallow
+    ],
+)
 def test_rectangle_any_point_vs_scipy(px, py, z):
     l, b = 3.0, 2.0
     ref = quad_rect(-l / 2, l / 2, -b / 2, b / 2, px, py, z)
@@ -127,19 +148,29 @@ def test_square_centre_and_corner_solid_angle():
     assert S.rectangle_solid_angle(2, 2, 1, 1, 2) == pytest.approx(math.pi / 6, rel=1e-12)
 
 
-@pytest.mark.parametrize(("px", "py", "expected"), [
-    (0.0, 0.0, 1.0), (1.5, 0.0, 0.5), (1.5, 1.0, 0.25), (2.0, 0.0, 0.0), (0.0, -1.0, 0.5),
-])
+@pytest.mark.parametrize(
+    ("px", "py", "expected"),
+    [
+        (0.0, 0.0, 1.0),
+        (1.5, 0.0, 0.5),
+        (1.5, 1.0, 0.25),
+        (2.0, 0.0, 0.0),
+        (0.0, -1.0, 0.5),
+    ],
+)
 def test_rectangle_surface_limit(px, py, expected):
     # z → 0: q inside, q/2 on an edge, q/4 at a corner, 0 outside (limit of the half-space solution)
     assert S.rectangle_stress(Q, 3, 2, px, py, 0.0) == pytest.approx(expected, abs=1e-15)
     # and continuity as z → 0⁺ (the limit is approached linearly in z)
     assert S.rectangle_stress(Q, 3, 2, px, py, 1e-7) == pytest.approx(expected, abs=1e-6)
-    assert S.rectangle_solid_angle(3, 2, px, py, 0.0) == pytest.approx(2 * math.pi * expected, abs=1e-15)
+    assert S.rectangle_solid_angle(3, 2, px, py, 0.0) == pytest.approx(
+        2 * math.pi * expected, abs=1e-15
+    )
 
 
 def test_strip_centreline_as_long_rectangle():
-    # strip of width B: σz/q = (α + sin α)/π, α = 2 arctan(B/2z); z/B = 1 → 0.5498 (METHODS.md §1.4 [C])
+    # strip of width B: σz/q = (α + sin α)/π, α = 2 arctan(B/2z);
+    # z/B = 1 → 0.5498 (METHODS.md §1.4 [C])
     assert S.rectangle_stress(Q, 1e6, 1.0, 0, 0, 1.0) == pytest.approx(0.5498, abs=5e-5)
 
 
@@ -158,6 +189,7 @@ def test_horizontal_sum_corner_quadrature_value():
 # ---------------------------------------------------------------------------
 # point load
 # ---------------------------------------------------------------------------
+
 
 def test_point_load_influence_factor():
     # I_B(r/z = 0) = 3/(2π) = 0.47746 (METHODS.md §1.1 [V])
@@ -178,9 +210,18 @@ def test_point_load_invariant_matches_solid_angle_of_tiny_area():
 # circle
 # ---------------------------------------------------------------------------
 
-@pytest.mark.parametrize(("z_over_a", "value"), [
-    (0.5, 0.9106), (1.0, 0.6464), (1.5, 0.4240), (2.0, 0.2845), (3.0, 0.1462), (5.0, 0.0571),
-])
+
+@pytest.mark.parametrize(
+    ("z_over_a", "value"),
+    [
+        (0.5, 0.9106),
+        (1.0, 0.6464),
+        (1.5, 0.4240),
+        (2.0, 0.2845),
+        (3.0, 0.1462),
+        (5.0, 0.0571),
+    ],
+)
 def test_circle_centreline_table(z_over_a, value):
     # METHODS.md §1.5 [C] values of 1 − [1 + (a/z)²]^(−3/2), printed to 4 decimals
     assert S.circle_stress(Q, 2.0, 0.0, 2.0 * z_over_a) == pytest.approx(value, abs=5e-5)
@@ -191,20 +232,40 @@ def test_circle_centreline_closed_form():
     a = 1.3
     exact = 1 - (1 + (a / z) ** 2) ** -1.5
     np.testing.assert_allclose(S.circle_stress(Q, a, 0.0, z), exact, rtol=0, atol=1e-12)
-    np.testing.assert_allclose(S.circle_solid_angle(a, 0.0, z), 2 * math.pi * (1 - z / np.hypot(a, z)),
-                               rtol=0, atol=1e-12)
+    np.testing.assert_allclose(
+        S.circle_solid_angle(a, 0.0, z), 2 * math.pi * (1 - z / np.hypot(a, z)), rtol=0, atol=1e-12
+    )
 
 
 def quad_circle(a, r, z, kernel=boussinesq):
-    v, _ = integrate.dblquad(lambda rho, th: rho * kernel(r, 0.0, z, rho * math.cos(th), rho * math.sin(th)),
-                             0, 2 * math.pi, 0, a, epsabs=1e-13, epsrel=1e-12)
+    v, _ = integrate.dblquad(
+        lambda rho, th: rho * kernel(r, 0.0, z, rho * math.cos(th), rho * math.sin(th)),
+        0,
+        2 * math.pi,
+        0,
+        a,
+        epsabs=1e-13,
+        epsrel=1e-12,
+    )
     return v
 
 
-@pytest.mark.parametrize(("r", "z"), [
-    (0.5, 1.0), (0.9, 0.2), (0.99, 0.05), (0.999, 0.01), (1.0, 0.01), (1.001, 0.01), (1.01, 0.05),
-    (1.5, 0.3), (3.0, 1.0), (0.3, 0.001), (2.0, 4.0),
-])
+@pytest.mark.parametrize(
+    ("r", "z"),
+    [
+        (0.5, 1.0),
+        (0.9, 0.2),
+        (0.99, 0.05),
+        (0.999, 0.01),
+        (1.0, 0.01),
+        (1.001, 0.01),
+        (1.01, 0.05),
+        (1.5, 0.3),
+        (3.0, 1.0),
+        (0.3, 0.001),
+        (2.0, 4.0),
+    ],
+)
 def test_circle_off_axis_vs_scipy(r, z):
     # the stated accuracy of circle_stress: 1e-8 q (points down to 1e-3 a from the edge)
     assert S.circle_stress(Q, 1.0, r, z) == pytest.approx(quad_circle(1.0, r, z), abs=1e-8)
@@ -217,16 +278,21 @@ def test_circle_equals_fine_polygon():
     th = np.linspace(0, 2 * math.pi, 4000, endpoint=False)
     poly = np.column_stack([np.cos(th), np.sin(th)])
     for r, z in [(0.4, 0.7), (1.3, 0.5), (0.95, 0.1)]:
-        assert S.circle_stress(Q, 1.0, r, z) == pytest.approx(S.polygon_stress(Q, poly, r, 0.0, z), abs=2e-6)
+        assert S.circle_stress(Q, 1.0, r, z) == pytest.approx(
+            S.polygon_stress(Q, poly, r, 0.0, z), abs=2e-6
+        )
 
 
 def test_circle_surface_limit():
-    np.testing.assert_array_equal(S.circle_stress(Q, 1.0, [0.0, 0.5, 1.0, 1.5], 0.0), [1.0, 1.0, 0.5, 0.0])
+    np.testing.assert_array_equal(
+        S.circle_stress(Q, 1.0, [0.0, 0.5, 1.0, 1.5], 0.0), [1.0, 1.0, 0.5, 0.0]
+    )
 
 
 # ---------------------------------------------------------------------------
 # polygon
 # ---------------------------------------------------------------------------
+
 
 def test_triangle_check_value():
     # METHODS.md §1.6 [C]: triangle (0,0),(3,0),(1,2) at (1, 0.5), z = 1 → 0.560359, Ω = 1.606113 sr
@@ -234,8 +300,15 @@ def test_triangle_check_value():
     assert S.polygon_stress(Q, tri, 1.0, 0.5, 1.0) == pytest.approx(0.560359, abs=5e-7)
     assert S.polygon_solid_angle(tri, 1.0, 0.5, 1.0) == pytest.approx(1.606113, abs=5e-7)
     # independent: scipy over the triangle (x from 0 to 3, y between the edges)
-    ref, _ = integrate.dblquad(lambda y, x: boussinesq(1.0, 0.5, 1.0, x, y), 0, 3, 0,
-                               lambda x: 2 * x if x <= 1 else (3 - x), epsabs=1e-13, epsrel=1e-12)
+    ref, _ = integrate.dblquad(
+        lambda y, x: boussinesq(1.0, 0.5, 1.0, x, y),
+        0,
+        3,
+        0,
+        lambda x: 2 * x if x <= 1 else (3 - x),
+        epsabs=1e-13,
+        epsrel=1e-12,
+    )
     assert S.polygon_stress(Q, tri, 1.0, 0.5, 1.0) == pytest.approx(ref, rel=1e-6)
 
 
@@ -246,11 +319,17 @@ def quad_l_shape(px, py, z):
     return quad_rect(0, 4, 0, 2, px, py, z) + quad_rect(0, 2, 2, 4, px, py, z)
 
 
-@pytest.mark.parametrize(("px", "py", "z"), [(1, 1, 1), (3, 3, 1.5), (2, 2, 0.7), (5, -1, 2), (0.5, 3.5, 0.4)])
+@pytest.mark.parametrize(
+    ("px", "py", "z"), [(1, 1, 1), (3, 3, 1.5), (2, 2, 0.7), (5, -1, 2), (0.5, 3.5, 0.4)]
+)
 def test_l_shape_vs_scipy(px, py, z):
-    assert S.polygon_stress(Q, L_SHAPE, px, py, z) == pytest.approx(quad_l_shape(px, py, z), rel=1e-6, abs=1e-12)
+    assert S.polygon_stress(Q, L_SHAPE, px, py, z) == pytest.approx(
+        quad_l_shape(px, py, z), rel=1e-6, abs=1e-12
+    )
     # clockwise order gives the same (the orientation sign σ_A)
-    assert S.polygon_stress(Q, L_SHAPE[::-1], px, py, z) == pytest.approx(quad_l_shape(px, py, z), rel=1e-6)
+    assert S.polygon_stress(Q, L_SHAPE[::-1], px, py, z) == pytest.approx(
+        quad_l_shape(px, py, z), rel=1e-6
+    )
 
 
 def test_l_shape_worked_example():
@@ -268,8 +347,12 @@ def test_concave_polygon_vs_scipy(px, py, z):
     def top(x):
         return 3 - x if x <= 2 else x - 1
 
-    ref = sum(integrate.dblquad(lambda y, x: boussinesq(px, py, z, x, y), x0, x1, 0, top,
-                                epsabs=1e-13, epsrel=1e-12)[0] for x0, x1 in ((0, 2), (2, 4)))
+    ref = sum(
+        integrate.dblquad(
+            lambda y, x: boussinesq(px, py, z, x, y), x0, x1, 0, top, epsabs=1e-13, epsrel=1e-12
+        )[0]
+        for x0, x1 in ((0, 2), (2, 4))
+    )
     assert S.polygon_stress(Q, CHEVRON, px, py, z) == pytest.approx(ref, rel=1e-6, abs=1e-12)
 
 
@@ -288,7 +371,8 @@ def test_rotated_rectangle_polygon_vs_scipy():
 
 
 def test_polygon_surface_limit_and_vertex():
-    # z = 0: q inside, q/2 on an edge, 3q/4 at the re-entrant corner (270°), 0 outside; no NaN at a vertex
+    # z = 0: q inside, q/2 on an edge, 3q/4 at the re-entrant corner (270°), 0 outside;
+    # no NaN at a vertex
     got = S.polygon_stress(Q, L_SHAPE, [1, 2, 2, 5, 0, 4], [1, 0, 2, 1, 0, 0], 0.0)
     np.testing.assert_allclose(got, [1, 0.5, 0.75, 0, 0.25, 0.25], atol=1e-15)
     assert np.isfinite(S.polygon_stress(Q, L_SHAPE, 2.0, 2.0, 1.0))
@@ -300,7 +384,8 @@ def test_polygon_equals_rectangle_superposition():
     for z in (0.5, 2.0):
         poly = S.polygon_stress(Q, L_SHAPE, pts[:, 0], pts[:, 1], z)
         rect = S.rectangle_stress(Q, 4, 2, pts[:, 0] - 2, pts[:, 1] - 1, z) + S.rectangle_stress(
-            Q, 2, 2, pts[:, 0] - 1, pts[:, 1] - 3, z)
+            Q, 2, 2, pts[:, 0] - 1, pts[:, 1] - 3, z
+        )
         np.testing.assert_allclose(poly, rect, rtol=1e-12, atol=1e-15)
 
 
@@ -314,9 +399,17 @@ def test_large_square_solid_angle_tends_to_2pi():
 # 2:1 spread (comparison only)
 # ---------------------------------------------------------------------------
 
-@pytest.mark.parametrize(("z_over_b", "spread", "exact"), [
-    (0.25, 0.6400, 0.9299), (0.5, 0.4444, 0.7009), (1, 0.2500, 0.3361), (2, 0.1111, 0.1081), (4, 0.0400, 0.0291),
-])
+
+@pytest.mark.parametrize(
+    ("z_over_b", "spread", "exact"),
+    [
+        (0.25, 0.6400, 0.9299),
+        (0.5, 0.4444, 0.7009),
+        (1, 0.2500, 0.3361),
+        (2, 0.1111, 0.1081),
+        (4, 0.0400, 0.0291),
+    ],
+)
 def test_spread_2to1_vs_boussinesq_table(z_over_b, spread, exact):
     # METHODS.md §1.9 table [C] (values printed to 4 decimals)
     assert S.spread_2to1(Q, 1.0, 1.0, z_over_b) == pytest.approx(spread, abs=5e-5)
