@@ -381,3 +381,29 @@ def test_footing_outline_polygons_match_the_site(written):
     fp = gpd.read_file(out / "site.gpkg", layer="footings", engine="pyogrio")
     for geom, f in zip(fp.geometry, r.site.footings):
         assert geom.equals(shapely.Polygon(f.outline))
+
+
+def test_structure_lines_are_in_the_summary_and_the_report(tmp_path):
+    import dataclasses
+
+    from sitesettle.results import LineChecks
+
+    r = make_results(scale=0.3)  # every footing and pair passes
+    lines = LineChecks(
+        ids=(("C1", "C2", "C3"), ("C4", "C5", "C6")),
+        length=np.array([12.0, 12.0]),
+        relative_deflection=np.array([0.002, 0.009]),
+        deflection_ratio=np.array([0.002 / 12, 0.009 / 12]),
+        limit=("deflection ratio ≤ 0.4e-3",) * 2,
+        limit_value=np.array([4e-4, 4e-4]),
+        limit_source=("Burland & Wroth (1974), from memory",) * 2,
+        utilisation=np.array([0.42, 1.9]),
+        passed=np.array([True, False]),
+    )
+    r = dataclasses.replace(r, checks=dataclasses.replace(r.checks, lines=lines))
+    out = write_results(r, tmp_path / "r")
+    s = json.loads((out / "summary.json").read_text())
+    assert s["n_lines"] == 2 and s["failing_lines"] == [["C4", "C5", "C6"]]
+    assert s["all_passed"] is False and s["failing_pairs"] == [] and s["failing_footings"] == []
+    page = (out / "report.html").read_text()
+    assert "C4 → C5 → C6" in page and "Burland &amp; Wroth (1974)" in page

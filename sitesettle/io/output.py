@@ -285,6 +285,8 @@ def summary_dict(results: Results, units: str = "si") -> dict:
                 "criteria": None,
                 "criteria_sources": [],
                 "all_passed": None,
+                "n_lines": 0,
+                "failing_lines": [],
             }
         )
         return out
@@ -313,6 +315,10 @@ def summary_dict(results: Results, units: str = "si") -> dict:
             ),
             "footing_limit_source": checks.footing_limit_source,
             "all_passed": bool(checks.all_passed),
+            "n_lines": 0 if checks.lines is None else len(checks.lines.ids),
+            "failing_lines": []
+            if checks.lines is None
+            else [list(ids) for ids, ok in zip(checks.lines.ids, checks.lines.passed) if not ok],
         }
     )
     if checks.checked_after > 0:
