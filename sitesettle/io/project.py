@@ -347,6 +347,48 @@ def _file(
     return path
 
 
+def _read_footing_files(folder: pathlib.Path, ftable: dict, where: str, crs, source: str):
+    """Footings from one file or a list of files (e.g. a CSV schedule and a GIS raft)."""
+    names = ftable.get("file")
+    if isinstance(names, list):
+        if not names or not all(isinstance(n, str) for n in names):
+            raise InputError(f"{where}, key 'file'", "an empty or malformed list of files",
+                             'file = "footings.csv" or file = ["pads.csv", "rafts.gpkg"]')
+    else:
+        names = [names] if names is not None else []
+    if not names:
+        _file(folder, ftable, "file", where, required=True)  # raises the missing-key error
+    defaults = _footing_defaults(ftable, where)
+    everything: list = []
+    origin: dict[str, str] = {}
+    for name in names:
+        fpath = _file(folder, {"file": name}, "file", where, required=True)
+        found, file_crs = read_footings(fpath, defaults, layer=ftable.get("layer"))
+        if file_crs is not None:
+            geometry.check_metric_crs(file_crs, fpath.name)
+            if crs is not None and not geometry.same_crs(crs, file_crs):
+                raise InputError(
+                    f"{source} [project], key 'crs'" if len(names) == 1 else fpath.name,
+                    f"{crs} differs from the coordinate system of {fpath.name} ({file_crs})",
+                    "the same coordinate system for all files (or no crs key)",
+                )
+            crs = file_crs
+        for f in found:
+            if f.id in origin:
+                raise InputError(fpath.name, f'the footing id "{f.id}" is also used in {origin[f.id]}',
+                                 "a unique id for each footing across the footing files")
+            origin[f.id] = fpath.name
+        if everything:
+            for i, j, common in geometry.find_overlaps([f.outline for f in everything + list(found)]):
+                if i < len(everything) <= j:
+                    other = found[j - len(everything)]
+                    raise InputError(fpath.name, f'footing "{other.id}" overlaps footing '
+                                     f'"{everything[i].id}" of {origin[everything[i].id]} by {common:.3g} m²',
+                                     "footings that do not overlap (merge a combined footing into one)")
+        everything.extend(found)
+    return tuple(everything), crs
+
+
 def _footing_defaults(table: dict, where: str) -> FootingDefaults:
     kw: dict = {}
     if "depth" in table:
@@ -407,19 +449,7 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
     checks = parse_checks(config.get("checks", {}), f"{source} [checks]")
 
     ftable = config.get("footings", {})
-    fpath = _file(folder, ftable, "file", f"{source} [footings]", required=True)
-    footings, file_crs = read_footings(
-        fpath, _footing_defaults(ftable, f"{source} [footings]"), layer=ftable.get("layer")
-    )
-    if file_crs is not None:
-        geometry.check_metric_crs(file_crs, fpath.name)
-        if crs is not None and not geometry.same_crs(crs, file_crs):
-            raise InputError(
-                f"{source} [project], key 'crs'",
-                f"{crs} differs from the coordinate system of {fpath.name} ({file_crs})",
-                "the same coordinate system for all files (or no crs key)",
-            )
-        crs = file_crs
+    footings, crs = _read_footing_files(folder, ftable, f"{source} [footings]", crs, source)
 
     bpath = _file(
         folder, config.get("boreholes", {}), "file", f"{source} [boreholes]", required=True
