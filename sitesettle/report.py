@@ -444,6 +444,64 @@ def _checks(results: Results, units: str) -> str:
     return "".join(parts)
 
 
+def _trace(results: Results, fid: str | None, units: str) -> str:
+    """The layer-by-layer calculation of one footing (its first evaluation point), if kept."""
+    traces = results.traces.get(fid) if fid is not None else None
+    if not traces:
+        return ""
+    t = traces[0]
+    S, su = (1000.0 / 25.4, "in") if units == "us" else (1000.0, "mm")
+    rows = [
+        [
+            _num(top, "{:.2f}"),
+            _num(bottom, "{:.2f}"),
+            _e(stratum),
+            _e(method),
+            _num(s0, "{:.1f}"),
+            _num(own, "{:.1f}"),
+            _num(nb, "{:.1f}"),
+            _num(eps, "{:.3e}"),
+            _num(so * S, "{:.3f}"),
+            _num(sn * S, "{:.3f}"),
+            _num(iz, "{:.3f}"),
+        ]
+        for top, bottom, stratum, method, s0, own, nb, eps, so, sn, iz in zip(
+            t.top,
+            t.bottom,
+            t.stratum,
+            t.method,
+            t.sigma_v0,
+            t.own_stress,
+            t.neighbour_stress,
+            t.strain,
+            t.own_settlement,
+            t.neighbour_settlement,
+            t.influence,
+        )
+    ]
+    total_own = float(np.nansum(t.own_settlement)) * S
+    total_nb = float(np.nansum(t.neighbour_settlement)) * S
+    header = [
+        "top [m]",
+        "bottom [m]",
+        "stratum",
+        "method",
+        "σ'v0 [kPa]",
+        "Δσz own [kPa]",
+        "Δσz neighbours [kPa]",
+        "strain",
+        f"own [{su}]",
+        f"neighbours [{su}]",
+        "Iz",
+    ]
+    return (
+        f"<h3>Calculation trace of footing {_e(fid)} (the largest settlement)</h3>"
+        f"<p class='note'>At ({t.point[0]:.2f}, {t.point[1]:.2f}) m, at the design life; "
+        f"the sublayers add up to {total_own:.3f} {su} own and {total_nb:.3f} {su} from the "
+        "neighbours at this point.</p>" + _table(header, rows, numeric={0, 1, 4, 5, 6, 7, 8, 9, 10})
+    )
+
+
 def render_report(
     results: Results, figures: dict[str, bytes], *, units: str = "si", date: str | None = None
 ) -> str:
@@ -511,6 +569,7 @@ def render_report(
             status=ft["status"],
         )
     )
+    body.append(_trace(results, summary.get("worst_footing"), units))
     body.append("<h3>Pairs</h3>")
     pt = pair_table(results, units)
     body.append(_df_table(pt) if len(pt) else "<p>No pairs were checked.</p>")

@@ -15,7 +15,7 @@ import numpy as np
 
 from sitesettle.mapping import Section, SectionFooting, default_grid
 from sitesettle.options import Behaviour
-from sitesettle.results import Checks, PairChecks, Results, SettlementMap
+from sitesettle.results import Checks, PairChecks, Results, SettlementMap, Trace
 from sitesettle.site import Borehole, Footing, Interval, Site, Stratum
 
 #: limits of the synthetic checks (the numbers of the generic criteria: total 50 mm,
@@ -196,11 +196,35 @@ def make_results(
         influence_depth=np.full(n, 6.5),
         methods=tuple("schmertmann + consolidation" for _ in range(n)),
         outside_hull=np.arange(n) == n - 1,
-        traces={},
+        traces=_traces(site, xy, total[:, life], own[:, life]),
         map=results_map,
         checks=checks,
         warnings=warnings,
     )
+
+
+def _traces(site: Site, xy: np.ndarray, total: np.ndarray, own: np.ndarray) -> dict:
+    """A made-up trace of the worst footing: 8 sublayers whose settlements add up to its own."""
+    i = int(np.argmax(total))
+    top = np.linspace(1.4, 6.0, 9)
+    w = np.linspace(1.0, 0.2, 8)  # made-up share of each sublayer
+    own_s = own[i] * w / w.sum()
+    neigh_s = (total[i] - own[i]) * w / w.sum()
+    tr = Trace(
+        point=(float(xy[i, 0]), float(xy[i, 1])),
+        top=top[:-1],
+        bottom=top[1:],
+        stratum=("dense sand",) * 6 + ("soft clay",) * 2,
+        method=("schmertmann",) * 6 + ("consolidation",) * 2,
+        sigma_v0=np.linspace(30.0, 90.0, 8),
+        own_stress=np.linspace(150.0, 20.0, 8),
+        neighbour_stress=np.linspace(5.0, 12.0, 8),
+        strain=(own_s + neigh_s) / np.diff(top),
+        own_settlement=own_s,
+        neighbour_settlement=neigh_s,
+        influence=np.r_[np.linspace(0.3, 0.1, 6), np.nan, np.nan],
+    )
+    return {site.footings[i].id: (tr,)}
 
 
 def _at(total: np.ndarray, times: np.ndarray, t: float) -> np.ndarray:

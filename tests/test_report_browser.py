@@ -139,6 +139,10 @@ def test_sections_tables_cautions_and_version(nasty):
     for word in ("Schmertmann", "Terzaghi", "Burland & Burbidge", "elastic half-space", "SPT"):
         assert word in text
     assert "sitesettle 0.1.0" in text and "2026-01-01" in text
+    worst = r.ids[int(r.at_design_life().argmax())]
+    assert f"Calculation trace of footing {worst}" in text
+    own = r.traces[worst][0].own_settlement.sum() * 1000
+    assert f"{own:.3f} mm own" in text  # the trace adds up to the footing's own settlement
     assert "Bjerrum (1963); EN 1997-1:2004 Annex H" in text  # the pairs' limit source
 
 
