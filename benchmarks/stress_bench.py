@@ -1,6 +1,6 @@
 """Benchmark of the stress engine (sitesettle.stress): a plain script printing a table.
 
-Run:  python benchmarks/stress_bench.py [--quick]
+Run:  python benchmarks/stress_bench.py [--quick] [--tolerance=1e-3]
 
 1. exact evaluations per second (load × point pairs) for rectangles and polygons;
 2. a plan of 2,000 rectangular footings (sides 1.5–4 m on a 6 m column grid,
@@ -65,7 +65,7 @@ def rate(fn, pairs):
     return pairs / (time.perf_counter() - t)
 
 
-def main(quick=False):
+def main(quick=False, tolerance=1e-3):
     rows = []
     loads, rng = plan()
     pts = points(loads, rng)
@@ -96,7 +96,7 @@ def main(quick=False):
         pts = pts[rng.choice(len(pts), 60_000, replace=False)]
     tracemalloc.start()
     t = time.perf_counter()
-    sz, tt = stress.stress_sums(loads, pts, tolerance=1e-3)
+    sz, tt = stress.stress_sums(loads, pts, tolerance=tolerance)
     wall = time.perf_counter() - t
     _, peak = tracemalloc.get_traced_memory()
     tracemalloc.stop()
@@ -111,7 +111,7 @@ def main(quick=False):
         ("process max RSS [MB]", f"{rss:.0f}"),
         ("max |σz − exact| [kPa] (3,000 points)", f"{np.abs(sz[check] - ez).max():.2e}"),
         ("max |T − exact| [kPa]", f"{np.abs(tt[check] - et).max():.2e}"),
-        ("allowed: 1e-3 · max q [kPa]", f"{1e-3 * qmax:.3f}"),
+        (f"allowed: {tolerance:g} · max q [kPa]", f"{tolerance * qmax:.3f}"),
     ]
     w = max(len(r[0]) for r in rows)
     for k, v in rows:
@@ -119,4 +119,8 @@ def main(quick=False):
 
 
 if __name__ == "__main__":
-    main(quick="--quick" in sys.argv)
+    tol = 1e-3
+    for arg in sys.argv[1:]:
+        if arg.startswith("--tolerance="):
+            tol = float(arg.split("=", 1)[1])
+    main(quick="--quick" in sys.argv, tolerance=tol)
