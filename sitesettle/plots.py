@@ -363,16 +363,13 @@ def contour_figure(results: Results, *, ax=None, units: str = "si"):
             zorder=4,
         )
     )
-    _set_plan_limits(ax, results, L, pad_fraction=0.1)
-    if m is not None:
-        ax.set_xlim(
-            min(ax.get_xlim()[0], float(np.min(m.x)) * L),
-            max(ax.get_xlim()[1], float(np.max(m.x)) * L),
-        )
-        ax.set_ylim(
-            min(ax.get_ylim()[0], float(np.min(m.y)) * L),
-            max(ax.get_ylim()[1], float(np.max(m.y)) * L),
-        )
+    if m is not None and filled is not None:
+        # the map's own extent: no blank band around the computed field
+        ax.set_xlim(float(np.min(m.x)) * L, float(np.max(m.x)) * L)
+        ax.set_ylim(float(np.min(m.y)) * L, float(np.max(m.y)) * L)
+        ax.set_aspect("equal")
+    else:
+        _set_plan_limits(ax, results, L, pad_fraction=0.1)
     if filled is not None:
         cb = fig.colorbar(filled, ax=ax, shrink=0.85, pad=0.02)
         cb.set_label(f"settlement at {_design_life_label(results)} [{su}]")
@@ -404,6 +401,14 @@ def _worst_pair(results: Results) -> int | None:
     if not np.isfinite(key).any():
         key = np.asarray(pc.angular_distortion, float)
     return int(np.nanargmax(key)) if np.isfinite(key).any() else None
+
+
+def _at_time(times: np.ndarray, values: np.ndarray, t: float) -> float:
+    """``values`` at time ``t``, linear in log time between the computed times (0 at t = 0)."""
+    if t <= 0:
+        return 0.0
+    lt = np.log(np.asarray(times, float))
+    return float(np.interp(math.log(t), lt, np.asarray(values, float)))
 
 
 def _downward(ax) -> None:
@@ -477,16 +482,17 @@ def time_figure(results: Results, *, ax=None, units: str = "si"):
         else:
             pc = results.checks.pairs
             a, b = int(pc.a[p]), int(pc.b[p])
-            diff = np.abs(total[a] - total[b])
-            ax2.plot(
-                times,
-                diff,
-                marker="s",
-                ms=3.5,
-                color="#333333",
-                lw=1.8,
-                label=f"|s({_esc(results.ids[a])}) − s({_esc(results.ids[b])})|",
-            )
+            after = float(results.checks.checked_after)
+            label = f"|s({_esc(results.ids[a])}) − s({_esc(results.ids[b])})|"
+            t_plot, rel = times, total[a] - total[b]
+            if after > 0:
+                # the check looks at the movement after `after` years only
+                rel0 = _at_time(times, rel, after)
+                keep = times > after
+                t_plot = np.concatenate([[after], times[keep]])
+                rel = np.concatenate([[rel0], rel[keep]]) - rel0
+                label += f" after {after:g} yr"
+            ax2.plot(t_plot, np.abs(rel), marker="s", ms=3.5, color="#333333", lw=1.8, label=label)
             measure = pc.limit_measure[p] if len(pc.limit_measure) > p else ""
             allowed = math.nan
             if measure == "angular_distortion":

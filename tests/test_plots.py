@@ -166,3 +166,24 @@ def test_many_footings_skip_illegible_labels():
     r = make_results(nx=30, ny=20, spacing=3.0)
     texts = _texts(plots.plan_figure(r))
     assert sum(t in texts for t in r.ids) < len(r.ids)  # too crowded to label every one
+
+
+def test_worst_pair_curve_ends_at_the_checked_differential():
+    # with checked_after, the check looks at movement after that time only; the curve
+    # must end at the differential the check used (factory: log-time interpolation)
+    for after in (0.0, 1.0):
+        r = make_results(checked_after=after)
+        fig = plots.time_figure(r)
+        k = int(np.argmax(r.checks.pairs.utilisation))
+        curve = next(line for line in fig.axes[1].get_lines() if line.get_label().startswith("|s("))
+        assert curve.get_ydata()[-1] == pytest.approx(
+            r.checks.pairs.differential[k] * 1000, rel=1e-9
+        )
+        assert curve.get_xdata()[0] == pytest.approx(after if after else r.times[0])
+
+
+def test_contour_figure_shows_the_whole_map_and_no_more():
+    r = make_results()
+    ax = plots.contour_figure(r).axes[0]
+    assert ax.get_xlim() == pytest.approx((r.map.x.min(), r.map.x.max()))
+    assert ax.get_ylim() == pytest.approx((r.map.y.min(), r.map.y.max()))
