@@ -1,0 +1,184 @@
+"""The ``sitesettle`` command end to end: exit codes, files, units, explain and new.
+
+The numbers the command writes must be the numbers the Python API returns; the
+unit conversions are the exact NIST SP 811 factors (1 in = 25.4 mm, 1 ft = 0.3048 m).
+"""
+
+from __future__ import annotations
+
+import io
+import json
+import pathlib
+import re
+import shutil
+import subprocess
+import sys
+from contextlib import redirect_stderr, redirect_stdout
+
+import geopandas as gpd
+import numpy as np
+import pandas as pd
+import pyogrio
+import pytest
+
+import sitesettle
+from sitesettle_cli.main import main
+
+STARTER = pathlib.Path(sitesettle.__file__).parent / "templates" / "starter"
+CHECKER = pathlib.Path(__file__).resolve().parents[2] / "shared" / "tools" / "check_results.py"
+
+
+def run(*args: str) -> tuple[int, str, str]:
+    out, err = io.StringIO(), io.StringIO()
+    with redirect_stdout(out), redirect_stderr(err):
+        rc = main(list(args))
+    return rc, out.getvalue(), err.getvalue()
+
+
+def project(tmp_path: pathlib.Path, name: str = "p", *, crs: str | None = "EPSG:32633",
+            extra: str = "") -> pathlib.Path:
+    dest = tmp_path / name
+    shutil.copytree(STARTER, dest)
+    toml = (dest / "site.toml").read_text(encoding="utf-8")
+    if crs:
+        toml = toml.replace('# crs = "EPSG:32633"', f'crs = "{crs}"')
+    (dest / "site.toml").write_text(toml + extra, encoding="utf-8")
+    return dest
+
+
+@pytest.fixture(scope="module")
+def passing(tmp_path_factory):
+    """The starter project (every check passes), checked once for the module."""
+    p = project(tmp_path_factory.mktemp("cli"))
+    rc, out, err = run("check", str(p))
+    return p, rc, out, err
+
+
+def test_passing_project_exits_0_and_writes_every_file(passing):
+    p, rc, out, err = passing
+    assert rc == 0, err
+    res = p / "results"
+    for name in ("footings.csv", "pairs.csv", "settlement_time.csv", "summary.json", "site.gpkg",
+                 "plan.png", "contours.png", "report.html"):
+        assert (res / name).stat().st_size > 0, name
+    assert "PASS" in out and "licensed engineer" in out  # verdict and caution in the summary
+
+
+def test_written_values_are_the_api_values(passing):
+    p, *_ = passing
+    r = sitesettle.analyse(sitesettle.load_site(p))
+    f = pd.read_csv(p / "results" / "footings.csv")
+    assert list(f.id) == list(r.ids)
+    np.testing.assert_allclose(f.total_mm, r.at_design_life() * 1000, atol=1e-3)  # 3 decimals written
+    np.testing.assert_allclose(f.own_mm, r.at_design_life("own") * 1000, atol=1e-3)
+    np.testing.assert_allclose(f.q_net_kPa, r.net_pressure, atol=1e-2)
+    t = pd.read_csv(p / "results" / "settlement_time.csv")
+    assert len(t) == len(r.ids) * len(r.times)
+    s = json.loads((p / "results" / "summary.json").read_text())
+    assert s["n_footings"] == len(r.ids) and s["n_pairs"] == len(r.checks.pairs.a)
+    assert s["max_total_mm"] == pytest.approx(r.at_design_life().max() * 1000, abs=1e-3)
+
+
+def test_geopackage_layers_carry_the_input_crs(passing):
+    p, *_ = passing
+    gpkg = p / "results" / "site.gpkg"
+    layers = {name for name, _ in pyogrio.list_layers(gpkg)}
+    assert {"footings", "pairs", "contours"} <= layers
+    for layer in ("footings", "pairs", "contours"):
+        g = gpd.read_file(gpkg, layer=layer)
+        assert g.crs is not None and g.crs.to_epsg() == 32633, layer
+    assert len(gpd.read_file(gpkg, layer="footings")) == 6
+
+
+@pytest.mark.skipif(not CHECKER.exists(), reason="the output-contract checker is not beside the repository")
+def test_output_contract_checker_accepts_the_folder(passing):
+    p, rc, *_ = passing
+    done = subprocess.run([sys.executable, str(CHECKER), str(p / "results"), str(rc)],
+                          capture_output=True, text=True)
+    assert done.returncode == 0, done.stdout + done.stderr
+
+
+def test_failing_checks_exit_1_with_outputs_written(tmp_path):
+    p = project(tmp_path, extra='')
+    toml = (p / "site.toml").read_text()
+    toml = toml.replace("[checks.overrides]", '[checks.overrides]\ntotal = "15 mm"', 1)
+    (p / "site.toml").write_text(toml)
+    rc, out, err = run("check", str(p), "--out", str(tmp_path / "out"))
+    assert rc == 1, err
+    s = json.loads((tmp_path / "out" / "summary.json").read_text())
+    assert s["failing_footings"] and not s["all_passed"]
+    assert "FAIL" in out
+
+
+def test_bad_input_exits_2_with_one_message_and_writes_nothing(tmp_path):
+    p = project(tmp_path)
+    (p / "site.toml").write_text((p / "site.toml").read_text().replace('design_life = "50 yr"',
+                                                                       'design_life = "50 kg"'))
+    rc, out, err = run("check", str(p))
+    assert rc == 2
+    assert err.startswith("error: ") and err.count("\n") == 1
+    assert "design_life" in err and "time" in err
+    assert "Traceback" not in err
+    assert not (p / "results").exists()
+
+
+def test_units_us_are_the_si_values_converted(passing, tmp_path):
+    p, *_ = passing
+    rc, _, err = run("check", str(p), "--units", "us", "--out", str(tmp_path / "us"))
+    assert rc == 0, err
+    si = pd.read_csv(p / "results" / "footings.csv")
+    us = pd.read_csv(tmp_path / "us" / "footings.csv")
+    # 1 in = 25.4 mm and 1 ft = 0.3048 m exactly (NIST SP 811, App. B)
+    np.testing.assert_allclose(us.total_in, si.total_mm / 25.4, atol=2e-3)
+    np.testing.assert_allclose(us.x_ft, si.x_m / 0.3048, atol=2e-3)
+    ps = pd.read_csv(p / "results" / "pairs.csv")
+    pu = pd.read_csv(tmp_path / "us" / "pairs.csv")
+    np.testing.assert_allclose(pu.differential_in, ps.differential_mm / 25.4, atol=2e-3)
+    np.testing.assert_allclose(pu.angular_distortion, ps.angular_distortion, rtol=1e-6)
+
+
+def test_explain_prints_the_layer_table_and_its_csv_adds_up(passing):
+    p, *_ = passing
+    rc, out, err = run("explain", str(p), "C2")
+    assert rc == 0, err
+    assert "Footing C2" in out and "sigma_v0_kPa" in out and "Point 4" in out
+    rc, out, _ = run("explain", str(p), "C2", "--csv")
+    sheet = pd.read_csv(io.StringIO(out))
+    r = sitesettle.analyse(sitesettle.load_site(p), with_map=False)
+    i = r.ids.index("C2")
+    per_point = sheet.groupby("point").settlement_mm.sum().to_numpy()
+    np.testing.assert_allclose(per_point, r.point_total[i, :, r.design_life_index] * 1000, rtol=1e-5)
+
+
+def test_explain_unknown_footing_names_the_valid_ones(passing):
+    p, *_ = passing
+    rc, _, err = run("explain", str(p), "C99")
+    assert rc == 2 and "C99" in err and "C1" in err
+
+
+def test_new_writes_a_project_that_loads_and_refuses_a_non_empty_folder(tmp_path):
+    rc, out, _ = run("new", str(tmp_path / "fresh"))
+    assert rc == 0
+    site = sitesettle.load_site(tmp_path / "fresh")
+    assert len(site.footings) >= 5
+    rc, _, err = run("new", str(tmp_path / "fresh"))
+    assert rc == 2 and "not an empty folder" in err
+
+
+def test_rerun_replaces_an_earlier_results_folder(passing, tmp_path):
+    p, *_ = passing
+    out = tmp_path / "again"
+    assert run("check", str(p), "--out", str(out), "--quiet")[0] == 0
+    (out / "marker.txt").write_text("old")
+    rc, text, _ = run("check", str(p), "--out", str(out), "--quiet")
+    assert rc == 0 and text.strip() == "PASS"
+    assert not (out / "marker.txt").exists()  # the folder was replaced as a whole
+
+
+def test_console_script_runs_without_traceback_on_bad_input(tmp_path):
+    exe = shutil.which("sitesettle") or str(pathlib.Path(sys.executable).parent / "sitesettle")
+    if not pathlib.Path(exe).exists():
+        pytest.skip("the sitesettle console script is not installed in this environment")
+    done = subprocess.run([exe, "check", str(tmp_path / "nothing-here")], capture_output=True, text=True)
+    assert done.returncode == 2
+    assert re.match(r"error: .*nothing-here", done.stderr) and "Traceback" not in done.stderr
