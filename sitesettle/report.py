@@ -258,6 +258,11 @@ _STRATUM_FIELDS = (
 )
 
 
+def _depth(value: float) -> str:
+    """A depth to the centimetre, without trailing zeros (``0.600456`` → ``0.6``)."""
+    return f"{value:.2f}".rstrip("0").rstrip(".")
+
+
 def _inputs(results: Results) -> str:
     site = results.site
     parts = [
@@ -287,9 +292,11 @@ def _inputs(results: Results) -> str:
     rows = []
     for b in site.boreholes:
         layers = "; ".join(
-            f"{_e(iv.stratum)} {iv.top:g}–{iv.bottom:g} m"
+            f"{_e(iv.stratum)} {_depth(iv.top)}–{_depth(iv.bottom)} m"
             + (
-                " (" + ", ".join(f"{_e(k)} = {v:g}" for k, v in sorted(iv.overrides.items())) + ")"
+                " ("
+                + ", ".join(f"{_e(k)} = {v:.4g}" for k, v in sorted(iv.overrides.items()))
+                + ")"
                 if iv.overrides
                 else ""
             )
@@ -347,7 +354,12 @@ def _inputs(results: Results) -> str:
 
 
 def _methods(results: Results) -> str:
-    used = " ".join(results.methods).lower()
+    # methods named per footing, and the map's method (which also gives the neighbours' share)
+    used = (
+        " ".join(results.methods).lower()
+        + " "
+        + (results.map.method.lower() if results.map else "")
+    )
     rows = []
     for name, source, validity, key in METHOD_NOTES:
         flag = "yes" if (not key or key in used) else "no"
