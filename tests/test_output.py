@@ -9,6 +9,7 @@ and against pint, an independent units library.
 from __future__ import annotations
 
 import json
+import os
 import pathlib
 import subprocess
 import sys
@@ -407,3 +408,32 @@ def test_structure_lines_are_in_the_summary_and_the_report(tmp_path):
     assert s["all_passed"] is False and s["failing_pairs"] == [] and s["failing_footings"] == []
     page = (out / "report.html").read_text()
     assert "C4 → C5 → C6" in page and "Burland &amp; Wroth (1974)" in page
+
+
+def test_failure_during_the_swap_puts_the_old_folder_back(tmp_path, monkeypatch):
+    out = tmp_path / "r"
+    write_results(make_results(), out)
+    before = _snapshot(out)
+    real = os.replace
+    calls = []
+
+    def replace(src, dst):
+        calls.append((pathlib.Path(src).name, pathlib.Path(dst).name))
+        if len(calls) == 2:  # old moved aside; moving the new folder in fails
+            raise OSError("simulated rename failure")
+        real(src, dst)
+
+    monkeypatch.setattr(output.os, "replace", replace)
+    with pytest.raises(OSError, match="simulated"):
+        write_results(make_results(scale=2.0), out)
+    assert len(calls) == 3  # aside, (failed) in, back
+    assert _snapshot(out) == before
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["r"]
+
+
+def test_check_target_is_public_and_writes_nothing(tmp_path):
+    (tmp_path / "f").write_text("x")
+    with pytest.raises(OutputError):
+        output.check_target(tmp_path / "f")
+    output.check_target(tmp_path / "new" / "deeper")  # a folder that can be made: fine
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["f"]

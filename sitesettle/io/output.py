@@ -497,6 +497,15 @@ def _check_target(out: Path) -> None:
         raise OutputError(f"cannot write results to {out}: no permission to write in {ancestor}")
 
 
+def check_target(out_dir: str | os.PathLike) -> None:
+    """Raise OutputError now if ``out_dir`` cannot become a results folder.
+
+    The command line calls it before a long analysis; :func:`write_results` calls it
+    again before writing. Nothing is written.
+    """
+    _check_target(Path(out_dir).absolute())
+
+
 def _swap(tmp: Path, out: Path) -> None:
     """Put the finished folder ``tmp`` in place of ``out`` (renames on one file system)."""
     if not out.exists():
