@@ -61,6 +61,11 @@ class _Segments:
     stratum: np.ndarray  # stratum index in site.strata
     x: np.ndarray
     y: np.ndarray
+    offsets: np.ndarray  # sublayers of column c are rows offsets[c]:offsets[c + 1]
+
+    def rows(self, c: int) -> slice:
+        """The sublayers of column ``c`` (they are stored contiguously, top down)."""
+        return slice(int(self.offsets[c]), int(self.offsets[c + 1]))
 
     @property
     def mid(self) -> np.ndarray:
@@ -205,6 +210,10 @@ def _build_segments(site: Site, columns: list, points: list[np.ndarray],
                     owners: list[int]) -> _Segments:
     st = site.analysis
     parts = {k: [] for k in ("footing", "point", "column", "top", "bottom", "stratum", "x", "y")}
+    counts = np.zeros(len(columns), dtype=int)
+    first = {}
+    for c, i in enumerate(owners):
+        first.setdefault(i, c)
     for c, (col, xy, i) in enumerate(zip(columns, points, owners)):
         f = site.footings[i]
         bottom = f.depth + st.max_depth_widths * f.width
@@ -221,7 +230,8 @@ def _build_segments(site: Site, columns: list, points: list[np.ndarray],
         k = np.asarray(col.index_at(0.5 * (top + bot)), dtype=int)
         n = len(top)
         parts["footing"].append(np.full(n, i))
-        parts["point"].append(np.full(n, c - _first_column(owners, i)))
+        counts[c] = n
+        parts["point"].append(np.full(n, c - first[i]))
         parts["column"].append(np.full(n, c))
         parts["top"].append(top)
         parts["bottom"].append(bot)
@@ -231,43 +241,34 @@ def _build_segments(site: Site, columns: list, points: list[np.ndarray],
     cat = {k: (np.concatenate(v) if v else np.zeros(0)) for k, v in parts.items()}
     for k in ("footing", "point", "column", "stratum"):
         cat[k] = cat[k].astype(int)
-    return _Segments(**cat)
-
-
-def _first_column(owners: list[int], i: int) -> int:
-    return owners.index(i)
+    return _Segments(**cat, offsets=np.concatenate([[0], np.cumsum(counts)]))
 
 
 # --------------------------------------------------------------------------- parameters
 
 
+def _lookup(columns: list, seg: _Segments, value, dtype=float) -> np.ndarray:
+    """Per-sublayer value of ``value(stratum)`` through a (column, stratum) table."""
+    table = np.array([[value(s) for s in col.strata] for col in columns], dtype=dtype)
+    if len(seg.top) == 0:
+        return np.zeros(0, dtype=dtype)
+    return table[seg.column, seg.stratum]
+
+
 def _parameter(columns: list, seg: _Segments, name: str, default: float = np.nan) -> np.ndarray:
     """Per-sublayer value of a stratum parameter (borehole overrides applied)."""
-    out = np.full(len(seg.top), default, dtype=float)
-    for c in np.unique(seg.column):
-        m = seg.column == c
-        strata = columns[c].strata
-        vals = np.array([getattr(s, name) if getattr(s, name) is not None else default
-                         for s in strata], dtype=float)
-        out[m] = vals[seg.stratum[m]]
-    return out
+    def get(s):
+        v = getattr(s, name)
+        return default if v is None else float(v)
+    return _lookup(columns, seg, get)
 
 
 def _behaviour(columns: list, seg: _Segments) -> np.ndarray:
-    out = np.empty(len(seg.top), dtype=object)
-    for c in np.unique(seg.column):
-        m = seg.column == c
-        out[m] = np.array([s.behaviour for s in columns[c].strata], dtype=object)[seg.stratum[m]]
-    return out
+    return _lookup(columns, seg, lambda s: s.behaviour, dtype=object)
 
 
 def _granular_method(site: Site, columns: list, seg: _Segments) -> np.ndarray:
-    out = np.empty(len(seg.top), dtype=object)
-    for c in np.unique(seg.column):
-        m = seg.column == c
-        out[m] = np.array([s.method or site.analysis.granular_method for s in columns[c].strata],
-                          dtype=object)[seg.stratum[m]]
-    return out
+    return _lookup(columns, seg, lambda s: s.method or site.analysis.granular_method, dtype=object)
 
 
 def _modulus_from_cone(site: Site, ground: Ground, columns: list, seg: _Segments,
@@ -276,10 +277,9 @@ def _modulus_from_cone(site: Site, ground: Ground, columns: list, seg: _Segments
     e_given = _parameter(columns, seg, "youngs_modulus")
     qc = _parameter(columns, seg, "cone_resistance")
     use_s = _parameter(columns, seg, "use_soundings", 0.0) > 0
-    if np.any(use_s & np.isnan(e_given)):
-        for c in np.unique(seg.column[use_s]):
-            m = (seg.column == c) & use_s
-            qc[m] = ground.cone_resistance(seg.x[m][0], seg.y[m][0], seg.mid[m])
+    need = use_s & np.isnan(e_given)
+    if np.any(need):
+        qc[need] = ground.cone_resistance(seg.x[need], seg.y[need], seg.mid[need])
     return np.where(np.isnan(e_given), factor * qc, e_given)
 
 
@@ -316,13 +316,14 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
     q_full, q_sust, warnings = net_pressures(site, ground)
 
     # evaluation points and their ground columns
-    points, owners, columns = [], [], []
+    points, owners = [], []
     for i, f in enumerate(site.footings):
         for xy in characteristic_points(f):
             points.append(xy)
             owners.append(i)
-            columns.append(ground.column(float(xy[0]), float(xy[1])))
-    npts = max(len(characteristic_points(f)) for f in site.footings)
+    pxy = np.array(points)
+    columns = ground.columns(pxy[:, 0], pxy[:, 1])
+    npts = max(owners.count(i) for i in range(nf))
     seg = _build_segments(site, columns, points, owners)
     say("stresses", 0.1)
 
@@ -339,9 +340,10 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
     own_sz_sust = own_sz * ratio
     say("settlements", 0.6)
 
-    sig0 = np.concatenate([columns[c].effective_stress(seg.mid[seg.column == c])
-                           for c in np.unique(seg.column)]) if len(seg.top) else np.zeros(0)
-    # np.unique keeps column order, and segments are built column by column
+    sig0 = np.zeros(len(seg.top))
+    for c, col in enumerate(columns):
+        r = seg.rows(c)
+        sig0[r] = col.effective_stress(seg.mid[r])
     behaviour = _behaviour(columns, seg)
     granular = behaviour == Behaviour.GRANULAR
     cohesive = behaviour == Behaviour.COHESIVE
@@ -354,7 +356,7 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
     active = np.ones(len(seg.top), dtype=bool)
     influence_depth = np.zeros(len(columns))
     for c in range(len(columns)):
-        m = np.flatnonzero(seg.column == c)
+        m = np.arange(len(seg.top))[seg.rows(c)]
         if len(m) == 0:
             influence_depth[c] = site.footings[owners[c]].depth
             continue
@@ -511,8 +513,10 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
     point_total = np.full((nf, npts, nt), np.nan)
     res = {k: np.zeros((nf, nt)) for k in ("imm", "con", "sec", "own", "nb")}
     infl = np.zeros(nf)
+    first_col = np.searchsorted(owners_a, np.arange(nf))
+    last_col = np.searchsorted(owners_a, np.arange(nf), side="right")
     for i in range(nf):
-        cs = np.flatnonzero(owners_a == i)
+        cs = np.arange(first_col[i], last_col[i])
         for k, a in (("imm", imm_c), ("con", con_c), ("sec", sec_c), ("own", own_c), ("nb", nb_c)):
             res[k][i] = a[cs].mean(axis=0)
         point_xy[i, :len(cs)] = np.array([points[c] for c in cs])
@@ -528,14 +532,16 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
 
     methods = []
     for i in range(nf):
-        ms = sorted({str(x) for x in method_of[seg.footing == i] if x})
+        lo, hi = seg.offsets[first_col[i]], seg.offsets[last_col[i]]
+        ms = sorted({str(x) for x in method_of[lo:hi] if x})
         methods.append(" + ".join(ms) if ms else "none")
 
     traces = _traces(site, seg, columns, owners, points, sig0, own_sz, own_sz_sust, nb_sz,
                      sz_sust - own_sz_sust, cohesive, own_s, nb_s, cons_own, cons_nb, sec_own,
                      sec_nb, iz, method_of, h, i_life,
                      np.where(granular, E, np.where(imm_clay, eu, np.nan)))
-    outside = np.array([ground.column(f.x, f.y).outside_hull for f in site.footings])
+    outside = np.asarray(ground.outside_hull([f.x for f in site.footings], [f.y for f in site.footings]),
+                         dtype=bool)
     for i in np.flatnonzero(outside):
         warnings.append(f"footing {site.footings[i].id} lies outside the boreholes' hull: its ground is extrapolated")
 
@@ -569,9 +575,8 @@ def _drainage_paths(columns: list, seg: _Segments, influence_depth: np.ndarray) 
     """
     hdr = np.zeros(len(seg.top))
     notes: list[str] = []
-    for c in np.unique(seg.column):
-        m = seg.column == c
-        col = columns[c]
+    for c, col in enumerate(columns):
+        m = seg.rows(c)
         th = np.asarray(col.bottoms, float) - np.asarray(col.tops, float)
         frac = np.array([cons.DRAINAGE_PATH_FRACTION[s.drainage] for s in col.strata])
         open_ended = ~np.isfinite(th)
@@ -597,8 +602,9 @@ def _burland_burbidge(site, columns, seg, is_bb, q_full, fw, lb, fd, own_sz, hsu
     """
     own = np.zeros(len(seg.top))
     e_eq = np.full(len(seg.top), np.nan)
+    n_all = _parameter(columns, seg, "spt_n")
     for c in np.unique(seg.column[is_bb]):
-        m = np.flatnonzero(seg.column == c)
+        m = np.arange(len(seg.top))[seg.rows(c)]
         i = seg.footing[m[0]]
         col = columns[c]
         B = fw[i]
@@ -607,7 +613,7 @@ def _burland_burbidge(site, columns, seg, is_bb, q_full, fw, lb, fd, own_sz, hsu
         in_zone = (zr < z1) & is_bb[m]
         if not np.any(in_zone):
             continue
-        n = _parameter(columns, seg, "spt_n")[m]
+        n = n_all[m]
         gravel = np.array([col.strata[k].gravel for k in seg.stratum[m]])
         fine = np.array([col.strata[k].fine_or_silty for k in seg.stratum[m]])
         below_water = seg.mid[m] > col.water_depth
@@ -642,7 +648,7 @@ def _traces(site, seg, columns, owners, points, sig0, own_sz, own_sz_sust, nb_sz
     nb_tot = nb_s[:, k] + cons_nb[:, k] + sec_nb[:, k]
     strain = np.divide(own_tot + nb_tot, h, out=np.zeros_like(h), where=h > 0)
     for c in range(len(columns)):
-        m = seg.column == c
+        m = seg.rows(c)
         col = columns[c]
         i = owners[c]
         out[site.footings[i].id].append(Trace(
@@ -687,8 +693,7 @@ def settlement_map(site: Site, ground: Ground, results: Results, loads_full: str
     # one column per grid point is costly on big grids: columns at a coarse set, reused
     edges_cache: dict = {}
     pts_all, cols_all, seg_info = [], [], []
-    for g, (x, y) in enumerate(zip(X.ravel(), Y.ravel())):
-        col = ground.column(float(x), float(y))
+    for g, col in enumerate(ground.columns(X.ravel(), Y.ravel())):
         rigid = [k for k, s in enumerate(col.strata) if s.behaviour == Behaviour.RIGID
                  and col.bottoms[k] - col.tops[k] > 0]
         bot = min(z_bot, float(col.tops[rigid[0]])) if rigid else z_bot
