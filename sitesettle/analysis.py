@@ -416,9 +416,13 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
             fi = seg.footing[m]
             dgi = sch.Diagram(*(np.asarray(a)[fi] if a is not None else None for a in dg))
             if ver == "1978":
-                zp = fd[fi] + np.asarray(sch.peak_depth(fw[fi], dgi))
-                sig_p = np.array([float(columns[c].effective_stress(np.array([z]))[0])
-                                  for c, z in zip(seg.column[m], zp)])
+                # σ'vp at the depth of the peak, once per evaluation point
+                oc = np.asarray(owners)
+                zp_col = fd[oc] + np.asarray(sch.peak_depth(fw[oc], sch.Diagram(
+                    *(np.asarray(a)[oc] if a is not None else None for a in dg))))
+                sig_p_col = np.array([float(col.effective_stress(np.array([z]))[0])
+                                      for col, z in zip(columns, zp_col)])
+                sig_p = sig_p_col[seg.column[m]]
                 peak = sch.peak_factor(dp[m], np.maximum(sig_p, MIN_PEAK_STRESS))
             else:
                 peak = None
