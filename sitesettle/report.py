@@ -129,6 +129,10 @@ dl.kv{display:grid;grid-template-columns:max-content auto;gap:2px 16px;margin:6p
 dl.kv dt{font-weight:600}
 dl.kv dd{margin:0}
 .scroll{overflow-x:auto}
+nav.toc{font-size:13px;margin:10px 0 0}
+nav.toc a{color:#2f4b7c;margin-right:14px;text-decoration:none}
+@media print{body{background:#fff;font-size:11px}main{max-width:none;padding:0}
+.scroll{overflow:visible}nav.toc{display:none}table{font-size:9.5px}figure{break-inside:avoid}}
 """
 
 
@@ -544,6 +548,22 @@ def render_report(
         f"{'US customary' if units == 'us' else 'SI'}</p>",
     ]
 
+    anchors = (
+        "project",
+        "inputs",
+        "methods",
+        "results",
+        "figures",
+        "checks",
+        "warnings",
+        "cautions",
+        "about",
+    )
+    body.append(
+        "<nav class='toc'>"
+        + "".join(f"<a href='#{a}'>{h}</a>" for a, h in zip(anchors, SECTIONS))
+        + "</nav>"
+    )
     body.append(f"<h2 id='project'>{SECTIONS[0]}</h2>")
     info = "".join(f"<dt>{_e(k)}</dt><dd>{_e(v)}</dd>" for k, v in site.info.items())
     body.append(f"<dl class='kv'><dt>name</dt><dd>{_e(site.name)}</dd>{info}</dl>")
