@@ -634,3 +634,50 @@ def test_strata_as_a_single_table_is_an_error(tmp_path):
     write_project(tmp_path, {"site.toml": site})
     with pytest.raises(InputError, match=r"no \[\[strata\]\] tables"):
         load_site(tmp_path)
+
+
+# --------------------------------------------------------------------------- several footing files
+def _raft(path, crs="EPSG:32633", poly=None):
+    gpd.GeoDataFrame({"id": ["R1"], "dead_load": [3000.0]},
+                     geometry=[poly or box(20, -2, 26, 3)], crs=crs).to_file(path, driver="GPKG")
+
+
+def test_footings_from_a_csv_and_a_gis_file(tmp_path):
+    folder = write_project(tmp_path / "p")
+    _raft(folder / "raft.gpkg")
+    toml = SITE.replace('file = "footings.csv"', 'file = ["footings.csv", "raft.gpkg"]')
+    (folder / "site.toml").write_text(toml)
+    site = load_site(folder)
+    assert [f.id for f in site.footings] == ["A", "B", "R1"]
+    assert site.crs is not None and "32633" in site.crs
+    assert site.footing("R1").area == pytest.approx(30.0)
+
+
+def test_duplicate_id_across_footing_files_names_both(tmp_path):
+    folder = write_project(tmp_path / "p")
+    gpd.GeoDataFrame({"id": ["A"], "dead_load": [3000.0]}, geometry=[box(20, -2, 26, 3)],
+                     crs="EPSG:32633").to_file(folder / "raft.gpkg", driver="GPKG")
+    (folder / "site.toml").write_text(SITE.replace('file = "footings.csv"',
+                                                   'file = ["footings.csv", "raft.gpkg"]'))
+    with pytest.raises(InputError, match=r'raft.gpkg: the footing id "A" is also used in footings.csv'):
+        load_site(folder)
+
+
+def test_overlap_across_footing_files(tmp_path):
+    folder = write_project(tmp_path / "p")
+    _raft(folder / "raft.gpkg", poly=box(5, -1, 9, 1))  # over footing B at (6, 0)
+    (folder / "site.toml").write_text(SITE.replace('file = "footings.csv"',
+                                                   'file = ["footings.csv", "raft.gpkg"]'))
+    with pytest.raises(InputError, match=r'raft.gpkg: footing "R1" overlaps footing "B" of footings.csv'):
+        load_site(folder)
+
+
+def test_crs_mismatch_between_footing_files(tmp_path):
+    folder = write_project(tmp_path / "p")
+    _raft(folder / "a.gpkg", crs="EPSG:32633", poly=box(20, -2, 26, 3))
+    gpd.GeoDataFrame({"id": ["R2"], "dead_load": [3000.0]}, geometry=[box(40, -2, 46, 3)],
+                     crs="EPSG:32632").to_file(folder / "b.gpkg", driver="GPKG")
+    (folder / "site.toml").write_text(SITE.replace('file = "footings.csv"',
+                                                   'file = ["footings.csv", "a.gpkg", "b.gpkg"]'))
+    with pytest.raises(InputError, match=r"b.gpkg: .*differs from the coordinate system"):
+        load_site(folder)
