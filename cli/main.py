@@ -1,4 +1,4 @@
-"""The ``sitesettle`` command: parse arguments, show progress, call the API, map errors to exit codes.
+"""The ``sitesettle`` command: arguments, progress, the API, and exit codes.
 
 Exit codes: 0 every check passes; 1 some check fails (outputs written);
 2 bad input or an unwritable results folder (one clear message, nothing written);
@@ -50,9 +50,14 @@ class _Progress:
     def __init__(self, enabled: bool) -> None:
         from tqdm import tqdm
 
-        self.bar = tqdm(total=100, desc="analysing", unit="%", leave=False,
-                        disable=not (enabled and sys.stderr.isatty()),
-                        bar_format="{desc:<24}{bar}| {n:.0f}%")
+        self.bar = tqdm(
+            total=100,
+            desc="analysing",
+            unit="%",
+            leave=False,
+            disable=not (enabled and sys.stderr.isatty()),
+            bar_format="{desc:<24}{bar}| {n:.0f}%",
+        )
         self.last = 0
 
     def __call__(self, stage: str, fraction: float) -> None:
@@ -90,7 +95,7 @@ def _check(args) -> int:
     site, notes = _load(args.project)
     units = args.units or site.units
     out = Path(args.out) if args.out else Path(args.project) / "results"
-    from sitesettle.io.output import _check_target as check_target
+    from sitesettle.io.output import check_target
 
     check_target(out.absolute())  # refuse an unwritable target before the (long) analysis
     bar = _Progress(not args.quiet)
@@ -122,12 +127,17 @@ def _explain(args) -> int:
     site, notes = _load(args.project)
     if args.footing not in {f.id for f in site.footings}:
         ids = [f.id for f in site.footings]
-        print(f'error: no footing "{args.footing}" in {args.project}; footings are '
-              f'{", ".join(ids[:15])}{" …" if len(ids) > 15 else ""}', file=sys.stderr)
+        print(
+            f'error: no footing "{args.footing}" in {args.project}; footings are '
+            f"{', '.join(ids[:15])}{' …' if len(ids) > 15 else ''}",
+            file=sys.stderr,
+        )
         return 2
     results = sitesettle.analyse(site, with_map=False)
     if args.csv:
-        sys.stdout.write(trace_table(results, args.footing).to_csv(index=False, float_format="%.6g"))
+        sys.stdout.write(
+            trace_table(results, args.footing).to_csv(index=False, float_format="%.6g")
+        )
     else:
         print(format_sheet(results, args.footing))
         print("Caution: " + CAUTIONS)
@@ -139,7 +149,10 @@ def _new(args) -> int:
 
     dest = Path(args.folder)
     if dest.exists() and (not dest.is_dir() or any(dest.iterdir())):
-        print(f"error: {dest} exists and is not an empty folder; choose a new folder name", file=sys.stderr)
+        print(
+            f"error: {dest} exists and is not an empty folder; choose a new folder name",
+            file=sys.stderr,
+        )
         return 2
     src = resources.files("sitesettle") / "templates" / "starter"
     dest.mkdir(parents=True, exist_ok=True)

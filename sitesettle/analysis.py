@@ -120,7 +120,9 @@ def _inside(outline: np.ndarray, p: np.ndarray) -> bool:
     return bool(np.count_nonzero(crosses) % 2)
 
 
-def footing_loads(footings: tuple[Footing, ...], pressure: np.ndarray) -> tuple[stress.Loads, np.ndarray]:
+def footing_loads(
+    footings: tuple[Footing, ...], pressure: np.ndarray
+) -> tuple[stress.Loads, np.ndarray]:
     """Stress-engine loads of the footings and, per footing, the index of its load.
 
     Rectangles and circles use their exact closed forms, anything else the polygon
@@ -131,22 +133,39 @@ def footing_loads(footings: tuple[Footing, ...], pressure: np.ndarray) -> tuple[
     parts, order = [], []
     if idx["rectangle"]:
         r = idx["rectangle"]
-        parts.append(stress.Loads.rectangles(
-            [footings[i].x for i in r], [footings[i].y for i in r],
-            [footings[i].width for i in r], [footings[i].length for i in r],
-            [footings[i].rotation for i in r], pressure[r], [footings[i].depth for i in r]))
+        parts.append(
+            stress.Loads.rectangles(
+                [footings[i].x for i in r],
+                [footings[i].y for i in r],
+                [footings[i].width for i in r],
+                [footings[i].length for i in r],
+                [footings[i].rotation for i in r],
+                pressure[r],
+                [footings[i].depth for i in r],
+            )
+        )
         order += r
     if idx["circle"]:
         c = idx["circle"]
-        parts.append(stress.Loads.circles(
-            [footings[i].x for i in c], [footings[i].y for i in c],
-            [footings[i].radius for i in c], pressure[c], [footings[i].depth for i in c]))
+        parts.append(
+            stress.Loads.circles(
+                [footings[i].x for i in c],
+                [footings[i].y for i in c],
+                [footings[i].radius for i in c],
+                pressure[c],
+                [footings[i].depth for i in c],
+            )
+        )
         order += c
     if idx["polygon"]:
         p = idx["polygon"]
-        parts.append(stress.Loads.polygons(
-            [np.asarray(footings[i].outline, float) for i in p], pressure[p],
-            [footings[i].depth for i in p]))
+        parts.append(
+            stress.Loads.polygons(
+                [np.asarray(footings[i].outline, float) for i in p],
+                pressure[p],
+                [footings[i].depth for i in p],
+            )
+        )
         order += p
     loads = stress.Loads.concat(*parts) if len(parts) > 1 else parts[0]
     load_of = np.empty(len(footings), dtype=int)
@@ -173,7 +192,10 @@ def net_pressures(site: Site, ground: Ground) -> tuple[np.ndarray, np.ndarray, l
         qf = f.service_load / f.area + extra
         qs = f.sustained_load / f.area + extra
         if qf < 0 or qs < 0:
-            warn.append(f"footing {f.id}: net pressure {min(qf, qs):.1f} kPa < 0 taken as 0 (heave is not modelled)")
+            warn.append(
+                f"footing {f.id}: net pressure {min(qf, qs):.1f} kPa < 0 taken as 0 "
+                "(heave is not modelled)"
+            )
         full.append(max(qf, 0.0))
         sust.append(max(qs, 0.0))
     return np.array(full), np.array(sust), warn
@@ -182,8 +204,9 @@ def net_pressures(site: Site, ground: Ground) -> tuple[np.ndarray, np.ndarray, l
 # --------------------------------------------------------------------------- sublayers
 
 
-def sublayer_edges(base: float, bottom: float, width: float, fraction: float,
-                   boundaries: np.ndarray) -> np.ndarray:
+def sublayer_edges(
+    base: float, bottom: float, width: float, fraction: float, boundaries: np.ndarray
+) -> np.ndarray:
     """Sublayer boundaries from ``base`` to ``bottom`` [m].
 
     Thickness ``fraction·B`` down to 2B below the base, then growing in proportion
@@ -206,8 +229,9 @@ def sublayer_edges(base: float, bottom: float, width: float, fraction: float,
     return e
 
 
-def _build_segments(site: Site, columns: list, points: list[np.ndarray],
-                    owners: list[int]) -> _Segments:
+def _build_segments(
+    site: Site, columns: list, points: list[np.ndarray], owners: list[int]
+) -> _Segments:
     st = site.analysis
     parts = {k: [] for k in ("footing", "point", "column", "top", "bottom", "stratum", "x", "y")}
     counts = np.zeros(len(columns), dtype=int)
@@ -217,8 +241,11 @@ def _build_segments(site: Site, columns: list, points: list[np.ndarray],
     for c, (col, xy, i) in enumerate(zip(columns, points, owners)):
         f = site.footings[i]
         bottom = f.depth + st.max_depth_widths * f.width
-        rigid = [k for k, s in enumerate(col.strata) if s.behaviour == Behaviour.RIGID
-                 and col.bottoms[k] - col.tops[k] > 0]
+        rigid = [
+            k
+            for k, s in enumerate(col.strata)
+            if s.behaviour == Behaviour.RIGID and col.bottoms[k] - col.tops[k] > 0
+        ]
         if rigid:
             bottom = min(bottom, float(col.tops[rigid[0]]))
         if bottom <= f.depth + MIN_SUBLAYER:
@@ -257,9 +284,11 @@ def _lookup(columns: list, seg: _Segments, value, dtype=float) -> np.ndarray:
 
 def _parameter(columns: list, seg: _Segments, name: str, default: float = np.nan) -> np.ndarray:
     """Per-sublayer value of a stratum parameter (borehole overrides applied)."""
+
     def get(s):
         v = getattr(s, name)
         return default if v is None else float(v)
+
     return _lookup(columns, seg, get)
 
 
@@ -271,8 +300,9 @@ def _granular_method(site: Site, columns: list, seg: _Segments) -> np.ndarray:
     return _lookup(columns, seg, lambda s: s.method or site.analysis.granular_method, dtype=object)
 
 
-def _modulus_from_cone(site: Site, ground: Ground, columns: list, seg: _Segments,
-                       factor: np.ndarray) -> np.ndarray:
+def _modulus_from_cone(
+    site: Site, ground: Ground, columns: list, seg: _Segments, factor: np.ndarray
+) -> np.ndarray:
     """Young's modulus of granular sublayers: given E, else factor·qc (value or soundings)."""
     e_given = _parameter(columns, seg, "youngs_modulus")
     qc = _parameter(columns, seg, "cone_resistance")
@@ -286,8 +316,9 @@ def _modulus_from_cone(site: Site, ground: Ground, columns: list, seg: _Segments
 # --------------------------------------------------------------------------- the analysis
 
 
-def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = True,
-            with_checks: bool = True) -> Results:
+def analyse(
+    site: Site, *, progress: Progress | None = None, with_map: bool = True, with_checks: bool = True
+) -> Results:
     """Settlement of every footing of ``site`` over time, with traces, map and checks.
 
     Parameters
@@ -368,7 +399,6 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
     nt = len(times)
     own_s = np.zeros((len(seg.top), nt))  # own settlement of each sublayer over time
     nb_s = np.zeros((len(seg.top), nt))
-    kind = np.zeros(len(seg.top), dtype=int)  # 0 immediate, 1 consolidation, 2 secondary (split below)
     cons_own = np.zeros((len(seg.top), nt))
     cons_nb = np.zeros((len(seg.top), nt))
     sec_own = np.zeros((len(seg.top), nt))
@@ -386,8 +416,11 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
     version = np.where(gm == GranularMethod.SCHMERTMANN_1970, "1970", "1978")
     diag78 = sch.diagram(lb, version="1978", interpolation=st.shape_interpolation)
     diag70 = sch.diagram(lb, version="1970")
-    factor = np.where(version == "1970", np.asarray(diag70.modulus_factor)[seg.footing] * np.ones(len(seg.top)),
-                      np.asarray(diag78.modulus_factor)[seg.footing] * np.ones(len(seg.top)))
+    factor = np.where(
+        version == "1970",
+        np.asarray(diag70.modulus_factor)[seg.footing] * np.ones(len(seg.top)),
+        np.asarray(diag78.modulus_factor)[seg.footing] * np.ones(len(seg.top)),
+    )
     E = _modulus_from_cone(site, ground, columns, seg, factor)
     nb_sz = sz_full - own_sz
     nb_t = t_full - own_t
@@ -403,8 +436,12 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
     is_bb = granular & (gm == GranularMethod.BURLAND_BURBIDGE)
 
     # Schmertmann own part, per evaluation point
-    col_sig_base = np.array([float(columns[c].effective_stress(np.array([site.footings[owners[c]].depth]))[0])
-                             for c in range(len(columns))])
+    col_sig_base = np.array(
+        [
+            float(columns[c].effective_stress(np.array([site.footings[owners[c]].depth]))[0])
+            for c in range(len(columns))
+        ]
+    )
     dp = q_full[seg.footing]
     zrel_top = seg.top - fd[seg.footing]
     zrel_bot = seg.bottom - fd[seg.footing]
@@ -418,10 +455,18 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
             if ver == "1978":
                 # σ'vp at the depth of the peak, once per evaluation point
                 oc = np.asarray(owners)
-                zp_col = fd[oc] + np.asarray(sch.peak_depth(fw[oc], sch.Diagram(
-                    *(np.asarray(a)[oc] if a is not None else None for a in dg))))
-                sig_p_col = np.array([float(col.effective_stress(np.array([z]))[0])
-                                      for col, z in zip(columns, zp_col)])
+                zp_col = fd[oc] + np.asarray(
+                    sch.peak_depth(
+                        fw[oc],
+                        sch.Diagram(*(np.asarray(a)[oc] if a is not None else None for a in dg)),
+                    )
+                )
+                sig_p_col = np.array(
+                    [
+                        float(col.effective_stress(np.array([z]))[0])
+                        for col, z in zip(columns, zp_col)
+                    ]
+                )
                 sig_p = sig_p_col[seg.column[m]]
                 peak = sch.peak_factor(dp[m], np.maximum(sig_p, MIN_PEAK_STRESS))
             else:
@@ -446,7 +491,9 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
         method_of[is_el] = "elastic"
 
     if np.any(is_bb):
-        bb_own, bb_E = _burland_burbidge(site, columns, seg, is_bb, q_full, fw, lb, fd, own_sz, hsum_own, nu, h)
+        bb_own, bb_E = _burland_burbidge(
+            site, columns, seg, is_bb, q_full, fw, lb, fd, own_sz, hsum_own, nu, h
+        )
         own_s[is_bb] = bb_own[is_bb][:, None] * ft_bb[None, :]
         m = is_bb & active
         e_nb = elastic.vertical_strain(nb_sz[m], hsum_nb[m], bb_E[m], nu[m])
@@ -461,8 +508,12 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
         m = imm_clay
         hs_o = (1 + UNDRAINED_POISSON) * own_t[m] - own_sz[m]
         hs_n = (1 + UNDRAINED_POISSON) * nb_t[m] - nb_sz[m]
-        own_s[m] = (elastic.vertical_strain(own_sz[m], hs_o, eu[m], UNDRAINED_POISSON) * h[m])[:, None]
-        nb_s[m] = (elastic.vertical_strain(nb_sz[m], hs_n, eu[m], UNDRAINED_POISSON) * h[m])[:, None]
+        own_s[m] = (elastic.vertical_strain(own_sz[m], hs_o, eu[m], UNDRAINED_POISSON) * h[m])[
+            :, None
+        ]
+        nb_s[m] = (elastic.vertical_strain(nb_sz[m], hs_n, eu[m], UNDRAINED_POISSON) * h[m])[
+            :, None
+        ]
 
     mc = cohesive & active
     if np.any(mc):
@@ -483,8 +534,10 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
         hdr_all, open_clays = _drainage_paths(columns, seg, influence_depth)
         hdr = hdr_all[mc]
         for name in open_clays:
-            warnings.append(f"stratum {name}: no bottom in the boreholes; consolidated as drained at its "
-                            "top only, down to the influence depth")
+            warnings.append(
+                f"stratum {name}: no bottom in the boreholes; consolidated as drained at its "
+                "top only, down to the influence depth"
+            )
         tv = cons.time_factor_at(times[None, :], cv[mc][:, None], hdr[:, None])
         U = cons.degree_of_consolidation(tv)
         cons_own[mc] = (eps_own * h[mc])[:, None] * U
@@ -501,6 +554,7 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
 
     # ---- per point, then per footing
     ncol = len(columns)
+
     def per_column(a: np.ndarray) -> np.ndarray:
         out = np.zeros((ncol, nt))
         np.add.at(out, seg.column, a)
@@ -523,8 +577,8 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
         cs = np.arange(first_col[i], last_col[i])
         for k, a in (("imm", imm_c), ("con", con_c), ("sec", sec_c), ("own", own_c), ("nb", nb_c)):
             res[k][i] = a[cs].mean(axis=0)
-        point_xy[i, :len(cs)] = np.array([points[c] for c in cs])
-        point_total[i, :len(cs)] = imm_c[cs] + con_c[cs] + sec_c[cs]
+        point_xy[i, : len(cs)] = np.array([points[c] for c in cs])
+        point_total[i, : len(cs)] = imm_c[cs] + con_c[cs] + sec_c[cs]
         infl[i] = influence_depth[cs].max()
 
     tilt = np.zeros(nf)
@@ -532,7 +586,9 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
     for i in range(nf):
         ok = np.isfinite(point_xy[i, :, 0])
         if ok.sum() >= 3:
-            tilt[i], tilt_dir[i] = checks_mod.footing_tilt(point_xy[i, ok], point_total[i, ok, i_life])
+            tilt[i], tilt_dir[i] = checks_mod.footing_tilt(
+                point_xy[i, ok], point_total[i, ok, i_life]
+            )
 
     methods = []
     for i in range(nf):
@@ -540,21 +596,58 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
         ms = sorted({str(x) for x in method_of[lo:hi] if x})
         methods.append(" + ".join(ms) if ms else "none")
 
-    traces = _traces(site, seg, columns, owners, points, sig0, own_sz, own_sz_sust, nb_sz,
-                     sz_sust - own_sz_sust, cohesive, own_s, nb_s, cons_own, cons_nb, sec_own,
-                     sec_nb, iz, method_of, h, i_life,
-                     np.where(granular, E, np.where(imm_clay, eu, np.nan)))
-    outside = np.asarray(ground.outside_hull([f.x for f in site.footings], [f.y for f in site.footings]),
-                         dtype=bool)
+    traces = _traces(
+        site,
+        seg,
+        columns,
+        owners,
+        points,
+        sig0,
+        own_sz,
+        own_sz_sust,
+        nb_sz,
+        sz_sust - own_sz_sust,
+        cohesive,
+        own_s,
+        nb_s,
+        cons_own,
+        cons_nb,
+        sec_own,
+        sec_nb,
+        iz,
+        method_of,
+        h,
+        i_life,
+        np.where(granular, E, np.where(imm_clay, eu, np.nan)),
+    )
+    outside = np.asarray(
+        ground.outside_hull([f.x for f in site.footings], [f.y for f in site.footings]), dtype=bool
+    )
     for i in np.flatnonzero(outside):
-        warnings.append(f"footing {site.footings[i].id} lies outside the boreholes' hull: its ground is extrapolated")
+        warnings.append(
+            f"footing {site.footings[i].id} lies outside the boreholes' hull: "
+            "its ground is extrapolated"
+        )
 
     results = Results(
-        site=site, times=times, design_life_index=i_life,
-        immediate=res["imm"], consolidation=res["con"], secondary=res["sec"],
-        own=res["own"], neighbours=res["nb"], point_xy=point_xy, point_total=point_total,
-        tilt=tilt, tilt_direction=tilt_dir, net_pressure=q_full, sustained_net_pressure=q_sust,
-        influence_depth=infl, methods=tuple(methods), outside_hull=outside, traces=traces,
+        site=site,
+        times=times,
+        design_life_index=i_life,
+        immediate=res["imm"],
+        consolidation=res["con"],
+        secondary=res["sec"],
+        own=res["own"],
+        neighbours=res["nb"],
+        point_xy=point_xy,
+        point_total=point_total,
+        tilt=tilt,
+        tilt_direction=tilt_dir,
+        net_pressure=q_full,
+        sustained_net_pressure=q_sust,
+        influence_depth=infl,
+        methods=tuple(methods),
+        outside_hull=outside,
+        traces=traces,
         warnings=tuple(warnings),
     )
     smap = None
@@ -563,13 +656,22 @@ def analyse(site: Site, *, progress: Progress | None = None, with_map: bool = Tr
         smap = settlement_map(site, ground, results, loads_full, loads_sust)
     chk = None
     if with_checks:
-        chk = checks_mod.check_movements(site.footings, times, results.total, point_xy, point_total,
-                                         site.checks, design_life_index=i_life)
+        chk = checks_mod.check_movements(
+            site.footings,
+            times,
+            results.total,
+            point_xy,
+            point_total,
+            site.checks,
+            design_life_index=i_life,
+        )
     say("done", 1.0)
     return Results(**{**results.__dict__, "map": smap, "checks": chk})
 
 
-def _drainage_paths(columns: list, seg: _Segments, influence_depth: np.ndarray) -> tuple[np.ndarray, list[str]]:
+def _drainage_paths(
+    columns: list, seg: _Segments, influence_depth: np.ndarray
+) -> tuple[np.ndarray, list[str]]:
     """Drainage path H_dr of the cohesive stratum of every sublayer [m].
 
     From the stratum's thickness at that column and its drainage boundaries. A
@@ -584,7 +686,9 @@ def _drainage_paths(columns: list, seg: _Segments, influence_depth: np.ndarray) 
         th = np.asarray(col.bottoms, float) - np.asarray(col.tops, float)
         frac = np.array([cons.DRAINAGE_PATH_FRACTION[s.drainage] for s in col.strata])
         open_ended = ~np.isfinite(th)
-        th = np.where(open_ended, np.maximum(influence_depth[c] - np.asarray(col.tops, float), 0.0), th)
+        th = np.where(
+            open_ended, np.maximum(influence_depth[c] - np.asarray(col.tops, float), 0.0), th
+        )
         frac = np.where(open_ended, 1.0, frac)
         hdr[m] = (th * frac)[seg.stratum[m]]
         k = seg.stratum[m]
@@ -626,8 +730,13 @@ def _burland_burbidge(site, columns, seg, is_bb, q_full, fw, lb, fd, own_sz, hsu
         w = np.where(in_zone, np.clip(w, 0.0, None), 0.0)
         n_mean = float(np.sum(w * n_c) / np.sum(w))
         ic = bb.compressibility_index(n_mean)
-        non_gran = [k for k, s in enumerate(col.strata) if s.behaviour != Behaviour.GRANULAR
-                    and col.bottoms[k] > fd[i] and col.bottoms[k] - col.tops[k] > 0]
+        non_gran = [
+            k
+            for k, s in enumerate(col.strata)
+            if s.behaviour != Behaviour.GRANULAR
+            and col.bottoms[k] > fd[i]
+            and col.bottoms[k] - col.tops[k] > 0
+        ]
         hs = (float(col.tops[non_gran[0]]) - fd[i]) if non_gran else np.inf
         fl = float(bb.thickness_factor(max(hs, 0.0), z1))
         fs = float(bb.shape_factor(lb[i]))
@@ -638,15 +747,40 @@ def _burland_burbidge(site, columns, seg, is_bb, q_full, fw, lb, fd, own_sz, hsu
         own[m] = np.where(w > 0, s * w / np.sum(w), 0.0)
         # equivalent modulus: elastic own settlement over the zone with E = 1 kPa
         unit = np.sum(elastic.vertical_strain(own_sz[m], hsum_own[m], 1.0, nu[m]) * w)
-        slope = s / q_full[i] if q_full[i] > 0 else fs * fl * float(bb.immediate_settlement(1.0, B, ic, None))
+        slope = (
+            s / q_full[i]
+            if q_full[i] > 0
+            else fs * fl * float(bb.immediate_settlement(1.0, B, ic, None))
+        )
         unit_q = unit / q_full[i] if q_full[i] > 0 else np.nan
         e_eq[m] = unit_q / slope if slope > 0 and np.isfinite(unit_q) else np.nan
     return own, e_eq
 
 
-def _traces(site, seg, columns, owners, points, sig0, own_sz, own_sz_sust, nb_sz, nb_sz_sust,
-            cohesive, own_s, nb_s, cons_own, cons_nb, sec_own, sec_nb, iz, method_of, h, k,
-            modulus):
+def _traces(
+    site,
+    seg,
+    columns,
+    owners,
+    points,
+    sig0,
+    own_sz,
+    own_sz_sust,
+    nb_sz,
+    nb_sz_sust,
+    cohesive,
+    own_s,
+    nb_s,
+    cons_own,
+    cons_nb,
+    sec_own,
+    sec_nb,
+    iz,
+    method_of,
+    h,
+    k,
+    modulus,
+):
     out: dict[str, list[Trace]] = {f.id: [] for f in site.footings}
     own_tot = own_s[:, k] + cons_own[:, k] + sec_own[:, k]
     nb_tot = nb_s[:, k] + cons_nb[:, k] + sec_nb[:, k]
@@ -655,25 +789,32 @@ def _traces(site, seg, columns, owners, points, sig0, own_sz, own_sz_sust, nb_sz
         m = seg.rows(c)
         col = columns[c]
         i = owners[c]
-        out[site.footings[i].id].append(Trace(
-            point=(float(points[c][0]), float(points[c][1])),
-            top=seg.top[m], bottom=seg.bottom[m],
-            stratum=tuple(col.strata[j].name for j in seg.stratum[m]),
-            method=tuple(str(x) if x else "below influence depth" for x in method_of[m]),
-            sigma_v0=sig0[m],
-            own_stress=np.where(cohesive[m], own_sz_sust[m], own_sz[m]),
-            neighbour_stress=np.where(cohesive[m], nb_sz_sust[m], nb_sz[m]),
-            strain=strain[m], own_settlement=own_tot[m], neighbour_settlement=nb_tot[m],
-            influence=iz[m], modulus=modulus[m],
-        ))
+        out[site.footings[i].id].append(
+            Trace(
+                point=(float(points[c][0]), float(points[c][1])),
+                top=seg.top[m],
+                bottom=seg.bottom[m],
+                stratum=tuple(col.strata[j].name for j in seg.stratum[m]),
+                method=tuple(str(x) if x else "below influence depth" for x in method_of[m]),
+                sigma_v0=sig0[m],
+                own_stress=np.where(cohesive[m], own_sz_sust[m], own_sz[m]),
+                neighbour_stress=np.where(cohesive[m], nb_sz_sust[m], nb_sz[m]),
+                strain=strain[m],
+                own_settlement=own_tot[m],
+                neighbour_settlement=nb_tot[m],
+                influence=iz[m],
+                modulus=modulus[m],
+            )
+        )
     return {key: tuple(v) for key, v in out.items()}
 
 
 # --------------------------------------------------------------------------- map
 
 
-def settlement_map(site: Site, ground: Ground, results: Results, loads_full: stress.Loads,
-                   loads_sust: stress.Loads) -> SettlementMap:
+def settlement_map(
+    site: Site, ground: Ground, results: Results, loads_full: stress.Loads, loads_sust: stress.Loads
+) -> SettlementMap:
     """Ground-surface settlement at the design life on a regular grid over the plan.
 
     Elastic strain integration of the superposed stresses on granular strata
@@ -694,12 +835,14 @@ def settlement_map(site: Site, ground: Ground, results: Results, loads_full: str
     z_bot = float(np.max(results.influence_depth))
     life = st.design_life
     flat = np.zeros(X.size)
-    # one column per grid point is costly on big grids: columns at a coarse set, reused
-    edges_cache: dict = {}
-    pts_all, cols_all, seg_info = [], [], []
+    edges_cache: dict = {}  # regular depth edges, shared by grid points with the same bottom
+    seg_info = []
     for g, col in enumerate(ground.columns(X.ravel(), Y.ravel())):
-        rigid = [k for k, s in enumerate(col.strata) if s.behaviour == Behaviour.RIGID
-                 and col.bottoms[k] - col.tops[k] > 0]
+        rigid = [
+            k
+            for k, s in enumerate(col.strata)
+            if s.behaviour == Behaviour.RIGID and col.bottoms[k] - col.tops[k] > 0
+        ]
         bot = min(z_bot, float(col.tops[rigid[0]])) if rigid else z_bot
         if bot <= z_top:
             continue
@@ -714,15 +857,19 @@ def settlement_map(site: Site, ground: Ground, results: Results, loads_full: str
         seg_info.append((g, col, e, mid))
     if not seg_info:
         return SettlementMap(gx, gy, np.zeros_like(X), "no compressible ground")
-    pts = np.concatenate([np.column_stack([np.full(len(m), X.ravel()[g]), np.full(len(m), Y.ravel()[g]), m])
-                          for g, col, e, m in seg_info])
+    pts = np.concatenate(
+        [
+            np.column_stack([np.full(len(m), X.ravel()[g]), np.full(len(m), Y.ravel()[g]), m])
+            for g, col, e, m in seg_info
+        ]
+    )
     sz, t = stress.stress_sums(loads_full, pts, tolerance=st.stress_tolerance)
     sz_s, _ = stress.stress_sums(loads_sust, pts, tolerance=st.stress_tolerance)
     bb_e = _mean_equivalent_modulus(results)
     pos = 0
     for g, col, e, mid in seg_info:
         n = len(mid)
-        s_z, tt, s_zs = sz[pos:pos + n], t[pos:pos + n], sz_s[pos:pos + n]
+        s_z, tt, s_zs = sz[pos : pos + n], t[pos : pos + n], sz_s[pos : pos + n]
         pos += n
         k = np.asarray(col.index_at(mid), dtype=int)
         h = np.diff(e)
@@ -740,7 +887,9 @@ def settlement_map(site: Site, ground: Ground, results: Results, loads_full: str
                 if s.youngs_modulus is not None:
                     E = np.full(m.sum(), s.youngs_modulus)
                 elif s.use_soundings:
-                    E = 2.5 * ground.cone_resistance(float(X.ravel()[g]), float(Y.ravel()[g]), mid[m])
+                    E = 2.5 * ground.cone_resistance(
+                        float(X.ravel()[g]), float(Y.ravel()[g]), mid[m]
+                    )
                 elif s.cone_resistance is not None:
                     E = np.full(m.sum(), 2.5 * s.cone_resistance)
                 else:
@@ -749,15 +898,30 @@ def settlement_map(site: Site, ground: Ground, results: Results, loads_full: str
                 eps = elastic.vertical_strain(s_z[m], hs, E, s.poisson)
                 total += float(np.nansum(eps * h[m]))
             elif s.behaviour == Behaviour.COHESIVE:
-                sp = s.preconsolidation if s.preconsolidation is not None else (
-                    s.ocr * sig0[m] if s.ocr is not None else sig0[m])
-                cr = s.recompression_index if s.recompression_index is not None else s.compression_index
-                eps = cons.primary_strain(sig0[m], s_zs[m], sp, s.compression_index, cr, s.void_ratio)
+                sp = (
+                    s.preconsolidation
+                    if s.preconsolidation is not None
+                    else (s.ocr * sig0[m] if s.ocr is not None else sig0[m])
+                )
+                cr = (
+                    s.recompression_index
+                    if s.recompression_index is not None
+                    else s.compression_index
+                )
+                eps = cons.primary_strain(
+                    sig0[m], s_zs[m], sp, s.compression_index, cr, s.void_ratio
+                )
                 th = float(col.bottoms[j] - col.tops[j])
                 hdr = cons.drainage_path(th, s.drainage)
-                U = cons.degree_of_consolidation(cons.time_factor_at(life, s.consolidation_coefficient, hdr))
-                tp = cons.end_of_primary_time(st.end_of_primary, s.consolidation_coefficient, hdr,
-                                              given=s.end_of_primary if s.end_of_primary is not None else np.nan)
+                U = cons.degree_of_consolidation(
+                    cons.time_factor_at(life, s.consolidation_coefficient, hdr)
+                )
+                tp = cons.end_of_primary_time(
+                    st.end_of_primary,
+                    s.consolidation_coefficient,
+                    hdr,
+                    given=s.end_of_primary if s.end_of_primary is not None else np.nan,
+                )
                 ep = cons.void_ratio_after(s.void_ratio, eps)
                 sec = cons.secondary_strain(s.secondary_index, ep, life, tp)
                 sec = np.where(s_zs[m] > 0, sec, 0.0)
@@ -775,8 +939,13 @@ def settlement_map(site: Site, ground: Ground, results: Results, loads_full: str
             for b in jj:
                 if _inside(f.outline, np.array([gx[b], gy[a]])):
                     S[a, b] = tot[i]
-    return SettlementMap(gx, gy, S, "elastic strain integration (granular) + e–log σ' consolidation "
-                                     "(cohesive) of the superposed Boussinesq stress; footings: own computed values")
+    return SettlementMap(
+        gx,
+        gy,
+        S,
+        "elastic strain integration (granular) + e–log σ' consolidation "
+        "(cohesive) of the superposed Boussinesq stress; footings: own computed values",
+    )
 
 
 def _mean_equivalent_modulus(results: Results) -> dict[str, float]:
@@ -833,12 +1002,19 @@ def worst_pair_section(results: Results, *, samples: int = 80):
         c = abs(float(np.dot(ax_l, d)))
         return float(f.length * c + f.width * math.sqrt(max(0.0, 1 - c * c)))
 
-    feet = tuple(SectionFooting(f.id, along(f), width_along(f), f.depth, float(tot[i]))
-                 for i, f in ((ia, a), (ib, b)))
+    feet = tuple(
+        SectionFooting(f.id, along(f), width_along(f), f.depth, float(tot[i]))
+        for i, f in ((ia, a), (ib, b))
+    )
     return Section(
-        start=tuple(start), end=tuple(end), distance=dist,
-        strata=tuple(s.name for s in site.strata), tops=np.array(tops).T, bottom=bottom,
-        water_depth=np.array(water), footings=feet,
+        start=tuple(start),
+        end=tuple(end),
+        distance=dist,
+        strata=tuple(s.name for s in site.strata),
+        tops=np.array(tops).T,
+        bottom=bottom,
+        water_depth=np.array(water),
+        footings=feet,
         behaviours=tuple(str(s.behaviour) for s in site.strata),
         title=f"Section through {a.id} and {b.id} (most utilised pair)",
     )

@@ -9,7 +9,7 @@ class Choice(enum.StrEnum):
     """A string option whose unknown values raise an error listing the valid ones."""
 
     @classmethod
-    def parse(cls, value: object, where: str) -> "Choice":
+    def parse(cls, value: object, where: str) -> Choice:
         """Return the member named by ``value``; raise InputError naming ``where`` otherwise."""
         from sitesettle.errors import InputError
 
@@ -59,4 +59,6 @@ class ShapeInterpolation(Choice):
     """How Schmertmann (1978) parameters vary for 1 < L/B < 10."""
 
     LINEAR = "linear"  #: linear in L/B between the two published diagrams (common practice)
-    LOG = "log"  #: modulus factor 2.5 [1 + 0.4 log10(L/B)] (from memory, Terzaghi, Peck & Mesri 1996)
+    LOG = (
+        "log"  #: modulus factor 2.5 [1 + 0.4 log10(L/B)] (from memory, Terzaghi, Peck & Mesri 1996)
+    )

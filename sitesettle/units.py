@@ -106,7 +106,9 @@ def parse(value: object, dimension: str, where: str) -> float:
     """
     unit, example = DIMENSIONS[dimension]
     if isinstance(value, bool):
-        raise InputError(where, f"{value!r} is not a number", f"{_NAMES[dimension]} such as {example}")
+        raise InputError(
+            where, f"{value!r} is not a number", f"{_NAMES[dimension]} such as {example}"
+        )
     if isinstance(value, (int, float)):
         out = float(value)
     else:
@@ -118,14 +120,21 @@ def parse(value: object, dimension: str, where: str) -> float:
         elif text.lower() in ("nan", "inf", "-inf", "+inf", "infinity", "-infinity"):
             out = float(text)
         else:
-            text = text.replace("^", "**").replace("%", " percent").replace("²", "**2").replace("³", "**3")
+            text = (
+                text.replace("^", "**")
+                .replace("%", " percent")
+                .replace("²", "**2")
+                .replace("³", "**3")
+            )
             ureg = registry()
             try:
                 q = ureg.Quantity(text)
             except Exception:  # pint raises many kinds of errors on unparseable text
                 raise InputError(
-                    where, f'cannot read "{value}" as a number with a unit',
-                    f"{_NAMES[dimension]} such as {example}") from None
+                    where,
+                    f'cannot read "{value}" as a number with a unit',
+                    f"{_NAMES[dimension]} such as {example}",
+                ) from None
             if not isinstance(q, ureg.Quantity):
                 out = float(q)
             else:
@@ -133,10 +142,14 @@ def parse(value: object, dimension: str, where: str) -> float:
                     out = float(q.to(unit).magnitude)
                 except Exception:
                     raise InputError(
-                        where, f'"{value}" is {_describe(q)}',
-                        f"{_NAMES[dimension]} such as {example}") from None
+                        where,
+                        f'"{value}" is {_describe(q)}',
+                        f"{_NAMES[dimension]} such as {example}",
+                    ) from None
     if not math.isfinite(out):
-        raise InputError(where, f'"{value}" is not a finite number', f"{_NAMES[dimension]} such as {example}")
+        raise InputError(
+            where, f'"{value}" is not a finite number', f"{_NAMES[dimension]} such as {example}"
+        )
     return out
 
 

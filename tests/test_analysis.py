@@ -22,18 +22,48 @@ from sitesettle.options import Behaviour, GranularMethod
 from sitesettle.site import AnalysisSettings, Borehole, Footing, Interval, Site, Stratum
 
 
-def pad(fid, x, y, width, length=None, depth=0.0, load=400.0, rigid=False, fill=0.0, live=0.0,
-        rotation=0.0, sustained=0.0):
+def pad(
+    fid,
+    x,
+    y,
+    width,
+    length=None,
+    depth=0.0,
+    load=400.0,
+    rigid=False,
+    fill=0.0,
+    live=0.0,
+    rotation=0.0,
+    sustained=0.0,
+):
     """A rectangular footing centred on (x, y), long side at ``rotation`` degrees from east."""
     length = width if length is None else length
     a = math.radians(rotation)
     ax_l = np.array([math.cos(a), math.sin(a)])
     ax_b = np.array([-math.sin(a), math.cos(a)])
     c = np.array([x, y])
-    outline = np.array([c + sl * length / 2 * ax_l + sb * width / 2 * ax_b
-                        for sl, sb in ((-1, -1), (1, -1), (1, 1), (-1, 1))])
-    return Footing(fid, outline, "rectangle", x, y, width, length, rotation, depth, load, live,
-                   sustained, rigid, fill)
+    outline = np.array(
+        [
+            c + sl * length / 2 * ax_l + sb * width / 2 * ax_b
+            for sl, sb in ((-1, -1), (1, -1), (1, 1), (-1, 1))
+        ]
+    )
+    return Footing(
+        fid,
+        outline,
+        "rectangle",
+        x,
+        y,
+        width,
+        length,
+        rotation,
+        depth,
+        load,
+        live,
+        sustained,
+        rigid,
+        fill,
+    )
 
 
 def uniform_site(footings, strata, thicknesses, *, water=math.inf, **settings):
@@ -45,12 +75,24 @@ def uniform_site(footings, strata, thicknesses, *, water=math.inf, **settings):
     bh = Borehole("BH", 0.0, 0.0, tuple(intervals), None if math.isinf(water) else water)
     base = dict(report_times=(0.1, 1.0, 10.0), design_life=10.0, stress_tolerance=0.0)
     base.update(settings)
-    return Site("test", tuple(footings), tuple(strata), (bh,), water_depth=water,
-                analysis=AnalysisSettings(**base))
+    return Site(
+        "test",
+        tuple(footings),
+        tuple(strata),
+        (bh,),
+        water_depth=water,
+        analysis=AnalysisSettings(**base),
+    )
 
 
-SAND = Stratum("sand", Behaviour.GRANULAR, unit_weight=18.0, saturated_unit_weight=20.0,
-               poisson=0.3, cone_resistance=8000.0)
+SAND = Stratum(
+    "sand",
+    Behaviour.GRANULAR,
+    unit_weight=18.0,
+    saturated_unit_weight=20.0,
+    poisson=0.3,
+    cone_resistance=8000.0,
+)
 ROCK = Stratum("rock", Behaviour.RIGID, unit_weight=22.0, saturated_unit_weight=22.0)
 
 
@@ -69,7 +111,9 @@ def test_schmertmann_square_through_the_whole_pipeline():
     site = uniform_site([f], [SAND], [60.0])
     r = analyse(site, with_map=False)
     assert r.net_pressure[0] == pytest.approx(182.0)
-    np.testing.assert_allclose(r.total[0] * 1000, [12.97, 15.57, 18.16], atol=0.006)  # 2 d.p. printed
+    np.testing.assert_allclose(
+        r.total[0] * 1000, [12.97, 15.57, 18.16], atol=0.006
+    )  # 2 d.p. printed
     assert r.neighbours[0, -1] == 0.0
     assert r.methods[0] == "schmertmann"
 
@@ -87,8 +131,15 @@ def test_schmertmann_plane_strain_strip():
 
 
 def elastic_sand(E=20000.0, nu=0.3):
-    return Stratum("sand", Behaviour.GRANULAR, unit_weight=18.0, saturated_unit_weight=20.0,
-                   poisson=nu, youngs_modulus=E, method=GranularMethod.ELASTIC)
+    return Stratum(
+        "sand",
+        Behaviour.GRANULAR,
+        unit_weight=18.0,
+        saturated_unit_weight=20.0,
+        poisson=nu,
+        youngs_modulus=E,
+        method=GranularMethod.ELASTIC,
+    )
 
 
 @pytest.mark.parametrize("thickness", [2.0, 4.0, 10.0])
@@ -98,8 +149,13 @@ def test_elastic_centre_on_finite_layer_matches_steinbrenner(thickness):
     # must agree within 0.5 % (the convergence target of the settlement issue).
     q, B, E, nu = 100.0, 2.0, 20000.0, 0.3
     f = pad("F", 0, 0, B, load=q * B * B)
-    site = uniform_site([f], [elastic_sand(E, nu), ROCK], [thickness, 10.0],
-                        influence_fraction=0.0, sublayer_fraction=0.05)
+    site = uniform_site(
+        [f],
+        [elastic_sand(E, nu), ROCK],
+        [thickness, 10.0],
+        influence_fraction=0.0,
+        sublayer_fraction=0.05,
+    )
     r = analyse(site, with_map=False)
     ref = float(elastic.steinbrenner_centre_settlement(q, B, B, thickness, E, nu))
     assert r.total[0, -1] == pytest.approx(ref, rel=5e-3)
@@ -112,13 +168,21 @@ def test_rigid_footing_is_the_mean_of_its_characteristic_points():
     # memory) this is the rigid footing's settlement.
     q, B, L, H, E, nu = 150.0, 2.0, 3.0, 6.0, 25000.0, 0.3
     f = pad("F", 0, 0, B, L, load=q * B * L, rigid=True)
-    site = uniform_site([f], [elastic_sand(E, nu), ROCK], [H, 10.0],
-                        influence_fraction=0.0, sublayer_fraction=0.05)
+    site = uniform_site(
+        [f], [elastic_sand(E, nu), ROCK], [H, 10.0], influence_fraction=0.0, sublayer_fraction=0.05
+    )
     r = analyse(site, with_map=False)
     u, v = 0.37 * L, 0.37 * B
-    corners = [(L / 2 + u, B / 2 + v), (L / 2 - u, B / 2 + v), (L / 2 + u, B / 2 - v), (L / 2 - u, B / 2 - v)]
-    ref = sum(float(elastic.steinbrenner_corner_settlement(q, min(a, b), max(a, b), H, E, nu))
-              for a, b in corners)
+    corners = [
+        (L / 2 + u, B / 2 + v),
+        (L / 2 - u, B / 2 + v),
+        (L / 2 + u, B / 2 - v),
+        (L / 2 - u, B / 2 - v),
+    ]
+    ref = sum(
+        float(elastic.steinbrenner_corner_settlement(q, min(a, b), max(a, b), H, E, nu))
+        for a, b in corners
+    )
     assert r.total[0, -1] == pytest.approx(ref, rel=5e-3)
     # the rigid value lies below the flexible centre (on this thin layer, H = 3B, the
     # ratio is about 0.72; the half-space rule of thumb 0.8 does not apply to it)
@@ -139,9 +203,15 @@ def test_characteristic_points_positions():
 
 
 def clay(**kw):
-    base = dict(unit_weight=18.0, saturated_unit_weight=19.0, compression_index=0.3,
-                recompression_index=0.05, void_ratio=1.0, consolidation_coefficient=2.0,
-                secondary_index=0.0)
+    base = dict(
+        unit_weight=18.0,
+        saturated_unit_weight=19.0,
+        compression_index=0.3,
+        recompression_index=0.05,
+        void_ratio=1.0,
+        consolidation_coefficient=2.0,
+        secondary_index=0.0,
+    )
     base.update(kw)
     return Stratum("clay", Behaviour.COHESIVE, **base)
 
@@ -157,9 +227,16 @@ def test_consolidation_under_a_wide_load_matches_quadrature_of_elog():
     f = pad("R", 0, 0, B, load=q * B * B)
     hdr = 2.0  # 4 m clay drained both faces
     t50 = 0.1967 * hdr**2 / cl.consolidation_coefficient
-    site = uniform_site([f], [sand, cl, ROCK], [2.0, 4.0, 10.0], water=0.0,
-                        influence_fraction=0.0, sublayer_fraction=0.005,
-                        report_times=(t50,), design_life=100.0)
+    site = uniform_site(
+        [f],
+        [sand, cl, ROCK],
+        [2.0, 4.0, 10.0],
+        water=0.0,
+        influence_fraction=0.0,
+        sublayer_fraction=0.005,
+        report_times=(t50,),
+        design_life=100.0,
+    )
     r = analyse(site, with_map=False)
     gw = 9.81
 
@@ -183,9 +260,14 @@ def test_group_settles_more_than_one_footing_alone_over_clay():
     # DESIGN §4 "Interaction").
     cl = clay(ocr=1.0)
     single = [pad("C", 0, 0, 2.0, depth=1.0, load=600.0)]
-    group = [pad(f"P{i}{j}", 5.0 * i, 5.0 * j, 2.0, depth=1.0, load=600.0)
-             for i in (-1, 0, 1) for j in (-1, 0, 1)]
-    kw = dict(water=1.0, design_life=50.0, influence_fraction=0.0)  # to the rock: same depth for both
+    group = [
+        pad(f"P{i}{j}", 5.0 * i, 5.0 * j, 2.0, depth=1.0, load=600.0)
+        for i in (-1, 0, 1)
+        for j in (-1, 0, 1)
+    ]
+    kw = dict(
+        water=1.0, design_life=50.0, influence_fraction=0.0
+    )  # to the rock: same depth for both
     r1 = analyse(uniform_site(single, [cl, ROCK], [30.0, 5.0], **kw), with_map=False)
     rg = analyse(uniform_site(group, [cl, ROCK], [30.0, 5.0], **kw), with_map=False)
     centre = [f.id for f in group].index("P00")
@@ -226,8 +308,13 @@ def test_neighbour_part_equals_elastic_strain_of_the_neighbour_load_alone():
     E, nu, H = 20000.0, 0.3, 12.0
     a = pad("A", 0, 0, 2.0, depth=1.0, load=500.0)
     b = pad("B", 3.5, 1.0, 2.5, depth=1.0, load=900.0)
-    site = uniform_site([a, b], [elastic_sand(E, nu), ROCK], [H, 10.0],
-                        influence_fraction=0.0, sublayer_fraction=0.02)
+    site = uniform_site(
+        [a, b],
+        [elastic_sand(E, nu), ROCK],
+        [H, 10.0],
+        influence_fraction=0.0,
+        sublayer_fraction=0.02,
+    )
     r = analyse(site, with_map=False)
     qb = r.net_pressure[1]
     lb = stress.Loads.rectangles([3.5], [1.0], [2.5], [2.5], [0.0], [qb], [1.0])
@@ -246,21 +333,62 @@ def test_neighbour_part_equals_elastic_strain_of_the_neighbour_load_alone():
 
 
 def varied_site(fraction=0.1, method=GranularMethod.SCHMERTMANN):
-    sand = Stratum("sand", Behaviour.GRANULAR, unit_weight=18.0, saturated_unit_weight=20.0,
-                   poisson=0.3, cone_resistance=9000.0)
+    sand = Stratum(
+        "sand",
+        Behaviour.GRANULAR,
+        unit_weight=18.0,
+        saturated_unit_weight=20.0,
+        poisson=0.3,
+        cone_resistance=9000.0,
+    )
     soft = clay(ocr=1.3, undrained_modulus=8000.0, secondary_index=0.01)
-    gravel = Stratum("gravel", Behaviour.GRANULAR, unit_weight=20.0, saturated_unit_weight=21.0,
-                     poisson=0.3, youngs_modulus=80000.0, method=GranularMethod.ELASTIC)
+    gravel = Stratum(
+        "gravel",
+        Behaviour.GRANULAR,
+        unit_weight=20.0,
+        saturated_unit_weight=21.0,
+        poisson=0.3,
+        youngs_modulus=80000.0,
+        method=GranularMethod.ELASTIC,
+    )
     bhs = (
-        Borehole("BH1", -5, -5, (Interval("sand", 0, 5), Interval("clay", 5, 6), Interval("gravel", 6, 30))),
-        Borehole("BH2", 25, -5, (Interval("sand", 0, 4), Interval("clay", 4, 9), Interval("gravel", 9, 30))),
+        Borehole(
+            "BH1",
+            -5,
+            -5,
+            (Interval("sand", 0, 5), Interval("clay", 5, 6), Interval("gravel", 6, 30)),
+        ),
+        Borehole(
+            "BH2",
+            25,
+            -5,
+            (Interval("sand", 0, 4), Interval("clay", 4, 9), Interval("gravel", 9, 30)),
+        ),
         Borehole("BH3", 10, 25, (Interval("sand", 0, 6), Interval("gravel", 6, 30))),
     )
-    feet = [pad(f"C{i}{j}", 6.0 * i, 6.0 * j, 1.8 + 0.2 * i, depth=1.0, load=700.0 + 100 * j,
-                rigid=True, fill=20.0, live=200.0, sustained=0.3)
-            for i in range(4) for j in range(3)]
-    st = AnalysisSettings(granular_method=method, report_times=(0.1, 1.0, 10.0), design_life=50.0,
-                          sublayer_fraction=fraction, stress_tolerance=0.0)
+    feet = [
+        pad(
+            f"C{i}{j}",
+            6.0 * i,
+            6.0 * j,
+            1.8 + 0.2 * i,
+            depth=1.0,
+            load=700.0 + 100 * j,
+            rigid=True,
+            fill=20.0,
+            live=200.0,
+            sustained=0.3,
+        )
+        for i in range(4)
+        for j in range(3)
+    ]
+    st = AnalysisSettings(
+        granular_method=method,
+        report_times=(0.1, 1.0, 10.0),
+        design_life=50.0,
+        sublayer_fraction=fraction,
+        stress_tolerance=0.0,
+    )
     return Site("varied", tuple(feet), (sand, soft, gravel), bhs, water_depth=2.0, analysis=st)
 
 
@@ -278,8 +406,9 @@ def test_each_stratum_gets_its_method_and_the_parts_add_up():
     assert by["sand"] == "schmertmann"
     assert by.get("clay") == "consolidation"
     assert by["gravel"] in ("elastic", "below influence depth")
-    np.testing.assert_allclose(r.immediate + r.consolidation + r.secondary, r.own + r.neighbours,
-                               rtol=1e-9, atol=1e-12)
+    np.testing.assert_allclose(
+        r.immediate + r.consolidation + r.secondary, r.own + r.neighbours, rtol=1e-9, atol=1e-12
+    )
     # the trace of each point adds up to that point's settlement at the design life
     for i, f in enumerate(r.site.footings):
         for p, t in enumerate(r.traces[f.id]):
@@ -293,8 +422,15 @@ def test_burland_burbidge_footing_through_the_pipeline():
     # Burland & Burbidge (1985) equations (constants from memory, METHODS.md §4):
     # B = L = 3 m, N̄ = 20, q' = 150 kPa, normally consolidated → s_i = 8.35 mm;
     # ft = 1 + R3 + R log10(t/3) → 1.30 at 3 years (static loads).
-    sand = Stratum("sand", Behaviour.GRANULAR, unit_weight=18.0, saturated_unit_weight=20.0,
-                   poisson=0.3, spt_n=20.0, method=GranularMethod.BURLAND_BURBIDGE)
+    sand = Stratum(
+        "sand",
+        Behaviour.GRANULAR,
+        unit_weight=18.0,
+        saturated_unit_weight=20.0,
+        poisson=0.3,
+        spt_n=20.0,
+        method=GranularMethod.BURLAND_BURBIDGE,
+    )
     f = pad("F", 0, 0, 3.0, depth=1.0, load=150.0 * 9 + 18.0 * 9)  # q_net = 150 kPa
     site = uniform_site([f], [sand], [40.0], report_times=(3.0,), design_life=30.0)
     r = analyse(site, with_map=False)
@@ -313,8 +449,15 @@ def test_rotating_and_translating_the_site_changes_nothing():
     moved = []
     for f in feet:
         c = R @ np.array([f.x, f.y]) + [100.0, -40.0]
-        moved.append(dataclasses.replace(
-            f, outline=(R @ f.outline.T).T + [100.0, -40.0], x=c[0], y=c[1], rotation=f.rotation + 30.0))
+        moved.append(
+            dataclasses.replace(
+                f,
+                outline=(R @ f.outline.T).T + [100.0, -40.0],
+                x=c[0],
+                y=c[1],
+                rotation=f.rotation + 30.0,
+            )
+        )
     site2 = dataclasses.replace(site, footings=tuple(moved))
     r1 = analyse(site2, with_map=False)
     np.testing.assert_allclose(r1.total, r0.total, rtol=1e-9)

@@ -20,9 +20,9 @@ import numpy as np
 import pandas as pd
 import pyogrio
 import pytest
+from sitesettle_cli.main import main
 
 import sitesettle
-from sitesettle_cli.main import main
 
 STARTER = pathlib.Path(sitesettle.__file__).parent / "templates" / "starter"
 CHECKER = pathlib.Path(__file__).resolve().parents[2] / "shared" / "tools" / "check_results.py"
@@ -35,8 +35,9 @@ def run(*args: str) -> tuple[int, str, str]:
     return rc, out.getvalue(), err.getvalue()
 
 
-def project(tmp_path: pathlib.Path, name: str = "p", *, crs: str | None = "EPSG:32633",
-            extra: str = "") -> pathlib.Path:
+def project(
+    tmp_path: pathlib.Path, name: str = "p", *, crs: str | None = "EPSG:32633", extra: str = ""
+) -> pathlib.Path:
     dest = tmp_path / name
     shutil.copytree(STARTER, dest)
     toml = (dest / "site.toml").read_text(encoding="utf-8")
@@ -58,8 +59,16 @@ def test_passing_project_exits_0_and_writes_every_file(passing):
     p, rc, out, err = passing
     assert rc == 0, err
     res = p / "results"
-    for name in ("footings.csv", "pairs.csv", "settlement_time.csv", "summary.json", "site.gpkg",
-                 "plan.png", "contours.png", "report.html"):
+    for name in (
+        "footings.csv",
+        "pairs.csv",
+        "settlement_time.csv",
+        "summary.json",
+        "site.gpkg",
+        "plan.png",
+        "contours.png",
+        "report.html",
+    ):
         assert (res / name).stat().st_size > 0, name
     assert "PASS" in out and "licensed engineer" in out  # verdict and caution in the summary
 
@@ -69,7 +78,9 @@ def test_written_values_are_the_api_values(passing):
     r = sitesettle.analyse(sitesettle.load_site(p))
     f = pd.read_csv(p / "results" / "footings.csv")
     assert list(f.id) == list(r.ids)
-    np.testing.assert_allclose(f.total_mm, r.at_design_life() * 1000, atol=1e-3)  # 3 decimals written
+    np.testing.assert_allclose(
+        f.total_mm, r.at_design_life() * 1000, atol=1e-3
+    )  # 3 decimals written
     np.testing.assert_allclose(f.own_mm, r.at_design_life("own") * 1000, atol=1e-3)
     np.testing.assert_allclose(f.q_net_kPa, r.net_pressure, atol=1e-2)
     t = pd.read_csv(p / "results" / "settlement_time.csv")
@@ -90,16 +101,19 @@ def test_geopackage_layers_carry_the_input_crs(passing):
     assert len(gpd.read_file(gpkg, layer="footings")) == 6
 
 
-@pytest.mark.skipif(not CHECKER.exists(), reason="the output-contract checker is not beside the repository")
+@pytest.mark.skipif(
+    not CHECKER.exists(), reason="the output-contract checker is not beside the repository"
+)
 def test_output_contract_checker_accepts_the_folder(passing):
     p, rc, *_ = passing
-    done = subprocess.run([sys.executable, str(CHECKER), str(p / "results"), str(rc)],
-                          capture_output=True, text=True)
+    done = subprocess.run(
+        [sys.executable, str(CHECKER), str(p / "results"), str(rc)], capture_output=True, text=True
+    )
     assert done.returncode == 0, done.stdout + done.stderr
 
 
 def test_failing_checks_exit_1_with_outputs_written(tmp_path):
-    p = project(tmp_path, extra='')
+    p = project(tmp_path, extra="")
     toml = (p / "site.toml").read_text()
     toml = toml.replace("[checks.overrides]", '[checks.overrides]\ntotal = "15 mm"', 1)
     (p / "site.toml").write_text(toml)
@@ -112,8 +126,9 @@ def test_failing_checks_exit_1_with_outputs_written(tmp_path):
 
 def test_bad_input_exits_2_with_one_message_and_writes_nothing(tmp_path):
     p = project(tmp_path)
-    (p / "site.toml").write_text((p / "site.toml").read_text().replace('design_life = "50 yr"',
-                                                                       'design_life = "50 kg"'))
+    (p / "site.toml").write_text(
+        (p / "site.toml").read_text().replace('design_life = "50 yr"', 'design_life = "50 kg"')
+    )
     rc, out, err = run("check", str(p))
     assert rc == 2
     assert err.startswith("error: ") and err.count("\n") == 1
@@ -147,7 +162,9 @@ def test_explain_prints_the_layer_table_and_its_csv_adds_up(passing):
     r = sitesettle.analyse(sitesettle.load_site(p), with_map=False)
     i = r.ids.index("C2")
     per_point = sheet.groupby("point").settlement_mm.sum().to_numpy()
-    np.testing.assert_allclose(per_point, r.point_total[i, :, r.design_life_index] * 1000, rtol=1e-5)
+    np.testing.assert_allclose(
+        per_point, r.point_total[i, :, r.design_life_index] * 1000, rtol=1e-5
+    )
 
 
 def test_explain_unknown_footing_names_the_valid_ones(passing):
@@ -179,6 +196,8 @@ def test_console_script_runs_without_traceback_on_bad_input(tmp_path):
     exe = shutil.which("sitesettle") or str(pathlib.Path(sys.executable).parent / "sitesettle")
     if not pathlib.Path(exe).exists():
         pytest.skip("the sitesettle console script is not installed in this environment")
-    done = subprocess.run([exe, "check", str(tmp_path / "nothing-here")], capture_output=True, text=True)
+    done = subprocess.run(
+        [exe, "check", str(tmp_path / "nothing-here")], capture_output=True, text=True
+    )
     assert done.returncode == 2
     assert re.match(r"error: .*nothing-here", done.stderr) and "Traceback" not in done.stderr

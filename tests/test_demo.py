@@ -28,9 +28,9 @@ import sys
 
 import numpy as np
 import pytest
+from sitesettle_cli.main import main
 
 import sitesettle
-from sitesettle_cli.main import main
 
 ROOT = pathlib.Path(__file__).resolve().parents[1]
 DEMO = ROOT / "demo_site"
@@ -57,7 +57,9 @@ def test_failing_pairs_are_on_the_edge_of_the_clay_lens(results):
     pc = results.checks.pairs
     ids = results.ids
     failing = {frozenset((ids[a], ids[b])) for a, b, ok in zip(pc.a, pc.b, pc.passed) if not ok}
-    assert failing == {frozenset(p) for p in (("F3", "F4"), ("G2", "G3"), ("G3", "G4"), ("G2", "W1"))}
+    assert failing == {
+        frozenset(p) for p in (("F3", "F4"), ("G2", "G3"), ("G3", "G4"), ("G2", "W1"))
+    }
     assert np.mean(pc.passed) > 0.9  # most of the plan passes
 
 
@@ -75,6 +77,7 @@ def test_readme_first_command_writes_a_valid_results_folder(tmp_path):
     s = json.loads((out / "summary.json").read_text())
     assert s["n_footings"] == 39 and len(s["failing_pairs"]) == 4
     if CHECKER.exists():
-        done = subprocess.run([sys.executable, str(CHECKER), str(out), str(rc)],
-                              capture_output=True, text=True)
+        done = subprocess.run(
+            [sys.executable, str(CHECKER), str(out), str(rc)], capture_output=True, text=True
+        )
         assert done.returncode == 0, done.stdout + done.stderr

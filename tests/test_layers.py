@@ -9,7 +9,15 @@ import pathlib
 import pytest
 
 ROOT = pathlib.Path(__file__).resolve().parents[1] / "sitesettle"
-CORE = ["stress.py", "ground.py", "checks.py", "criteria.py", "analysis.py", "site.py", "results.py"]
+CORE = [
+    "stress.py",
+    "ground.py",
+    "checks.py",
+    "criteria.py",
+    "analysis.py",
+    "site.py",
+    "results.py",
+]
 CORE += [f"methods/{p.name}" for p in (ROOT / "methods").glob("*.py")]
 FORBIDDEN = ("pint", "matplotlib", "pandas", "geopandas", "sitesettle.io", "sitesettle_cli", "tqdm")
 

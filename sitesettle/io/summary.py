@@ -21,11 +21,20 @@ def format_summary(results: Results, summary: dict, units: str = "si") -> str:
     total = results.at_design_life() * scale
     life = results.times[results.design_life_index]
     chk = results.checks
-    out = [f"sitesettle — {results.site.name}",
-           f"{len(ids)} footings, {summary.get('n_pairs', 0)} neighbour pairs, design life {life:g} years"]
+    out = [
+        f"sitesettle — {results.site.name}",
+        f"{len(ids)} footings, {summary.get('n_pairs', 0)} neighbour pairs, "
+        f"design life {life:g} years",
+    ]
     if chk is not None:
-        out.append(f"criteria: {chk.criteria}"
-                   + (f"; movement checked after {chk.checked_after:g} years" if chk.checked_after > 0 else ""))
+        out.append(
+            f"criteria: {chk.criteria}"
+            + (
+                f"; movement checked after {chk.checked_after:g} years"
+                if chk.checked_after > 0
+                else ""
+            )
+        )
     out.append("")
     out.append(f"Largest total settlements ({unit}):")
     for i in np.argsort(-total, kind="stable")[:SHOWN]:
@@ -43,7 +52,8 @@ def format_summary(results: Results, summary: dict, units: str = "si") -> str:
                 f"  {a + ' – ' + b:<22} diff {pc.differential[k] * scale:6.1f} {unit}  "
                 f"β {_fmt_beta(pc.angular_distortion[k]):>8}  limit {pc.limit[k]} "
                 f"({pc.limit_source[k]})  use {pc.utilisation[k]:.2f}  "
-                f"{'pass' if pc.passed[k] else 'FAIL'}")
+                f"{'pass' if pc.passed[k] else 'FAIL'}"
+            )
     if results.warnings:
         out.append("")
         out.append(f"{len(results.warnings)} warning(s); the first:")
@@ -54,7 +64,10 @@ def format_summary(results: Results, summary: dict, units: str = "si") -> str:
     else:
         nff = int(np.count_nonzero(~np.asarray(chk.footing_passed, bool)))
         nfp = int(np.count_nonzero(~np.asarray(chk.pairs.passed, bool)))
-        verdict = "PASS — every check passes" if chk.all_passed else (
-            f"FAIL — {nff} footing(s) and {nfp} pair(s) exceed their limits")
+        verdict = (
+            "PASS — every check passes"
+            if chk.all_passed
+            else (f"FAIL — {nff} footing(s) and {nfp} pair(s) exceed their limits")
+        )
         out.append(verdict)
     return "\n".join(out)
