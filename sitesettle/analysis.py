@@ -128,45 +128,28 @@ def footing_loads(
     Rectangles and circles use their exact closed forms, anything else the polygon
     edge sum. ``pressure`` is the net pressure of each footing [kPa].
     """
-    idx = {k: [i for i, f in enumerate(footings) if f.shape == k] for k in ("rectangle", "circle")}
-    idx["polygon"] = [i for i, f in enumerate(footings) if f.shape not in ("rectangle", "circle")]
-    parts, order = [], []
-    if idx["rectangle"]:
-        r = idx["rectangle"]
-        parts.append(
-            stress.Loads.rectangles(
-                [footings[i].x for i in r],
-                [footings[i].y for i in r],
-                [footings[i].width for i in r],
-                [footings[i].length for i in r],
-                [footings[i].rotation for i in r],
-                pressure[r],
-                [footings[i].depth for i in r],
-            )
-        )
-        order += r
-    if idx["circle"]:
-        c = idx["circle"]
-        parts.append(
-            stress.Loads.circles(
-                [footings[i].x for i in c],
-                [footings[i].y for i in c],
-                [footings[i].radius for i in c],
-                pressure[c],
-                [footings[i].depth for i in c],
-            )
-        )
-        order += c
-    if idx["polygon"]:
-        p = idx["polygon"]
-        parts.append(
-            stress.Loads.polygons(
-                [np.asarray(footings[i].outline, float) for i in p],
-                pressure[p],
-                [footings[i].depth for i in p],
-            )
-        )
-        order += p
+    kinds = {"rectangle": [], "circle": [], "polygon": []}
+    for i, f in enumerate(footings):
+        kinds[f.shape if f.shape in ("rectangle", "circle") else "polygon"].append(i)
+
+    def field(ix: list[int], name: str) -> list:
+        return [getattr(footings[i], name) for i in ix]
+
+    build = {
+        "rectangle": lambda ix: stress.Loads.rectangles(
+            *(field(ix, n) for n in ("x", "y", "width", "length", "rotation")),
+            pressure[ix],
+            field(ix, "depth"),
+        ),
+        "circle": lambda ix: stress.Loads.circles(
+            *(field(ix, n) for n in ("x", "y", "radius")), pressure[ix], field(ix, "depth")
+        ),
+        "polygon": lambda ix: stress.Loads.polygons(
+            [np.asarray(o, float) for o in field(ix, "outline")], pressure[ix], field(ix, "depth")
+        ),
+    }
+    parts = [build[k](ix) for k, ix in kinds.items() if ix]
+    order = [i for ix in kinds.values() for i in ix]
     loads = stress.Loads.concat(*parts) if len(parts) > 1 else parts[0]
     load_of = np.empty(len(footings), dtype=int)
     load_of[np.asarray(order, dtype=int)] = np.arange(len(order))
