@@ -52,9 +52,17 @@ def _plt():
     return plt
 
 
-def _esc(text: object) -> str:
-    """User text safe from mathtext: every ``$`` is drawn as a dollar sign."""
-    return str(text).replace("$", r"\$")
+#: user text longer than this is cut (with an ellipsis) in figures, so a very long
+#: project name or id cannot squeeze the axes away
+MAX_LABEL = 60
+
+
+def _esc(text: object, limit: int = MAX_LABEL) -> str:
+    """User text safe for a figure: shortened to ``limit`` characters, ``$`` drawn as a dollar."""
+    text = str(text)
+    if len(text) > limit:
+        text = text[: limit - 1] + "…"
+    return text.replace("$", r"\$")
 
 
 def _settlement_unit(units: str) -> tuple[float, str]:
@@ -324,7 +332,7 @@ def contour_figure(results: Results, *, ax=None, units: str = "si"):
                 zorder=2,
             )
             ax.clabel(cs, fmt="%g", fontsize=7, inline=True, inline_spacing=3)
-        method = f"map: {_esc(m.method)}"
+        method = f"map: {_esc(m.method, 400)}"
     else:
         method = (
             "no settlement map was computed: contours interpolated between footing values "
@@ -595,7 +603,7 @@ def section_figure(section: Section, *, ax=None, units: str = "si"):
     title = section.title or "Section"
     (x0, y0), (x1, y1) = section.start, section.end
     ax.set_title(
-        f"{_esc(title)} — from ({x0 * L:.1f}, {y0 * L:.1f}) to ({x1 * L:.1f}, {y1 * L:.1f}) {lu}",
+        f"{_esc(title, 120)} — from ({x0 * L:.1f}, {y0 * L:.1f}) to ({x1 * L:.1f}, {y1 * L:.1f}) {lu}",
         loc="left",
         fontsize=10,
     )

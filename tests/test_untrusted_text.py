@@ -113,13 +113,6 @@ def test_check_succeeds_and_prints_the_strings_as_they_are(checked):
         assert (folder / name).is_file(), name
 
 
-@pytest.mark.xfail(
-    reason="plots: a 300-character project name or footing id in a figure title makes "
-    "matplotlib's constrained layout collapse the axes to zero size (UserWarning "
-    "'constrained_layout not applied …'); titles should be shortened or wrapped",
-    strict=True,
-    raises=AssertionError,
-)
 def test_figures_lay_out_with_a_very_long_name(checked):
     assert not [w for w in CAUGHT if "constrained_layout" in w]
 
