@@ -219,8 +219,8 @@ def parse_footings_table(
                 f'unknown shape "{shape_name}"',
                 '"rectangle" or "circle" (polygons come from a GIS file)',
             )
-        x = table.quantity(row, "x", "length")
-        y = table.quantity(row, "y", "length")
+        x = geometry.check_coordinate(table.quantity(row, "x", "length"), table.where(row, "x"))
+        y = geometry.check_coordinate(table.quantity(row, "y", "length"), table.where(row, "y"))
         width = table.quantity(row, "width", "length")
         if not width > 0:
             raise InputError(
@@ -312,6 +312,10 @@ def read_footings(
             f"cannot read the file as GIS data ({exc})",
             "a GeoPackage, GeoJSON or shapefile with polygon features",
         ) from None
+    if getattr(frame, "_geometry_column_name", None) not in frame.columns:
+        raise InputError(
+            path.name, "the file has no geometry", "a GIS layer of polygons (one per footing)"
+        )
     if len(frame) == 0:
         raise InputError(path.name, "the file has no footings", "at least one polygon feature")
     return parse_footings_frame(frame, path.name, defaults)

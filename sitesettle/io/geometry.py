@@ -23,6 +23,26 @@ OVERLAP_TOLERANCE = 1e-3
 #: a polygon is taken as a rectangle when it has 4 corners and fills its minimum
 #: rotated rectangle to this relative tolerance (rounding of GIS coordinates)
 RECTANGLE_TOLERANCE = 1e-6
+#: largest plan coordinate accepted [m]: no projected system in metres reaches it
+#: (the Earth's circumference is 4.0e7 m), and below it float64 resolves 1e-8 m
+MAX_COORDINATE = 1e8
+
+
+def check_coordinate(value: float, where: str) -> float:
+    """Return ``value`` or raise InputError if it is beyond ±MAX_COORDINATE metres.
+
+    Examples
+    --------
+    >>> check_coordinate(512345.6, "x")
+    512345.6
+    """
+    if not abs(value) <= MAX_COORDINATE:
+        raise InputError(
+            where,
+            f"the coordinate {value:g} m is beyond ±{MAX_COORDINATE:g} m",
+            "plan coordinates in metres of a projected system (check the unit and the column)",
+        )
+    return value
 
 
 def normalise_sides(width: float, length: float, rotation: float) -> tuple[float, float, float]:
@@ -126,6 +146,7 @@ def polygon_footprint(geom, where: str) -> dict:
         raise InputError(
             where, "the polygon has a coordinate that is not a finite number", "finite coordinates"
         )
+    check_coordinate(float(np.max(np.abs(ring))), where)
     if _signed_area(ring) < 0:
         ring = ring[::-1]
     c = geom.centroid

@@ -8,6 +8,7 @@ import warnings
 import numpy as np
 
 from sitesettle.errors import InputError, InputWarning
+from sitesettle.io import geometry
 from sitesettle.io.strata import QUANTITY_KEYS, check_value
 from sitesettle.io.tables import Table, parse_csv, read_text, suggest, table_from_frame
 from sitesettle.site import Borehole, Interval, Sounding, Stratum
@@ -107,6 +108,8 @@ def parse_boreholes(
                 f'borehole "{bid}" has no position',
                 "x and y on at least one of its rows",
             )
+        geometry.check_coordinate(x, table.where(rows[0], "x"))
+        geometry.check_coordinate(y, table.where(rows[0], "y"))
         if (x, y) in positions:
             raise InputError(
                 table.where(rows[0]),
@@ -220,6 +223,8 @@ def parse_soundings(data, source: str = "soundings.csv") -> tuple[Sounding, ...]
                 f'sounding "{sid}" has no position',
                 "x and y on at least one of its rows",
             )
+        geometry.check_coordinate(x, table.where(rows[0], "x"))
+        geometry.check_coordinate(y, table.where(rows[0], "y"))
         depth, qc, fs = [], [], []
         has_fs = "fs" in table.columns
         for row in rows:
