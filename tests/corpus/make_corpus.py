@@ -352,6 +352,18 @@ def _(d):
     )
 
 
+@case("footing_far_coordinate", "a coordinate of 1e300 m (the area of a 1.8 m pad is lost)",
+      'footings.csv row 4, column "x [m]"', r"beyond", "plan coordinates in metres")
+def _(d):
+    sub(d, "footings.csv", "C1,rectangle,0,0,", "C1,rectangle,1e300,0,")
+
+
+@case("bh_far_coordinate", "a borehole 1e12 m away (a unit or column mix-up)",
+      'boreholes.csv row 7, column "y [m]"', r"beyond", "plan coordinates in metres")
+def _(d):
+    sub(d, "boreholes.csv", "BH2,24,2,", "BH2,24,1e12,", count=4)
+
+
 # ------------------------------------------------------------------ GIS footings
 def _gis(d, polygons, crs="EPSG:32633", toml_crs=None):
     footing_geojson(d, "plan.geojson", polygons, crs=crs)
@@ -421,6 +433,15 @@ def _(d):
       r"degree", "projected system in metres")
 def _(d):
     _gis(d, [_box(0, 0, 0.0001)], crs="EPSG:4326")
+
+
+@case("gis_folder", "the footings file is a folder without GIS data", "plan:",
+      r"no geometry|not a file|cannot read", "")
+def _(d):
+    (d / "plan").mkdir()
+    (d / "plan" / "README.txt").write_text("not a footing plan\n", encoding="utf-8")
+    (d / "footings.csv").unlink()
+    toml_sub(d, 'file = "footings.csv"', 'file = "plan"')
 
 
 @case("gis_crs_vs_project", "[project] crs differs from the GIS file's", "[project], key 'crs'",
