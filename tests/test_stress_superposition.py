@@ -423,3 +423,67 @@ def test_moments_used_by_the_bound():
     assert area[2] == pytest.approx(3.0) and ixx[2] + iyy[2] == pytest.approx(jt, rel=1e-10)
     assert reach[2] == pytest.approx(math.hypot(3 - cx, cy))
     assert ixx[1] == pytest.approx(math.pi * 1.2**4 / 4)
+
+
+@settings(max_examples=10, deadline=None)
+@given(seed=st.integers(0, 2**31 - 1), tol=st.sampled_from([1e-3, 1e-2, 3e-4]))
+def test_cluster_error_inside_its_bound(seed, tol):
+    # every cluster of the tree (not only leaves), at random points: the multipole
+    # value differs from the exact sum of its loads by no more than its bound,
+    # which for clusters of rectangles and circles is the smaller of the order-3
+    # remainder and (third-order term + order-4 remainder); the exact sum of the
+    # cluster's loads (tolerance=0) is the independent reference
+    rng = np.random.default_rng(seed)
+    loads = S.Loads.concat(
+        grid_plan(4, 4, spacing=rng.uniform(3.0, 8.0), seed=seed),
+        S.Loads.circles(rng.uniform(0, 20, 3), rng.uniform(0, 20, 3), 1.0, 150.0, 1.6),
+    )
+    tree = S._Tree(loads, np.arange(len(loads)))
+    nodes = np.flatnonzero(~tree.leaf)
+    assert tree.alt[nodes].all()  # no polygon: every cluster has the second bound
+    worst = 0.0
+    for _ in range(6):
+        x, y = rng.uniform(-40, 60, 2)
+        z = np.sort(rng.uniform(2.0, 40.0, 5))
+        pts = np.column_stack([np.full(5, x), np.full(5, y), z])
+        lo, hi = pts.min(axis=0), pts.max(axis=0)
+        e, _ = tree.pair_bounds(
+            np.broadcast_to(lo, (len(nodes), 3)), np.broadcast_to(hi, (len(nodes), 3)), nodes
+        )
+        for n, bound in zip(nodes, e):
+            if not np.isfinite(bound):
+                continue
+            members = tree.load[n : tree.end[n]]
+            members = members[members >= 0]
+            a, b = tree.far(np.array([n]), pts[:, 0], pts[:, 1], pts[:, 2])
+            ez, et = S.stress_sums(loads.subset(members), pts, tolerance=0)
+            err = max(np.abs(a - ez).max(), np.abs(b - et).max())
+            assert err <= bound * (1 + 1e-9) + 1e-12  # 1e-12 kPa: rounding of the sums
+            worst = max(worst, err / bound)
+    assert worst > 1e-4  # the bound is not absurdly loose
+
+
+@pytest.mark.parametrize("thresholds", [(None,), (0.0, 3.0, None), (6.5, 7.5, None)])
+def test_columns_within_the_bound_for_every_threshold_rule(monkeypatch, thresholds):
+    # vertical columns of points (many depths at one plan position, the usual
+    # layout) over a mixed plan; whichever acceptance rule a block ends up with
+    # (the fallback e ≤ τ0·F, or thresholds so coarse that most blocks fail and
+    # are retried) every point stays within tolerance · max|q| of the exact sum
+    monkeypatch.setattr(S, "_THRESHOLDS", thresholds)
+    rng = np.random.default_rng(5)
+    loads = S.Loads.concat(
+        grid_plan(9, 8, spacing=6.0, seed=5),
+        S.Loads.circles(rng.uniform(0, 40, 4), rng.uniform(0, 40, 4), 1.4, 180.0, 1.1),
+        S.Loads.polygons([[(0, -10), (8, -10), (4, -6)]], -80.0, 0.8),
+    )
+    xy = rng.uniform(-8, 50, (150, 2))
+    z = np.linspace(0.5, 30.0, 24)
+    pts = np.column_stack([np.repeat(xy, len(z), axis=0), np.tile(z, len(xy))])
+    tol = 1e-3
+    fast = S.stress_sums(loads, pts, tolerance=tol)
+    exact = S.stress_sums(loads, pts, tolerance=0)
+    allowed = tol * np.abs(loads.pressure).max()
+    assert np.abs(fast[0] - exact[0]).max() <= allowed
+    assert np.abs(fast[1] - exact[1]).max() <= allowed
+    # the far field was used (else the test would not test it)
+    assert np.abs(fast[0] - exact[0]).max() > 0
