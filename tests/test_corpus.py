@@ -19,7 +19,6 @@ import sys
 import tomllib
 
 import pytest
-
 from sitesettle_cli.main import main
 
 CORPUS = pathlib.Path(__file__).resolve().parent / "corpus"

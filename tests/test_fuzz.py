@@ -22,10 +22,10 @@ import numpy as np
 import pytest
 from hypothesis import HealthCheck, event, given, settings
 from hypothesis import strategies as st
+from sitesettle_cli.main import main
 
 import sitesettle
 from sitesettle.errors import InputError, InputWarning
-from sitesettle_cli.main import main
 
 STARTER = pathlib.Path(sitesettle.__file__).resolve().parent / "templates" / "starter"
 BASE = {p.name: p.read_text(encoding="utf-8") for p in STARTER.iterdir() if p.is_file()}
@@ -44,8 +44,11 @@ PLAN = {
                 "coordinates": [[[x, y], [x + 2, y], [x + 2, y + 2], [x, y + 2], [x, y]]],
             },
         }
-        for fid, x, y, load in (("P1", 0.0, 0.0, 500.0), ("P2", 6.0, 0.0, 600.0),
-                                ("P3", 0.0, 6.0, 450.0))
+        for fid, x, y, load in (
+            ("P1", 0.0, 0.0, 500.0),
+            ("P2", 6.0, 0.0, 600.0),
+            ("P3", 0.0, 6.0, 450.0),
+        )
     ],
 }
 GIS_BASE = {
@@ -54,10 +57,48 @@ GIS_BASE = {
     "plan.geojson": json.dumps(PLAN),
 }
 
-UNITS = ["", "m", "mm", "ft", "kN", "kip", "kPa", "MPa", "ksf", "kN/m^3", "pcf", "yr",
-         "month", "m^2/yr", "deg", "%", "kg", "blorg", "m/s"]
-SPECIAL = ["nan", "inf", "-inf", "-1", "0", "1e300", "-0", "1e-300", "", " ", "true",
-           "none", "from soundings", "1/500", "\u00e9", "\x00", '"', "1,5", "#x"]
+UNITS = [
+    "",
+    "m",
+    "mm",
+    "ft",
+    "kN",
+    "kip",
+    "kPa",
+    "MPa",
+    "ksf",
+    "kN/m^3",
+    "pcf",
+    "yr",
+    "month",
+    "m^2/yr",
+    "deg",
+    "%",
+    "kg",
+    "blorg",
+    "m/s",
+]
+SPECIAL = [
+    "nan",
+    "inf",
+    "-inf",
+    "-1",
+    "0",
+    "1e300",
+    "-0",
+    "1e-300",
+    "",
+    " ",
+    "true",
+    "none",
+    "from soundings",
+    "1/500",
+    "\u00e9",
+    "\x00",
+    '"',
+    "1,5",
+    "#x",
+]
 
 finite = st.floats(-1e6, 1e6, allow_nan=False)
 cell = st.one_of(
@@ -120,11 +161,13 @@ def toml_edit(draw, files: dict[str, str]) -> None:
         del lines[i]  # delete a key
     else:
         key = _KEY.match(lines[i]).group(1)
-        value = draw(st.one_of(
-            cell.map(json.dumps),  # any text as a TOML string
-            finite.map(lambda v: repr(float(v))),
-            st.sampled_from(["nan", "inf", "-inf", "0", "-1", "true", "[]", '["1 yr"]', "{}"]),
-        ))
+        value = draw(
+            st.one_of(
+                cell.map(json.dumps),  # any text as a TOML string
+                finite.map(lambda v: repr(float(v))),
+                st.sampled_from(["nan", "inf", "-inf", "0", "-1", "true", "[]", '["1 yr"]', "{}"]),
+            )
+        )
         lines[i] = f"{key} = {value}"
     files["site.toml"] = "\n".join(lines) + "\n"
 
@@ -181,8 +224,9 @@ def _load(folder):
         return sitesettle.load_site(folder)
 
 
-FUZZ = settings(deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture,
-                                                     HealthCheck.too_slow])
+FUZZ = settings(
+    deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow]
+)
 
 
 @settings(FUZZ, max_examples=150)

@@ -40,19 +40,33 @@ def pad(fid, x, y, width, length=None, depth=1.0, load=None, live=0.0, rigid=Fal
         ]
     )
     load = 150.0 * width * length if load is None else load
-    return Footing(fid, outline, "rectangle", x, y, width, length, 0.0, depth, load, live,
-                   0.0, rigid, 20.0)
+    return Footing(
+        fid, outline, "rectangle", x, y, width, length, 0.0, depth, load, live, 0.0, rigid, 20.0
+    )
 
 
-SAND = Stratum("sand", Behaviour.GRANULAR, unit_weight=18.0, saturated_unit_weight=20.0,
-               poisson=0.3, youngs_modulus=30000.0)
+SAND = Stratum(
+    "sand",
+    Behaviour.GRANULAR,
+    unit_weight=18.0,
+    saturated_unit_weight=20.0,
+    poisson=0.3,
+    youngs_modulus=30000.0,
+)
 ROCK = Stratum("rock", Behaviour.RIGID, unit_weight=22.0, saturated_unit_weight=22.0)
 
 
 def clay(**kw):
-    base = dict(unit_weight=18.0, saturated_unit_weight=19.0, compression_index=0.3,
-                recompression_index=0.05, void_ratio=1.0, consolidation_coefficient=2.0,
-                ocr=2.0, undrained_modulus=10000.0)
+    base = dict(
+        unit_weight=18.0,
+        saturated_unit_weight=19.0,
+        compression_index=0.3,
+        recompression_index=0.05,
+        void_ratio=1.0,
+        consolidation_coefficient=2.0,
+        ocr=2.0,
+        undrained_modulus=10000.0,
+    )
     base.update(kw)
     return Stratum("clay", Behaviour.COHESIVE, **base)
 
@@ -60,8 +74,14 @@ def clay(**kw):
 def site_of(footings, strata, boreholes, **settings):
     base = dict(report_times=(0.1, 1.0, 10.0), design_life=10.0)
     base.update(settings)
-    return Site("robust", tuple(footings), tuple(strata), tuple(boreholes), water_depth=2.0,
-                analysis=AnalysisSettings(**base))
+    return Site(
+        "robust",
+        tuple(footings),
+        tuple(strata),
+        tuple(boreholes),
+        water_depth=2.0,
+        analysis=AnalysisSettings(**base),
+    )
 
 
 def layered(strata, thicknesses, x=0.0, y=0.0, bid="BH"):
@@ -74,8 +94,15 @@ def layered(strata, thicknesses, x=0.0, y=0.0, bid="BH"):
 
 def assert_meaningful(results):
     """Finite settlements of every part; every pair decided; no NaN in the written tables."""
-    for name in ("immediate", "consolidation", "secondary", "total", "tilt", "net_pressure",
-                 "influence_depth"):
+    for name in (
+        "immediate",
+        "consolidation",
+        "secondary",
+        "total",
+        "tilt",
+        "net_pressure",
+        "influence_depth",
+    ):
         value = np.asarray(getattr(results, name), dtype=float)
         assert np.all(np.isfinite(value)), name
     assert np.all(results.total >= -1e-12)  # a load never lifts its own footing here
@@ -136,8 +163,9 @@ def test_superposed_stress_of_tiny_and_huge_footings_is_finite(size):
     # m = n = 0.5: 0.0840; 2e-3 covers the table's 3 decimals); the same at any scale.
     loads = stress.Loads.rectangles([0.0], [0.0], [size], [size], [0.0], [Q], [0.0])
     eps = 1e-9 * size
-    pts = np.array([[0.0, 0.0, eps], [size / 2, size / 2, eps], [0.0, 0.0, size],
-                    [size / 2, 0.0, eps]])
+    pts = np.array(
+        [[0.0, 0.0, eps], [size / 2, size / 2, eps], [0.0, 0.0, size], [size / 2, 0.0, eps]]
+    )
     s = stress.vertical_stress(loads, pts, tolerance=0.0)
     assert np.all(np.isfinite(s))
     np.testing.assert_allclose(s[[0, 1, 3]], [Q, Q / 4, Q / 2], rtol=1e-6)
@@ -163,9 +191,12 @@ def test_coincident_loads_just_add():
     one = stress.Loads.rectangles([3.0], [1.0], [2.0], [3.0], [30.0], [Q], [0.5])
     two = stress.Loads.concat(one, one)
     pts = np.array([[3.0, 1.0, 0.5], [4.0, 1.5, 0.5], [3.0, 1.0, 2.5], [9.0, 9.0, 4.0]])
-    np.testing.assert_allclose(stress.vertical_stress(two, pts, tolerance=0.0),
-                               2 * stress.vertical_stress(one, pts, tolerance=0.0),
-                               rtol=1e-12, atol=1e-12)
+    np.testing.assert_allclose(
+        stress.vertical_stress(two, pts, tolerance=0.0),
+        2 * stress.vertical_stress(one, pts, tolerance=0.0),
+        rtol=1e-12,
+        atol=1e-12,
+    )
 
 
 def test_the_reader_refuses_coincident_footings():
@@ -206,8 +237,12 @@ def test_clay_present_at_one_borehole_only():
     bh1 = layered([SAND, cl, ROCK], [3.0, 4.0, 5.0], 0.0, 0.0, "BH1")
     bh2 = layered([SAND, ROCK], [7.0, 5.0], 20.0, 0.0, "BH2")
     bh3 = layered([SAND, ROCK], [7.0, 5.0], 10.0, 15.0, "BH3")
-    fs = [pad("A", 1.0, 1.0, 2.0), pad("B", 10.0, 5.0, 2.0), pad("C", 17.0, 2.0, 2.0),
-          pad("D", 10.0, 20.0, 2.0)]
+    fs = [
+        pad("A", 1.0, 1.0, 2.0),
+        pad("B", 10.0, 5.0, 2.0),
+        pad("C", 17.0, 2.0, 2.0),
+        pad("D", 10.0, 20.0, 2.0),
+    ]
     site = site_of(fs, [SAND, cl, ROCK], [bh1, bh2, bh3])
     r = analyse(site, with_map=False)
     assert_meaningful(r)
@@ -222,10 +257,14 @@ EXTREMES = {
     "heavily overconsolidated clay (OCR 10)": dict(clay=dict(ocr=10.0)),
     "tiny cv": dict(clay=dict(consolidation_coefficient=1e-4)),
     "huge cv": dict(clay=dict(consolidation_coefficient=1e4)),
-    "very stiff clay": dict(clay=dict(compression_index=1e-3, recompression_index=1e-4,
-                                      undrained_modulus=1e6)),
-    "very soft clay": dict(clay=dict(compression_index=2.0, recompression_index=0.4,
-                                     void_ratio=4.0, undrained_modulus=500.0)),
+    "very stiff clay": dict(
+        clay=dict(compression_index=1e-3, recompression_index=1e-4, undrained_modulus=1e6)
+    ),
+    "very soft clay": dict(
+        clay=dict(
+            compression_index=2.0, recompression_index=0.4, void_ratio=4.0, undrained_modulus=500.0
+        )
+    ),
     "secondary compression": dict(clay=dict(secondary_index=0.05)),
 }
 
@@ -233,8 +272,14 @@ EXTREMES = {
 @pytest.mark.parametrize("case", list(EXTREMES), ids=list(EXTREMES))
 def test_extreme_but_valid_parameters(case):
     kw = EXTREMES[case]
-    sand = Stratum("sand", Behaviour.GRANULAR, unit_weight=18.0, saturated_unit_weight=20.0,
-                   poisson=0.3, **{"youngs_modulus": 30000.0, **kw.get("sand", {})})
+    sand = Stratum(
+        "sand",
+        Behaviour.GRANULAR,
+        unit_weight=18.0,
+        saturated_unit_weight=20.0,
+        poisson=0.3,
+        **{"youngs_modulus": 30000.0, **kw.get("sand", {})},
+    )
     cl = clay(**kw.get("clay", {}))
     fs = [pad("A", 0.0, 0.0, 2.0), pad("B", 5.0, 0.0, 2.5), pad("C", 0.0, 5.0, 1.5)]
     site = site_of(fs, [sand, cl, ROCK], [layered([sand, cl, ROCK], [4.0, 6.0, 5.0])])
@@ -249,8 +294,9 @@ def test_map_over_awkward_plan_is_finite():
     # The settlement map includes points exactly on footing edges and corners (grid
     # lines through them): every value finite.
     fs = [pad("A", 0.0, 0.0, 2.0), pad("B", 4.0, 0.0, 2.0)]
-    site = site_of(fs, [SAND, ROCK], [layered([SAND, ROCK], [20.0, 5.0])],
-                   map_spacing=1.0, map_margin=1.0)
+    site = site_of(
+        fs, [SAND, ROCK], [layered([SAND, ROCK], [20.0, 5.0])], map_spacing=1.0, map_margin=1.0
+    )
     r = analyse(site)
     assert r.map is not None and np.all(np.isfinite(r.map.settlement))
     assert_meaningful(r)
@@ -261,8 +307,9 @@ def test_map_over_awkward_plan_is_finite():
     reason="mapping.default_grid chooses the spacing from the plan alone, so a wide "
     "map_margin (1000 m round a 30 m plan: 4000 × 4000 lines at 0.5 m) or a tiny "
     "map_spacing (1 mm) gives 1.6e7 to 9e8 map points; analyse() then takes far too "
-    "long (the starter with map_margin = 200 m, ~7e5 points, did not finish in 100 s). The number of "
-    "points should be bounded (coarser spacing or an InputError naming the key)",
+    "long (the starter with map_margin = 200 m, ~7e5 points, did not finish in "
+    "100 s). The number of points should be bounded (coarser spacing or an InputError "
+    "naming the key)",
     strict=True,
 )
 @pytest.mark.parametrize("spacing, margin", [(0.0, 1000.0), (1e-3, 5.0)])

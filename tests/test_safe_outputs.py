@@ -19,17 +19,18 @@ import sys
 import time
 
 import pytest
+from sitesettle_cli.main import main
 
 import sitesettle
-from sitesettle_cli.main import main
 
 STARTER = pathlib.Path(sitesettle.__file__).resolve().parent / "templates" / "starter"
 COMPARED = ("footings.csv", "pairs.csv", "settlement_time.csv", "summary.json")
 
 
 def _snapshot(folder: pathlib.Path) -> dict[str, bytes]:
-    return {str(p.relative_to(folder)): p.read_bytes() for p in sorted(folder.rglob("*"))
-            if p.is_file()}
+    return {
+        str(p.relative_to(folder)): p.read_bytes() for p in sorted(folder.rglob("*")) if p.is_file()
+    }
 
 
 def _leftovers(parent: pathlib.Path) -> list[str]:
@@ -58,8 +59,9 @@ def test_second_run_gives_byte_identical_tables(first_run, tmp_path, capsys):
         assert len(a) > 50, name  # a real table, not an empty file
 
 
-def test_a_run_that_fails_while_writing_keeps_the_old_results(first_run, tmp_path, monkeypatch,
-                                                              capsys):
+def test_a_run_that_fails_while_writing_keeps_the_old_results(
+    first_run, tmp_path, monkeypatch, capsys
+):
     project = tmp_path / "project"
     shutil.copytree(first_run, project)
     (project / "results" / "marker.txt").write_text("from the earlier run\n")

@@ -19,10 +19,10 @@ import re
 import warnings
 
 import pytest
+from sitesettle_cli.main import main
 from test_report_browser import _parse, _run_chromium
 
 import sitesettle
-from sitesettle_cli.main import main
 
 STARTER = pathlib.Path(sitesettle.__file__).resolve().parent / "templates" / "starter"
 SCRIPT = "<script>alert(1)</script>"

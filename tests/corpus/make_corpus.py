@@ -94,222 +94,378 @@ def footing_geojson(folder, name, polygons, crs="EPSG:32633", ids=None):
 
 
 # ------------------------------------------------------------------ site.toml
-@case("toml_syntax", "an unclosed string in site.toml", "site.toml",
-      r"not valid TOML.*line \d+", "key = value")
+@case(
+    "toml_syntax",
+    "an unclosed string in site.toml",
+    "site.toml",
+    r"not valid TOML.*line \d+",
+    "key = value",
+)
 def _(d):
     toml_sub(d, 'client = "Example client"', 'client = "Example client')
 
 
-@case("toml_unknown_table", "the table [analyses] instead of [analysis]", "site.toml, [analyses]",
-      r'unknown table.*did you mean "analysis"', "one of the tables")
+@case(
+    "toml_unknown_table",
+    "the table [analyses] instead of [analysis]",
+    "site.toml, [analyses]",
+    r'unknown table.*did you mean "analysis"',
+    "one of the tables",
+)
 def _(d):
     toml_sub(d, "[analysis]", "[analyses]")
 
 
-@case("toml_misspelt_key", "design_life spelt desing_life", "site.toml [analysis], key 'desing_life'",
-      r'unknown key; did you mean "design_life"', "one of")
+@case(
+    "toml_misspelt_key",
+    "design_life spelt desing_life",
+    "site.toml [analysis], key 'desing_life'",
+    r'unknown key; did you mean "design_life"',
+    "one of",
+)
 def _(d):
     toml_sub(d, 'design_life = "50 yr"', 'desing_life = "50 yr"')
 
 
-@case("toml_unknown_key", "an unknown key in [footings]", "site.toml [footings], key 'colour'",
-      r"unknown key", "one of file")
+@case(
+    "toml_unknown_key",
+    "an unknown key in [footings]",
+    "site.toml [footings], key 'colour'",
+    r"unknown key",
+    "one of file",
+)
 def _(d):
     toml_sub(d, 'file = "footings.csv"', 'file = "footings.csv"\ncolour = "red"')
 
 
-@case("toml_strata_misspelt_key", "youngs_modulus spelt young_modulus in a stratum",
-      "young_modulus", r'unknown key.*did you mean "youngs_modulus"', "")
+@case(
+    "toml_strata_misspelt_key",
+    "youngs_modulus spelt young_modulus in a stratum",
+    "young_modulus",
+    r'unknown key.*did you mean "youngs_modulus"',
+    "",
+)
 def _(d):
     toml_sub(d, 'youngs_modulus = "8 MPa"', 'young_modulus = "8 MPa"')
 
 
-@case("unit_wrong_dimension", "a water depth given as a mass", "[groundwater], key 'depth'",
-      r"mass", "length")
+@case(
+    "unit_wrong_dimension",
+    "a water depth given as a mass",
+    "[groundwater], key 'depth'",
+    r"mass",
+    "length",
+)
 def _(d):
     toml_sub(d, 'depth = "2.5 m"                    # site-wide', 'depth = "2.5 kg"  # site-wide')
 
 
-@case("unit_unknown", "a design life in an unknown unit", "key 'design_life'",
-      r"unit", "time")
+@case("unit_unknown", "a design life in an unknown unit", "key 'design_life'", r"unit", "time")
 def _(d):
     toml_sub(d, 'design_life = "50 yr"', 'design_life = "50 blorgs"')
 
 
-@case("unit_modulus_as_length", "a Young's modulus given as a length",
-      "youngs_modulus", r"length", "pressure")
+@case(
+    "unit_modulus_as_length",
+    "a Young's modulus given as a length",
+    "youngs_modulus",
+    r"length",
+    "pressure",
+)
 def _(d):
     toml_sub(d, 'youngs_modulus = "8 MPa"', 'youngs_modulus = "8 m"')
 
 
-@case("suspicious_modulus", "a bare modulus of 25 (kPa): valid but very soft, check the unit",
-      "youngs_modulus", r"25", "", warning=True)
+@case(
+    "suspicious_modulus",
+    "a bare modulus of 25 (kPa): valid but very soft, check the unit",
+    "youngs_modulus",
+    r"25",
+    "",
+    warning=True,
+)
 def _(d):
     toml_sub(d, 'youngs_modulus = "8 MPa"', "youngs_modulus = 25")
     toml_sub(d, 'map_spacing = "0 m"', 'map_spacing = "3 m"')  # a coarse map: a quick run
 
 
-@case("toml_negative_design_life", "a negative design life", "key 'design_life'",
-      r"out of range", "> 0")
+@case(
+    "toml_negative_design_life",
+    "a negative design life",
+    "key 'design_life'",
+    r"out of range",
+    "> 0",
+)
 def _(d):
     toml_sub(d, 'design_life = "50 yr"', 'design_life = "-5 yr"')
 
 
-@case("toml_zero_sublayer", "a sublayer fraction of zero", "key 'sublayer_fraction'",
-      r"out of range", "> 0")
+@case(
+    "toml_zero_sublayer",
+    "a sublayer fraction of zero",
+    "key 'sublayer_fraction'",
+    r"out of range",
+    "> 0",
+)
 def _(d):
     toml_sub(d, "sublayer_fraction = 0.1", "sublayer_fraction = 0")
 
 
-@case("toml_nan_influence", "an influence fraction of NaN", "key 'influence_fraction'",
-      r"nan|not a finite|out of range", "")
+@case(
+    "toml_nan_influence",
+    "an influence fraction of NaN",
+    "key 'influence_fraction'",
+    r"nan|not a finite|out of range",
+    "",
+)
 def _(d):
     toml_sub(d, "influence_fraction = 0.1", "influence_fraction = nan")
 
 
-@case("toml_inf_margin", "an infinite map margin", "key 'map_margin'",
-      r"inf|finite|out of range", "")
+@case(
+    "toml_inf_margin", "an infinite map margin", "key 'map_margin'", r"inf|finite|out of range", ""
+)
 def _(d):
     toml_sub(d, 'map_margin = "5 m"', "map_margin = inf")
 
 
-@case("toml_negative_groundwater", "a negative site-wide water depth", "[groundwater], key 'depth'",
-      r"negative|above ground|out of range", "")
+@case(
+    "toml_negative_groundwater",
+    "a negative site-wide water depth",
+    "[groundwater], key 'depth'",
+    r"negative|above ground|out of range",
+    "",
+)
 def _(d):
     toml_sub(d, 'depth = "2.5 m"                    # site-wide', 'depth = "-2.5 m"  # site-wide')
 
 
-@case("toml_bad_fraction", "a sustained live fraction above 1", "sustained_live_fraction",
-      r"1\.5", "0")
+@case(
+    "toml_bad_fraction",
+    "a sustained live fraction above 1",
+    "sustained_live_fraction",
+    r"1\.5",
+    "0",
+)
 def _(d):
     toml_sub(d, "sustained_live_fraction = 0.3", "sustained_live_fraction = 1.5")
 
 
-@case("toml_unknown_measure", "an override of an unknown measure", "overrides key 'totl'",
-      r'unknown measure; did you mean "total"', "one of")
+@case(
+    "toml_unknown_measure",
+    "an override of an unknown measure",
+    "overrides key 'totl'",
+    r'unknown measure; did you mean "total"',
+    "one of",
+)
 def _(d):
     toml_sub(d, '# total = "40 mm"', 'totl = "40 mm"')
 
 
-@case("toml_missing_footings_file", "the referenced footings file does not exist",
-      "[footings], key 'file'", r'"pads.csv" does not exist', "a path relative")
+@case(
+    "toml_missing_footings_file",
+    "the referenced footings file does not exist",
+    "[footings], key 'file'",
+    r'"pads.csv" does not exist',
+    "a path relative",
+)
 def _(d):
     toml_sub(d, 'file = "footings.csv"', 'file = "pads.csv"')
 
 
 # ------------------------------------------------------------------ strata
-@case("strata_poisson_half", "a Poisson ratio of 0.5", "poisson_ratio",
-      r"0\.5", "0.5|< ?0\\.5|ν")
+@case("strata_poisson_half", "a Poisson ratio of 0.5", "poisson_ratio", r"0\.5", "0.5|< ?0\\.5|ν")
 def _(d):
     toml_sub(d, "poisson_ratio = 0.35", "poisson_ratio = 0.5")
 
 
-@case("strata_negative_cc", "a negative compression index", "compression_index",
-      r"-0\.25|negative|not positive", "")
+@case(
+    "strata_negative_cc",
+    "a negative compression index",
+    "compression_index",
+    r"-0\.25|negative|not positive",
+    "",
+)
 def _(d):
     toml_sub(d, "compression_index = 0.25", "compression_index = -0.25")
 
 
-@case("strata_rigid_not_last", "a rigid stratum above another one", "rigid",
-      r"rigid", "last")
+@case("strata_rigid_not_last", "a rigid stratum above another one", "rigid", r"rigid", "last")
 def _(d):
-    toml_sub(d, 'behaviour = "granular"\nunit_weight = "18 kN/m^3"',
-             'behaviour = "rigid"\nunit_weight = "18 kN/m^3"')
+    toml_sub(
+        d,
+        'behaviour = "granular"\nunit_weight = "18 kN/m^3"',
+        'behaviour = "rigid"\nunit_weight = "18 kN/m^3"',
+    )
 
 
-@case("strata_duplicate_name", "two strata with the same name", "sand",
-      r"twice|again|duplicate|unique|more than once", "")
+@case(
+    "strata_duplicate_name",
+    "two strata with the same name",
+    "sand",
+    r"twice|again|duplicate|unique|more than once",
+    "",
+)
 def _(d):
     toml_sub(d, 'name = "clay"', 'name = "sand"')
 
 
-@case("strata_missing_void_ratio", "a cohesive stratum without its void ratio", "void_ratio",
-      r"missing|required|needs", "")
+@case(
+    "strata_missing_void_ratio",
+    "a cohesive stratum without its void ratio",
+    "void_ratio",
+    r"missing|required|needs",
+    "",
+)
 def _(d):
     toml_sub(d, "void_ratio = 0.85                  # initial void ratio e0\n", "")
 
 
 # ------------------------------------------------------------------ footings.csv
-@case("footing_negative_width", "a negative width", 'footings.csv row 5, column "width [m]"',
-      r"not positive", "width > 0")
+@case(
+    "footing_negative_width",
+    "a negative width",
+    'footings.csv row 5, column "width [m]"',
+    r"not positive",
+    "width > 0",
+)
 def _(d):
     sub(d, "footings.csv", "C2,rectangle,6,0,2.2,", "C2,rectangle,6,0,-2.2,")
 
 
-@case("footing_zero_length", "a zero length", 'footings.csv row 6, column "length [m]"',
-      r"not positive", "length > 0")
+@case(
+    "footing_zero_length",
+    "a zero length",
+    'footings.csv row 6, column "length [m]"',
+    r"not positive",
+    "length > 0",
+)
 def _(d):
     sub(d, "footings.csv", "C3,rectangle,0,7,1.8,1.8,", "C3,rectangle,0,7,1.8,0,")
 
 
-@case("footing_nan_load", "a dead load of NaN", 'footings.csv row 4, column "dead_load [kN]"',
-      r"nan|finite|not positive", "")
+@case(
+    "footing_nan_load",
+    "a dead load of NaN",
+    'footings.csv row 4, column "dead_load [kN]"',
+    r"nan|finite|not positive",
+    "",
+)
 def _(d):
     sub(d, "footings.csv", "1.0,420,140", "1.0,nan,140")
 
 
-@case("footing_inf_x", "an infinite x", 'footings.csv row 7, column "x [m]"',
-      r"inf|finite", "")
+@case("footing_inf_x", "an infinite x", 'footings.csv row 7, column "x [m]"', r"inf|finite", "")
 def _(d):
     sub(d, "footings.csv", "C4,rectangle,6,7,", "C4,rectangle,inf,7,")
 
 
-@case("footing_negative_live", "a negative live load", 'footings.csv row 8, column "live_load [kN]"',
-      r"negative", "")
+@case(
+    "footing_negative_live",
+    "a negative live load",
+    'footings.csv row 8, column "live_load [kN]"',
+    r"negative",
+    "",
+)
 def _(d):
     sub(d, "footings.csv", "1400,400", "1400,-400")
 
 
-@case("footing_negative_depth", "a negative base depth", 'footings.csv row 9, column "depth [m]"',
-      r"negative|above ground", "")
+@case(
+    "footing_negative_depth",
+    "a negative base depth",
+    'footings.csv row 9, column "depth [m]"',
+    r"negative|above ground",
+    "",
+)
 def _(d):
     sub(d, "footings.csv", "3.0,,,0.6,", "3.0,,,-0.6,")
 
 
-@case("footing_cell_wrong_unit", "a width given as a mass", 'footings.csv row 4, column "width [m]"',
-      r"mass", "length")
+@case(
+    "footing_cell_wrong_unit",
+    "a width given as a mass",
+    'footings.csv row 4, column "width [m]"',
+    r"mass",
+    "length",
+)
 def _(d):
     sub(d, "footings.csv", "C1,rectangle,0,0,1.8,", "C1,rectangle,0,0,3 kg,")
 
 
-@case("footing_header_unknown_unit", "an unknown unit in a header",
-      'footings.csv column "width [furlongz]"', r"unit", "")
+@case(
+    "footing_header_unknown_unit",
+    "an unknown unit in a header",
+    'footings.csv column "width [furlongz]"',
+    r"unit",
+    "",
+)
 def _(d):
     sub(d, "footings.csv", "width [m]", "width [furlongz]")
 
 
-@case("footing_text_in_number", "text where a number is expected",
-      'footings.csv row 5, column "y [m]"', r"cannot read|not a number|abc", "")
+@case(
+    "footing_text_in_number",
+    "text where a number is expected",
+    'footings.csv row 5, column "y [m]"',
+    r"cannot read|not a number|abc",
+    "",
+)
 def _(d):
     sub(d, "footings.csv", "C2,rectangle,6,0,", "C2,rectangle,6,abc,")
 
 
-@case("footing_missing_column", "the dead load column is missing", "footings.csv",
-      r'"dead_load".*missing', "dead load")
+@case(
+    "footing_missing_column",
+    "the dead load column is missing",
+    "footings.csv",
+    r'"dead_load".*missing',
+    "dead load",
+)
 def _(d):
     drop_column(d, "footings.csv", "dead_load [kN]")
 
 
-@case("footing_misspelt_column", "width spelt widht", 'footings.csv column "widht [m]"',
-      r'unknown column; did you mean "width"', "one of")
+@case(
+    "footing_misspelt_column",
+    "width spelt widht",
+    'footings.csv column "widht [m]"',
+    r'unknown column; did you mean "width"',
+    "one of",
+)
 def _(d):
     sub(d, "footings.csv", "width [m]", "widht [m]")
 
 
-@case("footing_duplicate_id", "two footings with the id C1", "footings.csv row 6",
-      r'"C1" is used again \(first at row 4\)', "unique id")
+@case(
+    "footing_duplicate_id",
+    "two footings with the id C1",
+    "footings.csv row 6",
+    r'"C1" is used again \(first at row 4\)',
+    "unique id",
+)
 def _(d):
     sub(d, "footings.csv", "C3,rectangle,0,7,", "C1,rectangle,0,7,")
 
 
-@case("footing_overlap", "C2 moved onto C1", "footings.csv row 5",
-      r'"C2" overlaps footing "C1" \(row 4\)', "do not overlap")
+@case(
+    "footing_overlap",
+    "C2 moved onto C1",
+    "footings.csv row 5",
+    r'"C2" overlaps footing "C1" \(row 4\)',
+    "do not overlap",
+)
 def _(d):
     sub(d, "footings.csv", "C2,rectangle,6,0,", "C2,rectangle,1,0.5,")
 
 
-@case("footing_coincident", "two footings at the same place", "footings.csv row 10",
-      r'"C1b" overlaps footing "C1" \(row 4\)', "do not overlap")
+@case(
+    "footing_coincident",
+    "two footings at the same place",
+    "footings.csv row 10",
+    r'"C1b" overlaps footing "C1" \(row 4\)',
+    "do not overlap",
+)
 def _(d):
     with (d / "footings.csv").open("a", encoding="utf-8") as fh:
         fh.write("C1b,rectangle,0,0,1.8,1.8,0,1.0,420,140,true\n")
@@ -320,30 +476,50 @@ def _(d):
     (d / "footings.csv").write_text("", encoding="utf-8")
 
 
-@case("footing_header_only", "a footings file with a header and no rows", "footings.csv",
-      r"no footings", "at least one")
+@case(
+    "footing_header_only",
+    "a footings file with a header and no rows",
+    "footings.csv",
+    r"no footings",
+    "at least one",
+)
 def _(d):
     (d / "footings.csv").write_text(
         "id,shape,x [m],y [m],width [m],length [m],depth [m],dead_load [kN]\n", encoding="utf-8"
     )
 
 
-@case("footing_not_utf8", "a footings file saved as Latin-1", "footings.csv line 9",
-      r"not UTF-8", "UTF-8")
+@case(
+    "footing_not_utf8",
+    "a footings file saved as Latin-1",
+    "footings.csv line 9",
+    r"not UTF-8",
+    "UTF-8",
+)
 def _(d):
     path = d / "footings.csv"
     text = path.read_text(encoding="utf-8").replace("T1,circle", "Té1,circle")
     path.write_bytes(text.encode("latin-1"))
 
 
-@case("footing_extra_cells", "a row with more cells than the header", "footings.csv row 5",
-      r"cells but the header has", "one cell per column")
+@case(
+    "footing_extra_cells",
+    "a row with more cells than the header",
+    "footings.csv row 5",
+    r"cells but the header has",
+    "one cell per column",
+)
 def _(d):
     sub(d, "footings.csv", "650,230,true", "650,230,true,extra")
 
 
-@case("footing_duplicate_across_files", "the same id in two footing files", "extra.csv",
-      r'"C1" is also used in footings.csv', "")
+@case(
+    "footing_duplicate_across_files",
+    "the same id in two footing files",
+    "extra.csv",
+    r'"C1" is also used in footings.csv',
+    "",
+)
 def _(d):
     toml_sub(d, 'file = "footings.csv"', 'file = ["footings.csv", "extra.csv"]')
     (d / "extra.csv").write_text(
@@ -352,14 +528,24 @@ def _(d):
     )
 
 
-@case("footing_far_coordinate", "a coordinate of 1e300 m (the area of a 1.8 m pad is lost)",
-      'footings.csv row 4, column "x [m]"', r"beyond", "plan coordinates in metres")
+@case(
+    "footing_far_coordinate",
+    "a coordinate of 1e300 m (the area of a 1.8 m pad is lost)",
+    'footings.csv row 4, column "x [m]"',
+    r"beyond",
+    "plan coordinates in metres",
+)
 def _(d):
     sub(d, "footings.csv", "C1,rectangle,0,0,", "C1,rectangle,1e300,0,")
 
 
-@case("bh_far_coordinate", "a borehole 1e12 m away (a unit or column mix-up)",
-      'boreholes.csv row 7, column "y [m]"', r"beyond", "plan coordinates in metres")
+@case(
+    "bh_far_coordinate",
+    "a borehole 1e12 m away (a unit or column mix-up)",
+    'boreholes.csv row 7, column "y [m]"',
+    r"beyond",
+    "plan coordinates in metres",
+)
 def _(d):
     sub(d, "boreholes.csv", "BH2,24,2,", "BH2,24,1e12,", count=4)
 
@@ -379,30 +565,50 @@ def _box(x, y, b=2.0):
     return box(x, y, x + b, y + b)
 
 
-@case("gis_self_intersecting", "a bow-tie polygon", "plan.geojson feature 2",
-      r"invalid.*(Self-intersection|self)", "edges do not cross")
+@case(
+    "gis_self_intersecting",
+    "a bow-tie polygon",
+    "plan.geojson feature 2",
+    r"invalid.*(Self-intersection|self)",
+    "edges do not cross",
+)
 def _(d):
     from shapely.geometry import Polygon
 
     _gis(d, [_box(0, 0), Polygon([(6, 0), (8, 2), (8, 0), (6, 2)])])
 
 
-@case("gis_multi_part", "a feature of two polygons", "plan.geojson feature 1",
-      r"2 parts", "one polygon per footing")
+@case(
+    "gis_multi_part",
+    "a feature of two polygons",
+    "plan.geojson feature 1",
+    r"2 parts",
+    "one polygon per footing",
+)
 def _(d):
     from shapely.geometry import MultiPolygon
 
     _gis(d, [MultiPolygon([_box(0, 0), _box(5, 0)]), _box(0, 6)])
 
 
-@case("gis_empty_geometry", "a feature without a geometry", "plan.geojson feature 2",
-      r"empty", "polygon")
+@case(
+    "gis_empty_geometry",
+    "a feature without a geometry",
+    "plan.geojson feature 2",
+    r"empty",
+    "polygon",
+)
 def _(d):
     _gis(d, [_box(0, 0), None])
 
 
-@case("gis_degenerate", "a polygon without area (all corners on a line)", "plan.geojson feature 1",
-      r"no area|invalid", "")
+@case(
+    "gis_degenerate",
+    "a polygon without area (all corners on a line)",
+    "plan.geojson feature 1",
+    r"no area|invalid",
+    "",
+)
 def _(d):
     from shapely.geometry import Polygon
 
@@ -423,20 +629,35 @@ def _(d):
     _gis(d, [Point(1, 1), _box(0, 6)])
 
 
-@case("gis_overlap", "two overlapping polygons", "plan.geojson feature 2",
-      r'overlaps footing "G1"', "do not overlap")
+@case(
+    "gis_overlap",
+    "two overlapping polygons",
+    "plan.geojson feature 2",
+    r'overlaps footing "G1"',
+    "do not overlap",
+)
 def _(d):
     _gis(d, [_box(0, 0), _box(1, 1)])
 
 
-@case("gis_latlon", "a GIS file in latitude/longitude", "plan.geojson",
-      r"degree", "projected system in metres")
+@case(
+    "gis_latlon",
+    "a GIS file in latitude/longitude",
+    "plan.geojson",
+    r"degree",
+    "projected system in metres",
+)
 def _(d):
     _gis(d, [_box(0, 0, 0.0001)], crs="EPSG:4326")
 
 
-@case("gis_folder", "the footings file is a folder without GIS data", "plan:",
-      r"no geometry|not a file|cannot read", "")
+@case(
+    "gis_folder",
+    "the footings file is a folder without GIS data",
+    "plan:",
+    r"no geometry|not a file|cannot read",
+    "",
+)
 def _(d):
     (d / "plan").mkdir()
     (d / "plan" / "README.txt").write_text("not a footing plan\n", encoding="utf-8")
@@ -444,114 +665,204 @@ def _(d):
     toml_sub(d, 'file = "footings.csv"', 'file = "plan"')
 
 
-@case("gis_crs_vs_project", "[project] crs differs from the GIS file's", "[project], key 'crs'",
-      r"EPSG:32634 differs from the coordinate system of plan.geojson", "the same coordinate")
+@case(
+    "gis_crs_vs_project",
+    "[project] crs differs from the GIS file's",
+    "[project], key 'crs'",
+    r"EPSG:32634 differs from the coordinate system of plan.geojson",
+    "the same coordinate",
+)
 def _(d):
     _gis(d, [_box(0, 0)], toml_crs="EPSG:32634")
 
 
-@case("gis_crs_between_files", "two GIS footing files in different coordinate systems",
-      "raft_b.geojson", r"differs from the coordinate system of raft_b.geojson", "same coordinate")
+@case(
+    "gis_crs_between_files",
+    "two GIS footing files in different coordinate systems",
+    "raft_b.geojson",
+    r"differs from the coordinate system of raft_b.geojson",
+    "same coordinate",
+)
 def _(d):
     footing_geojson(d, "raft_a.geojson", [_box(20, 8)], crs="EPSG:32633", ids=["RA"])
     footing_geojson(d, "raft_b.geojson", [_box(20, 12)], crs="EPSG:32634", ids=["RB"])
-    toml_sub(d, 'file = "footings.csv"',
-             'file = ["footings.csv", "raft_a.geojson", "raft_b.geojson"]')
+    toml_sub(
+        d, 'file = "footings.csv"', 'file = ["footings.csv", "raft_a.geojson", "raft_b.geojson"]'
+    )
 
 
 # ------------------------------------------------------------------ boreholes
-@case("bh_unknown_stratum", "a stratum not in [[strata]]", 'boreholes.csv row 4, column "stratum"',
-      r'unknown stratum "snad"; did you mean "sand"', "")
+@case(
+    "bh_unknown_stratum",
+    "a stratum not in [[strata]]",
+    'boreholes.csv row 4, column "stratum"',
+    r'unknown stratum "snad"; did you mean "sand"',
+    "",
+)
 def _(d):
     sub(d, "boreholes.csv", "BH1,-3,-3,sand,", "BH1,-3,-3,snad,")
 
 
-@case("bh_out_of_order", "clay logged above sand", 'boreholes.csv',
-      r'"sand" lies below "clay"|order', "")
+@case(
+    "bh_out_of_order",
+    "clay logged above sand",
+    "boreholes.csv",
+    r'"sand" lies below "clay"|order',
+    "",
+)
 def _(d):
-    sub(d, "boreholes.csv",
+    sub(
+        d,
+        "boreholes.csv",
         "BH2,24,2,sand,0.8,7.2,,22\nBH2,24,2,clay,7.2,11.4,,",
-        "BH2,24,2,clay,0.8,7.2,,\nBH2,24,2,sand,7.2,11.4,,22")
+        "BH2,24,2,clay,0.8,7.2,,\nBH2,24,2,sand,7.2,11.4,,22",
+    )
 
 
-@case("bh_gap", "a gap between two intervals", 'boreholes.csv row 5, column "top [m]"',
-      r"gap from 6 to 6.5 m", "")
+@case(
+    "bh_gap",
+    "a gap between two intervals",
+    'boreholes.csv row 5, column "top [m]"',
+    r"gap from 6 to 6.5 m",
+    "",
+)
 def _(d):
     sub(d, "boreholes.csv", "BH1,-3,-3,clay,6.0,", "BH1,-3,-3,clay,6.5,")
 
 
-@case("bh_overlap", "two intervals that overlap", 'boreholes.csv row 9, column "top [m]"',
-      r"overlaps", "")
+@case(
+    "bh_overlap",
+    "two intervals that overlap",
+    'boreholes.csv row 9, column "top [m]"',
+    r"overlaps",
+    "",
+)
 def _(d):
     sub(d, "boreholes.csv", "BH2,24,2,clay,7.2,", "BH2,24,2,clay,6.5,")
 
 
-@case("bh_bottom_above_top", "an interval whose bottom is above its top",
-      'boreholes.csv row 11, column "bottom [m]"', r"not below the top", "")
+@case(
+    "bh_bottom_above_top",
+    "an interval whose bottom is above its top",
+    'boreholes.csv row 11, column "bottom [m]"',
+    r"not below the top",
+    "",
+)
 def _(d):
     sub(d, "boreholes.csv", "BH3,-2,13,made ground,0,1.5,", "BH3,-2,13,made ground,0,-1.5,")
 
 
-@case("bh_not_from_surface", "a borehole whose first interval starts at 0.5 m",
-      'boreholes.csv row 11, column "top [m]"', r'"BH3" starts at 0.5 m', "")
+@case(
+    "bh_not_from_surface",
+    "a borehole whose first interval starts at 0.5 m",
+    'boreholes.csv row 11, column "top [m]"',
+    r'"BH3" starts at 0.5 m',
+    "",
+)
 def _(d):
     sub(d, "boreholes.csv", "BH3,-2,13,made ground,0,", "BH3,-2,13,made ground,0.5,")
 
 
-@case("bh_missing_column", "the stratum column is missing", "boreholes.csv",
-      r'"stratum" is missing', "")
+@case(
+    "bh_missing_column",
+    "the stratum column is missing",
+    "boreholes.csv",
+    r'"stratum" is missing',
+    "",
+)
 def _(d):
     drop_column(d, "boreholes.csv", "stratum")
 
 
-@case("bh_two_positions", "a borehole with two positions", 'boreholes.csv row 4, column "x [m]"',
-      r"BH1.*-3.*-2|x = ", "")
+@case(
+    "bh_two_positions",
+    "a borehole with two positions",
+    'boreholes.csv row 4, column "x [m]"',
+    r"BH1.*-3.*-2|x = ",
+    "",
+)
 def _(d):
     sub(d, "boreholes.csv", "BH1,-3,-3,sand,", "BH1,-2,-3,sand,")
 
 
-@case("bh_missing_file", "the boreholes file does not exist", "[boreholes], key 'file'",
-      r'"bh.csv" does not exist', "")
+@case(
+    "bh_missing_file",
+    "the boreholes file does not exist",
+    "[boreholes], key 'file'",
+    r'"bh.csv" does not exist',
+    "",
+)
 def _(d):
     toml_sub(d, 'file = "boreholes.csv"', 'file = "bh.csv"')
     (d / "boreholes.csv").unlink()
 
 
 # ------------------------------------------------------------------ soundings
-@case("cpt_depth_not_increasing", "a sounding whose depth goes back up",
-      'soundings.csv row 8, column "depth [m]"', r"does not increase", "")
+@case(
+    "cpt_depth_not_increasing",
+    "a sounding whose depth goes back up",
+    'soundings.csv row 8, column "depth [m]"',
+    r"does not increase",
+    "",
+)
 def _(d):
     sub(d, "soundings.csv", "CPT1,3,3.5,1.2,8.65", "CPT1,3,3.5,0.9,8.65")
 
 
-@case("cpt_negative_qc", "a negative cone resistance", 'soundings.csv row 4, column "qc [MPa]"',
-      r"not positive", "")
+@case(
+    "cpt_negative_qc",
+    "a negative cone resistance",
+    'soundings.csv row 4, column "qc [MPa]"',
+    r"not positive",
+    "",
+)
 def _(d):
     sub(d, "soundings.csv", "CPT1,3,3.5,0.4,2.70", "CPT1,3,3.5,0.4,-2.70")
 
 
 # ------------------------------------------------------------------ results folder
-@case("out_is_a_file", "the results path is an existing file", "results",
-      r"existing file, not a folder", "")
+@case(
+    "out_is_a_file",
+    "the results path is an existing file",
+    "results",
+    r"existing file, not a folder",
+    "",
+)
 def _(d):
     (d / "results").write_text("a file where the results folder should go\n", encoding="utf-8")
 
 
-@case("out_parent_is_a_file", "the results path lies below a regular file", "blocker",
-      r"is a file, not a folder", "", args=["--out", "{case}/blocker/results"])
+@case(
+    "out_parent_is_a_file",
+    "the results path lies below a regular file",
+    "blocker",
+    r"is a file, not a folder",
+    "",
+    args=["--out", "{case}/blocker/results"],
+)
 def _(d):
     (d / "blocker").write_text("a regular file\n", encoding="utf-8")
 
 
-@case("out_foreign_folder", "the results path is a folder that sitesettle did not write",
-      "results", r"not written by\s+sitesettle", "")
+@case(
+    "out_foreign_folder",
+    "the results path is a folder that sitesettle did not write",
+    "results",
+    r"not written by\s+sitesettle",
+    "",
+)
 def _(d):
     (d / "results").mkdir()
     (d / "results" / "thesis.txt").write_text("someone's own work\n", encoding="utf-8")
 
 
-@case("out_kept_on_bad_input", "an input error with an earlier results folder in place",
-      "site.toml", r"not valid TOML", "")
+@case(
+    "out_kept_on_bad_input",
+    "an input error with an earlier results folder in place",
+    "site.toml",
+    r"not valid TOML",
+    "",
+)
 def _(d):
     toml_sub(d, "[analysis]", "[analysis")
     (d / "results").mkdir()
