@@ -37,6 +37,11 @@ FAMILIES = {
 }
 
 
+#: the installed console script when it sits beside this interpreter, else the module
+_SCRIPT = pathlib.Path(sys.executable).with_name("sitesettle")
+_COMMAND = [str(_SCRIPT)] if _SCRIPT.is_file() else [sys.executable, "-m", "sitesettle_cli.main"]
+
+
 def _spec(name: str) -> dict:
     return tomllib.loads((CORPUS / name / "case.toml").read_text(encoding="utf-8"))
 
@@ -103,12 +108,12 @@ def test_broken_project_is_refused_and_nothing_is_written(name, tmp_path, capsys
 
 @pytest.mark.parametrize("name", ["toml_syntax", "gis_self_intersecting"])
 def test_broken_project_through_the_real_command(name, tmp_path):
-    """The installed entry point in a fresh interpreter: no traceback reaches stderr."""
+    """The installed console script in a fresh process: no traceback reaches stderr."""
     spec = _spec(name)
     folder, args = _copy(name, tmp_path)
     before = _snapshot(tmp_path)
     run = subprocess.run(
-        [sys.executable, "-m", "sitesettle_cli.main", "check", str(folder), *args],
+        [*_COMMAND, "check", str(folder), *args],
         capture_output=True,
         text=True,
         timeout=120,
