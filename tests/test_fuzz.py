@@ -4,10 +4,11 @@ Each example starts from a valid project (the starter, or a variant with a GeoJS
 plan) and applies a few random edits: a CSV cell replaced by random text, a number,
 a number with a unit or a special value (nan, inf, huge, negative); a row dropped or
 duplicated; a coordinate nudged; a site.toml key deleted or its value replaced; a
-vertex of a GIS polygon moved. The reader must then either return a Site or raise
-the project's own InputError, and the command must exit 0, 1 or 2 (2 with one
-"error:" line) — never any other exception. InputWarning is allowed; any other
-warning is an error (pytest runs with warnings as errors).
+vertex of a GIS polygon moved; a file deleted, emptied or made not UTF-8. The reader
+must then either return a Site or raise the project's own InputError, and the
+command must exit 0, 1 or 2 (2 with one "error:" line) — never any other exception.
+InputWarning is allowed; any other warning is an error (pytest runs with warnings as
+errors).
 """
 
 from __future__ import annotations
@@ -192,17 +193,35 @@ def gis_edit(draw, files: dict[str, str]) -> None:
 
 
 @st.composite
+def file_edit(draw, files: dict) -> None:
+    """Delete a file, empty it, or make it not UTF-8 (a Latin-1 byte in it)."""
+    name = draw(st.sampled_from(sorted(files)))
+    kind = draw(st.sampled_from(["delete", "empty", "latin-1"]))
+    if kind == "delete":
+        del files[name]
+    elif kind == "empty":
+        files[name] = ""
+    else:
+        text = files[name] if isinstance(files[name], str) else ""
+        k = draw(st.integers(0, len(text)))
+        files[name] = (text[:k] + "\u00e9" + text[k:]).encode("latin-1", "replace")
+
+
+@st.composite
 def mutated_project(draw) -> dict[str, str]:
     gis = draw(st.booleans())
     files = dict(GIS_BASE if gis else BASE)
     for _ in range(draw(st.integers(1, 3))):
-        choice = draw(st.sampled_from(["csv", "csv", "toml"] + (["gis", "gis"] if gis else [])))
+        kinds = ["csv", "csv", "toml"] + (["gis", "gis"] if gis else [])
+        choice = draw(st.sampled_from(kinds))
         if choice == "csv":
             draw(csv_edit(files))
         elif choice == "toml":
             draw(toml_edit(files))
         else:
             draw(gis_edit(files))
+    if draw(st.integers(0, 7)) == 0:  # now and then, a whole file goes wrong (last edit)
+        draw(file_edit(files))
     return files
 
 
@@ -213,7 +232,8 @@ def _write(files: dict[str, str], folder: pathlib.Path) -> pathlib.Path:
         shutil.rmtree(folder)
     folder.mkdir(parents=True)
     for name, text in files.items():
-        (folder / name).write_bytes(text.encode("utf-8", "surrogatepass"))
+        data = text if isinstance(text, bytes) else text.encode("utf-8", "surrogatepass")
+        (folder / name).write_bytes(data)
     return folder
 
 
@@ -266,7 +286,9 @@ def test_analysis_of_whatever_loads_is_finite(files, tmp_path):
 @settings(FUZZ, max_examples=10)
 @given(files=mutated_project())
 def test_command_exits_0_1_or_2_with_one_message(files, tmp_path, capsys):
-    files["site.toml"] = files["site.toml"].replace('map_spacing = "0 m"', 'map_spacing = "4 m"')
+    if isinstance(files.get("site.toml"), str):
+        quick = files["site.toml"].replace('map_spacing = "0 m"', 'map_spacing = "4 m"')
+        files["site.toml"] = quick
     folder = _write(files, tmp_path / "p")
     rc = main(["check", str(folder), "--quiet"])
     out, err = capsys.readouterr()
