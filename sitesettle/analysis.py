@@ -636,7 +636,7 @@ def analyse(
     smap = None
     if with_map:
         say("settlement map", 0.9)
-        smap = settlement_map(site, ground, results, loads_full, loads_sust)
+        smap = settlement_map(site, ground, results, loads_full, loads_sust, warnings)
     chk = None
     if with_checks:
         chk = checks_mod.check_movements(
@@ -649,7 +649,7 @@ def analyse(
             design_life_index=i_life,
         )
     say("done", 1.0)
-    return Results(**{**results.__dict__, "map": smap, "checks": chk})
+    return Results(**{**results.__dict__, "map": smap, "checks": chk, "warnings": tuple(warnings)})
 
 
 def _drainage_paths(
@@ -796,7 +796,12 @@ def _traces(
 
 
 def settlement_map(
-    site: Site, ground: Ground, results: Results, loads_full: stress.Loads, loads_sust: stress.Loads
+    site: Site,
+    ground: Ground,
+    results: Results,
+    loads_full: stress.Loads,
+    loads_sust: stress.Loads,
+    notes: list[str] | None = None,
 ) -> SettlementMap:
     """Ground-surface settlement at the design life on a regular grid over the plan.
 
@@ -812,7 +817,13 @@ def settlement_map(
     from sitesettle.mapping import default_grid
 
     st = site.analysis
+    notes = [] if notes is None else notes
     gx, gy = default_grid(site.footings, st.map_spacing, st.map_margin)
+    if st.map_spacing > 0 and len(gx) > 1 and gx[1] - gx[0] > st.map_spacing * (1 + 1e-9):
+        notes.append(
+            f"settlement map: spacing {st.map_spacing:g} m coarsened to {gx[1] - gx[0]:g} m "
+            "to keep the grid within its size limit"
+        )
     X, Y = np.meshgrid(gx, gy)
     z_top = min(f.depth for f in site.footings)
     z_bot = float(np.max(results.influence_depth))

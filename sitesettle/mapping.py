@@ -25,6 +25,9 @@ NICE_STEPS: tuple[float, ...] = (1.0, 2.0, 2.5, 5.0)
 GRID_EXTENT_FRACTION = 1.0 / 60.0
 #: the automatic map spacing is never finer than this [m]
 GRID_MIN_SPACING = 0.5
+#: at most this many grid lines along each axis: a wider map gets a coarser spacing
+#: (a design choice bounding the map's cost at 250 × 250 points)
+GRID_MAX_LINES = 250
 
 
 def nice_step(value: float, *, up: bool = True) -> float:
@@ -171,6 +174,9 @@ def default_grid(
     margin : float, optional
         Distance beyond the outermost footing edges [m].
 
+    A spacing that would give more than :data:`GRID_MAX_LINES` lines along an
+    axis is coarsened to the next round number that does not.
+
     Returns
     -------
     x, y : numpy.ndarray
@@ -191,6 +197,9 @@ def default_grid(
         extent = max(xmax - xmin, ymax - ymin, 1e-9)
         spacing = max(nice_step(extent * GRID_EXTENT_FRACTION, up=False), GRID_MIN_SPACING)
     margin = max(float(margin), 0.0)
+    widest = max(xmax - xmin, ymax - ymin) + 2.0 * margin
+    if widest / spacing + 2 > GRID_MAX_LINES:
+        spacing = nice_step(widest / (GRID_MAX_LINES - 3), up=True)
 
     def lines(lo: float, hi: float) -> np.ndarray:
         i0 = math.floor((lo - margin) / spacing + 1e-9)
