@@ -94,12 +94,14 @@ def main(quick=False, tolerance=1e-3):
     # 2. the plan
     if quick:
         pts = pts[rng.choice(len(pts), 60_000, replace=False)]
+    stress._STATS = counts = {}
     tracemalloc.start()
     t = time.perf_counter()
     sz, tt = stress.stress_sums(loads, pts, tolerance=tolerance)
     wall = time.perf_counter() - t
     _, peak = tracemalloc.get_traced_memory()
     tracemalloc.stop()
+    stress._STATS = None
     rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
     check = rng.choice(len(pts), 3000, replace=False)
     ez, et = stress.stress_sums(loads, pts[check], tolerance=0)
@@ -109,6 +111,10 @@ def main(quick=False, tolerance=1e-3):
         ("plan: wall time [s]", f"{wall:.2f}"),
         ("plan: peak traced memory [MB]", f"{peak / 2**20:.0f}"),
         ("process max RSS [MB]", f"{rss:.0f}"),
+        (
+            "per point: multipole clusters, exact loads",
+            f"{counts.get('far', 0) / len(pts):.0f}, {counts.get('exact', 0) / len(pts):.0f}",
+        ),
         ("max |σz − exact| [kPa] (3,000 points)", f"{np.abs(sz[check] - ez).max():.2e}"),
         ("max |T − exact| [kPa]", f"{np.abs(tt[check] - et).max():.2e}"),
         (f"allowed: {tolerance:g} · max q [kPa]", f"{tolerance * qmax:.3f}"),

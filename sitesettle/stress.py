@@ -20,18 +20,19 @@ themselves take ``w`` and return the surface limit at ``w = 0`` (q inside,
 q/2 on an edge, 0 outside).
 
 Performance (benchmarks/stress_bench.py, shared 2-core machine with another
-job using one core): exact evaluation runs at about 9 million rectangle-point
-pairs and 2.5 million hexagon-point pairs per second. The 2,000-footing plan at
-600,000 points (20,000 columns of 30 depths) takes 84 s with the default
-tolerance (peak traced memory 300 MB, RSS 385 MB), with a measured error of
-2e-3 kPa (σz) and 4e-3 kPa (T) against the allowed 0.3 kPa; the previous
-treecode (blocks of 256 points, ~9 × 9 × 7 m) took 147 s re-measured here
-(116 s by its author). Per point about 500 multipole clusters and 20 exact loads are
-evaluated (before: 340 and 390): column blocks make the bound's plan gap exact
-and leave few exact loads, but the rigorous bound, about 10 to 100 times the
-real error of a pair, still asks for many small clusters, and T (which decays
-more slowly than σz) sets the bound in two pairs out of three. The far field
-is about 60 % of the time, the bound's traversal 20 %, building the tree 1 s.
+job using one core, so figures vary by ±25 %): exact evaluation runs at about
+9 million rectangle-point pairs and 2.5 million hexagon-point pairs per second.
+The 2,000-footing plan at 600,000 points (20,000 columns of 30 depths) takes
+64 s with the default tolerance (peak traced memory 300 MB, RSS 390 MB), with a
+measured error of 2e-3 kPa (σz) and 4e-3 kPa (T) against the allowed 0.3 kPa;
+the previous treecode (blocks of 256 points, ~9 × 9 × 7 m) took 147 s
+re-measured here (116 s by its author). Per point 364 multipole clusters and 19
+exact loads are evaluated (before: about 340 and 390): column blocks make the
+bound's plan gap exact and leave few exact loads, but the rigorous bound, 10 to
+100 times the real error of a pair, still asks for many small clusters, and T
+(which decays more slowly than σz) sets the bound in two pairs out of three.
+The far field is about 60 % of the time, the bound's traversal 20 %, building
+the tree 0.5 s.
 
 References
 ----------
@@ -1041,6 +1042,14 @@ def _bound_coefficients(n):
 _BOUND = {n: _bound_coefficients(n) for n in (3, 4)}
 
 
+#: powers 0…4 and the binomial tensor B[m, k, j] = C(m, k) if j = m − k, for M_m
+_POW5 = np.arange(5)
+_BINOM5 = np.zeros((5, 5, 5))
+for _m in range(5):
+    for _k in range(_m + 1):
+        _BINOM5[_m, _k, _m - _k] = math.comb(_m, _k)
+
+
 def _third_moment_norm(q, area, h, inert):
     """Σ_abc |O_abc| of the third-moment tensor O = Σ q ∫ (s − C)⊗3 dA of a cluster.
 
@@ -1134,17 +1143,9 @@ class _Tree:
                         (qa * h[:, 2] ** 2).sum(),
                     ]
                 ),
-                M=np.array(
-                    [
-                        (
-                            np.abs(q[members])
-                            * sum(
-                                math.comb(m, k) * d ** (m - k) * mu[members, k]
-                                for k in range(m + 1)
-                            )
-                        ).sum()
-                        for m in range(5)
-                    ]
+                # M_m = Σ|q| Σ_k C(m, k) d^(m−k) μ_k (binomial expansion, see stress_sums)
+                M=np.einsum(
+                    "i,ij,ik,mkj->m", np.abs(q[members]), d[:, None] ** _POW5, mu[members], _BINOM5
                 ),
                 rho=float(np.max(d + reach[members])),
                 lo=np.array(
@@ -1598,11 +1599,19 @@ _BATCH_POINTS = 1 << 16
 #: in 42 %, 76 %, 99 % of the blocks, with 5 % more clusters per step.
 _THRESHOLDS = (6.5, 7.5, None)
 #: elements per chunk of the (points × pairs) evaluation loops (processor cache)
-_PAIR_CHUNK = 1 << 12
+_PAIR_CHUNK = 1 << 13
+
+
+#: when set to a dict, the treecode adds its counts to it (points, multipole
+#: cluster × point and exact load × point evaluations, traversal pairs); for
+#: benchmarks
+_STATS: dict | None = None
 
 
 def _treecode(loads, active, p, eps, stats=None):
     """(σz, T) at points p by the treecode with total bound ε (see stress_sums)."""
+    if stats is None:
+        stats = _STATS
     tree = _Tree(loads, active)
     ld = loads
     t = np.radians(ld.rotation)
