@@ -70,12 +70,24 @@ def registry():
 _NUMBER = re.compile(r"^[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?$")
 
 
+#: names of common dimensions that are never valid input, for clearer messages
+_OTHER = {
+    "[mass]": "a mass",
+    "[length] / [time]": "a speed",
+    "[temperature]": "a temperature",
+    "[mass] / [length] ** 3": "a density",
+    "[length] ** 3": "a volume",
+}
+
+
 def _describe(q) -> str:
     dims = q.dimensionality
+    if dims == registry()("dimensionless").dimensionality:
+        return "a plain number (or an angle)"  # angles are dimensionless in pint
     for name, (unit, _) in DIMENSIONS.items():
         if dims == registry()(unit).dimensionality:
             return _NAMES[name]
-    return f"of dimension {dims}"
+    return _OTHER.get(str(dims), f"of dimension {dims}")
 
 
 def parse(value: object, dimension: str, where: str) -> float:

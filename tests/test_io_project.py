@@ -638,8 +638,9 @@ def test_strata_as_a_single_table_is_an_error(tmp_path):
 
 # --------------------------------------------------------------------------- several footing files
 def _raft(path, crs="EPSG:32633", poly=None):
-    gpd.GeoDataFrame({"id": ["R1"], "dead_load": [3000.0]},
-                     geometry=[poly or box(20, -2, 26, 3)], crs=crs).to_file(path, driver="GPKG")
+    gpd.GeoDataFrame(
+        {"id": ["R1"], "dead_load": [3000.0]}, geometry=[poly or box(20, -2, 26, 3)], crs=crs
+    ).to_file(path, driver="GPKG")
 
 
 def test_footings_from_a_csv_and_a_gis_file(tmp_path):
@@ -655,29 +656,69 @@ def test_footings_from_a_csv_and_a_gis_file(tmp_path):
 
 def test_duplicate_id_across_footing_files_names_both(tmp_path):
     folder = write_project(tmp_path / "p")
-    gpd.GeoDataFrame({"id": ["A"], "dead_load": [3000.0]}, geometry=[box(20, -2, 26, 3)],
-                     crs="EPSG:32633").to_file(folder / "raft.gpkg", driver="GPKG")
-    (folder / "site.toml").write_text(SITE.replace('file = "footings.csv"',
-                                                   'file = ["footings.csv", "raft.gpkg"]'))
-    with pytest.raises(InputError, match=r'raft.gpkg: the footing id "A" is also used in footings.csv'):
+    gpd.GeoDataFrame(
+        {"id": ["A"], "dead_load": [3000.0]}, geometry=[box(20, -2, 26, 3)], crs="EPSG:32633"
+    ).to_file(folder / "raft.gpkg", driver="GPKG")
+    (folder / "site.toml").write_text(
+        SITE.replace('file = "footings.csv"', 'file = ["footings.csv", "raft.gpkg"]')
+    )
+    with pytest.raises(
+        InputError, match=r'raft.gpkg: the footing id "A" is also used in footings.csv'
+    ):
         load_site(folder)
 
 
 def test_overlap_across_footing_files(tmp_path):
     folder = write_project(tmp_path / "p")
     _raft(folder / "raft.gpkg", poly=box(5, -1, 9, 1))  # over footing B at (6, 0)
-    (folder / "site.toml").write_text(SITE.replace('file = "footings.csv"',
-                                                   'file = ["footings.csv", "raft.gpkg"]'))
-    with pytest.raises(InputError, match=r'raft.gpkg: footing "R1" overlaps footing "B" of footings.csv'):
+    (folder / "site.toml").write_text(
+        SITE.replace('file = "footings.csv"', 'file = ["footings.csv", "raft.gpkg"]')
+    )
+    with pytest.raises(
+        InputError, match=r'raft.gpkg: footing "R1" overlaps footing "B" of footings.csv'
+    ):
         load_site(folder)
 
 
 def test_crs_mismatch_between_footing_files(tmp_path):
     folder = write_project(tmp_path / "p")
     _raft(folder / "a.gpkg", crs="EPSG:32633", poly=box(20, -2, 26, 3))
-    gpd.GeoDataFrame({"id": ["R2"], "dead_load": [3000.0]}, geometry=[box(40, -2, 46, 3)],
-                     crs="EPSG:32632").to_file(folder / "b.gpkg", driver="GPKG")
-    (folder / "site.toml").write_text(SITE.replace('file = "footings.csv"',
-                                                   'file = ["footings.csv", "a.gpkg", "b.gpkg"]'))
+    gpd.GeoDataFrame(
+        {"id": ["R2"], "dead_load": [3000.0]}, geometry=[box(40, -2, 46, 3)], crs="EPSG:32632"
+    ).to_file(folder / "b.gpkg", driver="GPKG")
+    (folder / "site.toml").write_text(
+        SITE.replace('file = "footings.csv"', 'file = ["footings.csv", "a.gpkg", "b.gpkg"]')
+    )
     with pytest.raises(InputError, match=r"b.gpkg: .*differs from the coordinate system"):
         load_site(folder)
+
+
+def test_absurd_footing_pressure_is_an_error_naming_the_row(tmp_path):
+    # 1e300 kN would overflow the analysis; no shallow footing carries 100 MPa (fact of the trade)
+    folder = write_project(
+        tmp_path / "p", {"footings.csv": "id,x,y,width,dead_load\nA,0,0,2,1e300\n"}
+    )
+    with pytest.raises(
+        InputError, match=r'footings.csv row 2, column "dead_load".*kPa on its base'
+    ):
+        load_site(folder)
+
+
+@pytest.mark.parametrize("key, value", [("name", "{ a = 1 }"), ("crs", "32633")])
+def test_project_text_keys_must_be_text(tmp_path, key, value):
+    toml = SITE.replace(
+        'name = "Test yard"',
+        f"{key} = {value}" if key == "name" else f'name = "Test yard"\n{key} = {value}',
+    )
+    folder = write_project(tmp_path / "p", {"site.toml": toml})
+    with pytest.raises(InputError, match=rf"\[project\], key '{key}'.* is not text"):
+        load_site(folder)
+
+
+def test_wrong_dimension_messages_name_the_dimension():
+    from sitesettle.units import parse
+
+    with pytest.raises(InputError, match=r'"3 kg" is a mass; expected a length'):
+        parse("3 kg", "length", "x")
+    with pytest.raises(InputError, match=r'"0.3" is a plain number|"30 %" is a plain number'):
+        parse("30 %", "length", "x")

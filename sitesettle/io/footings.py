@@ -49,6 +49,8 @@ ALIASES: dict[str, str] = {
 }
 #: gross service pressure outside this range is suspicious [kPa] (common practice:
 #: shallow footings of buildings carry roughly 50–500 kPa)
+#: a base pressure above this is not a shallow footing's service load (an input error) [kPa]
+MAX_PRESSURE = 1e5
 PRESSURE_RANGE = (10.0, 1500.0)
 #: GIS file suffixes read with geopandas
 GIS_SUFFIXES = (".gpkg", ".geojson", ".json", ".shp", ".fgb", ".gml", ".kml", ".zip")
@@ -135,6 +137,12 @@ def _attributes(table: Table, row: Row, shape: dict, defaults: FootingDefaults) 
         )
     rigid = table.flag(row, "rigid", defaults.rigid)
     pressure = (dead + live) / area
+    if pressure > MAX_PRESSURE:
+        raise InputError(
+            table.where(row, "dead_load" if table.has(row, "dead_load") else "dead_pressure"),
+            f"footing {fid!r} would carry {pressure:.3g} kPa on its base",
+            f"service loads that give less than {MAX_PRESSURE:g} kPa (check the unit of the loads)",
+        )
     if not PRESSURE_RANGE[0] <= pressure <= PRESSURE_RANGE[1]:
         warnings.warn(
             f"{where}: footing {fid!r} carries {pressure:.0f} kPa under service load, "
@@ -318,4 +326,6 @@ def read_footings(
         )
     if len(frame) == 0:
         raise InputError(path.name, "the file has no footings", "at least one polygon feature")
+    if getattr(frame, "crs", None) is not None:  # degrees or feet: refuse before reading sizes
+        geometry.check_metric_crs(geometry.crs_text(frame.crs), path.name)
     return parse_footings_frame(frame, path.name, defaults)

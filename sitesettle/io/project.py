@@ -352,8 +352,11 @@ def _read_footing_files(folder: pathlib.Path, ftable: dict, where: str, crs, sou
     names = ftable.get("file")
     if isinstance(names, list):
         if not names or not all(isinstance(n, str) for n in names):
-            raise InputError(f"{where}, key 'file'", "an empty or malformed list of files",
-                             'file = "footings.csv" or file = ["pads.csv", "rafts.gpkg"]')
+            raise InputError(
+                f"{where}, key 'file'",
+                "an empty or malformed list of files",
+                'file = "footings.csv" or file = ["pads.csv", "rafts.gpkg"]',
+            )
     else:
         names = [names] if names is not None else []
     if not names:
@@ -375,16 +378,24 @@ def _read_footing_files(folder: pathlib.Path, ftable: dict, where: str, crs, sou
             crs = file_crs
         for f in found:
             if f.id in origin:
-                raise InputError(fpath.name, f'the footing id "{f.id}" is also used in {origin[f.id]}',
-                                 "a unique id for each footing across the footing files")
+                raise InputError(
+                    fpath.name,
+                    f'the footing id "{f.id}" is also used in {origin[f.id]}',
+                    "a unique id for each footing across the footing files",
+                )
             origin[f.id] = fpath.name
         if everything:
-            for i, j, common in geometry.find_overlaps([f.outline for f in everything + list(found)]):
+            for i, j, common in geometry.find_overlaps(
+                [f.outline for f in everything + list(found)]
+            ):
                 if i < len(everything) <= j:
                     other = found[j - len(everything)]
-                    raise InputError(fpath.name, f'footing "{other.id}" overlaps footing '
-                                     f'"{everything[i].id}" of {origin[everything[i].id]} by {common:.3g} m²',
-                                     "footings that do not overlap (merge a combined footing into one)")
+                    raise InputError(
+                        fpath.name,
+                        f'footing "{other.id}" overlaps footing '
+                        f'"{everything[i].id}" of {origin[everything[i].id]} by {common:.3g} m²',
+                        "footings that do not overlap (merge a combined footing into one)",
+                    )
         everything.extend(found)
     return tuple(everything), crs
 
@@ -412,6 +423,13 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
     """The :class:`Site` from parsed site.toml data; reads the files it names from ``folder``."""
     folder = pathlib.Path(folder)
     project = config.get("project", {})
+    for k in ("name", "client", "job_number", "engineer", "notes", "crs"):
+        if k in project and not isinstance(project[k], str):
+            raise InputError(
+                f"{source} [project], key '{k}'",
+                f"{project[k]!r} is not text",
+                f'text in quotes, e.g. {k} = "..."',
+            )
     info = {
         k: str(project[k]) for k in ("client", "job_number", "engineer", "notes") if k in project
     }
