@@ -722,3 +722,11 @@ def test_wrong_dimension_messages_name_the_dimension():
         parse("3 kg", "length", "x")
     with pytest.raises(InputError, match=r'"0.3" is a plain number|"30 %" is a plain number'):
         parse("30 %", "length", "x")
+
+
+def test_checked_after_must_precede_the_design_life(tmp_path):
+    toml = SITE + '\n[analysis]\ndesign_life = "50 yr"\n\n[checks]\nchecked_after = "80 yr"\n'
+    folder = write_project(tmp_path / "p", {"site.toml": toml})
+    msg = r"site.toml \[checks\], key 'checked_after': 80 yr is not before"
+    with pytest.raises(InputError, match=msg):
+        load_site(folder)

@@ -465,6 +465,13 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
     strata = parse_strata(config.get("strata"), source)
     analysis = parse_analysis(config.get("analysis", {}), f"{source} [analysis]")
     checks = parse_checks(config.get("checks", {}), f"{source} [checks]")
+    if checks.checked_after >= analysis.design_life:
+        raise InputError(
+            f"{source} [checks], key 'checked_after'",
+            f"{checks.checked_after:g} yr is not before the design life "
+            f"({analysis.design_life:g} yr)",
+            "a time before the design life (the movement after it is what is checked)",
+        )
 
     ftable = config.get("footings", {})
     footings, crs = _read_footing_files(folder, ftable, f"{source} [footings]", crs, source)
