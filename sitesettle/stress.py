@@ -1050,6 +1050,36 @@ for _m in range(5):
         _BINOM5[_m, _k, _m - _k] = math.comb(_m, _k)
 
 
+def _cluster_moments(aq, mu, h, inert, reach, sym):
+    """Upper bounds of M_k = Σ|q|∫|s − C|^k dA, k = 0…4, for one cluster.
+
+    ``aq`` |q| of the members, ``mu`` their moments μ0…μ4 about their own
+    centroids (exact or upper bounds), ``h`` the centroid offsets c_i − C (3-D),
+    ``inert`` the plan second-moment tensors, ``reach`` the largest |t| on a load.
+    Two bounds are combined by taking the smaller: the binomial expansion of
+    |s − C| ≤ |t| + |h| (t = s − c_i), and, with |s − C|² = |t|² + 2t·h + |h|²
+    and ∫t dA = 0, the exact M2 = Σ|q|(μ2 + A|h|²) and
+    M4 = Σ|q|(μ4 + 2|h|²μ2 + 4hᵀIh + A|h|⁴ + 4∫|t|²(t·h)), whose last term
+    vanishes for centrally symmetric loads and is at most 4|h|·reach·μ2
+    otherwise; then M1 ≤ √(M0 M2) and M3 ≤ √(M2 M4) (Cauchy–Schwarz for the
+    measure |q| dA).
+    """
+    d2 = (h * h).sum(axis=1)
+    d = np.sqrt(d2)
+    binom = np.einsum("i,ij,ik,mkj->m", aq, d[:, None] ** _POW5, mu, _BINOM5)
+    area, mu2, mu4 = mu[:, 0], mu[:, 2], mu[:, 4]
+    hih = np.einsum("ia,iab,ib->i", h, inert, h)
+    odd = np.where(sym, 0.0, 4.0 * d * reach * mu2)
+    m0 = binom[0]
+    m2 = (aq * (mu2 + area * d2)).sum()
+    m4 = (aq * (mu4 + 2.0 * d2 * mu2 + 4.0 * hih + area * d2 * d2 + odd)).sum()
+    m4 = min(m4, binom[4])
+    m2 = min(m2, binom[2])
+    return np.array(
+        [m0, min(math.sqrt(m0 * m2), binom[1]), m2, min(math.sqrt(m2 * m4), binom[3]), m4]
+    )
+
+
 def _third_moment_norm(q, area, h, inert):
     """Σ_abc |O_abc| of the third-moment tensor O = Σ q ∫ (s − C)⊗3 dA of a cluster.
 
@@ -1143,9 +1173,8 @@ class _Tree:
                         (qa * h[:, 2] ** 2).sum(),
                     ]
                 ),
-                # M_m = Σ|q| Σ_k C(m, k) d^(m−k) μ_k (binomial expansion, see stress_sums)
-                M=np.einsum(
-                    "i,ij,ik,mkj->m", np.abs(q[members]), d[:, None] ** _POW5, mu[members], _BINOM5
+                M=_cluster_moments(
+                    np.abs(q[members]), mu[members], h, inert[members], reach[members], sym[members]
                 ),
                 rho=float(np.max(d + reach[members])),
                 lo=np.array(
@@ -1550,17 +1579,26 @@ def _blockwise(fn, pb, pn, starts, counts, cols, rs, rt):
         return
     o = np.argsort(pb, kind="stable")
     pb, pn = pb[o], pn[o]
-    size = counts[pb]
     px, py, pz = cols
+    # a block whose points share one plan position (a column) passes x, y as one
+    # row, so that the plan terms are computed once per pair, not per point
+    column = np.maximum.reduceat(px, starts) == np.minimum.reduceat(px, starts)
+    column &= np.maximum.reduceat(py, starts) == np.minimum.reduceat(py, starts)
+    size = np.where(column[pb], counts[pb], -counts[pb])
     for c in np.unique(size):
         sel = np.flatnonzero(size == c)
-        step = max(1, _PAIR_CHUNK // int(c))
+        c = abs(int(c))
+        step = max(1, _PAIR_CHUNK // c)
         ar = np.arange(c)[:, None]
         for k0 in range(0, len(sel), step):
             kk = sel[k0 : k0 + step]
             blk = pb[kk]
             pos = starts[blk][None, :] + ar
-            a, b = fn(pn[kk][None, :], px[pos], py[pos], pz[pos])
+            if column[blk[0]]:
+                first = starts[blk][None, :]
+                a, b = fn(pn[kk][None, :], px[first], py[first], pz[pos])
+            else:
+                a, b = fn(pn[kk][None, :], px[pos], py[pos], pz[pos])
             cut = np.flatnonzero(np.concatenate([[True], blk[1:] != blk[:-1]]))
             dest = pos[:, cut]
             rs[dest] += np.add.reduceat(a, cut, axis=1)
@@ -1760,8 +1798,9 @@ def stress_sums(loads: Loads, points, *, tolerance: float = 1e-3) -> tuple[np.nd
     (c = 3/2π, p = 3, m = 5 for σz; c = 1/π, p = 1, m = 3 for T), with
     M_k = Σ|q|∫|s − C|^k dA (bounded from each load's area, polar moment μ2,
     reach a: μ1 ≤ √(Aμ2), μ3 ≤ aμ2, μ4 exact for rectangles and circles and
-    ≤ a²μ2 for polygons, and the binomial expansion of
-    |s − C| ≤ |s − c_i| + |c_i − C|), δ the largest depth offset of the
+    ≤ a²μ2 for polygons, and the smaller of the binomial expansion of
+    |s − C| ≤ |s − c_i| + |c_i − C| and the exact M2, M4 of ``_cluster_moments``
+    with M1 ≤ √(M0 M2), M3 ≤ √(M2 M4)), δ the largest depth offset of the
     cluster's planes from C, and each w^a/r^b replaced by its supremum over the
     segments from C to the sources and the points of a box (``_Tree.pair_bounds``):
     every such segment lies in the cluster's bounding box (C is inside the

@@ -487,3 +487,45 @@ def test_columns_within_the_bound_for_every_threshold_rule(monkeypatch, threshol
     assert np.abs(fast[1] - exact[1]).max() <= allowed
     # the far field was used (else the test would not test it)
     assert np.abs(fast[0] - exact[0]).max() > 0
+
+
+def test_cluster_moments_bound_the_true_ones():
+    # M_k = Σ|q|∫|s − C|^k dA of a cluster (rotated rectangles and a circle at
+    # different depths), against a fine midpoint rule over each area (relative
+    # error ~1e-5 here, hence the 1e-4 tolerances): M0, M2, M4 are exact for
+    # these loads, M1 and M3 upper bounds (Cauchy–Schwarz)
+    loads = S.Loads.concat(
+        S.Loads.rectangles(
+            [0.0, 7.0, 2.0],
+            [0.0, 1.0, 6.0],
+            [2.0, 1.5, 3.0],
+            [3.0, 4.0, 3.0],
+            [20.0, 90.0, 0.0],
+            [150.0, -60.0, 220.0],
+            [1.0, 1.5, 1.2],
+        ),
+        S.Loads.circles(5.0, 5.0, 1.1, 120.0, 2.0),
+    )
+    tree = S._Tree(loads, np.arange(len(loads)))
+    c = tree.c[0]
+    n = 400
+    g = (np.arange(n) + 0.5) / n - 0.5
+    total = np.zeros(5)
+    for i in range(3):
+        u, v = np.meshgrid(g * loads.length[i], g * loads.width[i])
+        t = math.radians(loads.rotation[i])
+        x = loads.x[i] + u * math.cos(t) - v * math.sin(t)
+        y = loads.y[i] + u * math.sin(t) + v * math.cos(t)
+        r = np.sqrt((x - c[0]) ** 2 + (y - c[1]) ** 2 + (loads.depth[i] - c[2]) ** 2)
+        da = loads.length[i] * loads.width[i] / n**2
+        total += [abs(loads.pressure[i]) * (r**k).sum() * da for k in range(5)]
+    rho, th = np.meshgrid((np.arange(n) + 0.5) / n * 1.1, (np.arange(n) + 0.5) / n * 2 * math.pi)
+    x, y = 5.0 + rho * np.cos(th), 5.0 + rho * np.sin(th)
+    r = np.sqrt((x - c[0]) ** 2 + (y - c[1]) ** 2 + (2.0 - c[2]) ** 2)
+    da = rho * (1.1 / n) * (2 * math.pi / n)
+    total += [120.0 * (r**k * da).sum() for k in range(5)]
+    m = tree.M[0]
+    for k in (0, 2, 4):
+        assert m[k] == pytest.approx(total[k], rel=1e-4)
+    for k in (1, 3):
+        assert m[k] >= total[k] * (1 - 1e-4)
