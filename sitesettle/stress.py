@@ -1136,6 +1136,17 @@ class _Tree:
         mu4[circ] = area[circ] * ld.radius[circ] ** 4 / 3.0
         mu = np.stack([area, np.sqrt(area * mu2), mu2, reach * mu2, mu4], axis=1)
         sym = ld.kind != POLYGON
+        # half-extents in x and y of each load's plan bounding box about its centroid
+        ext_x, ext_y = reach.copy(), reach.copy()
+        t = np.radians(ld.rotation[rect])
+        ct, st = np.abs(np.cos(t)), np.abs(np.sin(t))
+        hl, hb = ld.length[rect] / 2.0, ld.width[rect] / 2.0
+        ext_x[rect] = np.minimum(ct * hl + st * hb, reach[rect])
+        ext_y[rect] = np.minimum(st * hl + ct * hb, reach[rect])
+        for i in np.flatnonzero(ld.kind == POLYGON):
+            xy = ld.outlines[i]
+            ext_x[i] = np.abs(xy[:, 0] - ld.x[i]).max()
+            ext_y[i] = np.abs(xy[:, 1] - ld.y[i]).max()
         # plan second-moment tensors ∫ t tᵀ dA of each load about its centroid (3 × 3)
         inert = np.zeros((len(ld), 3, 3))
         inert[:, 0, 0], inert[:, 0, 1], inert[:, 1, 0], inert[:, 1, 1] = ixx, ixy, ixy, iyy
@@ -1179,15 +1190,15 @@ class _Tree:
                 rho=float(np.max(d + reach[members])),
                 lo=np.array(
                     [
-                        (ld.x[members] - reach[members]).min(),
-                        (ld.y[members] - reach[members]).min(),
+                        (ld.x[members] - ext_x[members]).min(),
+                        (ld.y[members] - ext_y[members]).min(),
                         ld.depth[members].min(),
                     ]
                 ),
                 hi=np.array(
                     [
-                        (ld.x[members] + reach[members]).max(),
-                        (ld.y[members] + reach[members]).max(),
+                        (ld.x[members] + ext_x[members]).max(),
+                        (ld.y[members] + ext_y[members]).max(),
                         ld.depth[members].max(),
                     ]
                 ),

@@ -529,3 +529,51 @@ def test_cluster_moments_bound_the_true_ones():
         assert m[k] == pytest.approx(total[k], rel=1e-4)
     for k in (1, 3):
         assert m[k] >= total[k] * (1 - 1e-4)
+
+
+def test_cluster_boxes_hold_every_load():
+    # the bound takes distances to each cluster's plan box, so the box must hold
+    # every corner of a rotated rectangle, a circle's extreme points and every
+    # polygon vertex (geometry; corners computed independently here)
+    rng = np.random.default_rng(2)
+    loads = S.Loads.concat(
+        S.Loads.rectangles(
+            rng.uniform(0, 30, 12),
+            rng.uniform(0, 30, 12),
+            rng.uniform(1, 4, 12),
+            rng.uniform(1, 4, 12),
+            rng.uniform(0, 360, 12),
+            100.0,
+            1.0,
+        ),
+        S.Loads.circles([3.0, 20.0], [25.0, 2.0], [1.5, 0.7], 100.0, 1.0),
+        S.Loads.polygons(
+            [[(0, -10), (8, -10), (4, -6)], [(30, 30), (36, 31), (33, 38)]], 80.0, 0.8
+        ),
+    )
+    tree = S._Tree(loads, np.arange(len(loads)))
+    for node in range(tree.n):
+        members = tree.load[node : tree.end[node]]
+        for i in members[members >= 0]:
+            if loads.kind[i] == S.RECTANGLE:
+                t = math.radians(loads.rotation[i])
+                u = np.array([1, 1, -1, -1]) * loads.length[i] / 2
+                v = np.array([1, -1, 1, -1]) * loads.width[i] / 2
+                xy = np.column_stack(
+                    [
+                        loads.x[i] + u * math.cos(t) - v * math.sin(t),
+                        loads.y[i] + u * math.sin(t) + v * math.cos(t),
+                    ]
+                )
+            elif loads.kind[i] == S.CIRCLE:
+                a = loads.radius[i]
+                xy = np.array(
+                    [
+                        [loads.x[i] + s * a, loads.y[i] + c * a]
+                        for s, c in ((1, 0), (-1, 0), (0, 1), (0, -1))
+                    ]
+                )
+            else:
+                xy = loads.outlines[i]
+            assert (xy >= tree.lo[node, :2] - 1e-12).all()
+            assert (xy <= tree.hi[node, :2] + 1e-12).all()
