@@ -1109,12 +1109,31 @@ def _sup_terms(terms, nodes, hh, vmin, vmax, dd):
         else:
             vs = (-b * dd + np.sqrt((b * dd) ** 2 + 4.0 * (b - a) * a * hh)) / (2.0 * (b - a))
             v = np.clip(vs, vmin, vmax)
-        val = amp * (v + dd) ** a * (hh + v * v) ** (-0.5 * b)
+        # (v + Δ)^a (h² + v²)^(−b/2) by products: b takes at most two values here
+        ir = 1.0 / np.sqrt(hh + v * v)
+        b0 = int(np.min(b))
+        val = amp * _ipow(ir, b0)
+        if a:
+            val = val * _ipow(v + dd, a)
+        if np.ndim(b) and (b > b0).any():
+            if int(np.max(b)) - b0 > 1:  # not reached with orders 3 and 4
+                val = val * ir ** (b - b0)
+            else:
+                val = np.where(b > b0, val * ir, val)
         if kernel == 0:
             es = es + val
         else:
             et = et + val
     return es, et
+
+
+def _ipow(x, n):
+    """x**n for a small integer n >= 1, by repeated products (exact powers are
+    not what numpy's float pow is fast at)."""
+    out = x
+    for _ in range(n - 1):
+        out = out * x
+    return out
 
 
 class _Tree:
