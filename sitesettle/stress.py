@@ -472,13 +472,34 @@ def _circle_terms(radius, r, w):
     sin θ = (a/r) sin ψ, ψ ∈ [0, π/2], removes the square-root end points.
     Both use the graded composite Gauss–Legendre rule.
     """
-    a = np.asarray(radius, dtype=float)[..., None]
-    r = np.asarray(r, dtype=float)[..., None]
-    w0 = np.asarray(w, dtype=float)[..., None]
+    a, r, w0 = np.broadcast_arrays(
+        np.asarray(radius, dtype=float), np.asarray(r, dtype=float), np.asarray(w, dtype=float)
+    )
+    shape = a.shape
+    a, r, w0 = a.ravel(), r.ravel(), w0.ravel()
     w = np.where(w0 > 0, w0, 1.0)  # the surface limit is set below
+    sz, om = np.empty(a.shape), np.empty(a.shape)
+    # each point needs only its own branch of the integral
+    inside = r <= a
+    for sel, fn in (
+        (np.flatnonzero(inside), _circle_inside),
+        (np.flatnonzero(~inside), _circle_outside),
+    ):
+        if len(sel):
+            sz[sel], om[sel] = fn(a[sel, None], r[sel, None], w[sel, None])
+    # surface limit (w = 0): 1, 1/2, 0 of q; 2π, π, 0 of Ω
+    wz = w0 <= 0
+    edge = np.where(r < a, 1.0, np.where(r == a, 0.5, 0.0))
+    sz = np.where(wz, edge, sz)
+    om = np.where(wz, _TWO_PI * edge, om)
+    return sz.reshape(shape), om.reshape(shape)
+
+
+def _circle_inside(a, r, w):
+    """σz/q and Ω of a disc at points inside it (r <= a), w > 0; (P, 1) arrays."""
     w2 = w * w
-    # inside: θ ∈ [0, π], θ = 0 points away from the centre; two halves so that
-    # the panels are graded towards θ = 0 and both sides of θ = π/2
+    # θ ∈ [0, π], θ = 0 points away from the centre; two halves so that the
+    # panels are graded towards θ = 0 and both sides of θ = π/2
     th = 0.5 * math.pi * np.concatenate([_CIRCLE_T, 1.0 + _CIRCLE_T])
     c, s = np.cos(th), np.sin(th)
     root = np.sqrt(np.maximum(a * a - (r * s) ** 2, 0.0))
@@ -489,9 +510,13 @@ def _circle_terms(radius, r, w):
     phi_in = 1.0 - w2 * w / (q2 * sq)
     psi_in = 1.0 - w / sq
     wts = np.concatenate([_CIRCLE_W, _CIRCLE_W]) * (0.5 * math.pi)
-    sz_in = 2.0 * np.sum(phi_in * wts, axis=-1) / _TWO_PI
-    om_in = 2.0 * np.sum(psi_in * wts, axis=-1)
-    # outside: ψ ∈ [0, π/2]
+    return 2.0 * np.sum(phi_in * wts, axis=-1) / _TWO_PI, 2.0 * np.sum(psi_in * wts, axis=-1)
+
+
+def _circle_outside(a, r, w):
+    """σz/q and Ω of a disc at points outside it (r > a), w > 0; (P, 1) arrays."""
+    w2 = w * w
+    # ψ ∈ [0, π/2]
     ps = 0.5 * math.pi * _CIRCLE_T
     cp, sp = np.cos(ps), np.sin(ps)
     ratio = np.where(r > a, a / np.where(r > 0, r, 1.0), 0.0)
@@ -506,13 +531,7 @@ def _circle_terms(radius, r, w):
         2.0 * np.sum((w2 * w / (q1 * s1 + _TINY) - w2 * w / (q2 * s2)) * jac, axis=-1) / _TWO_PI
     )
     om_out = 2.0 * np.sum((w / (s1 + _TINY) - w / s2) * jac, axis=-1)
-    inside = r[..., 0] <= a[..., 0]
-    # surface limit (w = 0): 1, 1/2, 0 of q; 2π, π, 0 of Ω
-    wz = w0[..., 0] <= 0
-    edge = np.where(r[..., 0] < a[..., 0], 1.0, np.where(r[..., 0] == a[..., 0], 0.5, 0.0))
-    sz = np.where(wz, edge, np.where(inside, sz_in, sz_out))
-    om = np.where(wz, _TWO_PI * edge, np.where(inside, om_in, om_out))
-    return sz, om
+    return sz_out, om_out
 
 
 def circle_stress(pressure, radius, r, z):
