@@ -19,11 +19,12 @@ appears in report.html only; set ``SOURCE_DATE_EPOCH`` to make it fixed too.
 
 from __future__ import annotations
 
+import contextlib
 import json
 import math
 import os
 import shutil
-import tempfile
+import signal
 import uuid
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -506,19 +507,40 @@ def check_target(out_dir: str | os.PathLike) -> None:
     _check_target(Path(out_dir).absolute())
 
 
+@contextlib.contextmanager
+def _signals_deferred():
+    """Hold SIGINT and SIGTERM while a few renames run, so Ctrl-C cannot split them.
+
+    A signal that arrives meanwhile is delivered (as KeyboardInterrupt) when the
+    block ends. Where signal masks are not available (not POSIX, or not the main
+    thread) this does nothing.
+    """
+    held = {signal.SIGINT, getattr(signal, "SIGTERM", signal.SIGINT)}
+    try:
+        previous = signal.pthread_sigmask(signal.SIG_BLOCK, held)
+    except (AttributeError, ValueError, OSError):
+        yield
+        return
+    try:
+        yield
+    finally:
+        signal.pthread_sigmask(signal.SIG_SETMASK, previous)
+
+
 def _swap(tmp: Path, out: Path) -> None:
     """Put the finished folder ``tmp`` in place of ``out`` (renames on one file system)."""
-    if not out.exists():
-        os.replace(tmp, out)
-        return
-    old = out.parent / f".{out.name}.old-{uuid.uuid4().hex[:8]}"
-    os.replace(out, old)
-    try:
-        os.replace(tmp, out)
-    except BaseException:
-        os.replace(old, out)
-        raise
-    shutil.rmtree(old, ignore_errors=True)
+    with _signals_deferred():
+        if not out.exists():
+            os.replace(tmp, out)
+            return
+        old = out.parent / f".{out.name}.old-{uuid.uuid4().hex[:8]}"
+        os.replace(out, old)
+        try:
+            os.replace(tmp, out)
+        except BaseException:
+            os.replace(old, out)
+            raise
+        shutil.rmtree(old, ignore_errors=True)  # a results folder: quick, still held
 
 
 def write_results(
@@ -560,12 +582,19 @@ def write_results(
     u = _units(units)
     out = Path(out_dir).absolute()
     _check_target(out)
+    # the temporary folder's name is chosen before it exists, so that an interrupt at
+    # any moment after its creation finds it and removes it
+    tmp = out.parent / f".{out.name}.tmp-{uuid.uuid4().hex[:8]}"
     try:
         out.parent.mkdir(parents=True, exist_ok=True)
-        tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.tmp-", dir=out.parent))
     except OSError as exc:
         raise OutputError(f"cannot write results to {out}: {exc.strerror or exc}") from None
     try:
+        try:
+            with _signals_deferred():
+                tmp.mkdir(mode=0o700)
+        except OSError as exc:
+            raise OutputError(f"cannot write results to {out}: {exc.strerror or exc}") from None
         umask = os.umask(0)
         os.umask(umask)
         os.chmod(tmp, 0o777 & ~umask)
