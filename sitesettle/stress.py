@@ -19,20 +19,21 @@ plane, and a point with ``w <= 0`` gets nothing from it. The kernels
 themselves take ``w`` and return the surface limit at ``w = 0`` (q inside,
 q/2 on an edge, 0 outside).
 
-Performance (benchmarks/stress_bench.py, shared 2-core machine with another
-job using one core, so figures vary by ±25 %): exact evaluation runs at about
-9 million rectangle-point pairs and 2.5 million hexagon-point pairs per second.
-The 2,000-footing plan at 600,000 points (20,000 columns of 30 depths) takes
-64 s with the default tolerance (peak traced memory 300 MB, RSS 390 MB), with a
-measured error of 2e-3 kPa (σz) and 4e-3 kPa (T) against the allowed 0.3 kPa;
-the previous treecode (blocks of 256 points, ~9 × 9 × 7 m) took 147 s
-re-measured here (116 s by its author). Per point 364 multipole clusters and 19
-exact loads are evaluated (before: about 340 and 390): column blocks make the
-bound's plan gap exact and leave few exact loads, but the rigorous bound, 10 to
-100 times the real error of a pair, still asks for many small clusters, and T
-(which decays more slowly than σz) sets the bound in two pairs out of three.
-The far field is about 60 % of the time, the bound's traversal 20 %, building
-the tree 0.5 s.
+Performance (benchmarks/stress_bench.py on the shared 2-core machine, whose
+other jobs make every figure vary by up to ±30 %): exact evaluation runs at
+about 8–11 million rectangle-point pairs and 2–2.8 million hexagon-point pairs
+per second. The 2,000-footing plan at 600,000 points (20,000 columns of 30
+depths) takes 49–66 s with the default tolerance (peak traced memory 295 MB,
+RSS 440 MB), with a measured error of 2.6e-3 kPa (σz) and 5.4e-3 kPa (T)
+against the allowed 0.3 kPa. The previous treecode (k-d blocks of 256 points,
+~9 × 9 × 7 m, one block at a time) took 83 s in the same hour (147 s in a
+busier one; 74 MB traced). Per point 328 multipole clusters and 16 exact loads
+are evaluated (before: about 340 and 390). Column blocks make the bound's plan
+gap exact and leave few exact loads, but the rigorous bound, 3 to 100 times
+the real error of a (point, cluster) pair and summed over ~300 pairs whose
+errors partly cancel, still asks for many small clusters; T, which decays
+more slowly than σz, sets the bound in two pairs out of three. About half of
+the time is the far-field evaluation, a third the traversal with its bounds.
 
 References
 ----------
@@ -1911,10 +1912,10 @@ def stress_sums(loads: Loads, points, *, tolerance: float = 1e-3) -> tuple[np.nd
     quadrature error (below 1e-8 q per circle, see :func:`circle_stress`),
     which tolerance = 0 keeps too.
 
-    Memory is bounded: the points are treated in batches of 65,536, whose
-    pair lists take a few hundred MB at most, and the evaluation loops work in
-    chunks of 4,096 (treecode) or 32,768 (exact sum) pair elements, sized for
-    the processor cache; the results are (N,) arrays.
+    Memory is bounded: the points are treated in batches of 32,768 (two at a
+    time, on two threads), whose pair lists take about 150 MB each, and the
+    evaluation loops work in chunks of 8,192 (treecode) or 32,768 (exact sum)
+    pair elements, sized for the processor cache; the results are (N,) arrays.
     """
     if tolerance < 0 or not np.isfinite(tolerance):
         raise InputError("tolerance", f"{tolerance!r}", "a fraction >= 0")
