@@ -6,8 +6,9 @@ Run:  python benchmarks/stress_bench.py [--quick] [--tolerance=1e-3]
 2. a plan of 2,000 rectangular footings (sides 1.5–4 m on a 6 m column grid,
    pressures 100–300 kPa, base depth 1–1.5 m) evaluated at 10,000 plan points
    plus 5 points per footing, each at 30 depths down to 30 m (600,000 points),
-   with the default tolerance: wall time, peak memory, and the largest error
-   against the exact sum on a random subsample of points.
+   with the default tolerance: wall time, peak memory, multipole clusters and
+   exact loads evaluated per point, and the largest error against the exact sum
+   on a random subsample of points.
 The scenario is invented for this benchmark.
 """
 
