@@ -172,18 +172,16 @@ def test_superposed_stress_of_tiny_and_huge_footings_is_finite(size):
     assert s[2] / Q == pytest.approx(0.336, abs=2e-3)
 
 
-@pytest.mark.xfail(
-    reason="stress.stress_sums gives 0 at points exactly in the loaded plane (z = load "
-    "depth) inside the load, where the single-load kernel rectangle_stress gives q "
-    "(and stress_sums itself gives q at z = depth + 1e-12): a jump of q at the base",
-    strict=True,
-)
-def test_superposed_stress_in_the_loaded_plane_equals_the_single_load_kernel():
-    # The same limit as rectangle_stress at z = 0 (q inside, q/4 at a corner).
+def test_superposed_stress_at_and_just_below_the_loaded_plane():
+    # The documented convention of sitesettle.stress: a point at or above a load's
+    # plane (z <= depth) gets nothing from it; just below, the stress tends to the
+    # surface limit of the single-load kernel (q inside, q/4 under a corner).
     loads = stress.Loads.rectangles([0.0], [0.0], [2.0], [2.0], [0.0], [Q], [1.0])
-    pts = np.array([[0.0, 0.0, 1.0], [1.0, 1.0, 1.0]])
-    s = stress.vertical_stress(loads, pts, tolerance=0.0)
-    np.testing.assert_allclose(s, stress.rectangle_stress(Q, 2.0, 2.0, pts[:, 0], pts[:, 1], 0.0))
+    at = np.array([[0.0, 0.0, 1.0], [1.0, 1.0, 1.0]])
+    np.testing.assert_array_equal(stress.vertical_stress(loads, at, tolerance=0.0), [0.0, 0.0])
+    below = at + [0.0, 0.0, 1e-9]
+    s = stress.vertical_stress(loads, below, tolerance=0.0)
+    np.testing.assert_allclose(s, [Q, Q / 4], atol=1e-6 * Q)
 
 
 def test_coincident_loads_just_add():
