@@ -12,6 +12,8 @@ import math
 
 import numpy as np
 import pytest
+from _sites import ROCK, rect
+from _sites import clay as clay_base
 from scipy import integrate
 
 from sitesettle import stress
@@ -19,7 +21,7 @@ from sitesettle.analysis import analyse, characteristic_points
 from sitesettle.methods import consolidation as cons
 from sitesettle.methods import elastic
 from sitesettle.options import Behaviour, GranularMethod
-from sitesettle.site import AnalysisSettings, Borehole, Footing, Interval, Site, Stratum
+from sitesettle.site import AnalysisSettings, Borehole, Interval, Site, Stratum
 
 
 def pad(
@@ -36,33 +38,20 @@ def pad(
     rotation=0.0,
     sustained=0.0,
 ):
-    """A rectangular footing centred on (x, y), long side at ``rotation`` degrees from east."""
-    length = width if length is None else length
-    a = math.radians(rotation)
-    ax_l = np.array([math.cos(a), math.sin(a)])
-    ax_b = np.array([-math.sin(a), math.cos(a)])
-    c = np.array([x, y])
-    outline = np.array(
-        [
-            c + sl * length / 2 * ax_l + sb * width / 2 * ax_b
-            for sl, sb in ((-1, -1), (1, -1), (1, 1), (-1, 1))
-        ]
-    )
-    return Footing(
+    """A rectangular footing at the surface by default, loads including the footing."""
+    return rect(
         fid,
-        outline,
-        "rectangle",
         x,
         y,
         width,
         length,
-        rotation,
-        depth,
-        load,
-        live,
-        sustained,
-        rigid,
-        fill,
+        depth=depth,
+        load=load,
+        live=live,
+        sustained=sustained,
+        rigid=rigid,
+        fill=fill,
+        rotation=rotation,
     )
 
 
@@ -93,7 +82,6 @@ SAND = Stratum(
     poisson=0.3,
     cone_resistance=8000.0,
 )
-ROCK = Stratum("rock", Behaviour.RIGID, unit_weight=22.0, saturated_unit_weight=22.0)
 
 
 def mm(results, name="total", k=-1):
@@ -203,17 +191,7 @@ def test_characteristic_points_positions():
 
 
 def clay(**kw):
-    base = dict(
-        unit_weight=18.0,
-        saturated_unit_weight=19.0,
-        compression_index=0.3,
-        recompression_index=0.05,
-        void_ratio=1.0,
-        consolidation_coefficient=2.0,
-        secondary_index=0.0,
-    )
-    base.update(kw)
-    return Stratum("clay", Behaviour.COHESIVE, **base)
+    return clay_base(**{"secondary_index": 0.0, **kw})
 
 
 def test_consolidation_under_a_wide_load_matches_quadrature_of_elog():

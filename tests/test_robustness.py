@@ -16,6 +16,8 @@ import math
 
 import numpy as np
 import pytest
+from _sites import ROCK, rect
+from _sites import clay as clay_base
 
 from sitesettle import stress
 from sitesettle.analysis import analyse
@@ -23,7 +25,7 @@ from sitesettle.errors import InputError
 from sitesettle.io.footings import parse_footings_csv
 from sitesettle.io.output import footing_table, pair_table
 from sitesettle.options import Behaviour
-from sitesettle.site import AnalysisSettings, Borehole, Footing, Interval, Site, Stratum
+from sitesettle.site import AnalysisSettings, Borehole, Interval, Site, Stratum
 
 Q = 100.0  # kPa
 
@@ -31,18 +33,8 @@ Q = 100.0  # kPa
 def pad(fid, x, y, width, length=None, depth=1.0, load=None, live=0.0, rigid=False):
     """A rectangular footing centred on (x, y); default load: 150 kPa on its area."""
     length = width if length is None else length
-    outline = np.array(
-        [
-            [x - length / 2, y - width / 2],
-            [x + length / 2, y - width / 2],
-            [x + length / 2, y + width / 2],
-            [x - length / 2, y + width / 2],
-        ]
-    )
     load = 150.0 * width * length if load is None else load
-    return Footing(
-        fid, outline, "rectangle", x, y, width, length, 0.0, depth, load, live, 0.0, rigid, 20.0
-    )
+    return rect(fid, x, y, width, length, depth=depth, load=load, live=live, rigid=rigid)
 
 
 SAND = Stratum(
@@ -53,22 +45,10 @@ SAND = Stratum(
     poisson=0.3,
     youngs_modulus=30000.0,
 )
-ROCK = Stratum("rock", Behaviour.RIGID, unit_weight=22.0, saturated_unit_weight=22.0)
 
 
 def clay(**kw):
-    base = dict(
-        unit_weight=18.0,
-        saturated_unit_weight=19.0,
-        compression_index=0.3,
-        recompression_index=0.05,
-        void_ratio=1.0,
-        consolidation_coefficient=2.0,
-        ocr=2.0,
-        undrained_modulus=10000.0,
-    )
-    base.update(kw)
-    return Stratum("clay", Behaviour.COHESIVE, **base)
+    return clay_base(**{"ocr": 2.0, "undrained_modulus": 10000.0, **kw})
 
 
 def site_of(footings, strata, boreholes, **settings):
