@@ -34,6 +34,12 @@ the real error of a (point, cluster) pair and summed over ~300 pairs whose
 errors partly cancel, still asks for many small clusters; T, which decays
 more slowly than σz, sets the bound in two pairs out of three. About half of
 the time is the far-field evaluation, a third the traversal with its bounds.
+A harmonic bound for T (Legendre series of 1/r), the second bounds computed
+only for pairs near the threshold (they made 1.6 % of the pairs acceptable,
+for 2/3 of the bound's cost) and thresholds 2^−7, 2^−8 (fewer blocks redone)
+took the plan from 53.5 and 53.9 s to 50.4 and 53.1 s in one hour (329
+clusters and 17 exact loads per point; errors 2.5e-3 and 5.8e-3 kPa); σz now
+sets the bound in 55–75 % of the pairs near the threshold.
 
 References
 ----------
@@ -1283,6 +1289,9 @@ class _Tree:
             np.column_stack([self.c, self.Q0, self.dip, self.quad]).T
         )
         self.leaf = self.load >= 0
+        # coefficient of M₃ in the harmonic bound of T: 4 (the order-3 Legendre
+        # term), 0 for a single centrally symmetric load (its third moments vanish)
+        self.h3 = np.where(self.order == 4, 0.0, 4.0)
         # nodes are numbered in depth-first preorder, so the subtree of node i is the
         # range [i, end[i]) (a full binary tree: 2m − 1 nodes for m loads)
         self.end = get("end")
@@ -1316,7 +1325,7 @@ class _Tree:
         hi = np.broadcast_to(np.asarray(hi, dtype=float), (self.n, 3))
         return self.pair_bounds(lo, hi, np.arange(self.n))
 
-    def pair_bounds(self, lo, hi, nodes):
+    def pair_bounds(self, lo, hi, nodes, lam=None):
         """Bound e and "contributes nothing" flag of each (box, node) pair.
 
         ``lo``, ``hi`` are (K, 3) boxes of points and ``nodes`` (K,) node indices.
@@ -1327,6 +1336,13 @@ class _Tree:
         W ≤ v + Δ and r² ≥ h² + v², and (v + Δ)^a (h² + v²)^(−b/2) is unimodal in
         v with its maximum at the positive root of (b − a)v² + bΔv − ah² = 0; the
         sup over the box's depth range is taken at that root clipped to the range.
+
+        The second bound (clusters of centrally symmetric loads) and the harmonic
+        bound of T are smaller only now and then and cost twice the first: with
+        ``lam`` (K,) the acceptance thresholds they are computed only for pairs
+        whose first bound lies in (λ·_LAZY_LO, λ·_LAZY_HI], where they may change
+        the acceptance or add to a block's sum; elsewhere e is the first bound,
+        which is as rigorous (every bound here is an upper bound of the same error).
         """
         nlo, nhi = self.lo[nodes], self.hi[nodes]
         gx = np.maximum(np.maximum(lo[:, 0] - nhi[:, 0], nlo[:, 0] - hi[:, 0]), 0.0)
@@ -1341,27 +1357,61 @@ class _Tree:
         vmax = np.where(ok, vmax, 1.0)
         dd = dmax - dmin
         es, et = _sup_terms(self.terms, nodes, hh, vmin, vmax, dd)
-        alt = self.alt[nodes]
-        if alt.any():
-            # centre distances for the third-order term: plan gap from the box to C
-            # and vertical distance z − C_z (> 0 where ok, as C_z ≤ d_max)
-            k = np.flatnonzero(alt & ok)
+        es = np.broadcast_to(es, len(nodes)).copy()
+        et = np.broadcast_to(et, len(nodes)).copy()
+        if lam is None:
+            k = np.flatnonzero(ok)
+        else:
+            e1 = np.maximum(es, et)
+            k = np.flatnonzero(ok & (e1 > _LAZY_LO * lam) & (e1 <= _LAZY_HI * lam))
+        if len(k):
             nk = nodes[k]
-            c = self.c[nk]
-            cx = np.maximum(np.maximum(lo[k, 0] - c[:, 0], c[:, 0] - hi[k, 0]), 0.0)
-            cy = np.maximum(np.maximum(lo[k, 1] - c[:, 1], c[:, 1] - hi[k, 1]), 0.0)
-            hc = cx * cx + cy * cy
-            gap = [t for t in self.alt_terms if not t[4]]
-            cen = [t for t in self.alt_terms if t[4]]
-            s4, t4 = _sup_terms(gap, nk, hh[k], vmin[k], vmax[k], dd[k])
-            s3, t3 = _sup_terms(cen, nk, hc, lo[k, 2] - c[:, 2], hi[k, 2] - c[:, 2], 0.0 * hc)
-            es = np.broadcast_to(es, len(nodes)).copy()
-            et = np.broadcast_to(et, len(nodes)).copy()
-            es[k] = np.minimum(es[k], s4 + s3)
-            et[k] = np.minimum(et[k], t4 + t3)
+            lk, hk = lo[k], hi[k]
+            # harmonic bound of T (see stress_sums): r_c the least distance from the
+            # box to C, valid where r_c exceeds the cluster's radius ρ about C
+            eh, tail = self._harmonic_bound(lk, hk, nk)
+            et[k] = np.minimum(et[k], eh)
+            a = np.flatnonzero(self.alt[nk])
+            if len(a):
+                # centre distances for the third-order term: plan gap from the box to C
+                # and vertical distance z − C_z (> 0 where ok, as C_z ≤ d_max)
+                ka, na = k[a], nk[a]
+                c = self.c[na]
+                cx = np.maximum(np.maximum(lo[ka, 0] - c[:, 0], c[:, 0] - hi[ka, 0]), 0.0)
+                cy = np.maximum(np.maximum(lo[ka, 1] - c[:, 1], c[:, 1] - hi[ka, 1]), 0.0)
+                hc = cx * cx + cy * cy
+                gap = [t for t in self.alt_terms if not t[4]]
+                cen = [t for t in self.alt_terms if t[4]]
+                s4, t4 = _sup_terms(gap, na, hh[ka], vmin[ka], vmax[ka], dd[ka])
+                s3, t3 = _sup_terms(cen, na, hc, lo[ka, 2] - c[:, 2], hi[ka, 2] - c[:, 2], 0.0 * hc)
+                es[ka] = np.minimum(es[ka], s4 + s3)
+                et[ka] = np.minimum(et[ka], np.minimum(t4, tail[a]) + t3)
         e = np.where(ok, np.maximum(es, et), np.inf)
         e[zero] = 0.0
         return e, zero
+
+    def _harmonic_bound(self, lo, hi, nodes):
+        """Harmonic bound of T's far-field error for (box, node) pairs whose points
+        all lie below the node's planes (see stress_sums), and its part from the
+        Legendre terms of order ≥ 4: with r_c the least distance from the box to
+        the node's centre C and ρ its radius about C, (1/π)[4·M₃/r_c⁵ +
+        M₄·S(ρ/r_c)/r_c⁶], S(x) = 5/(1 − x) + x/(1 − x)² (inf where ρ ≥ r_c; no
+        M₃ term for a single centrally symmetric load)."""
+        c = self.c[nodes]
+        cx = np.maximum(np.maximum(lo[:, 0] - c[:, 0], c[:, 0] - hi[:, 0]), 0.0)
+        cy = np.maximum(np.maximum(lo[:, 1] - c[:, 1], c[:, 1] - hi[:, 1]), 0.0)
+        cz = np.maximum(np.maximum(lo[:, 2] - c[:, 2], c[:, 2] - hi[:, 2]), 0.0)
+        rc = np.sqrt(cx * cx + cy * cy + cz * cz)
+        good = rc > self.rho[nodes]
+        rc = np.where(good, rc, 1.0)
+        x = self.rho[nodes] / rc
+        xs = np.where(good, x, 0.0)
+        ir = 1.0 / rc
+        ir2 = ir * ir
+        ir6 = ir2 * ir2 * ir2
+        sx = 5.0 / (1.0 - xs) + xs / ((1.0 - xs) * (1.0 - xs))
+        tail = np.where(good, _K_THETA * self.M[nodes, 4] * ir6 * sx, np.inf)
+        return _K_THETA * self.h3[nodes] * self.M[nodes, 3] * (ir6 * rc) + tail, tail
 
     def far(self, nodes, px, py, pz):
         """Multipole (monopole + dipole + quadrupole) (σz, T) of ``nodes`` at the points."""
@@ -1562,8 +1612,9 @@ def _traverse(tree, groups, threshold):
     pn = np.zeros(len(pg), dtype=np.intp)
     far_g, far_n, far_e, ex_g, ex_n = [], [], [], [], []
     while len(pg):
-        e, zero = tree.pair_bounds(groups.lo[pg], groups.hi[pg], pn)
-        acc = ~zero & (e <= threshold(pn))
+        lam = threshold(pn)
+        e, zero = tree.pair_bounds(groups.lo[pg], groups.hi[pg], pn, lam)
+        acc = ~zero & (e <= lam)
         if acc.any():
             far_g.append(pg[acc])
             far_n.append(pn[acc])
@@ -1688,10 +1739,18 @@ _THREADS = 2
 #: a block accepts a node when its bound e ≤ ε·2^−k, for the first k of this list
 #: that keeps the block's Σ e ≤ ε; None is the fallback e ≤ ε·F/F_total, which
 #: always does (see the proof). On the benchmark plan 2^−6, 2^−6.5, 2^−7 passed
-#: in 42 %, 76 %, 99 % of the blocks, with 5 % more clusters per step.
-_THRESHOLDS = (6.5, 7.5, None)
+#: in 42 %, 76 %, 99 % of the blocks, with 5 % more clusters per step; starting
+#: at 2^−7 instead of 2^−6.5 redoes few blocks (a window of 120,000 points of
+#: the benchmark: 2.64 M instead of 3.28 M traversal pairs, 4.6–5.0 s instead
+#: of 5.3–5.9 s, the same 324 clusters per point).
+_THRESHOLDS = (7.0, 8.0, None)
 #: elements per chunk of the (points × pairs) evaluation loops (processor cache)
 _PAIR_CHUNK = 1 << 13
+#: the second bounds are computed for pairs whose first bound e₁ lies in
+#: (λ·_LAZY_LO, λ·_LAZY_HI] (see :meth:`_Tree.pair_bounds`): on the benchmark plan
+#: they make 1.6 % of the pairs acceptable, 99.9 % of these with e₁ ≤ 4.6 λ
+_LAZY_LO = 0.25
+_LAZY_HI = 5.0
 
 
 #: when set to a dict, the treecode adds its counts to it (points, multipole
@@ -1891,6 +1950,34 @@ def stress_sums(loads: Loads, points, *, tolerance: float = 1e-3) -> tuple[np.nd
     distance from the point to C itself. The smaller of the two bounds is used,
     for σz and for T separately.
 
+    **Harmonic bound for T.** With u = p − s, t = (1/π) w r⁻³ = −(1/π) ∂/∂z of
+    1/|p − s| (z the point's depth). Let R = |p − C| and, for a source s,
+    h = s − C, ρ = |h| < R. The Legendre series 1/|p − s| = Σ_n ρⁿ Y_n(p),
+    Y_n = R^(−n−1) P_n(cos γ), γ the angle between h and p − C, converges with
+    its derivatives, and its n-th term is the part of degree n in h of the
+    Taylor series about C; so the far field (orders 0–2) leaves the error
+    −(1/π) Σ_{n≥3} ρⁿ ∂Y_n/∂z per unit source. In spherical coordinates about
+    the axis h, |∇Y_n|² = R^(−2n−4)[(n+1)² P_n² + (1 − x²) P_n′²], x = cos γ.
+    By Legendre's equation f = P_n² + (1 − x²) P_n′²/(n(n+1)) has
+    f′ = 2x P_n′²/(n(n+1)), so f ≤ f(±1) = 1 on [−1, 1]; hence
+    (1 − x²) P_n′² ≤ n(n+1)(1 − P_n²) and |∇Y_n|² ≤ (n+1)(n + P_n²) R^(−2n−4)
+    ≤ (n+1)² R^(−2n−4). With r_c the least distance from the points' box to C
+    and a = max_i(|c_i − C| + reach_i) < r_c, so that ρ ≤ a for every source,
+    Σ_{n≥4} (n+1) ρⁿ R^(−n−2) ≤ ρ⁴ r_c^(−6) Σ_k (k+5)(a/r_c)^k
+    = ρ⁴ r_c^(−6) S(a/r_c), S(x) = 5/(1 − x) + x/(1 − x)², and integrating over
+    the sources (|q| dA)
+
+    .. math:: |e_T| \le \frac{1}{\pi}\left[\frac{4 M_3}{r_c^5}
+              + \frac{M_4\,S(a/r_c)}{r_c^6}\right]
+
+    (points below all the cluster's planes, where t is the kernel). For a single
+    rectangle or circle the n = 3 term integrates to zero (odd in h), and for a
+    cluster of them it may be replaced by the bound of the exact third-order
+    term above. T's bound is the smallest of these. The first bound alone is
+    computed for pairs whose first bound e₁ is far from the threshold λ (e₁ ≤ λ/4
+    or e₁ > 5λ): the others can only lower e where it hardly matters, and any
+    of them is a valid bound of the same error.
+
     **Blocks and acceptance.** Points are grouped into blocks of one 0.5 m plan
     cell and one depth band [2^k, 2^(k+1)) m, so that a vertical column of
     points (the usual layout) gives blocks with no plan extent; consecutive
@@ -1902,7 +1989,7 @@ def stress_sums(loads: Loads, points, *, tolerance: float = 1e-3) -> tuple[np.nd
     is split. Each block thus sees every load through exactly one accepted or
     exact pair of one of its groups (accepted clusters are disjoint), so at every
     point of the block the error is at most the sum of e over those pairs. The
-    threshold is tried as λ = ε·2^−6.5, then ε·2^−7.5, and a block keeps the
+    threshold is tried as λ = ε·2^−7, then ε·2^−8, and a block keeps the
     result only if that sum is ≤ ε; a block that fails both is redone with the
     rule e ≤ ε·F/F_total (F = Σ|q|A of the cluster), for which the sum is at
     most ε·Σ F/F_total ≤ ε whatever happens. Hence |σz − exact| ≤ ε and
