@@ -579,30 +579,19 @@ def analyse(
         ms = sorted({str(x) for x in method_of[lo:hi] if x})
         methods.append(" + ".join(ms) if ms else "none")
 
-    traces = _traces(
-        site,
-        seg,
-        columns,
-        owners,
-        points,
-        sig0,
-        own_sz,
-        own_sz_sust,
-        nb_sz,
-        sz_sust - own_sz_sust,
-        cohesive,
-        own_s,
-        nb_s,
-        cons_own,
-        cons_nb,
-        sec_own,
-        sec_nb,
-        iz,
-        method_of,
-        h,
-        i_life,
-        np.where(granular, E, np.where(imm_clay, eu, np.nan)),
-    )
+    life_own = own_s[:, i_life] + cons_own[:, i_life] + sec_own[:, i_life]
+    life_nb = nb_s[:, i_life] + cons_nb[:, i_life] + sec_nb[:, i_life]
+    rows = {  # per-sublayer columns of the calculation sheet, at the design life
+        "sigma_v0": sig0,
+        "own_stress": np.where(cohesive, own_sz_sust, own_sz),
+        "neighbour_stress": np.where(cohesive, sz_sust - own_sz_sust, nb_sz),
+        "strain": np.divide(life_own + life_nb, h, out=np.zeros_like(h), where=h > 0),
+        "own_settlement": life_own,
+        "neighbour_settlement": life_nb,
+        "influence": iz,
+        "modulus": np.where(granular, E, np.where(imm_clay, eu, np.nan)),
+    }
+    traces = _traces(site, seg, columns, owners, points, method_of, rows)
     outside = np.asarray(
         ground.outside_hull([f.x for f in site.footings], [f.y for f in site.footings]), dtype=bool
     )
@@ -740,53 +729,19 @@ def _burland_burbidge(site, columns, seg, is_bb, q_full, fw, lb, fd, own_sz, hsu
     return own, e_eq
 
 
-def _traces(
-    site,
-    seg,
-    columns,
-    owners,
-    points,
-    sig0,
-    own_sz,
-    own_sz_sust,
-    nb_sz,
-    nb_sz_sust,
-    cohesive,
-    own_s,
-    nb_s,
-    cons_own,
-    cons_nb,
-    sec_own,
-    sec_nb,
-    iz,
-    method_of,
-    h,
-    k,
-    modulus,
-):
+def _traces(site, seg, columns, owners, points, method_of, rows: dict[str, np.ndarray]):
+    """One :class:`Trace` per evaluation point: the sublayer slices of ``rows``."""
     out: dict[str, list[Trace]] = {f.id: [] for f in site.footings}
-    own_tot = own_s[:, k] + cons_own[:, k] + sec_own[:, k]
-    nb_tot = nb_s[:, k] + cons_nb[:, k] + sec_nb[:, k]
-    strain = np.divide(own_tot + nb_tot, h, out=np.zeros_like(h), where=h > 0)
-    for c in range(len(columns)):
+    for c, col in enumerate(columns):
         m = seg.rows(c)
-        col = columns[c]
-        i = owners[c]
-        out[site.footings[i].id].append(
+        out[site.footings[owners[c]].id].append(
             Trace(
                 point=(float(points[c][0]), float(points[c][1])),
                 top=seg.top[m],
                 bottom=seg.bottom[m],
                 stratum=tuple(col.strata[j].name for j in seg.stratum[m]),
                 method=tuple(str(x) if x else "below influence depth" for x in method_of[m]),
-                sigma_v0=sig0[m],
-                own_stress=np.where(cohesive[m], own_sz_sust[m], own_sz[m]),
-                neighbour_stress=np.where(cohesive[m], nb_sz_sust[m], nb_sz[m]),
-                strain=strain[m],
-                own_settlement=own_tot[m],
-                neighbour_settlement=nb_tot[m],
-                influence=iz[m],
-                modulus=modulus[m],
+                **{name: values[m] for name, values in rows.items()},
             )
         )
     return {key: tuple(v) for key, v in out.items()}
