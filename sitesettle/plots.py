@@ -603,7 +603,8 @@ def section_figure(section: Section, *, ax=None, units: str = "si"):
     title = section.title or "Section"
     (x0, y0), (x1, y1) = section.start, section.end
     ax.set_title(
-        f"{_esc(title, 120)} — from ({x0 * L:.1f}, {y0 * L:.1f}) to ({x1 * L:.1f}, {y1 * L:.1f}) {lu}",
+        f"{_esc(title, 120)} — from ({x0 * L:.1f}, {y0 * L:.1f}) "
+        f"to ({x1 * L:.1f}, {y1 * L:.1f}) {lu}",
         loc="left",
         fontsize=10,
     )

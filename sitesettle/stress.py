@@ -20,26 +20,16 @@ themselves take ``w`` and return the surface limit at ``w = 0`` (q inside,
 q/2 on an edge, 0 outside).
 
 Performance (benchmarks/stress_bench.py on the shared 2-core machine, whose
-other jobs make every figure vary by up to ±30 %): exact evaluation runs at
-about 8–11 million rectangle-point pairs and 2–2.8 million hexagon-point pairs
-per second. The 2,000-footing plan at 600,000 points (20,000 columns of 30
-depths) takes 49–66 s with the default tolerance (peak traced memory 295 MB,
-RSS 440 MB), with a measured error of 2.6e-3 kPa (σz) and 5.4e-3 kPa (T)
-against the allowed 0.3 kPa. The previous treecode (k-d blocks of 256 points,
-~9 × 9 × 7 m, one block at a time) took 83 s in the same hour (147 s in a
-busier one; 74 MB traced). Per point 328 multipole clusters and 16 exact loads
-are evaluated (before: about 340 and 390). Column blocks make the bound's plan
-gap exact and leave few exact loads, but the rigorous bound, 3 to 100 times
-the real error of a (point, cluster) pair and summed over ~300 pairs whose
-errors partly cancel, still asks for many small clusters; T, which decays
-more slowly than σz, sets the bound in two pairs out of three. About half of
-the time is the far-field evaluation, a third the traversal with its bounds.
-A harmonic bound for T (Legendre series of 1/r), the second bounds computed
-only for pairs near the threshold (they made 1.6 % of the pairs acceptable,
-for 2/3 of the bound's cost) and thresholds 2^−7, 2^−8 (fewer blocks redone)
-took the plan from 53.5 and 53.9 s to 50.4 and 53.1 s in one hour (329
-clusters and 17 exact loads per point; errors 2.5e-3 and 5.8e-3 kPa); σz now
-sets the bound in 55–75 % of the pairs near the threshold.
+other jobs make every figure vary by up to ±30 %): exact evaluation (numpy,
+the reference path, tolerance = 0) runs at about 8–14 million rectangle-point
+pairs and 2–4 million hexagon-point pairs per second. The 2,000-footing plan at
+600,000 points (20,000 columns of 30 depths) takes about 8.5 s with the
+default tolerance (RSS 0.35 GB), with a measured error of 2e-3 kPa (σz) and
+5e-3 kPa (T) against the allowed 0.3 kPa; about 340 multipole clusters and 17
+exact loads are evaluated per point. The traversal, the bounds and the
+evaluations are compiled (:mod:`sitesettle.farfield`, numba) and run on two
+threads; the same algorithm written with numpy arrays of pairs took 42–66 s,
+most of it in building and gathering those arrays.
 
 References
 ----------
@@ -67,6 +57,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from sitesettle import farfield as ff
 from sitesettle.errors import InputError
 
 __all__ = [
@@ -1122,48 +1113,6 @@ def _third_moment_norm(q, area, h, inert):
     return float(np.abs(o).sum())
 
 
-def _sup_terms(terms, nodes, hh, vmin, vmax, dd):
-    """Σ over the bound's terms amp · sup (v + Δ)^a (h² + v²)^(−b/2), v in [vmin, vmax],
-    for σz (kernel 0) and T (kernel 1); see :meth:`_Tree.pair_bounds`."""
-    es, et = 0.0, 0.0
-    for kernel, a, amp_all, b_all, *_ in terms:
-        amp = amp_all[nodes]
-        if not amp.any():
-            continue
-        b = b_all[nodes] if np.ndim(b_all) else b_all
-        if a == 0:
-            # W⁰: the sup of (h² + v²)^(−b/2) is at the shallowest point
-            v = vmin
-        else:
-            vs = (-b * dd + np.sqrt((b * dd) ** 2 + 4.0 * (b - a) * a * hh)) / (2.0 * (b - a))
-            v = np.clip(vs, vmin, vmax)
-        # (v + Δ)^a (h² + v²)^(−b/2) by products: b takes at most two values here
-        ir = 1.0 / np.sqrt(hh + v * v)
-        b0 = int(np.min(b))
-        val = amp * _ipow(ir, b0)
-        if a:
-            val = val * _ipow(v + dd, a)
-        if np.ndim(b) and (b > b0).any():
-            if int(np.max(b)) - b0 > 1:  # not reached with orders 3 and 4
-                val = val * ir ** (b - b0)
-            else:
-                val = np.where(b > b0, val * ir, val)
-        if kernel == 0:
-            es = es + val
-        else:
-            et = et + val
-    return es, et
-
-
-def _ipow(x, n):
-    """x**n for a small integer n >= 1, by repeated products (exact powers are
-    not what numpy's float pow is fast at)."""
-    out = x
-    for _ in range(n - 1):
-        out = out * x
-    return out
-
-
 class _Tree:
     """Binary tree of load clusters with their multipole moments (internal)."""
 
@@ -1318,6 +1267,32 @@ class _Tree:
                 n3 = np.where(self.alt, self.N3, 0.0)
                 self.alt_terms.append((kernel, p - j, c3 * n3, m + 3 - j, True))
 
+        # the same as flat tables for the compiled loops (sitesettle.farfield)
+        nt = np.zeros((self.n, ff.NT_COLS))
+        nt[:, ff.NT_C : ff.NT_C + 3] = self.c
+        nt[:, ff.NT_Q0] = self.Q0
+        nt[:, ff.NT_DIP : ff.NT_DIP + 3] = self.dip
+        nt[:, ff.NT_QUAD : ff.NT_QUAD + 6] = self.quad
+        nt[:, ff.NT_LO : ff.NT_LO + 3] = self.lo
+        nt[:, ff.NT_HI : ff.NT_HI + 3] = self.hi
+        nt[:, ff.NT_DMIN], nt[:, ff.NT_DMAX] = self.dmin, self.dmax
+        nt[:, ff.NT_RHO], nt[:, ff.NT_H3] = self.rho, self.h3
+        nt[:, ff.NT_EXTENT], nt[:, ff.NT_F] = self.extent, self.F
+        nt[:, ff.NT_M : ff.NT_M + 5] = self.M
+        nt[:, ff.NT_ALT] = self.alt
+        self.nt = nt
+        self.amp1 = np.column_stack([np.broadcast_to(t[2], self.n) for t in self.terms])
+        self.b1 = np.column_stack([np.broadcast_to(t[3], self.n) for t in self.terms]).astype(
+            np.int64
+        )
+        gap = [t for t in self.alt_terms if not t[4]]
+        cen = [t for t in self.alt_terms if t[4]]
+        self.amp4 = np.column_stack([np.broadcast_to(t[2], self.n) for t in gap])
+        self.b4 = np.array([t[3] for t in gap], dtype=np.int64)
+        self.amp3 = np.column_stack([np.broadcast_to(t[2], self.n) for t in cen])
+        self.b3 = np.array([t[3] for t in cen], dtype=np.int64)
+        self.tables = (self.nt, self.amp1, self.b1, self.amp4, self.b4, self.amp3, self.b3)
+
     def bounds(self, lo, hi):
         """Per node: truncation bound valid at every point of the box [lo, hi], and
         whether the node contributes nothing there (all points above its planes)."""
@@ -1340,54 +1315,16 @@ class _Tree:
         The second bound (clusters of centrally symmetric loads) and the harmonic
         bound of T are smaller only now and then and cost twice the first: with
         ``lam`` (K,) the acceptance thresholds they are computed only for pairs
-        whose first bound lies in (λ·_LAZY_LO, λ·_LAZY_HI], where they may change
-        the acceptance or add to a block's sum; elsewhere e is the first bound,
-        which is as rigorous (every bound here is an upper bound of the same error).
+        whose first bound lies in (λ·LAZY_LO, λ·LAZY_HI] (sitesettle.farfield),
+        where they may change the acceptance or add to a block's sum; elsewhere e
+        is the first bound, which is as rigorous (every bound here is an upper
+        bound of the same error).
         """
-        nlo, nhi = self.lo[nodes], self.hi[nodes]
-        gx = np.maximum(np.maximum(lo[:, 0] - nhi[:, 0], nlo[:, 0] - hi[:, 0]), 0.0)
-        gy = np.maximum(np.maximum(lo[:, 1] - nhi[:, 1], nlo[:, 1] - hi[:, 1]), 0.0)
-        hh = gx * gx + gy * gy
-        dmax, dmin = self.dmax[nodes], self.dmin[nodes]
-        vmin = lo[:, 2] - dmax
-        vmax = hi[:, 2] - dmax
-        zero = hi[:, 2] <= dmin
-        ok = (vmin > 0) & ~zero
-        vmin = np.where(ok, vmin, 1.0)
-        vmax = np.where(ok, vmax, 1.0)
-        dd = dmax - dmin
-        es, et = _sup_terms(self.terms, nodes, hh, vmin, vmax, dd)
-        es = np.broadcast_to(es, len(nodes)).copy()
-        et = np.broadcast_to(et, len(nodes)).copy()
-        if lam is None:
-            k = np.flatnonzero(ok)
-        else:
-            e1 = np.maximum(es, et)
-            k = np.flatnonzero(ok & (e1 > _LAZY_LO * lam) & (e1 <= _LAZY_HI * lam))
-        if len(k):
-            nk = nodes[k]
-            lk, hk = lo[k], hi[k]
-            # harmonic bound of T (see stress_sums): r_c the least distance from the
-            # box to C, valid where r_c exceeds the cluster's radius ρ about C
-            eh, tail = self._harmonic_bound(lk, hk, nk)
-            et[k] = np.minimum(et[k], eh)
-            a = np.flatnonzero(self.alt[nk])
-            if len(a):
-                # centre distances for the third-order term: plan gap from the box to C
-                # and vertical distance z − C_z (> 0 where ok, as C_z ≤ d_max)
-                ka, na = k[a], nk[a]
-                c = self.c[na]
-                cx = np.maximum(np.maximum(lo[ka, 0] - c[:, 0], c[:, 0] - hi[ka, 0]), 0.0)
-                cy = np.maximum(np.maximum(lo[ka, 1] - c[:, 1], c[:, 1] - hi[ka, 1]), 0.0)
-                hc = cx * cx + cy * cy
-                gap = [t for t in self.alt_terms if not t[4]]
-                cen = [t for t in self.alt_terms if t[4]]
-                s4, t4 = _sup_terms(gap, na, hh[ka], vmin[ka], vmax[ka], dd[ka])
-                s3, t3 = _sup_terms(cen, na, hc, lo[ka, 2] - c[:, 2], hi[ka, 2] - c[:, 2], 0.0 * hc)
-                es[ka] = np.minimum(es[ka], s4 + s3)
-                et[ka] = np.minimum(et[ka], np.minimum(t4, tail[a]) + t3)
-        e = np.where(ok, np.maximum(es, et), np.inf)
-        e[zero] = 0.0
+        nodes = np.ascontiguousarray(nodes, dtype=np.int64)
+        lo = np.ascontiguousarray(np.broadcast_to(lo, (len(nodes), 3)), dtype=float)
+        hi = np.ascontiguousarray(np.broadcast_to(hi, (len(nodes), 3)), dtype=float)
+        lam = np.full(len(nodes), -1.0) if lam is None else np.ascontiguousarray(lam, dtype=float)
+        e, zero = ff.bounds_many(*self.tables, nodes, lo, hi, lam)
         return e, zero
 
     def _harmonic_bound(self, lo, hi, nodes):
@@ -1397,111 +1334,19 @@ class _Tree:
         the node's centre C and ρ its radius about C, (1/π)[4·M₃/r_c⁵ +
         M₄·S(ρ/r_c)/r_c⁶], S(x) = 5/(1 − x) + x/(1 − x)² (inf where ρ ≥ r_c; no
         M₃ term for a single centrally symmetric load)."""
-        c = self.c[nodes]
-        cx = np.maximum(np.maximum(lo[:, 0] - c[:, 0], c[:, 0] - hi[:, 0]), 0.0)
-        cy = np.maximum(np.maximum(lo[:, 1] - c[:, 1], c[:, 1] - hi[:, 1]), 0.0)
-        cz = np.maximum(np.maximum(lo[:, 2] - c[:, 2], c[:, 2] - hi[:, 2]), 0.0)
-        rc = np.sqrt(cx * cx + cy * cy + cz * cz)
-        good = rc > self.rho[nodes]
-        rc = np.where(good, rc, 1.0)
-        x = self.rho[nodes] / rc
-        xs = np.where(good, x, 0.0)
-        ir = 1.0 / rc
-        ir2 = ir * ir
-        ir6 = ir2 * ir2 * ir2
-        sx = 5.0 / (1.0 - xs) + xs / ((1.0 - xs) * (1.0 - xs))
-        tail = np.where(good, _K_THETA * self.M[nodes, 4] * ir6 * sx, np.inf)
-        return _K_THETA * self.h3[nodes] * self.M[nodes, 3] * (ir6 * rc) + tail, tail
+        nodes = np.ascontiguousarray(nodes, dtype=np.int64)
+        lo = np.ascontiguousarray(np.broadcast_to(lo, (len(nodes), 3)), dtype=float)
+        hi = np.ascontiguousarray(np.broadcast_to(hi, (len(nodes), 3)), dtype=float)
+        return ff.harmonic_many(self.nt, nodes, lo, hi)
 
     def far(self, nodes, px, py, pz):
         """Multipole (monopole + dipole + quadrupole) (σz, T) of ``nodes`` at the points."""
-        a, b = self.far_pairs(nodes[None, :], px[:, None], py[:, None], pz[:, None])
-        return a.sum(axis=1), b.sum(axis=1)
-
-    def far_gathered(self, nodes, px, py, pz):
-        """Multipole (σz, T) of node ``nodes[k]`` at point k, for 1-D arrays.
-
-        The same expansion as :meth:`far_pairs`, with the dipole and quadrupole
-        contractions written out and grouped by powers of 1/r, so that fewer
-        temporaries are made per element.
-        """
-        t = self._table[:, nodes]
-        cx, cy, cz, q0, dx, dy, dw, qxx, qxy, qyy, qxw, qyw, qww = t
-        X = px - cx
-        Y = py - cy
-        W = pz - cz
-        d1 = dx * X + dy * Y
-        q1 = qxw * X + qyw * Y
-        q2 = (0.5 * qxx) * (X * X) + (0.5 * qyy) * (Y * Y) + qxy * (X * Y)
-        ss = qxx + qyy
-        W2 = W * W
-        ir2 = 1.0 / (X * X + Y * Y + W2)
-        ir3 = ir2 * np.sqrt(ir2)
-        ir5 = ir3 * ir2
-        ir7 = ir5 * ir2
-        ir9 = ir7 * ir2
-        W3 = W2 * W
-        # σz: q0 W³r⁻⁵ − d·∇k + ½ Q:∇∇k of k = W³ r⁻⁵, by powers of r⁻²
-        s5 = W * (q0 * W2 - 3.0 * dw * W + 3.0 * qww)
-        s7 = W2 * (5.0 * W * (d1 + dw * W) - (2.5 * ss + 17.5 * qww) * W - 15.0 * q1)
-        s9 = W3 * (35.0 * q2 + 17.5 * qww * W2 + 35.0 * W * q1)
-        sz = ir5 * s5 + ir7 * s7 + ir9 * s9
-        # T: the same for t = W r⁻³
-        t3 = q0 * W - dw
-        t5 = 3.0 * W * (d1 + dw * W) - (1.5 * ss + 4.5 * qww) * W - 3.0 * q1
-        t7 = W * (15.0 * q2 + 7.5 * qww * W2 + 15.0 * W * q1)
-        tt = ir3 * t3 + ir5 * t5 + ir7 * t7
-        return _K_SIGMA * sz, _K_THETA * tt
-
-    def far_pairs(self, nodes, px, py, pz):
-        """Multipole (σz, T) of node ``nodes[k]`` at point k (arrays broadcast together)."""
-        c = self.c[nodes]
-        X = px - c[..., 0]
-        Y = py - c[..., 1]
-        W = pz - c[..., 2]
-        X2, Y2, W2 = X * X, Y * Y, W * W
-        ir2 = 1.0 / (X2 + Y2 + W2)
-        ir3 = ir2 * np.sqrt(ir2)
-        ir5 = ir3 * ir2
-        ir7 = ir5 * ir2
-        q0, d, qd = self.Q0[nodes], self.dip[nodes], self.quad[nodes]
-        # σz kernel A W³ r⁻⁵ with its gradient and Hessian (u = p − c)
-        W3 = W2 * W
-        ir9 = ir7 * ir2
-        a7 = -5.0 * W3 * ir7
-        kx, ky = a7 * X, a7 * Y
-        kw = 3.0 * W2 * ir5 - 5.0 * W3 * W * ir7
-        b9 = 35.0 * W3 * ir9
-        kxx = b9 * X2 + a7
-        kyy = b9 * Y2 + a7
-        kxy = b9 * X * Y
-        g = -5.0 * (3.0 * W2 * ir7 - 7.0 * W3 * W * ir9)
-        kxw, kyw = g * X, g * Y
-        kww = 6.0 * W * ir5 - 35.0 * W3 * ir7 + 35.0 * W3 * W2 * ir9
-        sz = (
-            q0 * W3 * ir5
-            - (d[..., 0] * kx + d[..., 1] * ky + d[..., 2] * kw)
-            + 0.5 * (qd[..., 0] * kxx + qd[..., 2] * kyy + qd[..., 5] * kww)
-            + (qd[..., 1] * kxy + qd[..., 3] * kxw + qd[..., 4] * kyw)
-        )
-        # T kernel B W r⁻³
-        a5 = -3.0 * W * ir5
-        tx, ty = a5 * X, a5 * Y
-        tw = ir3 - 3.0 * W2 * ir5
-        b7 = 15.0 * W * ir7
-        txx = b7 * X2 + a5
-        tyy = b7 * Y2 + a5
-        txy = b7 * X * Y
-        g = -3.0 * (ir5 - 5.0 * W2 * ir7)
-        txw, tyw = g * X, g * Y
-        tww = -9.0 * W * ir5 + 15.0 * W3 * ir7
-        tt = (
-            q0 * W * ir3
-            - (d[..., 0] * tx + d[..., 1] * ty + d[..., 2] * tw)
-            + 0.5 * (qd[..., 0] * txx + qd[..., 2] * tyy + qd[..., 5] * tww)
-            + (qd[..., 1] * txy + qd[..., 3] * txw + qd[..., 4] * tyw)
-        )
-        return _K_SIGMA * sz, _K_THETA * tt
+        nodes = np.asarray(nodes, dtype=np.int64)
+        px, py, pz = (np.asarray(v, dtype=float) for v in (px, py, pz))
+        k = np.repeat(nodes[None, :], len(px), axis=0).ravel()
+        rep = lambda v: np.repeat(v, len(nodes))  # noqa: E731
+        a, b = ff.multipole_many(self.nt, k, rep(px), rep(py), rep(pz))
+        return a.reshape(len(px), -1).sum(axis=1), b.reshape(len(px), -1).sum(axis=1)
 
 
 def _morton(ix, iy):
@@ -1585,64 +1430,6 @@ class _Groups:
     def roots(self):
         return self.off[self.top] + np.arange(self.size[self.top])
 
-    def leaf_sums(self, g, val):
-        """Σ of ``val`` over pairs whose group holds each block (pushed down the levels)."""
-        acc = np.bincount(g, weights=val, minlength=len(self.level))
-        for lev in range(self.top, 0, -1):
-            par = acc[self.off[lev] : self.off[lev] + self.size[lev]]
-            child = np.arange(self.size[lev - 1])
-            acc[self.off[lev - 1] + child] += par[child >> 1]
-        return acc[: self.size[0]]
-
-
-def _traverse(tree, groups, threshold):
-    """Level-synchronous dual traversal of the load tree and the block groups.
-
-    For every (group, node) pair of a round the bound e is computed in one call
-    over the group's box; a node is accepted for the far field of all the
-    group's points when e ≤ threshold(node); a (block, leaf) pair not accepted
-    goes to the exact sum; otherwise the larger of the two (plan extent) is
-    replaced by its two children. Pairs whose group lies wholly above the
-    node's planes are dropped (they contribute nothing). Every block's points
-    thus see each load exactly once, through one accepted or exact pair of one
-    of the block's groups. Returns the accepted pairs (group, node, e) and the
-    exact pairs (block, node).
-    """
-    pg = groups.roots()
-    pn = np.zeros(len(pg), dtype=np.intp)
-    far_g, far_n, far_e, ex_g, ex_n = [], [], [], [], []
-    while len(pg):
-        lam = threshold(pn)
-        e, zero = tree.pair_bounds(groups.lo[pg], groups.hi[pg], pn, lam)
-        acc = ~zero & (e <= lam)
-        if acc.any():
-            far_g.append(pg[acc])
-            far_n.append(pn[acc])
-            far_e.append(e[acc])
-        rest = ~zero & ~acc
-        lev = groups.level[pg]
-        bleaf = lev == 0
-        nleaf = tree.leaf[pn]
-        ex = rest & bleaf & nleaf
-        if ex.any():
-            ex_g.append(pg[ex])
-            ex_n.append(pn[ex])
-        split_n = rest & ~nleaf & (bleaf | (tree.extent[pn] >= _SPLIT_RATIO * groups.extent[pg]))
-        split_g = rest & ~bleaf & ~split_n
-        sn, gn = pn[split_n], pg[split_n]
-        gg, ng = pg[split_g], pn[split_g]
-        lv = groups.level[gg] - 1
-        c0 = 2 * groups.index[gg]
-        has1 = c0 + 1 < groups.size[lv]
-        base = groups.off[lv]
-        pg = np.concatenate([gn, gn, base + c0, (base + c0 + 1)[has1]])
-        pn = np.concatenate([tree.left[sn], tree.right[sn], ng, ng[has1]])
-
-    def cat(parts, dtype=np.intp):
-        return np.concatenate(parts) if parts else np.zeros(0, dtype=dtype)
-
-    return (cat(far_g), cat(far_n), cat(far_e, float)), (cat(ex_g), cat(ex_n))
-
 
 def _pair_chunks(pcount, limit):
     """Split pairs into runs of about ``limit`` point elements."""
@@ -1670,55 +1457,6 @@ def _accumulate(out_s, out_t, pidx, a, b):
     out_t[p0 : p0 + m] += np.bincount(pidx - p0, weights=b, minlength=m)
 
 
-def _blockwise(fn, pb, pn, starts, counts, cols, rs, rt):
-    """Add fn(node, x, y, z) of every (block, node) pair at the block's points.
-
-    Pairs are bucketed by block size c and evaluated as (c, pairs) arrays: the
-    node's data vary along the long axis only, so they are gathered once per
-    pair, and the pairs of one block are summed with one ``reduceat``.
-    ``cols`` holds the x, y, z arrays of the points in block order.
-    """
-    if len(pb) == 0:
-        return
-    o = np.argsort(pb, kind="stable")
-    pb, pn = pb[o], pn[o]
-    px, py, pz = cols
-    # a block whose points share one plan position (a column) passes x, y as one
-    # row, so that the plan terms are computed once per pair, not per point
-    column = np.maximum.reduceat(px, starts) == np.minimum.reduceat(px, starts)
-    column &= np.maximum.reduceat(py, starts) == np.minimum.reduceat(py, starts)
-    size = np.where(column[pb], counts[pb], -counts[pb])
-    for c in np.unique(size):
-        sel = np.flatnonzero(size == c)
-        c = abs(int(c))
-        step = max(1, _PAIR_CHUNK // c)
-        ar = np.arange(c)[:, None]
-        for k0 in range(0, len(sel), step):
-            kk = sel[k0 : k0 + step]
-            blk = pb[kk]
-            pos = starts[blk][None, :] + ar
-            if column[blk[0]]:
-                first = starts[blk][None, :]
-                a, b = fn(pn[kk][None, :], px[first], py[first], pz[pos])
-            else:
-                a, b = fn(pn[kk][None, :], px[pos], py[pos], pz[pos])
-            cut = np.flatnonzero(np.concatenate([[True], blk[1:] != blk[:-1]]))
-            dest = pos[:, cut]
-            rs[dest] += np.add.reduceat(a, cut, axis=1)
-            rt[dest] += np.add.reduceat(b, cut, axis=1)
-
-
-def _rect_gathered(pre, j, px, py, pz):
-    """(σz, T) of rectangle ``j[k]`` at point k, from per-load precomputed arrays."""
-    x, y, c, s, hl, hw, q, dep = (a[j] for a in pre)
-    dx, dy = px - x, py - y
-    w = pz - dep
-    on = w > 0
-    sz, om = _rect_terms(hl, hw, dx * c + dy * s, dy * c - dx * s, np.where(on, w, 0.0))
-    q = np.where(on, q, 0.0)
-    return q * sz, q * om * _K_THETA
-
-
 #: plan cell [m], depth-band ratio and shallowest band edge [m] of the point
 #: blocks, their largest size, and the levels of block groups (2^levels blocks
 #: at most in a group). A (group, cluster) pair that is rejected splits the
@@ -1732,9 +1470,8 @@ _BAND_Z0 = 1.0
 _BLOCK_MAX = 512
 _GROUP_LEVELS = 7
 _SPLIT_RATIO = 1.0
-#: points treated together (bounds the pair lists held at once), and worker
-#: threads over such batches (numpy releases the GIL inside its loops)
-_BATCH_POINTS = 1 << 15
+#: worker threads over chunks of root groups (the compiled traversal releases
+#: the GIL)
 _THREADS = 2
 #: a block accepts a node when its bound e ≤ ε·2^−k, for the first k of this list
 #: that keeps the block's Σ e ≤ ε; None is the fallback e ≤ ε·F/F_total, which
@@ -1744,13 +1481,6 @@ _THREADS = 2
 #: the benchmark: 2.64 M instead of 3.28 M traversal pairs, 4.6–5.0 s instead
 #: of 5.3–5.9 s, the same 324 clusters per point).
 _THRESHOLDS = (7.0, 8.0, None)
-#: elements per chunk of the (points × pairs) evaluation loops (processor cache)
-_PAIR_CHUNK = 1 << 13
-#: the second bounds are computed for pairs whose first bound e₁ lies in
-#: (λ·_LAZY_LO, λ·_LAZY_HI] (see :meth:`_Tree.pair_bounds`): on the benchmark plan
-#: they make 1.6 % of the pairs acceptable, 99.9 % of these with e₁ ≤ 4.6 λ
-_LAZY_LO = 0.25
-_LAZY_HI = 5.0
 
 
 #: when set to a dict, the treecode adds its counts to it (points, multipole
@@ -1767,107 +1497,118 @@ def _treecode(loads, active, p, eps, stats=None):
     tree = _Tree(loads, active)
     ld = loads
     t = np.radians(ld.rotation)
-    pre = (
-        ld.x,
-        ld.y,
-        np.cos(t),
-        np.sin(t),
-        ld.length / 2.0,
-        ld.width / 2.0,
-        np.where(ld.kind == RECTANGLE, ld.pressure, 0.0),
-        ld.depth,
+    rect = np.column_stack(
+        [
+            ld.x,
+            ld.y,
+            np.cos(t),
+            np.sin(t),
+            ld.length / 2.0,
+            ld.width / 2.0,
+            ld.pressure,
+            ld.depth,
+            (ld.kind == RECTANGLE).astype(float),
+        ]
     )
     out_s, out_t = np.zeros(len(p)), np.zeros(len(p))
     todo = np.arange(len(p))
     for k in _THRESHOLDS:
         if k is None:
-            tau0 = eps / tree.F[0]
-            threshold = lambda n, tau0=tau0: tau0 * tree.F[n]  # noqa: E731
+            mode, lam, tau0 = 1, 0.0, eps / tree.F[0]
         else:
-            lam = eps * 2.0**-k
-            threshold = lambda n, lam=lam: np.full(len(n), lam)  # noqa: E731
-        subs = [todo[b0 : b0 + _BATCH_POINTS] for b0 in range(0, len(todo), _BATCH_POINTS)]
-
-        def run(sub, threshold=threshold, final=k is None):
-            a, b, bad = _treecode_pass(tree, ld, pre, p[sub], eps, threshold, final, stats)
-            out_s[sub], out_t[sub] = a, b  # batches write disjoint entries
-            return sub[bad]
-
-        if _THREADS > 1 and len(subs) > 1:
-            with ThreadPoolExecutor(max_workers=_THREADS) as pool:
-                failed = list(pool.map(run, subs))
-        else:
-            failed = [run(sub) for sub in subs]
-        todo = np.concatenate(failed)
+            mode, lam, tau0 = 0, eps * 2.0**-k, 0.0
+        rule = (mode, lam, tau0)
+        a, b, bad = _treecode_pass(tree, ld, rect, p[todo], eps, rule, k is None, stats)
+        out_s[todo], out_t[todo] = a, b
+        todo = todo[bad]
         if len(todo) == 0:
             break
     return out_s, out_t
 
 
-def _treecode_pass(tree, ld, pre, p, eps, threshold, final, stats):
+def _treecode_pass(tree, ld, rect, p, eps, rule, final, stats):
     """One pass of the treecode; returns (σz, T) and the points whose bound failed."""
     order, starts, counts, blo, bhi = _point_blocks(p, _CELL, _BAND_RATIO, _BAND_Z0, _BLOCK_MAX)
     groups = _Groups(starts, counts, blo, bhi, _GROUP_LEVELS)
-    (fg, fn, fe), (xg, xn) = _traverse(tree, groups, threshold)
-    esum = groups.leaf_sums(fg, fe)
-    bad_block = np.zeros(len(starts), dtype=bool) if final else esum > eps
     ps = p[order]
+    px, py, pz = (np.ascontiguousarray(ps[:, i]) for i in range(3))
+    nb = len(starts)
     rs, rt = np.zeros(len(p)), np.zeros(len(p))
+    esum = np.zeros(nb)
+    nfar = np.zeros(nb, dtype=np.int64)
+    nexact = np.zeros(nb, dtype=np.int64)
+    gtab = (
+        groups.lo,
+        groups.hi,
+        groups.start.astype(np.int64),
+        groups.count.astype(np.int64),
+        groups.level.astype(np.int64),
+        groups.index.astype(np.int64),
+        groups.extent,
+        groups.off.astype(np.int64),
+        groups.size.astype(np.int64),
+    )
+    roots = groups.roots().astype(np.int64)
+    # roots are handed out in chunks of consecutive groups, whose point ranges
+    # are disjoint, so the threads write disjoint parts of the result arrays
+    nchunk = min(len(roots), 8 * _THREADS)
+    chunks = [c for c in np.array_split(roots, nchunk) if len(c)]
+
+    def run(chunk):
+        return ff.traverse(
+            chunk,
+            *gtab,
+            *tree.tables,
+            tree.left.astype(np.int64),
+            tree.right.astype(np.int64),
+            tree.load.astype(np.int64),
+            rect,
+            *rule,
+            _SPLIT_RATIO,
+            px,
+            py,
+            pz,
+            rs,
+            rt,
+            esum,
+            nfar,
+            nexact,
+        )
+
+    if _THREADS > 1 and len(chunks) > 1:
+        with ThreadPoolExecutor(max_workers=_THREADS) as pool:
+            done = list(pool.map(run, chunks))
+    else:
+        done = [run(c) for c in chunks]
+    ob = np.concatenate([d[0] for d in done])
+    ol = np.concatenate([d[1] for d in done])
+    bad_block = np.zeros(nb, dtype=bool) if final else esum > eps
     if stats is not None:
         ok = ~bad_block
-        pts_ok = np.repeat(ok, counts)
-        cnt_far = groups.leaf_sums(fg, np.ones(len(fg)))
-        cnt_ex = np.bincount(xg, minlength=len(starts))
         add = {
-            "points": int(pts_ok.sum()),
-            "far": int((cnt_far * counts)[ok].sum()),
-            "exact": int((cnt_ex * counts)[ok].sum()),
-            "pairs": len(fg) + len(xg),
+            "points": int(counts[ok].sum()),
+            "far": int((nfar * counts)[ok].sum()),
+            "exact": int((nexact * counts)[ok].sum()),
+            "pairs": int(sum(d[2] for d in done)),
         }
         with _STATS_LOCK:
             for key, val in add.items():
                 stats[key] = stats.get(key, 0) + val
-    # far field: group pairs expanded to (block, node) pairs, then evaluated as
-    # (pairs × points of the block) arrays, one array shape per block size
-    nblk = groups.size[0]
-    lev = groups.level[fg]
-    first = groups.index[fg] << lev
-    nb_in = np.minimum(first + (1 << lev), nblk) - first
-    rep = np.repeat(np.arange(len(fg)), nb_in)
-    bb = first[rep] + np.arange(len(rep)) - np.repeat(np.cumsum(nb_in) - nb_in, nb_in)
-    bn = fn[rep]
-    # blocks whose bound failed are redone by the caller: skip them here
-    keep = ~bad_block[bb]
-    cols = (ps[:, 0].copy(), ps[:, 1].copy(), ps[:, 2].copy())
-    _blockwise(tree.far_gathered, bb[keep], bn[keep], starts, counts, cols, rs, rt)
-    keep = ~bad_block[xg]
-    xg, xn = xg[keep], xn[keep]
-    # exact leaves
-    xl = tree.load[xn]
-    kind = ld.kind[xl]
-    o = np.argsort(xg, kind="stable")
-    xg, xl, kind = xg[o], xl[o], kind[o]
-    xs, xc = groups.start[xg], groups.count[xg]
-    rect = kind == RECTANGLE
-    _blockwise(
-        lambda j, x, y, z: _rect_gathered(pre, j, x, y, z),
-        xg[rect],
-        xl[rect],
-        starts,
-        counts,
-        cols,
-        rs,
-        rt,
-    )
+    # exact circles and polygons, left by the compiled traversal (blocks whose
+    # bound failed are redone by the caller: skip them)
+    keep = ~bad_block[ob]
+    ob, ol = ob[keep], ol[keep]
+    kind = ld.kind[ol]
+    xs, xc = starts[ob], counts[ob]
     circ = kind == CIRCLE
-    cs, cc, cl = xs[circ], xc[circ], xl[circ]
+    cs, cc, cl = xs[circ], xc[circ], ol[circ]
     for sl in _pair_chunks(cc, max(1, _CHUNK_ELEMENTS // (2 * len(_CIRCLE_T)))):
         pidx, rep = _expand(cs[sl], cc[sl])
         a, b = _circle_pairs(ld, cl[sl][rep], ps[pidx, 0], ps[pidx, 1], ps[pidx, 2])
         _accumulate(rs, rt, pidx, a, b)
     poly = kind == POLYGON
-    for j in np.unique(xl[poly]):
-        sel = poly & (xl == j)
+    for j in np.unique(ol[poly]):
+        sel = poly & (ol == j)
         pidx, _ = _expand(xs[sel], xc[sel])
         a, b = _exact_dense(ld, [j], ps[pidx, 0], ps[pidx, 1], ps[pidx, 2])
         rs[pidx] += a
@@ -1999,10 +1740,18 @@ def stress_sums(loads: Loads, points, *, tolerance: float = 1e-3) -> tuple[np.nd
     quadrature error (below 1e-8 q per circle, see :func:`circle_stress`),
     which tolerance = 0 keeps too.
 
-    Memory is bounded: the points are treated in batches of 32,768 (two at a
-    time, on two threads), whose pair lists take about 150 MB each, and the
-    evaluation loops work in chunks of 8,192 (treecode) or 32,768 (exact sum)
-    pair elements, sized for the processor cache; the results are (N,) arrays.
+    **Evaluation.** The dual traversal runs compiled (:mod:`sitesettle.farfield`),
+    depth first from each root group, and adds an accepted cluster's multipole
+    or an exact rectangle to the points as soon as the pair is decided, so no
+    list of pairs is ever held; exact circles and polygons are returned as
+    (block, load) pairs and summed by the vectorised kernels. The root groups
+    are shared between two threads in chunks of consecutive groups, whose
+    points are disjoint; each point's sum is formed in the same order whatever
+    the threads, so the result does not depend on them.
+
+    Memory is bounded: the treecode holds a few copies of the (N, 3) points and
+    (N,) results and the tree's tables (about 0.3 kB per load); the exact sum
+    works in chunks of 32,768 (point × load) elements.
     """
     if tolerance < 0 or not np.isfinite(tolerance):
         raise InputError("tolerance", f"{tolerance!r}", "a fraction >= 0")

@@ -1,0 +1,421 @@
+"""Compiled inner loops of the stress treecode (internal to :mod:`sitesettle.stress`).
+
+The treecode of :func:`sitesettle.stress.stress_sums` spends its time in three
+small computations repeated tens of millions of times on a large plan: the
+rigorous truncation bound of a (box of points, cluster of loads) pair, the
+multipole (monopole + dipole + quadrupole) value of a cluster at a point, and
+the exact corner-superposition value of a rectangle at a point. This module
+holds them as scalar functions compiled with numba, and the dual traversal of
+the load tree and the point groups that calls them, so that no pair list is
+ever stored and the two threads of the driver run truly in parallel (the
+compiled functions release the GIL).
+
+The mathematics, the proof of the bound and the acceptance rules are those of
+:func:`sitesettle.stress.stress_sums` (see its Notes); the tree and its tables
+are built by ``stress._Tree``. Every function here is checked against the
+vectorised formulas and the exact sums in tests/test_stress_superposition.py
+and tests/test_farfield.py.
+
+Table layouts (columns of the float table ``nt`` of the load tree, one row per
+node) are the ``NT_*`` constants below; the bound's six terms per node are, in
+order, σz with j = 0…3 (powers W^(3−j)) and T with j = 0, 1 (powers W^(1−j)).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+from numba import njit
+
+#: Boussinesq point-load coefficient 3/(2π) and the solid-angle coefficient 1/π
+K_SIGMA = 3.0 / (2.0 * math.pi)
+K_THETA = 1.0 / math.pi
+_TWO_PI = 2.0 * math.pi
+_TINY = 1e-300
+
+# columns of the node table ``nt``
+NT_C = 0  # 0–2 centre C (x, y, depth)
+NT_Q0 = 3  # monopole Σ q A
+NT_DIP = 4  # 4–6 dipole
+NT_QUAD = 7  # 7–12 quadrupole xx, xy, yy, xw, yw, ww
+NT_LO = 13  # 13–15 bounding box low corner
+NT_HI = 16  # 16–18 bounding box high corner
+NT_DMIN = 19
+NT_DMAX = 20
+NT_RHO = 21  # radius about C holding every source
+NT_H3 = 22  # coefficient of M3 in the harmonic bound of T
+NT_EXTENT = 23  # plan diagonal of the bounding box
+NT_F = 24  # Σ |q| A
+NT_M = 25  # 25–29 radial moments M0…M4
+NT_ALT = 30  # 1 where the second bound exists
+NT_COLS = 31
+
+#: power of W in each of the six bound terms, and its kernel (0 σz, 1 T)
+TERM_A = np.array([3, 2, 1, 0, 1, 0], dtype=np.int64)
+TERM_KERNEL = np.array([0, 0, 0, 0, 1, 1], dtype=np.int64)
+#: the bound's j index and the kernel's power m of 1/r per term
+TERM_J = np.array([0, 1, 2, 3, 0, 1], dtype=np.int64)
+TERM_M = np.array([5, 5, 5, 5, 3, 3], dtype=np.int64)
+
+#: the second bounds are computed only for pairs whose first bound e₁ lies in
+#: (λ·LAZY_LO, λ·LAZY_HI] (see stress._Tree.pair_bounds): on the benchmark plan
+#: they make 1.6 % of the pairs acceptable, 99.9 % of these with e₁ ≤ 4.6 λ
+LAZY_LO = 0.25
+LAZY_HI = 5.0
+
+_JIT = {"cache": True, "nogil": True, "fastmath": False, "error_model": "numpy"}
+
+
+@njit(**_JIT)
+def _ipow(x, n):
+    out = 1.0
+    for _ in range(n):
+        out *= x
+    return out
+
+
+@njit(**_JIT)
+def _sup_terms(amp, b, hh, vmin, vmax, dd):
+    """Σ over six terms amp · sup (v + Δ)^a (h² + v²)^(−b/2), v in [vmin, vmax],
+    for σz (terms 0–3) and T (terms 4, 5)."""
+    es = 0.0
+    et = 0.0
+    for k in range(6):
+        ak = amp[k]
+        if ak == 0.0:
+            continue
+        a = TERM_A[k]
+        bk = b[k]
+        if a == 0:
+            v = vmin
+        else:
+            bd = bk * dd
+            vs = (-bd + math.sqrt(bd * bd + 4.0 * (bk - a) * a * hh)) / (2.0 * (bk - a))
+            v = min(max(vs, vmin), vmax)
+        ir = 1.0 / math.sqrt(hh + v * v)
+        val = ak * _ipow(ir, bk)
+        if a:
+            val *= _ipow(v + dd, a)
+        if TERM_KERNEL[k] == 0:
+            es += val
+        else:
+            et += val
+    return es, et
+
+
+@njit(**_JIT)
+def harmonic_bound(nt, node, lo0, lo1, lo2, hi0, hi1, hi2):
+    """Harmonic bound of T's far-field error of ``node`` over the box, and its
+    part from the Legendre terms of order ≥ 4 (inf, inf where ρ ≥ r_c)."""
+    c0 = nt[node, NT_C]
+    c1 = nt[node, NT_C + 1]
+    c2 = nt[node, NT_C + 2]
+    cx = max(max(lo0 - c0, c0 - hi0), 0.0)
+    cy = max(max(lo1 - c1, c1 - hi1), 0.0)
+    cz = max(max(lo2 - c2, c2 - hi2), 0.0)
+    rc = math.sqrt(cx * cx + cy * cy + cz * cz)
+    rho = nt[node, NT_RHO]
+    if not rc > rho:
+        return math.inf, math.inf
+    x = rho / rc
+    ir = 1.0 / rc
+    ir2 = ir * ir
+    ir6 = ir2 * ir2 * ir2
+    sx = 5.0 / (1.0 - x) + x / ((1.0 - x) * (1.0 - x))
+    tail = K_THETA * nt[node, NT_M + 4] * ir6 * sx
+    return K_THETA * nt[node, NT_H3] * nt[node, NT_M + 3] * (ir6 * rc) + tail, tail
+
+
+@njit(**_JIT)
+def pair_bound(nt, amp1, b1, amp4, b4, amp3, b3, node, lo0, lo1, lo2, hi0, hi1, hi2, lam):
+    """Bound e of the far-field error of ``node`` at every point of the box
+    [lo, hi], and whether the node contributes nothing there (all points above
+    its planes). ``lam`` < 0 computes the second bounds always; otherwise only
+    where the first bound lies in (λ·LAZY_LO, λ·LAZY_HI]. e = inf where some
+    point is not below the node's deepest plane."""
+    dmin = nt[node, NT_DMIN]
+    dmax = nt[node, NT_DMAX]
+    if hi2 <= dmin:
+        return 0.0, True
+    vmin = lo2 - dmax
+    if not vmin > 0.0:
+        return math.inf, False
+    vmax = hi2 - dmax
+    gx = max(max(lo0 - nt[node, NT_HI], nt[node, NT_LO] - hi0), 0.0)
+    gy = max(max(lo1 - nt[node, NT_HI + 1], nt[node, NT_LO + 1] - hi1), 0.0)
+    hh = gx * gx + gy * gy
+    dd = dmax - dmin
+    es, et = _sup_terms(amp1[node], b1[node], hh, vmin, vmax, dd)
+    e1 = max(es, et)
+    if lam < 0.0 or (e1 > LAZY_LO * lam and e1 <= LAZY_HI * lam):
+        eh, tail = harmonic_bound(nt, node, lo0, lo1, lo2, hi0, hi1, hi2)
+        et = min(et, eh)
+        if nt[node, NT_ALT] > 0.0:
+            c0 = nt[node, NT_C]
+            c1 = nt[node, NT_C + 1]
+            c2 = nt[node, NT_C + 2]
+            cx = max(max(lo0 - c0, c0 - hi0), 0.0)
+            cy = max(max(lo1 - c1, c1 - hi1), 0.0)
+            hc = cx * cx + cy * cy
+            s4, t4 = _sup_terms(amp4[node], b4, hh, vmin, vmax, dd)
+            s3, t3 = _sup_terms(amp3[node], b3, hc, lo2 - c2, hi2 - c2, 0.0)
+            es = min(es, s4 + s3)
+            et = min(et, min(t4, tail) + t3)
+    return max(es, et), False
+
+
+@njit(**_JIT)
+def multipole(nt, node, px, py, pz):
+    """Multipole (σz, T) of ``node`` at one point: the Taylor expansion of the
+    kernels about the centre C to second order, grouped by powers of 1/r."""
+    X = px - nt[node, 0]
+    Y = py - nt[node, 1]
+    W = pz - nt[node, 2]
+    q0 = nt[node, 3]
+    dx = nt[node, 4]
+    dy = nt[node, 5]
+    dw = nt[node, 6]
+    qxx = nt[node, 7]
+    qxy = nt[node, 8]
+    qyy = nt[node, 9]
+    qxw = nt[node, 10]
+    qyw = nt[node, 11]
+    qww = nt[node, 12]
+    d1 = dx * X + dy * Y
+    q1 = qxw * X + qyw * Y
+    q2 = (0.5 * qxx) * (X * X) + (0.5 * qyy) * (Y * Y) + qxy * (X * Y)
+    ss = qxx + qyy
+    W2 = W * W
+    ir2 = 1.0 / (X * X + Y * Y + W2)
+    ir3 = ir2 * math.sqrt(ir2)
+    ir5 = ir3 * ir2
+    ir7 = ir5 * ir2
+    ir9 = ir7 * ir2
+    W3 = W2 * W
+    # σz: q0 W³r⁻⁵ − d·∇k + ½ Q:∇∇k of k = W³ r⁻⁵, by powers of r⁻²
+    s5 = W * (q0 * W2 - 3.0 * dw * W + 3.0 * qww)
+    s7 = W2 * (5.0 * W * (d1 + dw * W) - (2.5 * ss + 17.5 * qww) * W - 15.0 * q1)
+    s9 = W3 * (35.0 * q2 + 17.5 * qww * W2 + 35.0 * W * q1)
+    sz = ir5 * s5 + ir7 * s7 + ir9 * s9
+    # T: the same for t = W r⁻³
+    t3 = q0 * W - dw
+    t5 = 3.0 * W * (d1 + dw * W) - (1.5 * ss + 4.5 * qww) * W - 3.0 * q1
+    t7 = W * (15.0 * q2 + 7.5 * qww * W2 + 15.0 * W * q1)
+    tt = ir3 * t3 + ir5 * t5 + ir7 * t7
+    return K_SIGMA * sz, K_THETA * tt
+
+
+@njit(**_JIT)
+def rectangle(hl, hw, u, v, w):
+    """σz/q and Ω at local offsets (u, v) from the centre of a rectangle of
+    half sides ``hl`` × ``hw`` at depth w > 0 below its plane (signed Holl corner
+    superposition, as stress._rect_terms)."""
+    x1 = hl - u
+    x0 = -hl - u
+    y1 = hw - v
+    y0 = -hw - v
+    w2 = w * w
+    sx1 = x1 * x1
+    sx0 = x0 * x0
+    sy1 = y1 * y1
+    sy0 = y0 * y0
+    ix1 = 1.0 / (sx1 + w2 + _TINY)
+    ix0 = 1.0 / (sx0 + w2 + _TINY)
+    iy1 = 1.0 / (sy1 + w2 + _TINY)
+    iy0 = 1.0 / (sy0 + w2 + _TINY)
+    # corners (x1, y1) +, (x1, y0) −, (x0, y1) −, (x0, y0) +
+    r11 = math.sqrt(sx1 + sy1 + w2)
+    r10 = math.sqrt(sx1 + sy0 + w2)
+    r01 = math.sqrt(sx0 + sy1 + w2)
+    r00 = math.sqrt(sx0 + sy0 + w2)
+    i11, i10, i01, i00 = x1 * y1, x1 * y0, x0 * y1, x0 * y0
+    e11, e10, e01, e00 = w * r11, w * r10, w * r01, w * r00
+    kk = (
+        (i11 * w) * (ix1 + iy1) / (r11 + _TINY)
+        - (i10 * w) * (ix1 + iy0) / (r10 + _TINY)
+        - (i01 * w) * (ix0 + iy1) / (r01 + _TINY)
+        + (i00 * w) * (ix0 + iy0) / (r00 + _TINY)
+    )
+    om = math.atan2(i11 * e10 - e11 * i10, e11 * e10 + i11 * i10) + math.atan2(
+        i00 * e01 - e00 * i01, e00 * e01 + i00 * i01
+    )
+    return (om + kk) / _TWO_PI, om
+
+
+@njit(**_JIT)
+def bounds_many(nt, amp1, b1, amp4, b4, amp3, b3, nodes, lo, hi, lam):
+    """pair_bound of (box k, nodes[k]) for K pairs; ``lam`` (K,) or negative."""
+    n = len(nodes)
+    e = np.empty(n)
+    zero = np.empty(n, dtype=np.bool_)
+    for k in range(n):
+        e[k], zero[k] = pair_bound(
+            nt, amp1, b1, amp4, b4, amp3, b3, nodes[k],
+            lo[k, 0], lo[k, 1], lo[k, 2], hi[k, 0], hi[k, 1], hi[k, 2], lam[k],
+        )  # fmt: skip
+    return e, zero
+
+
+@njit(**_JIT)
+def harmonic_many(nt, nodes, lo, hi):
+    """harmonic_bound of (box k, nodes[k]) for K pairs."""
+    n = len(nodes)
+    eh = np.empty(n)
+    tail = np.empty(n)
+    for k in range(n):
+        eh[k], tail[k] = harmonic_bound(
+            nt, nodes[k], lo[k, 0], lo[k, 1], lo[k, 2], hi[k, 0], hi[k, 1], hi[k, 2]
+        )
+    return eh, tail
+
+
+@njit(**_JIT)
+def multipole_many(nt, nodes, px, py, pz):
+    """multipole of nodes[k] at point k, for 1-D arrays of one length."""
+    n = len(nodes)
+    sz = np.empty(n)
+    tt = np.empty(n)
+    for k in range(n):
+        sz[k], tt[k] = multipole(nt, nodes[k], px[k], py[k], pz[k])
+    return sz, tt
+
+
+@njit(**_JIT)
+def _grow(buf, n):
+    out = np.empty(max(2 * len(buf), 16), dtype=buf.dtype)
+    out[:n] = buf[:n]
+    return out
+
+
+@njit(**_JIT)
+def traverse(
+    roots,
+    g_lo,
+    g_hi,
+    g_start,
+    g_count,
+    g_level,
+    g_index,
+    g_extent,
+    g_off,
+    g_size,
+    nt,
+    amp1,
+    b1,
+    amp4,
+    b4,
+    amp3,
+    b3,
+    left,
+    right,
+    load,
+    rect,
+    mode,
+    lam0,
+    tau0,
+    split_ratio,
+    px,
+    py,
+    pz,
+    out_s,
+    out_t,
+    esum,
+    nfar,
+    nexact,
+):
+    """Dual traversal of the load tree and the point groups from each root group.
+
+    A (group, node) pair is accepted for the far field of all the group's
+    points when its bound e ≤ λ (``mode`` 0: λ = ``lam0``; 1: λ = τ0·F(node));
+    then its multipole is added at the group's points and e to the bound sum
+    ``esum`` of each of the group's blocks. A (block, single load) pair that is
+    not accepted is summed exactly here for a rectangle (``rect`` holds per load
+    x, y, cos, sin, half length, half width, pressure, depth, and 1 for a
+    rectangle) or returned for the caller otherwise. Else the larger of the
+    two (plan extent, the node when ≥ ``split_ratio`` × the group's) is split.
+    Pairs whose group lies wholly above the node's planes are dropped.
+
+    Returns the (block, load) pairs left to the caller and the number of
+    traversal pairs accepted or summed exactly.
+    """
+    o_blk = np.empty(64, dtype=np.int64)
+    o_load = np.empty(64, dtype=np.int64)
+    n_other = 0
+    s_g = np.empty(256, dtype=np.int64)
+    s_n = np.empty(256, dtype=np.int64)
+    pairs = 0
+    nb = g_size[0]
+    for r in range(len(roots)):
+        s_g[0] = roots[r]
+        s_n[0] = 0
+        top = 1
+        while top > 0:
+            top -= 1
+            g = s_g[top]
+            node = s_n[top]
+            lam = lam0 if mode == 0 else tau0 * nt[node, NT_F]
+            e, zero = pair_bound(
+                nt, amp1, b1, amp4, b4, amp3, b3, node,
+                g_lo[g, 0], g_lo[g, 1], g_lo[g, 2], g_hi[g, 0], g_hi[g, 1], g_hi[g, 2], lam,
+            )  # fmt: skip
+            if zero:
+                continue
+            lev = g_level[g]
+            if e <= lam:
+                pairs += 1
+                p0 = g_start[g]
+                for k in range(p0, p0 + g_count[g]):
+                    a, b = multipole(nt, node, px[k], py[k], pz[k])
+                    out_s[k] += a
+                    out_t[k] += b
+                b0 = g_index[g] << lev
+                for blk in range(b0, min(b0 + (1 << lev), nb)):
+                    esum[blk] += e
+                    nfar[blk] += 1
+                continue
+            j = load[node]
+            if lev == 0 and j >= 0:
+                pairs += 1
+                nexact[g] += 1
+                if rect[j, 8] > 0.0:
+                    x, y, c, s = rect[j, 0], rect[j, 1], rect[j, 2], rect[j, 3]
+                    hl, hw, q, dep = rect[j, 4], rect[j, 5], rect[j, 6], rect[j, 7]
+                    p0 = g_start[g]
+                    for k in range(p0, p0 + g_count[g]):
+                        w = pz[k] - dep
+                        if w > 0.0:
+                            dx = px[k] - x
+                            dy = py[k] - y
+                            a, om = rectangle(hl, hw, dx * c + dy * s, dy * c - dx * s, w)
+                            out_s[k] += q * a
+                            out_t[k] += q * om * K_THETA
+                else:
+                    if n_other == len(o_blk):
+                        o_blk = _grow(o_blk, n_other)
+                        o_load = _grow(o_load, n_other)
+                    o_blk[n_other] = g
+                    o_load[n_other] = j
+                    n_other += 1
+                continue
+            if top + 2 > len(s_g):
+                s_g = _grow(s_g, top)
+                s_n = _grow(s_n, top)
+            if j < 0 and (lev == 0 or nt[node, NT_EXTENT] >= split_ratio * g_extent[g]):
+                s_g[top] = g
+                s_n[top] = right[node]
+                s_g[top + 1] = g
+                s_n[top + 1] = left[node]
+                top += 2
+            else:
+                lv = lev - 1
+                c0 = 2 * g_index[g]
+                base = g_off[lv]
+                s_g[top] = base + c0
+                s_n[top] = node
+                top += 1
+                if c0 + 1 < g_size[lv]:
+                    s_g[top] = base + c0 + 1
+                    s_n[top] = node
+                    top += 1
+    return o_blk[:n_other], o_load[:n_other], pairs
