@@ -23,7 +23,7 @@ Performance (benchmarks/stress_bench.py on the shared 2-core machine, whose
 other jobs make every figure vary by up to ±30 %): exact evaluation (numpy,
 the reference path, tolerance = 0) runs at about 8–14 million rectangle-point
 pairs and 2–4 million hexagon-point pairs per second. The 2,000-footing plan at
-600,000 points (20,000 columns of 30 depths) takes about 8.5 s with the
+600,000 points (20,000 columns of 30 depths) takes 7–8.5 s with the
 default tolerance (RSS 0.35 GB), with a measured error of 2e-3 kPa (σz) and
 5e-3 kPa (T) against the allowed 0.3 kPa; about 340 multipole clusters and 17
 exact loads are evaluated per point. The traversal, the bounds and the
