@@ -283,7 +283,7 @@ def multipole_many(nt, nodes, px, py, pz):
 
 @njit(**_JIT)
 def _grow(buf, n):
-    out = np.empty(max(2 * len(buf), 16), dtype=buf.dtype)
+    out = np.empty(max(2 * len(buf), 2), dtype=buf.dtype)
     out[:n] = buf[:n]
     return out
 
@@ -323,6 +323,7 @@ def traverse(
     esum,
     nfar,
     nexact,
+    capacity,
 ):
     """Dual traversal of the load tree and the point groups from each root group.
 
@@ -336,14 +337,15 @@ def traverse(
     two (plan extent, the node when ≥ ``split_ratio`` × the group's) is split.
     Pairs whose group lies wholly above the node's planes are dropped.
 
-    Returns the (block, load) pairs left to the caller and the number of
-    traversal pairs accepted or summed exactly.
+    The pair stack and the list of pairs left to the caller start with
+    ``capacity`` entries and double when full. Returns those (block, load)
+    pairs and the number of traversal pairs accepted or summed exactly.
     """
-    o_blk = np.empty(64, dtype=np.int64)
-    o_load = np.empty(64, dtype=np.int64)
+    o_blk = np.empty(capacity, dtype=np.int64)
+    o_load = np.empty(capacity, dtype=np.int64)
     n_other = 0
-    s_g = np.empty(256, dtype=np.int64)
-    s_n = np.empty(256, dtype=np.int64)
+    s_g = np.empty(capacity, dtype=np.int64)
+    s_n = np.empty(capacity, dtype=np.int64)
     pairs = 0
     nb = g_size[0]
     for r in range(len(roots)):

@@ -1473,6 +1473,10 @@ _SPLIT_RATIO = 1.0
 #: worker threads over chunks of root groups (the compiled traversal releases
 #: the GIL)
 _THREADS = 2
+#: first size of the compiled traversal's pair stack and list of exact
+#: circle / polygon pairs (both double when full; the stack holds about
+#: twice the depth of the two trees)
+_CAPACITY = 256
 #: a block accepts a node when its bound e ≤ ε·2^−k, for the first k of this list
 #: that keeps the block's Σ e ≤ ε; None is the fallback e ≤ ε·F/F_total, which
 #: always does (see the proof). On the benchmark plan 2^−6, 2^−6.5, 2^−7 passed
@@ -1573,6 +1577,7 @@ def _treecode_pass(tree, ld, rect, p, eps, rule, final, stats):
             esum,
             nfar,
             nexact,
+            _CAPACITY,
         )
 
     if _THREADS > 1 and len(chunks) > 1:

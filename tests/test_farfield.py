@@ -101,12 +101,14 @@ def test_multipole_is_the_second_order_taylor_expansion():
             assert np.abs(got - ref).max() <= 1e-5 * scale
 
 
-@pytest.mark.parametrize("threads", [1, 2])
-def test_many_polygons_and_circles_in_columns(monkeypatch, threads):
-    # more than 64 exact (block, polygon or circle) pairs, so the compiled
-    # traversal grows its buffer of pairs left to the caller; one and two
-    # threads give the same sums, within tolerance · max|q| of the exact sum
+@pytest.mark.parametrize(("threads", "capacity"), [(1, 256), (2, 256), (2, 1)])
+def test_many_polygons_and_circles_in_columns(monkeypatch, threads, capacity):
+    # hundreds of exact (block, polygon or circle) pairs left to the caller; with
+    # capacity 1 the compiled traversal grows its pair stack and that list many
+    # times; any threads and capacity give sums within tolerance · max|q| of the
+    # exact sum
     monkeypatch.setattr(S, "_THREADS", threads)
+    monkeypatch.setattr(S, "_CAPACITY", capacity)
     rng = np.random.default_rng(8)
     hexagons = [
         np.column_stack(
