@@ -21,7 +21,7 @@ import tracemalloc
 
 import numpy as np
 
-from sitesettle import stress
+from sitesettle import stress, treecode
 
 
 def plan(n_side_x=50, n_side_y=40, seed=7):
@@ -95,14 +95,14 @@ def main(quick=False, tolerance=1e-3):
     # 2. the plan
     if quick:
         pts = pts[rng.choice(len(pts), 60_000, replace=False)]
-    stress._STATS = counts = {}
+    treecode._STATS = counts = {}
     tracemalloc.start()
     t = time.perf_counter()
     sz, tt = stress.stress_sums(loads, pts, tolerance=tolerance)
     wall = time.perf_counter() - t
     _, peak = tracemalloc.get_traced_memory()
     tracemalloc.stop()
-    stress._STATS = None
+    treecode._STATS = None
     rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
     check = rng.choice(len(pts), 3000, replace=False)
     ez, et = stress.stress_sums(loads, pts[check], tolerance=0)

@@ -10,7 +10,9 @@ Two quantities are computed at every point, both linear in the loads:
 The kernels (point load, rectangle, circle, any simple polygon) are exact
 closed forms or a 1-D quadrature of stated accuracy; :func:`stress_sums`
 superposes a :class:`Loads` collection at many points with a treecode whose
-truncation error is bounded rigorously (see :func:`stress_sums`).
+truncation error is bounded rigorously (see :func:`stress_sums`; the tree is
+built in :mod:`sitesettle.treecode`, its inner loops compiled in
+:mod:`sitesettle.farfield`).
 
 Conventions: x east, y north, z depth below ground, positive down [m];
 pressures [kPa]; forces [kN]. A load acts on the horizontal plane at its own
@@ -50,14 +52,12 @@ References
 from __future__ import annotations
 
 import math
-import threading
 from collections.abc import Sequence
-from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 
 import numpy as np
 
-from sitesettle import farfield as ff
+from sitesettle import treecode as _tc
 from sitesettle.errors import InputError
 
 __all__ = [
@@ -871,6 +871,58 @@ class Loads:
             reach[i] = np.max(np.hypot(xy[:, 0] - cx, xy[:, 1] - cy))
         return area, ixx, ixy, iyy, reach
 
+    def _geometry(self) -> _tc.LoadGeometry:
+        """Per-load moments, extents and rectangle tables for the treecode."""
+        area, ixx, ixy, iyy, reach = self._moments()
+        mu2 = ixx + iyy
+        # radial moments μk = ∫|s − c|^k dA about each centroid: exact for k = 0, 2 and,
+        # for rectangles and circles, k = 4; otherwise bounded (Cauchy–Schwarz for
+        # k = 1, |s − c| ≤ reach for k = 3, 4)
+        mu4 = reach * reach * mu2
+        rect, circ = self.kind == RECTANGLE, self.kind == CIRCLE
+        l, b = self.length[rect], self.width[rect]
+        mu4[rect] = area[rect] * ((l**4 + b**4) / 80.0 + (l * b) ** 2 / 72.0)
+        mu4[circ] = area[circ] * self.radius[circ] ** 4 / 3.0
+        mu = np.stack([area, np.sqrt(area * mu2), mu2, reach * mu2, mu4], axis=1)
+        # half-extents in x and y of each load's plan bounding box about its centroid
+        ext = np.column_stack([reach, reach])
+        t = np.radians(self.rotation[rect])
+        ct, st = np.abs(np.cos(t)), np.abs(np.sin(t))
+        hl, hb = self.length[rect] / 2.0, self.width[rect] / 2.0
+        ext[rect, 0] = np.minimum(ct * hl + st * hb, reach[rect])
+        ext[rect, 1] = np.minimum(st * hl + ct * hb, reach[rect])
+        for i in np.flatnonzero(self.kind == POLYGON):
+            xy = self.outlines[i]
+            ext[i] = np.abs(xy - [self.x[i], self.y[i]]).max(axis=0)
+        # plan second-moment tensors ∫ t tᵀ dA of each load about its centroid (3 × 3)
+        inert = np.zeros((len(self), 3, 3))
+        inert[:, 0, 0], inert[:, 0, 1], inert[:, 1, 0], inert[:, 1, 1] = ixx, ixy, ixy, iyy
+        th = np.radians(self.rotation)
+        table = np.column_stack(
+            [
+                self.x,
+                self.y,
+                np.cos(th),
+                np.sin(th),
+                self.length / 2.0,
+                self.width / 2.0,
+                self.pressure,
+                self.depth,
+                (self.kind == RECTANGLE).astype(float),
+            ]
+        )
+        return _tc.LoadGeometry(
+            self.pressure,
+            np.stack([self.x, self.y, self.depth], axis=1),
+            area,
+            mu,
+            inert,
+            reach,
+            self.kind != POLYGON,
+            ext,
+            table,
+        )
+
 
 # ---------------------------------------------------------------------------
 # exact superposition
@@ -972,6 +1024,28 @@ def _exact_dense(ld, idx, px, py, pz):
     return sz, tt
 
 
+def _exact_pairs(ld, j, px, py, pz):
+    """Exact (σz, T) of load ``j[k]`` at point k, for 1-D arrays of one length."""
+    sz, tt = np.zeros(len(j)), np.zeros(len(j))
+    kind = ld.kind[j]
+    for code, fn, per in ((RECTANGLE, _rect_pairs, 1), (CIRCLE, _circle_pairs, 2 * len(_CIRCLE_T))):
+        sel = np.flatnonzero(kind == code)
+        step = max(1, _CHUNK_ELEMENTS // per)
+        for k0 in range(0, len(sel), step):
+            k = sel[k0 : k0 + step]
+            sz[k], tt[k] = fn(ld, j[k], px[k], py[k], pz[k])
+    poly = np.flatnonzero(kind == POLYGON)
+    for one in np.unique(j[poly]):
+        k = poly[j[poly] == one]
+        sz[k], tt[k] = _exact_dense(ld, [one], px[k], py[k], pz[k])
+    return sz, tt
+
+
+def _tree(loads: Loads, idx) -> _tc.Tree:
+    """The treecode's load tree over the loads ``idx`` (for tests and benchmarks)."""
+    return _tc.Tree(loads._geometry(), np.asarray(idx))
+
+
 def _check_points(points):
     pts = np.asarray(points, dtype=float)
     if pts.ndim == 1 and pts.shape == (3,):
@@ -1020,611 +1094,6 @@ def own_stress(loads: Loads, points, owner) -> tuple[np.ndarray, np.ndarray]:
     return sz, tt
 
 
-# ---------------------------------------------------------------------------
-# far field: treecode with a rigorous truncation bound
-# ---------------------------------------------------------------------------
-
-
-def _rising(p, m):
-    """Rising factorial (p)_m = p (p+1) … (p+m−1)."""
-    out = 1.0
-    for i in range(m):
-        out *= p + i
-    return out
-
-
-def _bound_coefficients(n):
-    """Coefficients of the order-n remainder bounds (see :func:`stress_sums`).
-
-    Returns two lists of (j, coefficient) for σz (power 3 kernel, r^-5) and for
-    T (power 1 kernel, r^-3): the bound is Σ_j coef · w^{p−j} δ^j M_{n−j} / r^{2p−1+n−j}.
-    """
-    sig = [
-        (
-            j,
-            _K_SIGMA
-            / math.factorial(n)
-            * math.comb(n, j)
-            * math.factorial(3)
-            / math.factorial(3 - j)
-            * _rising(5, n - j),
-        )
-        for j in range(min(n, 3) + 1)
-    ]
-    the = [
-        (j, _K_THETA / math.factorial(n) * math.comb(n, j) * _rising(3, n - j))
-        for j in range(min(n, 1) + 1)
-    ]
-    return sig, the
-
-
-_BOUND = {n: _bound_coefficients(n) for n in (3, 4)}
-
-
-#: powers 0…4 and the binomial tensor B[m, k, j] = C(m, k) if j = m − k, for M_m
-_POW5 = np.arange(5)
-_BINOM5 = np.zeros((5, 5, 5))
-for _m in range(5):
-    for _k in range(_m + 1):
-        _BINOM5[_m, _k, _m - _k] = math.comb(_m, _k)
-
-
-def _cluster_moments(aq, mu, h, inert, reach, sym):
-    """Upper bounds of M_k = Σ|q|∫|s − C|^k dA, k = 0…4, for one cluster.
-
-    ``aq`` |q| of the members, ``mu`` their moments μ0…μ4 about their own
-    centroids (exact or upper bounds), ``h`` the centroid offsets c_i − C (3-D),
-    ``inert`` the plan second-moment tensors, ``reach`` the largest |t| on a load.
-    Two bounds are combined by taking the smaller: the binomial expansion of
-    |s − C| ≤ |t| + |h| (t = s − c_i), and, with |s − C|² = |t|² + 2t·h + |h|²
-    and ∫t dA = 0, the exact M2 = Σ|q|(μ2 + A|h|²) and
-    M4 = Σ|q|(μ4 + 2|h|²μ2 + 4hᵀIh + A|h|⁴ + 4∫|t|²(t·h)), whose last term
-    vanishes for centrally symmetric loads and is at most 4|h|·reach·μ2
-    otherwise; then M1 ≤ √(M0 M2) and M3 ≤ √(M2 M4) (Cauchy–Schwarz for the
-    measure |q| dA).
-    """
-    d2 = (h * h).sum(axis=1)
-    d = np.sqrt(d2)
-    binom = np.einsum("i,ij,ik,mkj->m", aq, d[:, None] ** _POW5, mu, _BINOM5)
-    area, mu2, mu4 = mu[:, 0], mu[:, 2], mu[:, 4]
-    hih = np.einsum("ia,iab,ib->i", h, inert, h)
-    odd = np.where(sym, 0.0, 4.0 * d * reach * mu2)
-    m0 = binom[0]
-    m2 = (aq * (mu2 + area * d2)).sum()
-    m4 = (aq * (mu4 + 2.0 * d2 * mu2 + 4.0 * hih + area * d2 * d2 + odd)).sum()
-    m4 = min(m4, binom[4])
-    m2 = min(m2, binom[2])
-    return np.array(
-        [m0, min(math.sqrt(m0 * m2), binom[1]), m2, min(math.sqrt(m2 * m4), binom[3]), m4]
-    )
-
-
-def _third_moment_norm(q, area, h, inert):
-    """Σ_abc |O_abc| of the third-moment tensor O = Σ q ∫ (s − C)⊗3 dA of a cluster.
-
-    For centrally symmetric loads (rectangles, circles) with centroid offsets h
-    from C and plan second-moment tensors I, ∫ (h + t)⊗3 dA = A h⊗h⊗h +
-    h_a I_bc + h_b I_ac + h_c I_ab (the odd moments of t vanish).
-    """
-    o = np.einsum("i,ia,ib,ic->abc", q * area, h, h, h)
-    o += np.einsum("i,ia,ibc->abc", q, h, inert)
-    o += np.einsum("i,ib,iac->abc", q, h, inert)
-    o += np.einsum("i,ic,iab->abc", q, h, inert)
-    return float(np.abs(o).sum())
-
-
-class _Tree:
-    """Binary tree of load clusters with their multipole moments (internal)."""
-
-    def __init__(self, ld: Loads, idx: np.ndarray):
-        area, ixx, ixy, iyy, reach = ld._moments()
-        self.ld = ld
-        q = ld.pressure
-        cen = np.stack([ld.x, ld.y, ld.depth], axis=1)
-        mu2 = ixx + iyy
-        # radial moments μk = ∫|s − c|^k dA about each centroid: exact for k = 0, 2 and,
-        # for rectangles and circles, k = 4; otherwise bounded (Cauchy–Schwarz for
-        # k = 1, |s − c| ≤ reach for k = 3, 4)
-        mu4 = reach * reach * mu2
-        rect, circ = ld.kind == RECTANGLE, ld.kind == CIRCLE
-        l, b = ld.length[rect], ld.width[rect]
-        mu4[rect] = area[rect] * ((l**4 + b**4) / 80.0 + (l * b) ** 2 / 72.0)
-        mu4[circ] = area[circ] * ld.radius[circ] ** 4 / 3.0
-        mu = np.stack([area, np.sqrt(area * mu2), mu2, reach * mu2, mu4], axis=1)
-        sym = ld.kind != POLYGON
-        # half-extents in x and y of each load's plan bounding box about its centroid
-        ext_x, ext_y = reach.copy(), reach.copy()
-        t = np.radians(ld.rotation[rect])
-        ct, st = np.abs(np.cos(t)), np.abs(np.sin(t))
-        hl, hb = ld.length[rect] / 2.0, ld.width[rect] / 2.0
-        ext_x[rect] = np.minimum(ct * hl + st * hb, reach[rect])
-        ext_y[rect] = np.minimum(st * hl + ct * hb, reach[rect])
-        for i in np.flatnonzero(ld.kind == POLYGON):
-            xy = ld.outlines[i]
-            ext_x[i] = np.abs(xy[:, 0] - ld.x[i]).max()
-            ext_y[i] = np.abs(xy[:, 1] - ld.y[i]).max()
-        # plan second-moment tensors ∫ t tᵀ dA of each load about its centroid (3 × 3)
-        inert = np.zeros((len(ld), 3, 3))
-        inert[:, 0, 0], inert[:, 0, 1], inert[:, 1, 0], inert[:, 1, 1] = ixx, ixy, ixy, iyy
-        rows: list[dict] = []
-
-        def build(members, parent, level):
-            me = len(rows)
-            row = {
-                "parent": parent,
-                "level": level,
-                "left": -1,
-                "right": -1,
-                "load": -1,
-                "end": me + 2 * len(members) - 1,
-            }
-            rows.append(row)
-            aq = np.abs(q[members]) * area[members]
-            f = aq.sum()
-            c = (aq[:, None] * cen[members]).sum(axis=0) / f
-            h = cen[members] - c
-            qa = q[members] * area[members]
-            d = np.sqrt((h * h).sum(axis=1))
-            row.update(
-                c=c,
-                F=f,
-                Q0=qa.sum(),
-                dip=(qa[:, None] * h).sum(axis=0),
-                quad=np.array(
-                    [
-                        (q[members] * ixx[members] + qa * h[:, 0] ** 2).sum(),
-                        (q[members] * ixy[members] + qa * h[:, 0] * h[:, 1]).sum(),
-                        (q[members] * iyy[members] + qa * h[:, 1] ** 2).sum(),
-                        (qa * h[:, 0] * h[:, 2]).sum(),
-                        (qa * h[:, 1] * h[:, 2]).sum(),
-                        (qa * h[:, 2] ** 2).sum(),
-                    ]
-                ),
-                M=_cluster_moments(
-                    np.abs(q[members]), mu[members], h, inert[members], reach[members], sym[members]
-                ),
-                rho=float(np.max(d + reach[members])),
-                lo=np.array(
-                    [
-                        (ld.x[members] - ext_x[members]).min(),
-                        (ld.y[members] - ext_y[members]).min(),
-                        ld.depth[members].min(),
-                    ]
-                ),
-                hi=np.array(
-                    [
-                        (ld.x[members] + ext_x[members]).max(),
-                        (ld.y[members] + ext_y[members]).max(),
-                        ld.depth[members].max(),
-                    ]
-                ),
-                dmin=float(ld.depth[members].min()),
-                dmax=float(ld.depth[members].max()),
-                delta=float(np.max(np.abs(h[:, 2]))),
-                order=4 if (len(members) == 1 and sym[members[0]]) else 3,
-                N3=_third_moment_norm(q[members], area[members], h, inert[members])
-                if (len(members) > 1 and sym[members].all())
-                else np.inf,
-            )
-            if len(members) == 1:
-                row["load"] = int(members[0])
-                return me
-            pts = cen[members, :2]
-            ax = int(np.argmax(pts.max(axis=0) - pts.min(axis=0)))
-            order = np.argsort(pts[:, ax], kind="stable")
-            half = len(members) // 2
-            row["left"] = build(members[order[:half]], me, level + 1)
-            row["right"] = build(members[order[half:]], me, level + 1)
-            return me
-
-        build(np.asarray(idx), -1, 0)
-        self.n = len(rows)
-        get = lambda k: np.array([r[k] for r in rows])  # noqa: E731
-        self.parent, self.level, self.load = get("parent"), get("level"), get("load")
-        self.c, self.F, self.Q0, self.dip, self.quad = (
-            get("c"),
-            get("F"),
-            get("Q0"),
-            get("dip"),
-            get("quad"),
-        )
-        self.M, self.rho, self.delta, self.order = get("M"), get("rho"), get("delta"), get("order")
-        self.dmin, self.dmax = get("dmin"), get("dmax")
-        self.lo, self.hi = get("lo"), get("hi")
-        self.left, self.right = get("left"), get("right")
-        self.extent = np.sqrt(((self.hi[:, :2] - self.lo[:, :2]) ** 2).sum(axis=1))
-        # centre, monopole, dipole and quadrupole (xx, xy, yy, xw, yw, ww) by rows
-        self._table = np.ascontiguousarray(
-            np.column_stack([self.c, self.Q0, self.dip, self.quad]).T
-        )
-        self.leaf = self.load >= 0
-        # coefficient of M₃ in the harmonic bound of T: 4 (the order-3 Legendre
-        # term), 0 for a single centrally symmetric load (its third moments vanish)
-        self.h3 = np.where(self.order == 4, 0.0, 4.0)
-        # nodes are numbered in depth-first preorder, so the subtree of node i is the
-        # range [i, end[i]) (a full binary tree: 2m − 1 nodes for m loads)
-        self.end = get("end")
-        # the bound's terms per node: coefficient · δ^j · M_{n−j} and the powers of
-        # W^a / r^b (σz: a = 3 − j, b = 5 + n − j; T: a = 1 − j, b = 3 + n − j)
-        self.terms = []
-        for kernel, (p, m) in enumerate(((3, 5), (1, 3))):
-            for j in range(p + 1):
-                coef = np.array([dict(_BOUND[o][kernel]).get(j, 0.0) for o in self.order])
-                mom = self.M[np.arange(self.n), self.order - j]
-                self.terms.append((kernel, p - j, coef * self.delta**j * mom, m + self.order - j))
-        # the second bound of a cluster of centrally symmetric loads: the exact
-        # third-order term, bounded by N3 (the sum of |O_abc|) times the directional
-        # third derivative at the point (``centre`` terms), plus the order-4 remainder
-        self.N3 = get("N3")
-        self.alt = np.isfinite(self.N3)
-        self.alt_terms = []
-        for kernel, (p, m) in enumerate(((3, 5), (1, 3))):
-            for j in range(p + 1):
-                c4 = dict(_BOUND[4][kernel]).get(j, 0.0)
-                mom = self.M[:, 4 - j] if j <= 4 else 0.0
-                self.alt_terms.append((kernel, p - j, c4 * self.delta**j * mom, m + 4 - j, False))
-                c3 = dict(_BOUND[3][kernel]).get(j, 0.0)
-                n3 = np.where(self.alt, self.N3, 0.0)
-                self.alt_terms.append((kernel, p - j, c3 * n3, m + 3 - j, True))
-
-        # the same as flat tables for the compiled loops (sitesettle.farfield)
-        nt = np.zeros((self.n, ff.NT_COLS))
-        nt[:, ff.NT_C : ff.NT_C + 3] = self.c
-        nt[:, ff.NT_Q0] = self.Q0
-        nt[:, ff.NT_DIP : ff.NT_DIP + 3] = self.dip
-        nt[:, ff.NT_QUAD : ff.NT_QUAD + 6] = self.quad
-        nt[:, ff.NT_LO : ff.NT_LO + 3] = self.lo
-        nt[:, ff.NT_HI : ff.NT_HI + 3] = self.hi
-        nt[:, ff.NT_DMIN], nt[:, ff.NT_DMAX] = self.dmin, self.dmax
-        nt[:, ff.NT_RHO], nt[:, ff.NT_H3] = self.rho, self.h3
-        nt[:, ff.NT_EXTENT], nt[:, ff.NT_F] = self.extent, self.F
-        nt[:, ff.NT_M : ff.NT_M + 5] = self.M
-        nt[:, ff.NT_ALT] = self.alt
-        self.nt = nt
-        self.amp1 = np.column_stack([np.broadcast_to(t[2], self.n) for t in self.terms])
-        self.b1 = np.column_stack([np.broadcast_to(t[3], self.n) for t in self.terms]).astype(
-            np.int64
-        )
-        gap = [t for t in self.alt_terms if not t[4]]
-        cen = [t for t in self.alt_terms if t[4]]
-        self.amp4 = np.column_stack([np.broadcast_to(t[2], self.n) for t in gap])
-        self.b4 = np.array([t[3] for t in gap], dtype=np.int64)
-        self.amp3 = np.column_stack([np.broadcast_to(t[2], self.n) for t in cen])
-        self.b3 = np.array([t[3] for t in cen], dtype=np.int64)
-        self.tables = (self.nt, self.amp1, self.b1, self.amp4, self.b4, self.amp3, self.b3)
-
-    def bounds(self, lo, hi):
-        """Per node: truncation bound valid at every point of the box [lo, hi], and
-        whether the node contributes nothing there (all points above its planes)."""
-        lo = np.broadcast_to(np.asarray(lo, dtype=float), (self.n, 3))
-        hi = np.broadcast_to(np.asarray(hi, dtype=float), (self.n, 3))
-        return self.pair_bounds(lo, hi, np.arange(self.n))
-
-    def pair_bounds(self, lo, hi, nodes, lam=None):
-        """Bound e and "contributes nothing" flag of each (box, node) pair.
-
-        ``lo``, ``hi`` are (K, 3) boxes of points and ``nodes`` (K,) node indices.
-        Each term of the bound has the form W^a / r^b with W the kernel's vertical
-        distance and r its 3-D distance, at a point of the segment from C to a
-        source. With h the plan gap between the box and the cluster's bounding
-        box, v = z − d_max the vertical gap and Δ = d_max − d_min, one has
-        W ≤ v + Δ and r² ≥ h² + v², and (v + Δ)^a (h² + v²)^(−b/2) is unimodal in
-        v with its maximum at the positive root of (b − a)v² + bΔv − ah² = 0; the
-        sup over the box's depth range is taken at that root clipped to the range.
-
-        The second bound (clusters of centrally symmetric loads) and the harmonic
-        bound of T are smaller only now and then and cost twice the first: with
-        ``lam`` (K,) the acceptance thresholds they are computed only for pairs
-        whose first bound lies in (λ·LAZY_LO, λ·LAZY_HI] (sitesettle.farfield),
-        where they may change the acceptance or add to a block's sum; elsewhere e
-        is the first bound, which is as rigorous (every bound here is an upper
-        bound of the same error).
-        """
-        nodes = np.ascontiguousarray(nodes, dtype=np.int64)
-        lo = np.ascontiguousarray(np.broadcast_to(lo, (len(nodes), 3)), dtype=float)
-        hi = np.ascontiguousarray(np.broadcast_to(hi, (len(nodes), 3)), dtype=float)
-        lam = np.full(len(nodes), -1.0) if lam is None else np.ascontiguousarray(lam, dtype=float)
-        e, zero = ff.bounds_many(*self.tables, nodes, lo, hi, lam)
-        return e, zero
-
-    def _harmonic_bound(self, lo, hi, nodes):
-        """Harmonic bound of T's far-field error for (box, node) pairs whose points
-        all lie below the node's planes (see stress_sums), and its part from the
-        Legendre terms of order ≥ 4: with r_c the least distance from the box to
-        the node's centre C and ρ its radius about C, (1/π)[4·M₃/r_c⁵ +
-        M₄·S(ρ/r_c)/r_c⁶], S(x) = 5/(1 − x) + x/(1 − x)² (inf where ρ ≥ r_c; no
-        M₃ term for a single centrally symmetric load)."""
-        nodes = np.ascontiguousarray(nodes, dtype=np.int64)
-        lo = np.ascontiguousarray(np.broadcast_to(lo, (len(nodes), 3)), dtype=float)
-        hi = np.ascontiguousarray(np.broadcast_to(hi, (len(nodes), 3)), dtype=float)
-        return ff.harmonic_many(self.nt, nodes, lo, hi)
-
-    def far(self, nodes, px, py, pz):
-        """Multipole (monopole + dipole + quadrupole) (σz, T) of ``nodes`` at the points."""
-        nodes = np.asarray(nodes, dtype=np.int64)
-        px, py, pz = (np.asarray(v, dtype=float) for v in (px, py, pz))
-        k = np.repeat(nodes[None, :], len(px), axis=0).ravel()
-        rep = lambda v: np.repeat(v, len(nodes))  # noqa: E731
-        a, b = ff.multipole_many(self.nt, k, rep(px), rep(py), rep(pz))
-        return a.reshape(len(px), -1).sum(axis=1), b.reshape(len(px), -1).sum(axis=1)
-
-
-def _morton(ix, iy):
-    """Z-order key of non-negative integer cell indices (16 bits each)."""
-    key = np.zeros(len(ix), dtype=np.int64)
-    for bit in range(16):
-        key |= ((ix >> bit) & 1) << (2 * bit)
-        key |= ((iy >> bit) & 1) << (2 * bit + 1)
-    return key
-
-
-def _point_blocks(p, cell, ratio, z0, max_points):
-    """Group points into blocks of one plan cell and one depth band (vectorised).
-
-    Points whose plan position falls in the same ``cell`` × ``cell`` square and
-    whose depth falls in the same band [z0·ratio^k, z0·ratio^(k+1)) (all depths
-    below z0 in one band) form a block, cut into runs of at most ``max_points``.
-    Blocks are ordered by band, then along a Z-order curve of their cells, so
-    that runs of consecutive blocks are compact. Returns the permutation that
-    makes blocks contiguous, the first position and size of each block, and
-    each block's bounding box (lo, hi).
-    """
-    ix = np.floor(p[:, 0] / cell)
-    iy = np.floor(p[:, 1] / cell)
-    ix = (ix - ix.min()).astype(np.int64)
-    iy = (iy - iy.min()).astype(np.int64)
-    # beyond 2^16 cells a side the Z-order key only loses compactness, not correctness
-    key = _morton(ix & 0xFFFF, iy & 0xFFFF)
-    band = np.floor(np.log(np.maximum(p[:, 2], z0) / z0) / math.log(ratio))
-    order = np.lexsort((p[:, 2], iy, ix, key, band))
-    ix, iy, band = ix[order], iy[order], band[order]
-    n = len(p)
-    new = np.ones(n, dtype=bool)
-    new[1:] = (ix[1:] != ix[:-1]) | (iy[1:] != iy[:-1]) | (band[1:] != band[:-1])
-    group = np.flatnonzero(new)
-    pos = np.arange(n) - np.repeat(group, np.diff(np.append(group, n)))
-    new |= pos % max_points == 0
-    starts = np.flatnonzero(new)
-    counts = np.diff(np.append(starts, n))
-    ps = p[order]
-    lo = np.minimum.reduceat(ps, starts, axis=0)
-    hi = np.maximum.reduceat(ps, starts, axis=0)
-    return order, starts, counts, lo, hi
-
-
-class _Groups:
-    """Implicit binary tree over consecutive blocks (internal).
-
-    Node (L, i) holds blocks [i·2^L, (i+1)·2^L) and so a contiguous range of
-    points; its children are (L−1, 2i) and (L−1, 2i+1). Nodes are numbered
-    level by level: id = off[L] + i.
-    """
-
-    def __init__(self, starts, counts, lo, hi, levels):
-        nb = len(starts)
-        ends = starts + counts
-        glo, ghi, gst, gct, glev, gidx, self.off, self.size = [], [], [], [], [], [], [], []
-        off = 0
-        for lev in range(levels + 1):
-            first = np.arange(0, nb, 1 << lev)
-            last = np.minimum(first + (1 << lev), nb) - 1
-            glo.append(np.minimum.reduceat(lo, first, axis=0))
-            ghi.append(np.maximum.reduceat(hi, first, axis=0))
-            gst.append(starts[first])
-            gct.append(ends[last] - starts[first])
-            glev.append(np.full(len(first), lev))
-            gidx.append(np.arange(len(first)))
-            self.off.append(off)
-            self.size.append(len(first))
-            off += len(first)
-            if len(first) == 1:
-                break
-        self.top = len(self.off) - 1
-        self.lo, self.hi = np.concatenate(glo), np.concatenate(ghi)
-        self.start, self.count = np.concatenate(gst), np.concatenate(gct)
-        self.level, self.index = np.concatenate(glev), np.concatenate(gidx)
-        self.extent = np.sqrt(((self.hi[:, :2] - self.lo[:, :2]) ** 2).sum(axis=1))
-        self.off = np.array(self.off)
-        self.size = np.array(self.size)
-
-    def roots(self):
-        return self.off[self.top] + np.arange(self.size[self.top])
-
-
-def _pair_chunks(pcount, limit):
-    """Split pairs into runs of about ``limit`` point elements."""
-    if len(pcount) == 0:
-        return []
-    cum = np.cumsum(pcount)
-    cuts = np.searchsorted(cum, np.arange(limit, cum[-1], limit), side="left") + 1
-    cuts = np.unique(np.concatenate([[0], cuts, [len(pcount)]]))
-    return [slice(a, b) for a, b in zip(cuts[:-1], cuts[1:]) if b > a]
-
-
-def _expand(pstart, pcount):
-    """Point positions and pair index of every (pair, point of its range) element."""
-    total = int(pcount.sum())
-    rep = np.repeat(np.arange(len(pstart)), pcount)
-    first = np.cumsum(pcount) - pcount
-    return pstart[rep] + np.arange(total) - first[rep], rep
-
-
-def _accumulate(out_s, out_t, pidx, a, b):
-    """Add element values to the points ``pidx`` of the result arrays."""
-    p0 = int(pidx.min())
-    m = int(pidx.max()) - p0 + 1
-    out_s[p0 : p0 + m] += np.bincount(pidx - p0, weights=a, minlength=m)
-    out_t[p0 : p0 + m] += np.bincount(pidx - p0, weights=b, minlength=m)
-
-
-#: plan cell [m], depth-band ratio and shallowest band edge [m] of the point
-#: blocks, their largest size, and the levels of block groups (2^levels blocks
-#: at most in a group). A (group, cluster) pair that is rejected splits the
-#: cluster when its plan extent is at least _SPLIT_RATIO times the group's, else
-#: the group. Measured on the benchmark plan (a central window of 30,000
-#: points): ratios 0.5, 1, 2, 4 gave 687, 513, 476, 488 multipole clusters per
-#: point and 1 the shortest time (fewer pairs to bound).
-_CELL = 0.5
-_BAND_RATIO = 2.0
-_BAND_Z0 = 1.0
-_BLOCK_MAX = 512
-_GROUP_LEVELS = 7
-_SPLIT_RATIO = 1.0
-#: worker threads over chunks of root groups (the compiled traversal releases
-#: the GIL)
-_THREADS = 2
-#: first size of the compiled traversal's pair stack and list of exact
-#: circle / polygon pairs (both double when full; the stack holds about
-#: twice the depth of the two trees)
-_CAPACITY = 256
-#: a block accepts a node when its bound e ≤ ε·2^−k, for the first k of this list
-#: that keeps the block's Σ e ≤ ε; None is the fallback e ≤ ε·F/F_total, which
-#: always does (see the proof). On the benchmark plan 2^−6, 2^−6.5, 2^−7 passed
-#: in 42 %, 76 %, 99 % of the blocks, with 5 % more clusters per step; starting
-#: at 2^−7 instead of 2^−6.5 redoes few blocks (a window of 120,000 points of
-#: the benchmark: 2.64 M instead of 3.28 M traversal pairs, 4.6–5.0 s instead
-#: of 5.3–5.9 s, the same 324 clusters per point).
-_THRESHOLDS = (7.0, 8.0, None)
-
-
-#: when set to a dict, the treecode adds its counts to it (points, multipole
-#: cluster × point and exact load × point evaluations, traversal pairs); for
-#: benchmarks
-_STATS: dict | None = None
-_STATS_LOCK = threading.Lock()
-
-
-def _treecode(loads, active, p, eps, stats=None):
-    """(σz, T) at points p by the treecode with total bound ε (see stress_sums)."""
-    if stats is None:
-        stats = _STATS
-    tree = _Tree(loads, active)
-    ld = loads
-    t = np.radians(ld.rotation)
-    rect = np.column_stack(
-        [
-            ld.x,
-            ld.y,
-            np.cos(t),
-            np.sin(t),
-            ld.length / 2.0,
-            ld.width / 2.0,
-            ld.pressure,
-            ld.depth,
-            (ld.kind == RECTANGLE).astype(float),
-        ]
-    )
-    out_s, out_t = np.zeros(len(p)), np.zeros(len(p))
-    todo = np.arange(len(p))
-    for k in _THRESHOLDS:
-        if k is None:
-            mode, lam, tau0 = 1, 0.0, eps / tree.F[0]
-        else:
-            mode, lam, tau0 = 0, eps * 2.0**-k, 0.0
-        rule = (mode, lam, tau0)
-        a, b, bad = _treecode_pass(tree, ld, rect, p[todo], eps, rule, k is None, stats)
-        out_s[todo], out_t[todo] = a, b
-        todo = todo[bad]
-        if len(todo) == 0:
-            break
-    return out_s, out_t
-
-
-def _treecode_pass(tree, ld, rect, p, eps, rule, final, stats):
-    """One pass of the treecode; returns (σz, T) and the points whose bound failed."""
-    order, starts, counts, blo, bhi = _point_blocks(p, _CELL, _BAND_RATIO, _BAND_Z0, _BLOCK_MAX)
-    groups = _Groups(starts, counts, blo, bhi, _GROUP_LEVELS)
-    ps = p[order]
-    px, py, pz = (np.ascontiguousarray(ps[:, i]) for i in range(3))
-    nb = len(starts)
-    rs, rt = np.zeros(len(p)), np.zeros(len(p))
-    esum = np.zeros(nb)
-    nfar = np.zeros(nb, dtype=np.int64)
-    nexact = np.zeros(nb, dtype=np.int64)
-    gtab = (
-        groups.lo,
-        groups.hi,
-        groups.start.astype(np.int64),
-        groups.count.astype(np.int64),
-        groups.level.astype(np.int64),
-        groups.index.astype(np.int64),
-        groups.extent,
-        groups.off.astype(np.int64),
-        groups.size.astype(np.int64),
-    )
-    roots = groups.roots().astype(np.int64)
-    # roots are handed out in chunks of consecutive groups, whose point ranges
-    # are disjoint, so the threads write disjoint parts of the result arrays
-    nchunk = min(len(roots), 8 * _THREADS)
-    chunks = [c for c in np.array_split(roots, nchunk) if len(c)]
-
-    def run(chunk):
-        return ff.traverse(
-            chunk,
-            *gtab,
-            *tree.tables,
-            tree.left.astype(np.int64),
-            tree.right.astype(np.int64),
-            tree.load.astype(np.int64),
-            rect,
-            *rule,
-            _SPLIT_RATIO,
-            px,
-            py,
-            pz,
-            rs,
-            rt,
-            esum,
-            nfar,
-            nexact,
-            _CAPACITY,
-        )
-
-    if _THREADS > 1 and len(chunks) > 1:
-        with ThreadPoolExecutor(max_workers=_THREADS) as pool:
-            done = list(pool.map(run, chunks))
-    else:
-        done = [run(c) for c in chunks]
-    ob = np.concatenate([d[0] for d in done])
-    ol = np.concatenate([d[1] for d in done])
-    bad_block = np.zeros(nb, dtype=bool) if final else esum > eps
-    if stats is not None:
-        ok = ~bad_block
-        add = {
-            "points": int(counts[ok].sum()),
-            "far": int((nfar * counts)[ok].sum()),
-            "exact": int((nexact * counts)[ok].sum()),
-            "pairs": int(sum(d[2] for d in done)),
-        }
-        with _STATS_LOCK:
-            for key, val in add.items():
-                stats[key] = stats.get(key, 0) + val
-    # exact circles and polygons, left by the compiled traversal (blocks whose
-    # bound failed are redone by the caller: skip them)
-    keep = ~bad_block[ob]
-    ob, ol = ob[keep], ol[keep]
-    kind = ld.kind[ol]
-    xs, xc = starts[ob], counts[ob]
-    circ = kind == CIRCLE
-    cs, cc, cl = xs[circ], xc[circ], ol[circ]
-    for sl in _pair_chunks(cc, max(1, _CHUNK_ELEMENTS // (2 * len(_CIRCLE_T)))):
-        pidx, rep = _expand(cs[sl], cc[sl])
-        a, b = _circle_pairs(ld, cl[sl][rep], ps[pidx, 0], ps[pidx, 1], ps[pidx, 2])
-        _accumulate(rs, rt, pidx, a, b)
-    poly = kind == POLYGON
-    for j in np.unique(ol[poly]):
-        sel = poly & (ol == j)
-        pidx, _ = _expand(xs[sel], xc[sel])
-        a, b = _exact_dense(ld, [j], ps[pidx, 0], ps[pidx, 1], ps[pidx, 2])
-        rs[pidx] += a
-        rt[pidx] += b
-    sz, tt = np.empty(len(p)), np.empty(len(p))
-    sz[order], tt[order] = rs, rt
-    bad = np.zeros(len(p), dtype=bool)
-    bad[order] = np.repeat(bad_block, counts)
-    return sz, tt, bad
-
-
 def stress_sums(loads: Loads, points, *, tolerance: float = 1e-3) -> tuple[np.ndarray, np.ndarray]:
     r"""Superposed σz and T = Σ q·Ω/π of every load at every point.
 
@@ -1670,10 +1139,10 @@ def stress_sums(loads: Loads, points, *, tolerance: float = 1e-3) -> tuple[np.nd
     M_k = Σ|q|∫|s − C|^k dA (bounded from each load's area, polar moment μ2,
     reach a: μ1 ≤ √(Aμ2), μ3 ≤ aμ2, μ4 exact for rectangles and circles and
     ≤ a²μ2 for polygons, and the smaller of the binomial expansion of
-    |s − C| ≤ |s − c_i| + |c_i − C| and the exact M2, M4 of ``_cluster_moments``
+    |s − C| ≤ |s − c_i| + |c_i − C| and the exact M2, M4 of ``treecode._cluster_moments``
     with M1 ≤ √(M0 M2), M3 ≤ √(M2 M4)), δ the largest depth offset of the
     cluster's planes from C, and each w^a/r^b replaced by its supremum over the
-    segments from C to the sources and the points of a box (``_Tree.pair_bounds``):
+    segments from C to the sources and the points of a box (``treecode.Tree.pair_bounds``):
     every such segment lies in the cluster's bounding box (C is inside the
     cluster's convex hull), which bounds r from below by the plan gap and the
     vertical gap between that box and the points' box.
@@ -1776,7 +1245,13 @@ def stress_sums(loads: Loads, points, *, tolerance: float = 1e-3) -> tuple[np.nd
         sz[good], tt[good] = a, b
         return sz, tt
     eps = tolerance * float(np.max(np.abs(loads.pressure)))
-    sz[good], tt[good] = _treecode(loads, active, p, eps)
+    sz[good], tt[good] = _tc.treecode(
+        loads._geometry(),
+        active,
+        p,
+        eps,
+        lambda j, x, y, z: _exact_pairs(loads, j, x, y, z),
+    )
     return sz, tt
 
 

@@ -19,6 +19,7 @@ from test_stress_superposition import grid_plan
 
 from sitesettle import farfield as ff
 from sitesettle import stress as S
+from sitesettle import treecode as T
 
 
 @pytest.mark.parametrize(("m", "n", "published"), [r for r in NEWMARK_TABLE if np.isfinite(r[1])])
@@ -86,7 +87,7 @@ def _taylor_reference(tree, node, p):
 def test_multipole_is_the_second_order_taylor_expansion():
     rng = np.random.default_rng(11)
     loads = grid_plan(5, 4, spacing=6.0, seed=11)
-    tree = S._Tree(loads, np.arange(len(loads)))
+    tree = S._tree(loads, np.arange(len(loads)))
     for node in rng.choice(tree.n, 25, replace=False):
         for _ in range(4):
             d = rng.uniform(25.0, 80.0)
@@ -107,8 +108,8 @@ def test_many_polygons_and_circles_in_columns(monkeypatch, threads, capacity):
     # capacity 1 the compiled traversal grows its pair stack and that list many
     # times; any threads and capacity give sums within tolerance · max|q| of the
     # exact sum
-    monkeypatch.setattr(S, "_THREADS", threads)
-    monkeypatch.setattr(S, "_CAPACITY", capacity)
+    monkeypatch.setattr(T, "_THREADS", threads)
+    monkeypatch.setattr(T, "_CAPACITY", capacity)
     rng = np.random.default_rng(8)
     hexagons = [
         np.column_stack(
@@ -125,9 +126,9 @@ def test_many_polygons_and_circles_in_columns(monkeypatch, threads, capacity):
     z = np.linspace(1.0, 25.0, 20)
     pts = np.column_stack([np.repeat(xy, len(z), axis=0), np.tile(z, len(xy))])
     counts = {}
-    monkeypatch.setattr(S, "_STATS", counts)
+    monkeypatch.setattr(T, "_STATS", counts)
     fast = S.stress_sums(loads, pts, tolerance=1e-3)
-    monkeypatch.setattr(S, "_STATS", None)
+    monkeypatch.setattr(T, "_STATS", None)
     exact = S.stress_sums(loads, pts, tolerance=0)
     allowed = 1e-3 * np.abs(loads.pressure).max()
     assert np.abs(fast[0] - exact[0]).max() <= allowed
@@ -144,8 +145,8 @@ def test_one_or_two_threads_give_identical_sums(monkeypatch):
     pts = np.column_stack(
         [rng.uniform(-5, 60, 4000), rng.uniform(-5, 48, 4000), rng.uniform(1, 30, 4000)]
     )
-    monkeypatch.setattr(S, "_THREADS", 1)
+    monkeypatch.setattr(T, "_THREADS", 1)
     one = S.stress_sums(loads, pts)
-    monkeypatch.setattr(S, "_THREADS", 2)
+    monkeypatch.setattr(T, "_THREADS", 2)
     two = S.stress_sums(loads, pts)
     assert np.array_equal(one[0], two[0]) and np.array_equal(one[1], two[1])

@@ -11,6 +11,8 @@ import pytest
 ROOT = pathlib.Path(__file__).resolve().parents[1] / "sitesettle"
 CORE = [
     "stress.py",
+    "treecode.py",
+    "farfield.py",
     "ground.py",
     "checks.py",
     "criteria.py",

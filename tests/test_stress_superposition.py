@@ -18,6 +18,7 @@ from hypothesis import strategies as st
 from scipy import integrate
 
 from sitesettle import stress as S
+from sitesettle import treecode as T
 from sitesettle.errors import InputError
 
 
@@ -245,7 +246,7 @@ def test_tree_leaf_multipole_error_inside_its_bound():
     loads = S.Loads.rectangles(
         [0.0, 0.0], [0.0, 0.0], [2.0, 0.5], [3.0, 0.5], [25.0, 0.0], [200.0, 1.0], 1.0
     )
-    tree = S._Tree(loads, np.array([0]))
+    tree = S._tree(loads, np.array([0]))
     for p in ([8.0, 3.0, 2.0], [15.0, -4.0, 6.0], [40.0, 10.0, 20.0], [5.0, 0.0, 12.0]):
         p = np.array(p)
         e, zero = tree.bounds(p, p)
@@ -263,7 +264,7 @@ def test_derivative_bound_of_the_proof():
     worst = {0: 0.0, 1: 0.0}
     step = 0.02
     ts = np.arange(-2, 3) * step
-    sig, the = S._BOUND[4]
+    sig, the = T._BOUND[4]
     for _ in range(400):
         u = rng.normal(size=3)
         u[2] = abs(u[2]) + 0.2
@@ -409,7 +410,7 @@ def test_moments_used_by_the_bound():
     m2, _ = integrate.dblquad(lambda y, x: x * x + y * y, -1.5, 1.5, -0.75, 0.75)
     m4, _ = integrate.dblquad(lambda y, x: (x * x + y * y) ** 2, -1.5, 1.5, -0.75, 0.75)
     assert area[0] == pytest.approx(4.5) and ixx[0] + iyy[0] == pytest.approx(m2, rel=1e-10)
-    tree = S._Tree(loads, np.array([0]))
+    tree = S._tree(loads, np.array([0]))
     assert tree.M[0, 4] == pytest.approx(100.0 * m4, rel=1e-10)
     assert (
         tree.M[0, 3]
@@ -438,7 +439,7 @@ def test_cluster_error_inside_its_bound(seed, tol):
         grid_plan(4, 4, spacing=rng.uniform(3.0, 8.0), seed=seed),
         S.Loads.circles(rng.uniform(0, 20, 3), rng.uniform(0, 20, 3), 1.0, 150.0, 1.6),
     )
-    tree = S._Tree(loads, np.arange(len(loads)))
+    tree = S._tree(loads, np.arange(len(loads)))
     nodes = np.flatnonzero(~tree.leaf)
     assert tree.alt[nodes].all()  # no polygon: every cluster has the second bound
     worst = 0.0
@@ -469,7 +470,7 @@ def test_columns_within_the_bound_for_every_threshold_rule(monkeypatch, threshol
     # layout) over a mixed plan; whichever acceptance rule a block ends up with
     # (the fallback e ≤ τ0·F, or thresholds so coarse that most blocks fail and
     # are retried) every point stays within tolerance · max|q| of the exact sum
-    monkeypatch.setattr(S, "_THRESHOLDS", thresholds)
+    monkeypatch.setattr(T, "_THRESHOLDS", thresholds)
     rng = np.random.default_rng(5)
     loads = S.Loads.concat(
         grid_plan(9, 8, spacing=6.0, seed=5),
@@ -506,7 +507,7 @@ def test_cluster_moments_bound_the_true_ones():
         ),
         S.Loads.circles(5.0, 5.0, 1.1, 120.0, 2.0),
     )
-    tree = S._Tree(loads, np.arange(len(loads)))
+    tree = S._tree(loads, np.arange(len(loads)))
     c = tree.c[0]
     n = 400
     g = (np.arange(n) + 0.5) / n - 0.5
@@ -551,7 +552,7 @@ def test_cluster_boxes_hold_every_load():
             [[(0, -10), (8, -10), (4, -6)], [(30, 30), (36, 31), (33, 38)]], 80.0, 0.8
         ),
     )
-    tree = S._Tree(loads, np.arange(len(loads)))
+    tree = S._tree(loads, np.arange(len(loads)))
     for node in range(tree.n):
         members = tree.load[node : tree.end[node]]
         for i in members[members >= 0]:
@@ -606,7 +607,7 @@ def _harmonic_case(rng):
 
 def _harmonic_ratio(loads, p):
     """|T_far − T_exact| / harmonic bound for the root of the loads' tree at p."""
-    tree = S._Tree(loads, np.arange(len(loads)))
+    tree = S._tree(loads, np.arange(len(loads)))
     eh, _ = tree._harmonic_bound(p[None, :], p[None, :], np.array([0]))
     if not np.isfinite(eh[0]):
         return None
