@@ -25,6 +25,7 @@ from __future__ import annotations
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 
@@ -67,11 +68,16 @@ class _Segments:
         """The sublayers of column ``c`` (they are stored contiguously, top down)."""
         return slice(int(self.offsets[c]), int(self.offsets[c + 1]))
 
-    @property
+    def indices(self, c: int) -> np.ndarray:
+        """Row numbers of the sublayers of column ``c``."""
+        return np.arange(int(self.offsets[c]), int(self.offsets[c + 1]))
+
+    # computed once: the per-column loops read them thousands of times
+    @cached_property
     def mid(self) -> np.ndarray:
         return 0.5 * (self.top + self.bottom)
 
-    @property
+    @cached_property
     def thickness(self) -> np.ndarray:
         return self.bottom - self.top
 
@@ -370,7 +376,7 @@ def analyse(
     active = np.ones(len(seg.top), dtype=bool)
     influence_depth = np.zeros(len(columns))
     for c in range(len(columns)):
-        m = np.arange(len(seg.top))[seg.rows(c)]
+        m = seg.indices(c)
         if len(m) == 0:
             influence_depth[c] = site.footings[owners[c]].depth
             continue
@@ -684,7 +690,7 @@ def _burland_burbidge(site, columns, seg, is_bb, q_full, fw, lb, fd, own_sz, hsu
     e_eq = np.full(len(seg.top), np.nan)
     n_all = _parameter(columns, seg, "spt_n")
     for c in np.unique(seg.column[is_bb]):
-        m = np.arange(len(seg.top))[seg.rows(c)]
+        m = seg.indices(c)
         i = seg.footing[m[0]]
         col = columns[c]
         B = fw[i]
