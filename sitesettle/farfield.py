@@ -64,10 +64,20 @@ TERM_M = np.array([5, 5, 5, 5, 3, 3], dtype=np.int64)
 LAZY_LO = 0.25
 LAZY_HI = 5.0
 
-_JIT = {"cache": True, "nogil": True, "fastmath": False, "error_model": "numpy"}
+_JIT = {"nogil": True, "fastmath": False, "error_model": "numpy"}
 
 
-@njit(**_JIT)
+def _compiled(fn):
+    """``fn`` compiled by numba, its machine code cached on disk where numba
+    finds a writable place (beside the package, or the user's cache folder, or
+    NUMBA_CACHE_DIR); where it finds none, compiled afresh in each process."""
+    try:
+        return njit(cache=True, **_JIT)(fn)
+    except RuntimeError:  # numba: "cannot cache function …: no locator available"
+        return njit(cache=False, **_JIT)(fn)
+
+
+@_compiled
 def _ipow(x, n):
     out = 1.0
     for _ in range(n):
@@ -75,7 +85,7 @@ def _ipow(x, n):
     return out
 
 
-@njit(**_JIT)
+@_compiled
 def _sup_terms(amp, b, hh, vmin, vmax, dd):
     """Σ over six terms amp · sup (v + Δ)^a (h² + v²)^(−b/2), v in [vmin, vmax],
     for σz (terms 0–3) and T (terms 4, 5)."""
@@ -104,7 +114,7 @@ def _sup_terms(amp, b, hh, vmin, vmax, dd):
     return es, et
 
 
-@njit(**_JIT)
+@_compiled
 def harmonic_bound(nt, node, lo0, lo1, lo2, hi0, hi1, hi2):
     """Harmonic bound of T's far-field error of ``node`` over the box, and its
     part from the Legendre terms of order ≥ 4 (inf, inf where ρ ≥ r_c)."""
@@ -127,7 +137,7 @@ def harmonic_bound(nt, node, lo0, lo1, lo2, hi0, hi1, hi2):
     return K_THETA * nt[node, NT_H3] * nt[node, NT_M + 3] * (ir6 * rc) + tail, tail
 
 
-@njit(**_JIT)
+@_compiled
 def pair_bound(nt, amp1, b1, amp4, b4, amp3, b3, node, lo0, lo1, lo2, hi0, hi1, hi2, lam):
     """Bound e of the far-field error of ``node`` at every point of the box
     [lo, hi], and whether the node contributes nothing there (all points above
@@ -165,7 +175,7 @@ def pair_bound(nt, amp1, b1, amp4, b4, amp3, b3, node, lo0, lo1, lo2, hi0, hi1, 
     return max(es, et), False
 
 
-@njit(**_JIT)
+@_compiled
 def multipole(nt, node, px, py, pz):
     """Multipole (σz, T) of ``node`` at one point: the Taylor expansion of the
     kernels about the centre C to second order, grouped by powers of 1/r."""
@@ -206,7 +216,7 @@ def multipole(nt, node, px, py, pz):
     return K_SIGMA * sz, K_THETA * tt
 
 
-@njit(**_JIT)
+@_compiled
 def rectangle(hl, hw, u, v, w):
     """σz/q and Ω at local offsets (u, v) from the centre of a rectangle of
     half sides ``hl`` × ``hw`` at depth w > 0 below its plane (signed Holl corner
@@ -243,7 +253,7 @@ def rectangle(hl, hw, u, v, w):
     return (om + kk) / _TWO_PI, om
 
 
-@njit(**_JIT)
+@_compiled
 def bounds_many(nt, amp1, b1, amp4, b4, amp3, b3, nodes, lo, hi, lam):
     """pair_bound of (box k, nodes[k]) for K pairs; ``lam`` (K,) or negative."""
     n = len(nodes)
@@ -257,7 +267,7 @@ def bounds_many(nt, amp1, b1, amp4, b4, amp3, b3, nodes, lo, hi, lam):
     return e, zero
 
 
-@njit(**_JIT)
+@_compiled
 def harmonic_many(nt, nodes, lo, hi):
     """harmonic_bound of (box k, nodes[k]) for K pairs."""
     n = len(nodes)
@@ -270,7 +280,7 @@ def harmonic_many(nt, nodes, lo, hi):
     return eh, tail
 
 
-@njit(**_JIT)
+@_compiled
 def multipole_many(nt, nodes, px, py, pz):
     """multipole of nodes[k] at point k, for 1-D arrays of one length."""
     n = len(nodes)
@@ -281,14 +291,14 @@ def multipole_many(nt, nodes, px, py, pz):
     return sz, tt
 
 
-@njit(**_JIT)
+@_compiled
 def _grow(buf, n):
     out = np.empty(max(2 * len(buf), 2), dtype=buf.dtype)
     out[:n] = buf[:n]
     return out
 
 
-@njit(**_JIT)
+@_compiled
 def traverse(
     roots,
     g_lo,

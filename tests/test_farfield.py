@@ -150,3 +150,19 @@ def test_one_or_two_threads_give_identical_sums(monkeypatch):
     monkeypatch.setattr(T, "_THREADS", 2)
     two = S.stress_sums(loads, pts)
     assert np.array_equal(one[0], two[0]) and np.array_equal(one[1], two[1])
+
+
+def test_compiles_without_a_writable_cache(monkeypatch):
+    # where numba finds nowhere to keep its cache (here: only the zip-file
+    # locator is allowed, which refuses a plain source file) the loops are
+    # compiled without one instead of failing at import
+    from numba.core import config
+
+    monkeypatch.setattr(config, "CACHE_LOCATOR_CLASSES", "ZipCacheLocator")
+
+    def twice(x):
+        return 2.0 * x
+
+    fn = ff._compiled(twice)
+    assert fn(1.5) == 3.0
+    assert fn._cache.__class__.__name__ == "NullCache"
