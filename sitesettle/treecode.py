@@ -97,12 +97,13 @@ for _m in range(5):
         _BINOM5[_m, _k, _m - _k] = math.comb(_m, _k)
 
 
-def _cluster_moments(aq, mu, h, inert, reach, sym):
-    """Upper bounds of M_k = Σ|q|∫|s − C|^k dA, k = 0…4, for one cluster.
+def _cluster_moments(aq, mu, h, inert, reach, sym, node):
+    """Upper bounds of M_k = Σ|q|∫|s − C|^k dA, k = 0…4, per cluster (K, 5).
 
-    ``aq`` |q| of the members, ``mu`` their moments μ0…μ4 about their own
-    centroids (exact or upper bounds), ``h`` the centroid offsets c_i − C (3-D),
-    ``inert`` the plan second-moment tensors, ``reach`` the largest |t| on a load.
+    Per member i of cluster ``node[i]`` (0…K−1): ``aq`` |q|, ``mu`` its moments
+    μ0…μ4 about its own centroid (exact or upper bounds), ``h`` the centroid
+    offset c_i − C (3-D), ``inert`` the plan second-moment tensor, ``reach``
+    the largest |t| on the load, ``sym`` whether it is centrally symmetric.
     Two bounds are combined by taking the smaller: the binomial expansion of
     |s − C| ≤ |t| + |h| (t = s − c_i), and, with |s − C|² = |t|² + 2t·h + |h|²
     and ∫t dA = 0, the exact M2 = Σ|q|(μ2 + A|h|²) and
@@ -111,34 +112,164 @@ def _cluster_moments(aq, mu, h, inert, reach, sym):
     otherwise; then M1 ≤ √(M0 M2) and M3 ≤ √(M2 M4) (Cauchy–Schwarz for the
     measure |q| dA).
     """
+    k = int(node.max()) + 1 if len(node) else 0
+
+    def add(v):
+        return np.bincount(node, weights=v, minlength=k)
+
     d2 = (h * h).sum(axis=1)
     d = np.sqrt(d2)
-    binom = np.einsum("i,ij,ik,mkj->m", aq, d[:, None] ** _POW5, mu, _BINOM5)
+    each = np.einsum("i,ij,ik,mkj->im", aq, d[:, None] ** _POW5, mu, _BINOM5)
+    binom = np.column_stack([add(each[:, i]) for i in range(5)])
     area, mu2, mu4 = mu[:, 0], mu[:, 2], mu[:, 4]
     hih = np.einsum("ia,iab,ib->i", h, inert, h)
     odd = np.where(sym, 0.0, 4.0 * d * reach * mu2)
-    m0 = binom[0]
-    m2 = (aq * (mu2 + area * d2)).sum()
-    m4 = (aq * (mu4 + 2.0 * d2 * mu2 + 4.0 * hih + area * d2 * d2 + odd)).sum()
-    m4 = min(m4, binom[4])
-    m2 = min(m2, binom[2])
-    return np.array(
-        [m0, min(math.sqrt(m0 * m2), binom[1]), m2, min(math.sqrt(m2 * m4), binom[3]), m4]
+    m0 = binom[:, 0]
+    m2 = np.minimum(add(aq * (mu2 + area * d2)), binom[:, 2])
+    m4 = np.minimum(
+        add(aq * (mu4 + 2.0 * d2 * mu2 + 4.0 * hih + area * d2 * d2 + odd)), binom[:, 4]
     )
+    m1 = np.minimum(np.sqrt(m0 * m2), binom[:, 1])
+    m3 = np.minimum(np.sqrt(m2 * m4), binom[:, 3])
+    return np.column_stack([m0, m1, m2, m3, m4])
 
 
-def _third_moment_norm(q, area, h, inert):
-    """Σ_abc |O_abc| of the third-moment tensor O = Σ q ∫ (s − C)⊗3 dA of a cluster.
+def _third_moment_norm(q, area, h, inert, node):
+    """Σ_abc |O_abc| of the third-moment tensor O = Σ q ∫ (s − C)⊗3 dA, per cluster.
 
     For centrally symmetric loads (rectangles, circles) with centroid offsets h
     from C and plan second-moment tensors I, ∫ (h + t)⊗3 dA = A h⊗h⊗h +
-    h_a I_bc + h_b I_ac + h_c I_ab (the odd moments of t vanish).
+    h_a I_bc + h_b I_ac + h_c I_ab (the odd moments of t vanish). Member i
+    belongs to cluster ``node[i]``.
     """
-    o = np.einsum("i,ia,ib,ic->abc", q * area, h, h, h)
-    o += np.einsum("i,ia,ibc->abc", q, h, inert)
-    o += np.einsum("i,ib,iac->abc", q, h, inert)
-    o += np.einsum("i,ic,iab->abc", q, h, inert)
-    return float(np.abs(o).sum())
+    k = int(node.max()) + 1 if len(node) else 0
+    o = np.einsum("i,ia,ib,ic->iabc", q * area, h, h, h)
+    o += np.einsum("i,ia,ibc->iabc", q, h, inert)
+    o += np.einsum("i,ib,iac->iabc", q, h, inert)
+    o += np.einsum("i,ic,iab->iabc", q, h, inert)
+    flat = o.reshape(len(q), 27)
+    tot = np.column_stack([np.bincount(node, weights=flat[:, i], minlength=k) for i in range(27)])
+    return np.abs(tot).sum(axis=1)
+
+
+def _segments(starts, stops):
+    """Positions of the elements of the ranges [starts[k], stops[k]) concatenated,
+    the range of each element, and the first position of each range in the result."""
+    size = stops - starts
+    first = np.cumsum(size) - size
+    rep = np.repeat(np.arange(len(starts)), size)
+    return starts[rep] + np.arange(int(size.sum())) - first[rep], rep, first
+
+
+def _build(q, cen, area, mu, inert, reach, sym, ext, idx):
+    """The load tree over loads ``idx``, built one level at a time (vectorised).
+
+    A node holds a contiguous range of a permutation of the loads; a node of
+    m > 1 loads is split at m // 2 after a stable sort of its centroids along
+    the plan axis of their larger extent. Nodes are numbered in depth-first
+    preorder, so the subtree of node i is the range [i, end[i]) (a full binary
+    tree: 2m − 1 nodes for m loads): the left child of node i is i + 1, the
+    right child i + 2·(m // 2). Returns per node the topology, the multipole
+    moments about the |q|A-weighted centroid C, the moments of the bound
+    (:func:`_cluster_moments`, :func:`_third_moment_norm`), the bounding box
+    and the depths of its planes.
+    """
+    m = len(idx)
+    n = 2 * m - 1
+    perm = np.asarray(idx, dtype=np.intp).copy()
+    out = {
+        "parent": np.full(n, -1),
+        "level": np.zeros(n, dtype=int),
+        "left": np.full(n, -1),
+        "right": np.full(n, -1),
+        "load": np.full(n, -1),
+        "end": np.zeros(n, dtype=int),
+        "c": np.zeros((n, 3)),
+        "F": np.zeros(n),
+        "Q0": np.zeros(n),
+        "dip": np.zeros((n, 3)),
+        "quad": np.zeros((n, 6)),
+        "M": np.zeros((n, 5)),
+        "rho": np.zeros(n),
+        "delta": np.zeros(n),
+        "order": np.zeros(n, dtype=int),
+        "dmin": np.zeros(n),
+        "dmax": np.zeros(n),
+        "lo": np.zeros((n, 3)),
+        "hi": np.zeros((n, 3)),
+        "N3": np.full(n, np.inf),
+    }
+    ids = np.zeros(1, dtype=np.intp)
+    a0, a1 = np.zeros(1, dtype=np.intp), np.full(1, m, dtype=np.intp)
+    level = 0
+    while len(ids):
+        pos, rep, first = _segments(a0, a1)
+        j = perm[pos]
+        size = a1 - a0
+        nk = len(ids)
+
+        def add(v, rep=rep, nk=nk):
+            return np.bincount(rep, weights=v, minlength=nk)
+
+        def top(v, fn, first=first):
+            return fn.reduceat(v, first)
+
+        aq = np.abs(q[j]) * area[j]
+        f = add(aq)
+        c = np.column_stack([add(aq * cen[j, k]) for k in range(3)]) / f[:, None]
+        h = cen[j] - c[rep]
+        qa = q[j] * area[j]
+        d2 = (h * h).sum(axis=1)
+        d = np.sqrt(d2)
+        o = out
+        o["level"][ids] = level
+        o["end"][ids] = ids + 2 * size - 1
+        o["c"][ids], o["F"][ids], o["Q0"][ids] = c, f, add(qa)
+        o["dip"][ids] = np.column_stack([add(qa * h[:, k]) for k in range(3)])
+        ixx, ixy, iyy = inert[j, 0, 0], inert[j, 0, 1], inert[j, 1, 1]
+        o["quad"][ids] = np.column_stack(
+            [
+                add(q[j] * ixx + qa * h[:, 0] ** 2),
+                add(q[j] * ixy + qa * h[:, 0] * h[:, 1]),
+                add(q[j] * iyy + qa * h[:, 1] ** 2),
+                add(qa * h[:, 0] * h[:, 2]),
+                add(qa * h[:, 1] * h[:, 2]),
+                add(qa * h[:, 2] ** 2),
+            ]
+        )
+        o["M"][ids] = _cluster_moments(np.abs(q[j]), mu[j], h, inert[j], reach[j], sym[j], rep)
+        o["rho"][ids] = top(d + reach[j], np.maximum)
+        lo = np.column_stack([cen[j, 0] - ext[j, 0], cen[j, 1] - ext[j, 1], cen[j, 2]])
+        hi = np.column_stack([cen[j, 0] + ext[j, 0], cen[j, 1] + ext[j, 1], cen[j, 2]])
+        o["lo"][ids], o["hi"][ids] = top(lo, np.minimum), top(hi, np.maximum)
+        o["dmin"][ids], o["dmax"][ids] = o["lo"][ids, 2], o["hi"][ids, 2]
+        o["delta"][ids] = top(np.abs(h[:, 2]), np.maximum)
+        single = size == 1
+        all_sym = top(sym[j].astype(np.int8), np.minimum) > 0
+        o["order"][ids] = np.where(single & all_sym, 4, 3)
+        third = ~single & all_sym
+        if third.any():
+            o["N3"][ids[third]] = _third_moment_norm(q[j], area[j], h, inert[j], rep)[third]
+        o["load"][ids[single]] = perm[a0[single]]
+        # split the nodes of more than one load
+        k = np.flatnonzero(~single)
+        if len(k) == 0:
+            break
+        ids, a0, a1, size = ids[k], a0[k], a1[k], size[k]
+        pos, rep, first = _segments(a0, a1)
+        xy = cen[perm[pos], :2]
+        span = np.maximum.reduceat(xy, first) - np.minimum.reduceat(xy, first)
+        axis = (span[:, 1] > span[:, 0]).astype(np.intp)  # argmax: x on ties
+        key = xy[np.arange(len(pos)), axis[rep]]
+        perm[pos] = perm[pos[np.lexsort((key, rep))]]
+        half = size // 2
+        left, right = ids + 1, ids + 2 * half
+        o["left"][ids], o["right"][ids] = left, right
+        o["parent"][left], o["parent"][right] = ids, ids
+        ids = np.concatenate([left, right])
+        a0, a1 = np.concatenate([a0, a0 + half]), np.concatenate([a0 + half, a1])
+        level += 1
+    return out
 
 
 class Tree:
@@ -148,107 +279,20 @@ class Tree:
         q = geo.pressure
         cen = geo.centre
         area, mu, inert, reach, sym = geo.area, geo.mu, geo.inertia, geo.reach, geo.symmetric
-        ixx, ixy, iyy = inert[:, 0, 0], inert[:, 0, 1], inert[:, 1, 1]
-        ext_x, ext_y = geo.extent[:, 0], geo.extent[:, 1]
         self.rect = geo.rectangles
-        rows: list[dict] = []
-
-        def build(members, parent, level):
-            me = len(rows)
-            row = {
-                "parent": parent,
-                "level": level,
-                "left": -1,
-                "right": -1,
-                "load": -1,
-                "end": me + 2 * len(members) - 1,
-            }
-            rows.append(row)
-            aq = np.abs(q[members]) * area[members]
-            f = aq.sum()
-            c = (aq[:, None] * cen[members]).sum(axis=0) / f
-            h = cen[members] - c
-            qa = q[members] * area[members]
-            d = np.sqrt((h * h).sum(axis=1))
-            row.update(
-                c=c,
-                F=f,
-                Q0=qa.sum(),
-                dip=(qa[:, None] * h).sum(axis=0),
-                quad=np.array(
-                    [
-                        (q[members] * ixx[members] + qa * h[:, 0] ** 2).sum(),
-                        (q[members] * ixy[members] + qa * h[:, 0] * h[:, 1]).sum(),
-                        (q[members] * iyy[members] + qa * h[:, 1] ** 2).sum(),
-                        (qa * h[:, 0] * h[:, 2]).sum(),
-                        (qa * h[:, 1] * h[:, 2]).sum(),
-                        (qa * h[:, 2] ** 2).sum(),
-                    ]
-                ),
-                M=_cluster_moments(
-                    np.abs(q[members]), mu[members], h, inert[members], reach[members], sym[members]
-                ),
-                rho=float(np.max(d + reach[members])),
-                lo=np.array(
-                    [
-                        (cen[members, 0] - ext_x[members]).min(),
-                        (cen[members, 1] - ext_y[members]).min(),
-                        cen[members, 2].min(),
-                    ]
-                ),
-                hi=np.array(
-                    [
-                        (cen[members, 0] + ext_x[members]).max(),
-                        (cen[members, 1] + ext_y[members]).max(),
-                        cen[members, 2].max(),
-                    ]
-                ),
-                dmin=float(cen[members, 2].min()),
-                dmax=float(cen[members, 2].max()),
-                delta=float(np.max(np.abs(h[:, 2]))),
-                order=4 if (len(members) == 1 and sym[members[0]]) else 3,
-                N3=_third_moment_norm(q[members], area[members], h, inert[members])
-                if (len(members) > 1 and sym[members].all())
-                else np.inf,
-            )
-            if len(members) == 1:
-                row["load"] = int(members[0])
-                return me
-            pts = cen[members, :2]
-            ax = int(np.argmax(pts.max(axis=0) - pts.min(axis=0)))
-            order = np.argsort(pts[:, ax], kind="stable")
-            half = len(members) // 2
-            row["left"] = build(members[order[:half]], me, level + 1)
-            row["right"] = build(members[order[half:]], me, level + 1)
-            return me
-
-        build(np.asarray(idx), -1, 0)
-        self.n = len(rows)
-        get = lambda k: np.array([r[k] for r in rows])  # noqa: E731
-        self.parent, self.level, self.load = get("parent"), get("level"), get("load")
-        self.c, self.F, self.Q0, self.dip, self.quad = (
-            get("c"),
-            get("F"),
-            get("Q0"),
-            get("dip"),
-            get("quad"),
-        )
-        self.M, self.rho, self.delta, self.order = get("M"), get("rho"), get("delta"), get("order")
-        self.dmin, self.dmax = get("dmin"), get("dmax")
-        self.lo, self.hi = get("lo"), get("hi")
-        self.left, self.right = get("left"), get("right")
+        t = _build(q, cen, area, mu, inert, reach, sym, geo.extent, np.asarray(idx))
+        self.n = len(t["level"])
+        self.parent, self.level, self.load, self.end = t["parent"], t["level"], t["load"], t["end"]
+        self.left, self.right = t["left"], t["right"]
+        self.c, self.F, self.Q0, self.dip, self.quad = t["c"], t["F"], t["Q0"], t["dip"], t["quad"]
+        self.M, self.rho, self.delta, self.order = t["M"], t["rho"], t["delta"], t["order"]
+        self.dmin, self.dmax, self.lo, self.hi = t["dmin"], t["dmax"], t["lo"], t["hi"]
+        self.N3 = t["N3"]
         self.extent = np.sqrt(((self.hi[:, :2] - self.lo[:, :2]) ** 2).sum(axis=1))
-        # centre, monopole, dipole and quadrupole (xx, xy, yy, xw, yw, ww) by rows
-        self._table = np.ascontiguousarray(
-            np.column_stack([self.c, self.Q0, self.dip, self.quad]).T
-        )
         self.leaf = self.load >= 0
         # coefficient of M₃ in the harmonic bound of T: 4 (the order-3 Legendre
         # term), 0 for a single centrally symmetric load (its third moments vanish)
         self.h3 = np.where(self.order == 4, 0.0, 4.0)
-        # nodes are numbered in depth-first preorder, so the subtree of node i is the
-        # range [i, end[i]) (a full binary tree: 2m − 1 nodes for m loads)
-        self.end = get("end")
         # the bound's terms per node: coefficient · δ^j · M_{n−j} and the powers of
         # W^a / r^b (σz: a = 3 − j, b = 5 + n − j; T: a = 1 − j, b = 3 + n − j)
         self.terms = []
@@ -260,7 +304,6 @@ class Tree:
         # the second bound of a cluster of centrally symmetric loads: the exact
         # third-order term, bounded by N3 (the sum of |O_abc|) times the directional
         # third derivative at the point (``centre`` terms), plus the order-4 remainder
-        self.N3 = get("N3")
         self.alt = np.isfinite(self.N3)
         self.alt_terms = []
         for kernel, (p, m) in enumerate(((3, 5), (1, 3))):
