@@ -12,6 +12,8 @@ import sys
 import warnings
 from pathlib import Path
 
+from sitesettle.errors import one_line
+
 CAUTIONS = (
     "Results support, and never replace, the judgement of a licensed engineer. "
     "Local codes and the project's own acceptance criteria govern. Each method has a "
@@ -110,7 +112,7 @@ def _check(args) -> int:
     ok = results.checks is None or results.checks.all_passed
     if not args.quiet:
         for n in notes:
-            print(f"warning: {n}")
+            print(f"warning: {one_line(str(n))}")
         print(format_summary(results, summary, units))
         print(f"results written to {out}")
         print()
@@ -128,8 +130,10 @@ def _explain(args) -> int:
     if args.footing not in {f.id for f in site.footings}:
         ids = [f.id for f in site.footings]
         print(
-            f'error: no footing "{args.footing}" in {args.project}; footings are '
-            f"{', '.join(ids[:15])}{' …' if len(ids) > 15 else ''}",
+            one_line(
+                f'error: no footing "{args.footing}" in {args.project}; footings are '
+                f"{', '.join(ids[:15])}{' …' if len(ids) > 15 else ''}"
+            ),
             file=sys.stderr,
         )
         return 2
@@ -150,7 +154,7 @@ def _new(args) -> int:
     dest = Path(args.folder)
     if dest.exists() and (not dest.is_dir() or any(dest.iterdir())):
         print(
-            f"error: {dest} exists and is not an empty folder; choose a new folder name",
+            one_line(f"error: {dest} exists and is not an empty folder; choose a new folder name"),
             file=sys.stderr,
         )
         return 2
@@ -175,7 +179,7 @@ def main(argv: list[str] | None = None) -> int:
             return _explain(args)
         return _new(args)
     except (InputError, OutputError) as exc:
-        print(f"error: {exc}", file=sys.stderr)
+        print(f"error: {one_line(str(exc))}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         print("interrupted: nothing was written over earlier results", file=sys.stderr)

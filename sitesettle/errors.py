@@ -7,6 +7,21 @@ and without writing anything.
 
 from __future__ import annotations
 
+import unicodedata
+
+
+def one_line(text: str) -> str:
+    """``text`` with every control character and line or paragraph separator
+    written as an escape (``\\r``, ``\\x1c``, ``\\u2028``), so that a message
+    quoting user data stays on one line of the terminal or log."""
+    out = []
+    for ch in text:
+        if unicodedata.category(ch) in ("Cc", "Zl", "Zp"):
+            out.append(repr(ch)[1:-1] if ch not in "'" else ch)
+        else:
+            out.append(ch)
+    return "".join(out)
+
 
 class SiteSettleError(Exception):
     """Base class of every error raised on purpose by sitesettle."""
@@ -33,7 +48,9 @@ class InputError(SiteSettleError):
         msg = f"{where}: {problem}"
         if expected:
             msg += f"; expected {expected}"
-        super().__init__(msg)
+        # user data quoted in the message (a cell, a file name) cannot break it
+        # over several lines
+        super().__init__(one_line(msg))
 
 
 class OutputError(SiteSettleError):

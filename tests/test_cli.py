@@ -137,6 +137,25 @@ def test_bad_input_exits_2_with_one_message_and_writes_nothing(tmp_path):
     assert not (p / "results").exists()
 
 
+@pytest.mark.parametrize("junk", [":\r", "8\n50 kN", "8\u202850 kN", "\x1c"])
+def test_a_cell_with_a_line_break_still_gives_one_line(tmp_path, junk):
+    # a quoted CSV cell holding a carriage return, a newline or a Unicode line
+    # separator is echoed with the break escaped: the message stays one line
+    # (found by the fuzz test with ":\r" in a GeoJSON property)
+    p = project(tmp_path)
+    rows = (p / "footings.csv").read_text(encoding="utf-8").splitlines(keepends=True)
+    head = [i for i, r in enumerate(rows) if r.startswith("id,")][0]
+    cells = rows[head + 1].rstrip("\n").split(",")
+    cells[8] = '"' + junk + '"'  # dead_load [kN]
+    rows[head + 1] = ",".join(cells) + "\n"
+    (p / "footings.csv").write_text("".join(rows), encoding="utf-8", newline="")
+    rc, out, err = run("check", str(p))
+    assert rc == 2
+    assert err.startswith("error: ") and len(err.splitlines()) == 1, err
+    assert "dead_load" in err
+    assert not (p / "results").exists()
+
+
 def test_units_us_are_the_si_values_converted(passing, tmp_path):
     p, *_ = passing
     rc, _, err = run("check", str(p), "--units", "us", "--out", str(tmp_path / "us"))
