@@ -68,6 +68,9 @@ def registry():
 
 
 _NUMBER = re.compile(r"^[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?$")
+#: a number followed by its unit; the unit may hold digits only as powers
+_QUANTITY = re.compile(r"^[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?\s*(?P<unit>.*)$", re.S)
+_POWER = re.compile(r"(\*\*|\^)\s*\(?\s*[+-]?\d+(\.\d+)?\s*\)?")
 
 
 #: names of common dimensions that are never valid input, for clearer messages
@@ -132,6 +135,7 @@ def parse(value: object, dimension: str, where: str) -> float:
         elif text.lower() in ("nan", "inf", "-inf", "+inf", "infinity", "-infinity"):
             out = float(text)
         else:
+            _check_one_number(text, value, where, dimension, example)
             text = (
                 text.replace("^", "**")
                 .replace("%", " percent")
@@ -163,6 +167,33 @@ def parse(value: object, dimension: str, where: str) -> float:
             where, f'"{value}" is not a finite number', f"{_NAMES[dimension]} such as {example}"
         )
     return out
+
+
+def _check_one_number(text, value, where, dimension, example) -> None:
+    """Refuse text that pint would read in a way nobody meant: it multiplies
+    juxtaposed numbers ("1 250 kN" → 250 kN, "3 m 2" → 6 m) and drops commas
+    ("1,5 m" → 15 m)."""
+    if "," in text:
+        raise InputError(
+            where,
+            f'"{value}" has a comma',
+            f"{_NAMES[dimension]} with a point as the decimal mark and no thousands "
+            f"separator, such as {example}",
+        )
+    m = _QUANTITY.match(text)
+    if m is None:
+        raise InputError(
+            where,
+            f'cannot read "{value}" as a number with a unit',
+            f"{_NAMES[dimension]} such as {example}",
+        )
+    if re.search(r"\d", _POWER.sub("", m.group("unit"))):
+        raise InputError(
+            where,
+            f'"{value}" is not one number followed by its unit',
+            f'{_NAMES[dimension]} such as {example} (powers as "m^2", "m**2" or "m²"; '
+            "no spaces or thousands separators inside the number)",
+        )
 
 
 def convert(value: float, dimension: str, unit: str) -> float:

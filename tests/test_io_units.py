@@ -67,6 +67,47 @@ def test_header_unit_of_the_wrong_dimension_is_an_error_naming_the_column():
         t.check_columns({"id": "text", "width": "length"}, strict=True)
 
 
+# pint multiplies juxtaposed numbers and ignores commas; read as it would, each
+# of these is silently wrong by a large factor (common practice: a European
+# thousands separator "1 250 kN" or decimal comma "1,5 m" in a spreadsheet cell)
+@pytest.mark.parametrize(
+    ("value", "dimension", "would_be", "match"),
+    [
+        ("1 250 kN", "force", 250.0, "not one number followed by its unit"),
+        ("8 50 kN", "force", 400.0, "not one number followed by its unit"),
+        ("3 m 2", "length", 6.0, "not one number followed by its unit"),
+        ("5 ft 6 in", "length", None, "not one number followed by its unit"),
+        ("12 kN/m2", "pressure", None, "powers as"),
+        ("1,5 m", "length", 15.0, "has a comma"),
+        ("1,250 kN", "force", 1250.0, "decimal mark"),
+    ],
+)
+def test_text_that_pint_would_misread_is_refused(value, dimension, would_be, match):
+    with pytest.raises(InputError, match=match):
+        units.parse(value, dimension, "footings.csv row 4")
+    if would_be is not None:  # the reading refused: what pint makes of it
+        q = units.registry().Quantity(value.replace(",", ""))
+        assert q.to(units.DIMENSIONS[dimension][0]).magnitude == pytest.approx(would_be)
+
+
+@pytest.mark.parametrize(
+    ("value", "dimension", "expected"),
+    [
+        ("0.8 m^2/yr", "diffusivity", 0.8),
+        ("12 kN/m²", "pressure", 12.0),
+        ("12 kN/m**2", "pressure", 12.0),
+        ("12 kN/m^(2)", "pressure", 12.0),
+        ("2.5e3 kN", "force", 2500.0),
+        ("-3.5 kPa", "pressure", -3.5),
+        (".5 m", "length", 0.5),
+        ("6 months", "time", 0.5),
+        ("4 ft", "length", 4 * FT),  # NIST SP 811: 1 ft = 0.3048 m exactly
+    ],
+)
+def test_one_number_and_its_unit_with_powers_is_read(value, dimension, expected):
+    assert units.parse(value, dimension, "x") == pytest.approx(expected, rel=EXACT)
+
+
 @pytest.mark.parametrize("value", ["nan", "inf", "-inf"])
 def test_nan_and_infinity_are_refused(value):
     with pytest.raises(InputError, match="not a finite number"):
