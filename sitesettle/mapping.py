@@ -100,8 +100,11 @@ def contour_levels(values: np.ndarray | Sequence[float], *, max_levels: int = 12
         return np.array([], dtype=float)
     # any step below spread / (max_levels + 1) gives too many levels: start there, go up
     step = nice_step((hi - lo) / (max_levels + 1))
+    # a level within 1e-9 (relative to the values, at least 1e-9 mm) of the range
+    # counts as inside it: binary noise, not a level beyond the data
+    slack_lo, slack_hi = 1e-9 * max(1.0, abs(lo)), 1e-9 * max(1.0, abs(hi))
     while True:
-        k = np.arange(math.ceil(lo / step - 1e-9), math.floor(hi / step + 1e-9) + 1)
+        k = np.arange(math.ceil((lo - slack_lo) / step), math.floor((hi + slack_hi) / step) + 1)
         if k.size <= max_levels:
             break
         step = nice_step(step * 1.0001)
