@@ -191,6 +191,10 @@ _SETTLEMENT_COLUMNS = (
 )
 
 
+#: ratio columns shown as 1/N in the report's tables
+_ONE_IN_N = ("angular_distortion", "tilt")
+
+
 def _df_table(df, status=None) -> str:
     """A formatted DataFrame (text cells) as an escaped table; failing rows highlighted.
 
@@ -198,8 +202,18 @@ def _df_table(df, status=None) -> str:
     status column of its own.
     """
     from sitesettle.io.output import format_table
+    from sitesettle.io.summary import ratio_text
 
     text = format_table(df)
+    # as an engineer reads them: ratios as 1/N, utilisation to two decimals (the
+    # CSV files keep the full values)
+    for c in _ONE_IN_N:
+        if c in df.columns:
+            text[c] = [ratio_text(v) for v in df[c].to_numpy(float)]
+    if "utilisation" in df.columns:
+        text["utilisation"] = [
+            f"{v:.2f}" if np.isfinite(v) else "" for v in df["utilisation"].to_numpy(float)
+        ]
     numeric = {j for j, c in enumerate(df.columns) if str(df[c].dtype).startswith(("float", "int"))}
     rows, classes = [], []
     for _, r in text.iterrows():

@@ -437,3 +437,27 @@ def test_check_target_is_public_and_writes_nothing(tmp_path):
         output.check_target(tmp_path / "f")
     output.check_target(tmp_path / "new" / "deeper")  # a folder that can be made: fine
     assert sorted(p.name for p in tmp_path.iterdir()) == ["f"]
+
+
+def test_report_tables_show_ratios_as_one_in_n():
+    # angular distortion and tilt as engineers write them (β = 1/500 in EN 1997-1:2004
+    # Annex H; "1/N" common practice), utilisation to two decimals; the CSV keeps the values
+    from sitesettle.io.summary import ratio_text
+    from sitesettle.report import _df_table
+
+    assert ratio_text(1 / 500) == "1/500"
+    assert ratio_text(1 / 388.6) == "1/389"
+    assert ratio_text(8.86e-6) == "1/112,867"
+    assert ratio_text(0.0) == "0" and ratio_text(float("nan")) == ""
+    df = pd.DataFrame(
+        {
+            "a": ["F3", "A1"],
+            "angular_distortion": [1 / 388.6, float("nan")],
+            "tilt": [0.0, 0.002],
+            "utilisation": [1.2845, 0.0835718],
+        }
+    )
+    html = _df_table(df)
+    for text in ("1/389", ">0<", "1/500", "1.28", "0.08"):
+        assert text in html, text
+    assert "0.0835718" not in html and "0.00257" not in html

@@ -10,8 +10,11 @@ from sitesettle.results import Results
 SHOWN = 5
 
 
-def _fmt_beta(beta: float) -> str:
-    return f"1/{1 / beta:,.0f}" if beta > 0 else "0"
+def ratio_text(ratio: float) -> str:
+    """A small ratio (angular distortion, tilt) as engineers write it: ``1/389``."""
+    if not np.isfinite(ratio):
+        return ""
+    return f"1/{1 / ratio:,.0f}" if ratio > 0 else "0"
 
 
 def format_summary(results: Results, summary: dict, units: str = "si") -> str:
@@ -50,7 +53,7 @@ def format_summary(results: Results, summary: dict, units: str = "si") -> str:
             a, b = ids[int(pc.a[k])], ids[int(pc.b[k])]
             out.append(
                 f"  {a + ' – ' + b:<22} diff {pc.differential[k] * scale:6.1f} {unit}  "
-                f"β {_fmt_beta(pc.angular_distortion[k]):>8}  limit {pc.limit[k]} "
+                f"β {ratio_text(pc.angular_distortion[k]):>8}  limit {pc.limit[k]} "
                 f"({pc.limit_source[k]})  use {pc.utilisation[k]:.2f}  "
                 f"{'pass' if pc.passed[k] else 'FAIL'}"
             )
