@@ -57,6 +57,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
+import shapely
 
 from sitesettle import treecode as _tc
 from sitesettle.errors import InputError
@@ -803,6 +804,17 @@ class Loads:
             if not area > 0:
                 raise InputError(
                     f"{where}, load {i}", "the outline has zero area", "a simple polygon"
+                )
+        if n:
+            # the edge sum and the far-field moments hold for simple outlines only
+            rings = shapely.polygons([shapely.linearrings(o) for o in outs])
+            bad = np.flatnonzero(~shapely.is_valid(rings))
+            if len(bad):
+                i = int(bad[0])
+                raise InputError(
+                    f"{where}, load {i}",
+                    f"the outline is not simple ({shapely.is_valid_reason(rings[i])})",
+                    "a simple polygon whose edges do not cross or touch",
                 )
         z = np.zeros(n)
         return cls(np.full(n, POLYGON, dtype=np.int8), cx, cy, z, z, z, z, q, d, outs)

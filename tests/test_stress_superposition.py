@@ -78,6 +78,8 @@ def test_loads_construction_and_order():
         (lambda: S.Loads.circles(0, 0, 1.0, 100, -1), '"depth" is -1'),
         (lambda: S.Loads.polygons([[(0, 0), (1, 0)]], 100, 1), "at least 3"),
         (lambda: S.Loads.polygons([[(0, 0), (1, 0), (2, 0)]], 100, 1), "zero area"),
+        # an uneven bow tie: the edge sum of a crossing outline is no area's stress
+        (lambda: S.Loads.polygons([[(0, 0), (3, 3), (3, 0), (0, 1)]], 100, 1), "not simple"),
     ],
 )
 def test_loads_bad_input_raises_input_error(call, match):
