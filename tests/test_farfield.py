@@ -14,6 +14,8 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from test_stress import NEWMARK_TABLE
 from test_stress_superposition import grid_plan
 
@@ -166,3 +168,51 @@ def test_compiles_without_a_writable_cache(monkeypatch):
     fn = ff._compiled(twice)
     assert fn(1.5) == 3.0
     assert fn._cache.__class__.__name__ == "NullCache"
+
+
+@settings(max_examples=10, deadline=None)
+@given(
+    seed=st.integers(0, 2**31 - 1),
+    offset=st.sampled_from([0.0, 4.3e5, 6.2e6]),
+    tol=st.sampled_from([1e-2, 1e-3, 1e-4]),
+)
+def test_within_the_bound_at_grid_coordinates_and_on_load_planes(seed, offset, tol):
+    # projected coordinates (hundreds of km), loads on several planes, some
+    # unloaded, points in columns that start exactly on a load plane: every
+    # point within tolerance · max|q| of the exact sum (the reference)
+    rng = np.random.default_rng(seed)
+    n = 60
+    x, y = rng.uniform(0, 60, n) + offset, rng.uniform(0, 60, n) + offset
+    q = rng.uniform(-50, 300, n) * (rng.random(n) < 0.9)
+    d = rng.choice([0.0, 0.6, 1.2, 2.5], n)
+    outlines = [
+        np.column_stack([x[k] + r * np.cos(t), y[k] + r * np.sin(t)])
+        for k in range(50, n)
+        for t, r in [(np.arange(5) * 2 * np.pi / 5, rng.uniform(0.6, 2.0))]
+    ]
+    loads = S.Loads.concat(
+        S.Loads.rectangles(
+            x[:40],
+            y[:40],
+            rng.uniform(0.4, 4, 40),
+            rng.uniform(0.4, 7, 40),
+            rng.uniform(0, 360, 40),
+            q[:40],
+            d[:40],
+        ),  # fmt: skip
+        S.Loads.circles(x[40:50], y[40:50], rng.uniform(0.4, 2.5, 10), q[40:50], d[40:50]),
+        S.Loads.polygons(outlines, q[50:], d[50:]),
+    )
+    xy = np.column_stack([rng.uniform(-10, 70, 200), rng.uniform(-10, 70, 200)]) + offset
+    z = np.concatenate([[rng.choice(d)], np.sort(rng.uniform(0.05, 35, 19))])
+    pts = np.column_stack([np.repeat(xy, len(z), axis=0), np.tile(z, len(xy))])
+    T._STATS = counts = {}
+    try:
+        fast = S.stress_sums(loads, pts, tolerance=tol)
+    finally:
+        T._STATS = None
+    assert counts["far"] > 0  # the far field was used
+    exact = S.stress_sums(loads, pts, tolerance=0)
+    allowed = tol * np.abs(loads.pressure).max()
+    assert np.abs(fast[0] - exact[0]).max() <= allowed
+    assert np.abs(fast[1] - exact[1]).max() <= allowed
