@@ -16,6 +16,7 @@ import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from numba.core import config as numba_config
 from test_stress import NEWMARK_TABLE
 from test_stress_superposition import grid_plan
 
@@ -154,13 +155,12 @@ def test_one_or_two_threads_give_identical_sums(monkeypatch):
     assert np.array_equal(one[0], two[0]) and np.array_equal(one[1], two[1])
 
 
+@pytest.mark.skipif(numba_config.DISABLE_JIT, reason="NUMBA_DISABLE_JIT: nothing is compiled")
 def test_compiles_without_a_writable_cache(monkeypatch):
     # where numba finds nowhere to keep its cache (here: only the zip-file
     # locator is allowed, which refuses a plain source file) the loops are
     # compiled without one instead of failing at import
-    from numba.core import config
-
-    monkeypatch.setattr(config, "CACHE_LOCATOR_CLASSES", "ZipCacheLocator")
+    monkeypatch.setattr(numba_config, "CACHE_LOCATOR_CLASSES", "ZipCacheLocator")
 
     def twice(x):
         return 2.0 * x
