@@ -510,7 +510,7 @@ def _accumulate(out_s, out_t, pidx, a, b):
 #: at most in a group). A (group, cluster) pair that is rejected splits the
 #: cluster when its plan extent is at least _SPLIT_RATIO times the group's, else
 #: the group. Measured on the benchmark plan (a central window of 30,000
-#: points): ratios 0.5, 1, 2, 4 gave 687, 513, 476, 488 multipole clusters per
+#: points, with the earlier numpy traversal): ratios 0.5, 1, 2, 4 gave 687, 513, 476, 488 multipole clusters per
 #: point and 1 the shortest time (fewer pairs to bound).
 _CELL = 0.5
 _BAND_RATIO = 2.0
@@ -530,8 +530,9 @@ _CAPACITY = 256
 #: always does (see the proof). On the benchmark plan 2^−6, 2^−6.5, 2^−7 passed
 #: in 42 %, 76 %, 99 % of the blocks, with 5 % more clusters per step; starting
 #: at 2^−7 instead of 2^−6.5 redoes few blocks (a window of 120,000 points of
-#: the benchmark: 2.64 M instead of 3.28 M traversal pairs, 4.6–5.0 s instead
-#: of 5.3–5.9 s, the same 324 clusters per point).
+#: the benchmark, with the earlier numpy traversal: 2.64 M instead of 3.28 M
+#: traversal pairs, 4.6–5.0 s instead of 5.3–5.9 s, the same 324 clusters per
+#: point).
 _THRESHOLDS = (7.0, 8.0, None)
 #: (point, load) elements handed to ``exact_pairs`` at once
 _EXACT_CHUNK = 1 << 14
