@@ -12,9 +12,10 @@ compiled functions release the GIL).
 
 The mathematics, the proof of the bound and the acceptance rules are those of
 :func:`sitesettle.stress.stress_sums` (see its Notes); the tree and its tables
-are built by ``stress._Tree``. Every function here is checked against the
-vectorised formulas and the exact sums in tests/test_stress_superposition.py
-and tests/test_farfield.py.
+are built by ``treecode.Tree``. The functions are checked against independent
+references (the rectangle-corner table, a finite-difference Taylor expansion
+of the kernels) and the treecode against the exact numpy sums, in
+tests/test_farfield.py and tests/test_stress_superposition.py.
 
 Table layouts (columns of the float table ``nt`` of the load tree, one row per
 node) are the ``NT_*`` constants below; the bound's six terms per node are, in
@@ -59,7 +60,7 @@ TERM_J = np.array([0, 1, 2, 3, 0, 1], dtype=np.int64)
 TERM_M = np.array([5, 5, 5, 5, 3, 3], dtype=np.int64)
 
 #: the second bounds are computed only for pairs whose first bound e₁ lies in
-#: (λ·LAZY_LO, λ·LAZY_HI] (see stress._Tree.pair_bounds): on the benchmark plan
+#: (λ·LAZY_LO, λ·LAZY_HI] (see treecode.Tree.pair_bounds): on the benchmark plan
 #: they make 1.6 % of the pairs acceptable, 99.9 % of these with e₁ ≤ 4.6 λ
 LAZY_LO = 0.25
 LAZY_HI = 5.0

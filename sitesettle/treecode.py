@@ -62,7 +62,7 @@ def _rising(p, m):
 
 
 def _bound_coefficients(n):
-    """Coefficients of the order-n remainder bounds (see :func:`stress_sums`).
+    """Coefficients of the order-n remainder bounds (see :func:`sitesettle.stress.stress_sums`).
 
     Returns two lists of (j, coefficient) for σz (power 3 kernel, r^-5) and for
     T (power 1 kernel, r^-3): the bound is Σ_j coef · w^{p−j} δ^j M_{n−j} / r^{2p−1+n−j}.
@@ -510,8 +510,9 @@ def _accumulate(out_s, out_t, pidx, a, b):
 #: at most in a group). A (group, cluster) pair that is rejected splits the
 #: cluster when its plan extent is at least _SPLIT_RATIO times the group's, else
 #: the group. Measured on the benchmark plan (a central window of 30,000
-#: points, with the earlier numpy traversal): ratios 0.5, 1, 2, 4 gave 687, 513, 476, 488 multipole clusters per
-#: point and 1 the shortest time (fewer pairs to bound).
+#: points, with the earlier numpy traversal): ratios 0.5, 1, 2, 4 gave 687,
+#: 513, 476, 488 multipole clusters per point and 1 the shortest time (fewer
+#: pairs to bound).
 _CELL = 0.5
 _BAND_RATIO = 2.0
 _BAND_Z0 = 1.0
