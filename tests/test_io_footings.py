@@ -309,3 +309,29 @@ def test_malformed_footing_files(text, match):
 def test_semicolon_separated_file_is_read():
     f = parse_footings_csv("id;x;y;width;depth;dead_load\nA;0;0;2;1;500\n")
     assert f[0].width == 2.0
+
+
+def test_separator_comes_from_the_header_not_from_comments():
+    # comment lines with commas above a semicolon table (a spreadsheet export with
+    # notes on top): the header row decides; a tab table likewise
+    text = (
+        "# pads C1, C2, wall S1\n# loads: dead, live\n"
+        "id;x;y;width;depth;dead_load\nA;0;0;2.5;1;500\n"
+    )
+    assert parse_footings_csv(text)[0].width == 2.5
+    text = "# a, b, c\nid\tx\ty\twidth\tdepth\tdead_load\nA\t0\t0\t1.5\t1\t500\n"
+    assert parse_footings_csv(text)[0].width == 1.5
+
+
+def test_decimal_comma_in_a_semicolon_file_is_refused_at_its_row():
+    # "1,8" in a semicolon file is a decimal comma: refused with a message that
+    # names the row as a spreadsheet shows it (header on row 2, first data row 3)
+    text = "# exported\nid;x;y;width [m];depth;dead_load\nA;0;0;1,8;1;500\n"
+    with pytest.raises(InputError, match=r'row 3, column "width \[m\]": "1,8" has a comma'):
+        parse_footings_csv(text)
+
+
+def test_bad_header_names_its_own_row():
+    text = "# notes\n# more notes\nid,x,y,[m],depth,dead_load\nA,0,0,2,1,500\n"
+    with pytest.raises(InputError, match=r"row 3, column 4: cannot read the header"):
+        parse_footings_csv(text)

@@ -253,12 +253,14 @@ def parse_flag(value: object, where: str) -> bool:
     raise InputError(where, f'cannot read "{value}" as yes or no', "true/false, yes/no or 1/0")
 
 
-def _split_header(cell: str, source: str, position: int) -> tuple[str, str | None, str]:
+def _split_header(
+    cell: str, source: str, position: int, header_label: str = "row 1"
+) -> tuple[str, str | None, str]:
     header = cell.strip()
     m = _HEADER.match(header)
     if not m or not m.group("name").strip():
         raise InputError(
-            f"{source} row 1, column {position}",
+            f"{source} {header_label}, column {position}",
             f'cannot read the header "{cell}"',
             'a name with an optional unit in brackets, such as "width [ft]"',
         )
@@ -273,7 +275,7 @@ def _split_header(cell: str, source: str, position: int) -> tuple[str, str | Non
 def _new_table(source: str, header_cells, *, header_label: str) -> Table:
     columns, headers, header_units = [], {}, {}
     for pos, cell in enumerate(header_cells, start=1):
-        name, unit, header = _split_header(str(cell), source, pos)
+        name, unit, header = _split_header(str(cell), source, pos, header_label)
         if name in headers:
             raise InputError(
                 f"{source} {header_label}", f'the column "{name}" appears twice', "each column once"
@@ -283,6 +285,26 @@ def _new_table(source: str, header_cells, *, header_label: str) -> Table:
         if unit:
             header_units[name] = unit
     return Table(source, columns, headers, header_units)
+
+
+def _delimiter(text: str) -> str:
+    """The separator of the header row (the first line that is neither blank nor a
+    ``#`` comment): whichever of comma, semicolon and tab it holds most often
+    outside quotes, a comma on a tie. Comment lines, which may hold commas of
+    their own, take no part."""
+    for line in text.splitlines():
+        head = line.strip().lstrip("\ufeff")
+        if not head or head.startswith("#"):
+            continue
+        counts = dict.fromkeys(",;\t", 0)
+        quoted = False
+        for ch in head:
+            if ch == '"':
+                quoted = not quoted
+            elif not quoted and ch in counts:
+                counts[ch] += 1
+        return max(counts, key=lambda d: (counts[d], d == ","))
+    return ","
 
 
 def parse_csv(text: str, source: str) -> Table:
@@ -303,11 +325,7 @@ def parse_csv(text: str, source: str) -> Table:
     >>> t.rows[0].label
     'row 2'
     """
-    try:
-        dialect = csv.Sniffer().sniff(text[:4096], delimiters=",;\t")
-        delimiter = dialect.delimiter
-    except csv.Error:
-        delimiter = ","
+    delimiter = _delimiter(text)
     reader = csv.reader(io.StringIO(text), delimiter=delimiter, skipinitialspace=True)
     table: Table | None = None
     try:
