@@ -44,6 +44,10 @@ from sitesettle.site import Footing, Site
 UNDRAINED_POISSON = 0.5
 #: the thinnest sublayer [m]: below this a stratum sliver is one sublayer
 MIN_SUBLAYER = 1e-3
+#: a settlement above this fraction of the footing width is commonly taken as
+#: bearing failure (common practice, e.g. the 0.1 B settlement criterion of plate
+#: and footing load tests): past it the small-strain methods say nothing
+FAILURE_SETTLEMENT_RATIO = 0.10
 #: Schmertmann's diagrams need Δp/σ'vp; σ'vp is floored here [kPa] for footings at the surface
 MIN_PEAK_STRESS = 1.0
 
@@ -605,6 +609,16 @@ def analyse(
         warnings.append(
             f"footing {site.footings[i].id} lies outside the boreholes' hull: "
             "its ground is extrapolated"
+        )
+
+    total_life = res["imm"][:, i_life] + res["con"][:, i_life] + res["sec"][:, i_life]
+    for i in np.flatnonzero(total_life > FAILURE_SETTLEMENT_RATIO * fw):
+        f = site.footings[i]
+        warnings.append(
+            f"footing {f.id} settles {total_life[i] * 1000:.0f} mm, more than "
+            f"{FAILURE_SETTLEMENT_RATIO:.0%} of its width ({f.width:g} m): beyond the range "
+            "of the settlement methods (a settlement of 0.1 B is commonly taken as bearing "
+            "failure); check the moduli, the loads and their units"
         )
 
     results = Results(

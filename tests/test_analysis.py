@@ -149,6 +149,23 @@ def test_elastic_centre_on_finite_layer_matches_steinbrenner(thickness):
     assert r.total[0, -1] == pytest.approx(ref, rel=5e-3)
 
 
+def test_settlement_past_a_tenth_of_the_width_is_flagged():
+    # a settlement of 0.1 B is commonly taken as bearing failure (common practice):
+    # past it the result is outside the methods' range and the run says so. Under
+    # 150 kPa on a 2 m pad, E = 20 MPa gives about 10 mm (no warning) and E = 50 kPa
+    # (a modulus meant in MPa, given in kPa) metres
+    q, B = 150.0, 2.0
+    f = pad("F", 0, 0, B, load=q * B * B)
+    for E, warned in ((20000.0, False), (50.0, True)):
+        site = uniform_site([f], [elastic_sand(E), ROCK], [6.0, 10.0])
+        r = analyse(site, with_map=False)
+        assert (r.total[0, -1] > 0.1 * B) == warned
+        hits = [w for w in r.warnings if "more than 10% of its width" in w]
+        assert len(hits) == (1 if warned else 0), r.warnings
+        if warned:
+            assert hits[0].startswith("footing F settles")
+
+
 def test_rigid_footing_is_the_mean_of_its_characteristic_points():
     # Flexible settlement at any point inside a rectangle = sum of four corner
     # rectangles (superposition; Steinbrenner 1934 corner formula). At the
