@@ -56,6 +56,7 @@ def test_nice_step_refuses_non_positive():
 @settings(max_examples=200, deadline=None)
 @given(lo=st.floats(-500, 500), spread=st.floats(1e-3, 1e4), max_levels=st.integers(3, 20))
 @example(lo=5.960464477539063e-08, spread=200.0, max_levels=3)  # once gave a level 0 < lo
+@example(lo=279.134500278392, spread=0.001, max_levels=4)  # a level within the slack of lo
 def test_contour_levels_are_round_multiples_inside_the_range(lo, spread, max_levels):
     hi = lo + spread
     levels = contour_levels(np.array([lo, hi, np.nan]), max_levels=max_levels)
@@ -76,7 +77,9 @@ def test_contour_levels_are_round_multiples_inside_the_range(lo, spread, max_lev
             for m in ROUND_MANTISSAS
             if m * 10.0**e < step * (1 - 1e-9)
         )
-        n_finer = math.floor(hi / finer + 1e-9) - math.ceil(lo / finer - 1e-9) + 1
+        # counted with the same slack as "inside" above (1e-9 of the values, ≥ 1e-9 mm)
+        slack_lo, slack_hi = 1e-9 * max(1, abs(lo)), 1e-9 * max(1, abs(hi))
+        n_finer = math.floor((hi + slack_hi) / finer) - math.ceil((lo - slack_lo) / finer) + 1
         assert n_finer > max_levels
 
 
