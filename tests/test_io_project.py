@@ -192,6 +192,24 @@ def test_missing_project_file(tmp_path):
 
 
 @pytest.mark.parametrize(
+    "line, match",
+    [
+        ("sustained_live_fraction = 30", r"key 'sustained_live_fraction': 30 is out of range"),
+        ('depth = "-1 m"', r"key 'depth': -1 is out of range"),
+        ('fill_unit_weight = "-5 kN/m^3"', r"key 'fill_unit_weight': -5 is out of range"),
+    ],
+)
+def test_footing_defaults_are_checked_where_they_are_written(tmp_path, line, match):
+    # a default out of range is reported at its key in site.toml, not at the first
+    # row of footings.csv that takes it (which has no such column)
+    text = SITE.replace('depth = "1 m"\n', "") if line.startswith("depth") else SITE
+    text = text.replace('file = "footings.csv"\n', f'file = "footings.csv"\n{line}\n', 1)
+    write_project(tmp_path, {"site.toml": text})
+    with pytest.raises(InputError, match=r"site\.toml \[footings\], " + match):
+        load_site(tmp_path)
+
+
+@pytest.mark.parametrize(
     "old, new, match",
     [
         ("[analysis]", "", None),

@@ -416,6 +416,16 @@ def _footing_defaults(table: dict, where: str) -> FootingDefaults:
         kw["fill_unit_weight"] = units.parse(
             table["fill_unit_weight"], "unit_weight", f"{where}, key 'fill_unit_weight'"
         )
+    # the defaults are checked here, where they are written, not at the first
+    # footing row that takes them (that row's file has no such column)
+    checks = (
+        ("depth", lambda v: v >= 0.0, "a depth ≥ 0 below ground"),
+        ("sustained_live_fraction", lambda v: 0.0 <= v <= 1.0, "a fraction between 0 and 1"),
+        ("fill_unit_weight", lambda v: v >= 0.0, "a unit weight ≥ 0 (0: loads include them)"),
+    )
+    for key, ok, expected in checks:
+        if key in kw and not ok(kw[key]):
+            raise InputError(f"{where}, key '{key}'", f"{kw[key]:g} is out of range", expected)
     return FootingDefaults(**kw)
 
 
