@@ -265,6 +265,30 @@ def test_single_part_multipolygon_is_accepted(tmp_path):
     assert f.rotation == pytest.approx(90.0)  # long side (3 m) along north
 
 
+def test_gis_property_with_numbers_and_blanks_is_read_cell_by_cell(tmp_path):
+    # a GeoJSON property that is a number in one feature and blank text in another
+    # comes back as text; each cell is parsed, a blank takes the default (the
+    # reader's own warning about the mixed column is not passed on: the test suite
+    # turns warnings into errors)
+    import json
+
+    square = [[[0.0, 0.0], [2.0, 0.0], [2.0, 2.0], [0.0, 2.0], [0.0, 0.0]]]
+    feats = [
+        {
+            "type": "Feature",
+            "properties": {"id": fid, "dead_load": 500.0, "depth": depth},
+            "geometry": {"type": "Polygon", "coordinates": [[[x + a, b] for a, b in square[0]]]},
+        }
+        for fid, depth, x in (("P1", "", 0.0), ("P2", 1.0, 6.0), ("P3", "1.4 m", 12.0))
+    ]
+    p = tmp_path / "plan.geojson"
+    crs = {"type": "name", "properties": {"name": "urn:ogc:def:crs:EPSG::32633"}}  # metres
+    collection = {"type": "FeatureCollection", "crs": crs, "features": feats}
+    p.write_text(json.dumps(collection), encoding="utf-8")
+    found, _ = read_footings(p, FootingDefaults(depth=0.8))
+    assert [f.depth for f in found] == pytest.approx([0.8, 1.0, 1.4])
+
+
 def test_unreadable_gis_file(tmp_path):
     p = tmp_path / "plan.gpkg"
     p.write_bytes(b"not a geopackage")

@@ -313,7 +313,14 @@ def read_footings(
     import geopandas
 
     try:
-        frame = geopandas.read_file(path, layer=layer) if layer else geopandas.read_file(path)
+        with warnings.catch_warnings():
+            # a property holding numbers in some features and text in others stays
+            # text; every cell is parsed (and checked) below, so the reader's
+            # warning about it is noise
+            warnings.filterwarnings(
+                "ignore", message=r"Could not parse column .* as JSON", category=UserWarning
+            )
+            frame = geopandas.read_file(path, layer=layer) if layer else geopandas.read_file(path)
     except Exception as exc:  # pyogrio raises several kinds of errors for unreadable files
         raise InputError(
             path.name,
