@@ -802,7 +802,6 @@ def settlement_map(
     X, Y = np.meshgrid(gx, gy)
     z_top = min(f.depth for f in site.footings)
     z_bot = float(np.max(results.influence_depth))
-    life = st.design_life
     flat = np.zeros(X.size)
     edges_cache: dict = {}  # regular depth edges, shared by grid points with the same bottom
     seg_info = []
@@ -835,67 +834,9 @@ def settlement_map(
     sz, t = stress.stress_sums(loads_full, pts, tolerance=st.stress_tolerance)
     sz_s, _ = stress.stress_sums(loads_sust, pts, tolerance=st.stress_tolerance)
     bb_e = _mean_equivalent_modulus(results)
-    pos = 0
-    for g, col, e, mid in seg_info:
-        n = len(mid)
-        s_z, tt, s_zs = sz[pos : pos + n], t[pos : pos + n], sz_s[pos : pos + n]
-        pos += n
-        k = np.asarray(col.index_at(mid), dtype=int)
-        h = np.diff(e)
-        sig0 = col.effective_stress(mid)
-        # the footings' influence-depth rule: down to the deepest sublayer where Δσz ≥ fraction·σ'v0
-        strong = np.flatnonzero(s_z >= st.influence_fraction * np.maximum(sig0, 1e-9))
-        live = np.arange(n) <= (strong[-1] if len(strong) else -1)
-        total = 0.0
-        for j in np.unique(k):
-            s = col.strata[j]
-            m = (k == j) & live
-            if not np.any(m):
-                continue
-            if s.behaviour == Behaviour.GRANULAR:
-                if s.youngs_modulus is not None:
-                    E = np.full(m.sum(), s.youngs_modulus)
-                elif s.use_soundings:
-                    E = 2.5 * ground.cone_resistance(
-                        float(X.ravel()[g]), float(Y.ravel()[g]), mid[m]
-                    )
-                elif s.cone_resistance is not None:
-                    E = np.full(m.sum(), 2.5 * s.cone_resistance)
-                else:
-                    E = np.full(m.sum(), bb_e.get(s.name, np.nan))
-                hs = (1 + s.poisson) * tt[m] - s_z[m]
-                eps = elastic.vertical_strain(s_z[m], hs, E, s.poisson)
-                total += float(np.nansum(eps * h[m]))
-            elif s.behaviour == Behaviour.COHESIVE:
-                sp = (
-                    s.preconsolidation
-                    if s.preconsolidation is not None
-                    else (s.ocr * sig0[m] if s.ocr is not None else sig0[m])
-                )
-                cr = (
-                    s.recompression_index
-                    if s.recompression_index is not None
-                    else s.compression_index
-                )
-                eps = cons.primary_strain(
-                    sig0[m], s_zs[m], sp, s.compression_index, cr, s.void_ratio
-                )
-                th = float(col.bottoms[j] - col.tops[j])
-                hdr = cons.drainage_path(th, s.drainage)
-                U = cons.degree_of_consolidation(
-                    cons.time_factor_at(life, s.consolidation_coefficient, hdr)
-                )
-                tp = cons.end_of_primary_time(
-                    st.end_of_primary,
-                    s.consolidation_coefficient,
-                    hdr,
-                    given=s.end_of_primary if s.end_of_primary is not None else np.nan,
-                )
-                ep = cons.void_ratio_after(s.void_ratio, eps)
-                sec = cons.secondary_strain(s.secondary_index, ep, life, tp)
-                sec = np.where(s_zs[m] > 0, sec, 0.0)
-                total += float(np.sum((eps * U + sec) * h[m]))
-        flat[g] = total
+    flat[[g for g, *_ in seg_info]] = _map_column_settlements(
+        site, ground, seg_info, X.ravel(), Y.ravel(), sz, t, sz_s, bb_e
+    )
     S = flat.reshape(X.shape)
     # inside a footing: its own computed value
     tot = results.at_design_life("total")
@@ -915,6 +856,110 @@ def settlement_map(
         "elastic strain integration (granular) + e–log σ' consolidation "
         "(cohesive) of the superposed Boussinesq stress; footings: own computed values",
     )
+
+
+def _map_column_settlements(site, ground, seg_info, xs, ys, sz, t, sz_s, bb_e) -> np.ndarray:
+    """Settlement at the design life of each map column of ``seg_info`` [m].
+
+    All sublayers of all columns at once, stratum by stratum: elastic strain on
+    granular strata (E as given, 2.5·qc, or the mean Burland & Burbidge
+    equivalent modulus), e–log σ' consolidation with Terzaghi time and secondary
+    compression on cohesive ones, each column down to its deepest sublayer where
+    Δσz ≥ ``influence_fraction``·σ'v0 (the footings' rule). A stratum's values
+    may differ between columns (measured interval values), so they are gathered
+    per column.
+    """
+    st = site.analysis
+    life = st.design_life
+    ncol = len(seg_info)
+    lens = np.array([len(m) for *_, m in seg_info])
+    first = np.cumsum(lens) - lens
+    col = np.repeat(np.arange(ncol), lens)
+    k = np.concatenate([np.asarray(c.index_at(m), dtype=int) for _, c, _, m in seg_info])
+    sig0 = np.concatenate([c.effective_stress(m) for _, c, _, m in seg_info])
+    h = np.concatenate([np.diff(e) for _, _, e, _ in seg_info])
+    mid = np.concatenate([m for *_, m in seg_info])
+    gx = xs[[g for g, *_ in seg_info]]
+    gy = ys[[g for g, *_ in seg_info]]
+    # down to the deepest sublayer of its column where Δσz ≥ fraction·σ'v0
+    strong = sz >= st.influence_fraction * np.maximum(sig0, 1e-9)
+    pos = np.arange(len(mid)) - first[col]
+    last = np.full(ncol, -1)
+    np.maximum.at(last, col[strong], pos[strong])
+    live = pos <= last[col]
+    total = np.zeros(ncol)
+
+    def per_column(j, cols, get):
+        """A value of stratum j per sublayer, read from each column's own stratum."""
+        u, inv = np.unique(cols, return_inverse=True)
+        vals = [get(seg_info[c][1].strata[j], seg_info[c][1]) for c in u]
+        return vals, inv
+
+    def num(v):
+        return np.nan if v is None else float(v)
+
+    for j, stratum in enumerate(site.strata):
+        m = np.flatnonzero((k == j) & live)
+        if len(m) == 0:
+            continue
+        cm = col[m]
+        if stratum.behaviour == Behaviour.GRANULAR:
+            vals, inv = per_column(
+                j,
+                cm,
+                lambda s, c: (
+                    num(s.youngs_modulus),
+                    bool(s.use_soundings),
+                    num(s.cone_resistance),
+                    float(s.poisson),
+                ),
+            )
+            e_given, sound, qc, nu = (np.array(v)[inv] for v in zip(*vals))
+            E = np.where(np.isfinite(e_given), e_given, np.nan)
+            use = ~np.isfinite(e_given) & sound
+            if use.any():
+                E[use] = 2.5 * ground.cone_resistance(gx[cm[use]], gy[cm[use]], mid[m[use]])
+            use = ~np.isfinite(e_given) & ~sound & np.isfinite(qc)
+            E[use] = 2.5 * qc[use]
+            use = ~np.isfinite(e_given) & ~sound & ~np.isfinite(qc)
+            E[use] = bb_e.get(stratum.name, np.nan)
+            hs = (1 + nu) * t[m] - sz[m]
+            eps = elastic.vertical_strain(sz[m], hs, E, nu)
+            part = eps * h[m]
+            total += np.bincount(cm, weights=np.where(np.isnan(part), 0.0, part), minlength=ncol)
+        elif stratum.behaviour == Behaviour.COHESIVE:
+            vals, inv = per_column(
+                j,
+                cm,
+                lambda s, c, j=j: (
+                    num(s.preconsolidation),
+                    num(s.ocr),
+                    float(s.compression_index),
+                    num(s.recompression_index),
+                    float(s.void_ratio),
+                    float(s.consolidation_coefficient),
+                    float(c.bottoms[j] - c.tops[j]),
+                    str(s.drainage),
+                    num(s.end_of_primary),
+                    float(s.secondary_index),
+                ),
+            )
+            cols = [np.array(v)[inv] for v in zip(*vals)]
+            sp_given, ocr, cc, cr, e0, cv, th, drainage, tp_given, ca = cols
+            s0 = sig0[m]
+            sp = np.where(np.isfinite(sp_given), sp_given, np.where(np.isfinite(ocr), ocr * s0, s0))
+            cr = np.where(np.isfinite(cr), cr, cc)
+            eps = cons.primary_strain(s0, sz_s[m], sp, cc, cr, e0)
+            hdr = np.zeros(len(m))
+            for d in np.unique(drainage):
+                hdr[drainage == d] = cons.drainage_path(th[drainage == d], d)
+            U = cons.degree_of_consolidation(cons.time_factor_at(life, cv, hdr))
+            tp = cons.end_of_primary_time(st.end_of_primary, cv, hdr, given=tp_given)
+            ep = cons.void_ratio_after(e0, eps)
+            sec = cons.secondary_strain(ca, ep, life, tp)
+            sec = np.where(sz_s[m] > 0, sec, 0.0)
+            total += np.bincount(cm, weights=(eps * U + sec) * h[m], minlength=ncol)
+    return total
 
 
 def _mean_equivalent_modulus(results: Results) -> dict[str, float]:
