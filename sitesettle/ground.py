@@ -361,20 +361,28 @@ class Ground:
                 j[ok] = tree.query(q[ok])[1]
             picks[key] = values[j]
         out = []
+        # columns with the same measured values (the same nearest borehole) share
+        # one tuple of strata: built once, not once per column
+        made: dict[tuple, tuple] = {}
+        keys = list(picks)
         for m in range(len(xf)):
-            strata = list(self.strata)
-            changes: dict[int, dict] = {}
-            for (i, field), vals in picks.items():
-                changes.setdefault(i, {})[field] = float(vals[m])
-                if field == "cone_resistance":
-                    changes[i]["use_soundings"] = False
-            for i, kw in changes.items():
-                strata[i] = dataclasses.replace(strata[i], **kw)
+            key = tuple(float(picks[k][m]) for k in keys)
+            strata = made.get(key)
+            if strata is None:
+                changed = list(self.strata)
+                changes: dict[int, dict] = {}
+                for (i, field), v in zip(keys, key):
+                    changes.setdefault(i, {})[field] = v
+                    if field == "cone_resistance":
+                        changes[i]["use_soundings"] = False
+                for i, kw in changes.items():
+                    changed[i] = dataclasses.replace(changed[i], **kw)
+                strata = made[key] = tuple(changed)
             out.append(
                 Column(
                     x=float(xf[m]),
                     y=float(yf[m]),
-                    strata=tuple(strata),
+                    strata=strata,
                     tops=tops[m],
                     bottoms=np.append(tops[m, 1:], np.inf),
                     water_depth=float(water[m]),
