@@ -611,16 +611,6 @@ def analyse(
             "its ground is extrapolated"
         )
 
-    total_life = res["imm"][:, i_life] + res["con"][:, i_life] + res["sec"][:, i_life]
-    for i in np.flatnonzero(total_life > FAILURE_SETTLEMENT_RATIO * fw):
-        f = site.footings[i]
-        warnings.append(
-            f"footing {f.id} settles {total_life[i] * 1000:.0f} mm, more than "
-            f"{FAILURE_SETTLEMENT_RATIO:.0%} of its width ({f.width:g} m): beyond the range "
-            "of the settlement methods (a settlement of 0.1 B is commonly taken as bearing "
-            "failure); check the moduli, the loads and their units"
-        )
-
     results = Results(
         site=site,
         times=times,
@@ -642,6 +632,15 @@ def analyse(
         traces=traces,
         warnings=tuple(warnings),
     )
+    total_life = results.at_design_life("total")
+    for i in np.flatnonzero(total_life > FAILURE_SETTLEMENT_RATIO * fw):
+        f = site.footings[i]
+        warnings.append(
+            f"footing {f.id} settles {total_life[i] * 1000:.0f} mm, more than "
+            f"{FAILURE_SETTLEMENT_RATIO:.0%} of its width ({f.width:g} m): beyond the range "
+            "of the settlement methods (a settlement of 0.1 B is commonly taken as bearing "
+            "failure); check the moduli, the loads and their units"
+        )
     smap = None
     if with_map:
         say("settlement map", 0.9)
@@ -915,7 +914,7 @@ def _map_column_settlements(site, ground, seg_info, xs, ys, sz, t, sz_s, bb_e) -
                 ),
             )
             e_given, sound, qc, nu = (np.array(v)[inv] for v in zip(*vals))
-            E = np.where(np.isfinite(e_given), e_given, np.nan)
+            E = e_given.copy()  # NaN where the stratum gives no modulus
             use = ~np.isfinite(e_given) & sound
             if use.any():
                 E[use] = 2.5 * ground.cone_resistance(gx[cm[use]], gy[cm[use]], mid[m[use]])

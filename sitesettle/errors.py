@@ -17,7 +17,7 @@ def one_line(text: str) -> str:
     out = []
     for ch in text:
         if unicodedata.category(ch) in ("Cc", "Zl", "Zp"):
-            out.append(repr(ch)[1:-1] if ch not in "'" else ch)
+            out.append(repr(ch)[1:-1])
         else:
             out.append(ch)
     return "".join(out)

@@ -1,4 +1,4 @@
-"""Compiled inner loops of the stress treecode (internal to :mod:`sitesettle.stress`).
+"""Compiled inner loops of the stress treecode (internal to :mod:`sitesettle.treecode`).
 
 The treecode of :func:`sitesettle.stress.stress_sums` spends its time in three
 small computations repeated tens of millions of times on a large plan: the
@@ -55,9 +55,6 @@ NT_COLS = 31
 #: power of W in each of the six bound terms, and its kernel (0 σz, 1 T)
 TERM_A = np.array([3, 2, 1, 0, 1, 0], dtype=np.int64)
 TERM_KERNEL = np.array([0, 0, 0, 0, 1, 1], dtype=np.int64)
-#: the bound's j index and the kernel's power m of 1/r per term
-TERM_J = np.array([0, 1, 2, 3, 0, 1], dtype=np.int64)
-TERM_M = np.array([5, 5, 5, 5, 3, 3], dtype=np.int64)
 
 #: the second bounds are computed only for pairs whose first bound e₁ lies in
 #: (λ·LAZY_LO, λ·LAZY_HI] (see treecode.Tree.pair_bounds): on the benchmark plan

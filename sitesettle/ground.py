@@ -363,16 +363,18 @@ class Ground:
         out = []
         # columns with the same measured values (the same nearest borehole) share
         # one tuple of strata: built once, not once per column
-        made: dict[tuple, tuple] = {}
+        # (keyed by the bytes of the values, so that NaN matches NaN)
+        made: dict[bytes, tuple] = {}
         keys = list(picks)
+        table = np.column_stack([picks[k] for k in keys] or [np.zeros(len(xf))]).astype(float)
         for m in range(len(xf)):
-            key = tuple(float(picks[k][m]) for k in keys)
+            key = table[m].tobytes()
             strata = made.get(key)
             if strata is None:
                 changed = list(self.strata)
                 changes: dict[int, dict] = {}
-                for (i, field), v in zip(keys, key):
-                    changes.setdefault(i, {})[field] = v
+                for (i, field), v in zip(keys, table[m]):
+                    changes.setdefault(i, {})[field] = float(v)
                     if field == "cone_resistance":
                         changes[i]["use_soundings"] = False
                 for i, kw in changes.items():

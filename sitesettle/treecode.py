@@ -178,8 +178,6 @@ def _build(q, cen, area, mu, inert, reach, sym, ext, idx):
     n = 2 * m - 1
     perm = np.asarray(idx, dtype=np.intp).copy()
     out = {
-        "parent": np.full(n, -1),
-        "level": np.zeros(n, dtype=int),
         "left": np.full(n, -1),
         "right": np.full(n, -1),
         "load": np.full(n, -1),
@@ -201,7 +199,6 @@ def _build(q, cen, area, mu, inert, reach, sym, ext, idx):
     }
     ids = np.zeros(1, dtype=np.intp)
     a0, a1 = np.zeros(1, dtype=np.intp), np.full(1, m, dtype=np.intp)
-    level = 0
     while len(ids):
         pos, rep, first = _segments(a0, a1)
         j = perm[pos]
@@ -222,7 +219,6 @@ def _build(q, cen, area, mu, inert, reach, sym, ext, idx):
         d2 = (h * h).sum(axis=1)
         d = np.sqrt(d2)
         o = out
-        o["level"][ids] = level
         o["end"][ids] = ids + 2 * size - 1
         o["c"][ids], o["F"][ids], o["Q0"][ids] = c, f, add(qa)
         o["dip"][ids] = np.column_stack([add(qa * h[:, k]) for k in range(3)])
@@ -265,10 +261,8 @@ def _build(q, cen, area, mu, inert, reach, sym, ext, idx):
         half = size // 2
         left, right = ids + 1, ids + 2 * half
         o["left"][ids], o["right"][ids] = left, right
-        o["parent"][left], o["parent"][right] = ids, ids
         ids = np.concatenate([left, right])
         a0, a1 = np.concatenate([a0, a0 + half]), np.concatenate([a0 + half, a1])
-        level += 1
     return out
 
 
@@ -281,8 +275,8 @@ class Tree:
         area, mu, inert, reach, sym = geo.area, geo.mu, geo.inertia, geo.reach, geo.symmetric
         self.rect = geo.rectangles
         t = _build(q, cen, area, mu, inert, reach, sym, geo.extent, np.asarray(idx))
-        self.n = len(t["level"])
-        self.parent, self.level, self.load, self.end = t["parent"], t["level"], t["load"], t["end"]
+        self.n = len(t["load"])
+        self.load, self.end = t["load"], t["end"]
         self.left, self.right = t["left"], t["right"]
         self.c, self.F, self.Q0, self.dip, self.quad = t["c"], t["F"], t["Q0"], t["dip"], t["quad"]
         self.M, self.rho, self.delta, self.order = t["M"], t["rho"], t["delta"], t["order"]
@@ -293,27 +287,25 @@ class Tree:
         # coefficient of M₃ in the harmonic bound of T: 4 (the order-3 Legendre
         # term), 0 for a single centrally symmetric load (its third moments vanish)
         self.h3 = np.where(self.order == 4, 0.0, 4.0)
-        # the bound's terms per node: coefficient · δ^j · M_{n−j} and the powers of
-        # W^a / r^b (σz: a = 3 − j, b = 5 + n − j; T: a = 1 − j, b = 3 + n − j)
-        self.terms = []
+        # the bound's six terms per node (σz: j = 0…3, T: j = 0, 1, the order of
+        # farfield.TERM_A), each coefficient · δ^j · M_{n−j} with the power b of 1/r
+        # (a = 3 − j, b = 5 + n − j for σz; a = 1 − j, b = 3 + n − j for T). The second
+        # bound of a cluster of centrally symmetric loads: the exact third-order term,
+        # bounded by N3 (the sum of |O_abc|) times the directional third derivative at
+        # the point (amp3, b3), plus the order-4 remainder (amp4, b4).
+        self.alt = np.isfinite(self.N3)
+        n3 = np.where(self.alt, self.N3, 0.0)
+        amp1, b1, amp4, b4, amp3, b3 = [], [], [], [], [], []
         for kernel, (p, m) in enumerate(((3, 5), (1, 3))):
             for j in range(p + 1):
                 coef = np.array([dict(_BOUND[o][kernel]).get(j, 0.0) for o in self.order])
                 mom = self.M[np.arange(self.n), self.order - j]
-                self.terms.append((kernel, p - j, coef * self.delta**j * mom, m + self.order - j))
-        # the second bound of a cluster of centrally symmetric loads: the exact
-        # third-order term, bounded by N3 (the sum of |O_abc|) times the directional
-        # third derivative at the point (``centre`` terms), plus the order-4 remainder
-        self.alt = np.isfinite(self.N3)
-        self.alt_terms = []
-        for kernel, (p, m) in enumerate(((3, 5), (1, 3))):
-            for j in range(p + 1):
-                c4 = dict(_BOUND[4][kernel]).get(j, 0.0)
-                mom = self.M[:, 4 - j] if j <= 4 else 0.0
-                self.alt_terms.append((kernel, p - j, c4 * self.delta**j * mom, m + 4 - j, False))
-                c3 = dict(_BOUND[3][kernel]).get(j, 0.0)
-                n3 = np.where(self.alt, self.N3, 0.0)
-                self.alt_terms.append((kernel, p - j, c3 * n3, m + 3 - j, True))
+                amp1.append(coef * self.delta**j * mom)
+                b1.append(m + self.order - j)
+                amp4.append(dict(_BOUND[4][kernel]).get(j, 0.0) * self.delta**j * self.M[:, 4 - j])
+                b4.append(m + 4 - j)
+                amp3.append(dict(_BOUND[3][kernel]).get(j, 0.0) * n3)
+                b3.append(m + 3 - j)
 
         # the same as flat tables for the compiled loops (sitesettle.farfield)
         nt = np.zeros((self.n, ff.NT_COLS))
@@ -329,16 +321,13 @@ class Tree:
         nt[:, ff.NT_M : ff.NT_M + 5] = self.M
         nt[:, ff.NT_ALT] = self.alt
         self.nt = nt
-        self.amp1 = np.column_stack([np.broadcast_to(t[2], self.n) for t in self.terms])
-        self.b1 = np.column_stack([np.broadcast_to(t[3], self.n) for t in self.terms]).astype(
-            np.int64
+        self.amp1, self.amp4, self.amp3 = (np.column_stack(v) for v in (amp1, amp4, amp3))
+        self.b1 = np.column_stack(b1).astype(np.int64)
+        self.b4, self.b3 = np.array(b4, dtype=np.int64), np.array(b3, dtype=np.int64)
+        # child and load indices as the compiled traversal takes them
+        self.links = tuple(
+            np.asarray(v, dtype=np.int64) for v in (self.left, self.right, self.load)
         )
-        gap = [t for t in self.alt_terms if not t[4]]
-        cen = [t for t in self.alt_terms if t[4]]
-        self.amp4 = np.column_stack([np.broadcast_to(t[2], self.n) for t in gap])
-        self.b4 = np.array([t[3] for t in gap], dtype=np.int64)
-        self.amp3 = np.column_stack([np.broadcast_to(t[2], self.n) for t in cen])
-        self.b3 = np.array([t[3] for t in cen], dtype=np.int64)
         self.tables = (self.nt, self.amp1, self.b1, self.amp4, self.b4, self.amp3, self.b3)
 
     def bounds(self, lo, hi):
@@ -604,9 +593,7 @@ def _treecode_pass(tree, p, eps, rule, final, exact_pairs, stats):
             chunk,
             *gtab,
             *tree.tables,
-            tree.left.astype(np.int64),
-            tree.right.astype(np.int64),
-            tree.load.astype(np.int64),
+            *tree.links,
             tree.rect,
             *rule,
             _SPLIT_RATIO,

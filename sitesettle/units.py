@@ -146,11 +146,7 @@ def parse(value: object, dimension: str, where: str) -> float:
             try:
                 q = ureg.Quantity(text)
             except Exception:  # pint raises many kinds of errors on unparseable text
-                raise InputError(
-                    where,
-                    f'cannot read "{value}" as a number with a unit',
-                    f"{_NAMES[dimension]} such as {example}",
-                ) from None
+                raise _unreadable(value, where, dimension, example) from None
             if not isinstance(q, ureg.Quantity):
                 out = float(q)
             else:
@@ -169,6 +165,14 @@ def parse(value: object, dimension: str, where: str) -> float:
     return out
 
 
+def _unreadable(value, where, dimension, example) -> InputError:
+    return InputError(
+        where,
+        f'cannot read "{value}" as a number with a unit',
+        f"{_NAMES[dimension]} such as {example}",
+    )
+
+
 def _check_one_number(text, value, where, dimension, example) -> None:
     """Refuse text that pint would read in a way nobody meant: it multiplies
     juxtaposed numbers ("1 250 kN" → 250 kN, "3 m 2" → 6 m) and drops commas
@@ -182,11 +186,7 @@ def _check_one_number(text, value, where, dimension, example) -> None:
         )
     m = _QUANTITY.match(text)
     if m is None:
-        raise InputError(
-            where,
-            f'cannot read "{value}" as a number with a unit',
-            f"{_NAMES[dimension]} such as {example}",
-        )
+        raise _unreadable(value, where, dimension, example)
     if re.search(r"\d", _POWER.sub("", m.group("unit"))):
         raise InputError(
             where,
