@@ -512,6 +512,69 @@ def movement_after(times, s, t_after: float) -> np.ndarray:
 # --- the checks of a plan ----------------------------------------------------------------
 
 
+def _nearest_stations(st_xy: np.ndarray, a: np.ndarray, b: np.ndarray):
+    """For each pair, the indices of the two members' nearest stations (NaN rows skipped)."""
+    sa = np.zeros(len(a), dtype=np.intp)
+    sb = np.zeros(len(a), dtype=np.intp)
+    multi = np.flatnonzero(
+        (np.sum(np.isfinite(st_xy[a, :, 0]), axis=1) > 1)
+        | (np.sum(np.isfinite(st_xy[b, :, 0]), axis=1) > 1)
+    )
+    for p in multi:
+        d = np.hypot(
+            st_xy[a[p], :, None, 0] - st_xy[b[p], None, :, 0],
+            st_xy[a[p], :, None, 1] - st_xy[b[p], None, :, 1],
+        )
+        d = np.where(np.isnan(d), np.inf, d)
+        i, j = np.unravel_index(int(np.argmin(d)), d.shape)
+        sa[p], sb[p] = i, j
+    return sa, sb
+
+
+def _strip_lines(footings, st_xy, st_moved, cset, line_checks):
+    """Deflection ratio along every footing with several stations (a strip), as lines."""
+    rows = []
+    for i, f in enumerate(footings):
+        ok = np.isfinite(st_xy[i, :, 0])
+        if ok.sum() < 3:
+            continue
+        d, length = relative_deflection(st_xy[i, ok], st_moved[i, ok])
+        rows.append(((f.id,), float(length), float(d)))
+    if not rows:
+        return line_checks
+    sag = cset.limit("deflection_ratio")
+    hog = cset.limit("deflection_ratio_hog") or sag
+    deltas = np.array([r[2] for r in rows])
+    lengths = np.array([r[1] for r in rows])
+    ratio = deltas / lengths
+    lims = [hog if d < 0 else sag for d in deltas]
+    util, gov, passed = _govern([ratio], [lims], len(rows))
+    new = LineChecks(
+        ids=tuple(r[0] for r in rows),
+        length=lengths,
+        relative_deflection=deltas,
+        deflection_ratio=ratio,
+        limit=tuple(
+            g.describe() if g else f"no deflection-ratio limit in {cset.name}" for g in gov
+        ),
+        limit_value=np.array([g.value if g else np.nan for g in gov]),
+        limit_source=tuple(g.source if g else "" for g in gov),
+        utilisation=util,
+        passed=passed.astype(bool),
+    )
+    if line_checks is None:
+        return new
+    return LineChecks(
+        *(
+            (tuple(getattr(line_checks, k)) + tuple(getattr(new, k)))
+            if isinstance(getattr(new, k), tuple)
+            else np.concatenate([getattr(line_checks, k), getattr(new, k)])
+            for k in LineChecks.__dataclass_fields__
+        )
+    )
+
+
+
 def _utilisation(value: np.ndarray, limit: Limit) -> np.ndarray:
     return np.abs(value) / limit.value
 
@@ -520,17 +583,29 @@ def _index(ids: dict[str, int], fid: str, where: str) -> int:
     if fid not in ids:
         some = ", ".join(f'"{k}"' for k in list(ids)[:8])
         raise InputError(
-            where, f'unknown footing id "{fid}"', f"an id of the footings file ({some}…)"
+            where,
+            f'unknown footing or query point id "{fid}"',
+            f"an id of the footings or query points file ({some}…)",
         )
     return ids[fid]
 
 
-def _pair_list(footings: Sequence[Footing], settings: CheckSettings):
-    """Pairs to check: {(a, b): origin}, plus the structure lines as index arrays."""
+def _pair_list(footings: Sequence[Footing], settings: CheckSettings, extra_ids=()):
+    """Pairs to check: {(a, b): origin}, plus the structure lines as index arrays.
+
+    ``extra_ids`` (query points) may appear in listed pairs and structure lines;
+    their indices follow the footings'.
+    """
     rule = PairRule.parse(settings.pairs, "[checks] pairs")
     ids = {f.id: i for i, f in enumerate(footings)}
     if len(ids) != len(footings):
         raise InputError("footings", "footing ids are not unique", "one row per footing id")
+    for j, q in enumerate(extra_ids):
+        if q in ids:
+            raise InputError(
+                "query points", f'id "{q}" is also a footing id', "ids unique across both"
+            )
+        ids[q] = len(footings) + j
     pairs: dict[tuple[int, int], str] = {}
     if rule == PairRule.AUTO:
         for a, b in footing_pairs(footings):
@@ -583,6 +658,9 @@ def check_movements(
     settings: CheckSettings,
     *,
     design_life_index: int = -1,
+    station_xy: np.ndarray | None = None,
+    station_total: np.ndarray | None = None,
+    query: tuple | None = None,
 ) -> Checks:
     """Check every footing, neighbour pair and structure line against a criteria set.
 
@@ -603,6 +681,13 @@ def check_movements(
         structure lines, ``remove_tilt``.
     design_life_index : int
         Column of the design life in the time axis.
+    station_xy, station_total : numpy.ndarray, optional
+        (n_f, n_s, 2) and (n_f, n_s, n_t) the stations of each footing (NaN rows
+        if unused): one per pad (its centre and value), several along a strip.
+        Default: one station per footing, its centre and ``total``.
+    query : (ids, xy, total), optional
+        Query points (ids, (n_q, 2) [m], (n_q, n_t) [m]) that listed pairs and
+        structure lines may name; they are not footings and have no total limit.
 
     Returns
     -------
@@ -613,9 +698,13 @@ def check_movements(
     * Total settlement is checked as computed (all of it); differential settlement,
       angular distortion, footing tilt, building tilt and deflection ratios are of
       the movement after ``settings.checked_after`` (:func:`movement_after`).
-    * Span = distance between footing centroids; differential = |s_a − s_b| of the
-      footing-level settlements; β = differential / span, of the settlements with
-      the building's plane removed when ``settings.remove_tilt``.
+    * A pair is taken between the nearest stations of its two members: for pads
+      (one station) the centroids and the footing-level settlements; a strip
+      gives the settlement of its station nearest the other footing, and the span
+      to it. Differential = |s_a − s_b|; β = differential / span, of the
+      settlements with the building's plane removed when ``settings.remove_tilt``.
+    * A strip's stations make a line of their own: its deflection ratio is checked
+      like a structure line's.
     * A pair on a structure line that hogs (Δ < 0) is held to the set's hogging
       angular-distortion limit when it has one.
     * A movement that cannot be computed (NaN) fails; a movement the set has no
@@ -651,20 +740,46 @@ def check_movements(
     point_moved = movement_after(times, point_total, t_after)[..., k]  # (n_f, n_p)
     s_total = total[:, k]
     xy = np.array([[f.x, f.y] for f in footings], dtype=float).reshape(n_f, 2)
+    if station_xy is None or station_total is None:
+        station_xy = xy[:, None, :]
+        station_total = total[:, None, :]
+    st_xy = np.asarray(station_xy, dtype=float)
+    st_moved = movement_after(times, np.asarray(station_total, dtype=float), t_after)[..., k]
+    q_ids, q_xy, q_moved = (), np.zeros((0, 2)), np.zeros(0)
+    if query is not None:
+        q_ids = tuple(query[0])
+        q_xy = np.asarray(query[1], dtype=float).reshape(-1, 2)
+        q_moved = movement_after(times, np.asarray(query[2], dtype=float), t_after)[:, k]
+    n_s = st_xy.shape[1]
+    if len(q_ids):  # query points are members with one station
+        pad_xy = np.full((len(q_ids), n_s, 2), np.nan)
+        pad_s = np.full((len(q_ids), n_s), np.nan)
+        pad_xy[:, 0] = q_xy
+        pad_s[:, 0] = q_moved
+        st_xy = np.concatenate([st_xy, pad_xy])
+        st_moved = np.concatenate([st_moved, pad_s])
+    m_xy = np.concatenate([xy, q_xy])
+    m_moved = np.concatenate([moved, q_moved])
+    member_ids = tuple(f.id for f in footings) + q_ids
 
-    # building tilt from the checked movement
+    # building tilt from the checked movement (footings only)
     _, gx, gy = plane_fit(xy, moved) if n_f else (np.nan, np.nan, np.nan)
     b_tilt, b_dir = tilt_from_gradient(gx, gy)
-    s_beta = remove_plane(xy, moved) if (settings.remove_tilt and n_f) else moved
+    if settings.remove_tilt and n_f:
+        centre = xy.mean(axis=0)
+        plane = gx * (st_xy[..., 0] - centre[0]) + gy * (st_xy[..., 1] - centre[1])
+        st_beta = st_moved - plane
+    else:
+        st_beta = st_moved
 
     # structure lines
-    pair_origin, lines = _pair_list(footings, settings)
+    pair_origin, lines = _pair_list(footings, settings, q_ids)
     hog_pairs: set[tuple[int, int]] = set()
     line_checks = None
     if lines:
         deltas, lengths = [], []
         for idx in lines:
-            d, length = relative_deflection(xy[idx], moved[idx])
+            d, length = relative_deflection(m_xy[idx], m_moved[idx])
             deltas.append(float(d))
             lengths.append(length)
             if d < 0:
@@ -679,7 +794,7 @@ def check_movements(
         lims = [hog if d < 0 else sag for d in deltas]
         util, gov, passed = _govern([ratio], [lims], len(lines))
         line_checks = LineChecks(
-            ids=tuple(tuple(footings[i].id for i in idx) for idx in lines),
+            ids=tuple(tuple(member_ids[i] for i in idx) for idx in lines),
             length=lengths_a,
             relative_deflection=deltas_a,
             deflection_ratio=ratio,
@@ -692,14 +807,17 @@ def check_movements(
             passed=passed.astype(bool),
         )
 
-    # pairs
+    line_checks = _strip_lines(footings, st_xy[:n_f], st_moved[:n_f], cset, line_checks)
+
+    # pairs, between the nearest stations of the two members
     keys = sorted(pair_origin)
     a = np.array([p[0] for p in keys], dtype=np.intp)
     b = np.array([p[1] for p in keys], dtype=np.intp)
     n_p = len(keys)
-    span = np.hypot(*(xy[a] - xy[b]).T) if n_p else np.zeros(0)
-    differential = np.abs(moved[a] - moved[b])
-    beta = angular_distortion(s_beta[a], s_beta[b], span)
+    sa, sb = _nearest_stations(st_xy, a, b)
+    span = np.hypot(*(st_xy[a, sa] - st_xy[b, sb]).T) if n_p else np.zeros(0)
+    differential = np.abs(st_moved[a, sa] - st_moved[b, sb])
+    beta = angular_distortion(st_beta[a, sa], st_beta[b, sb], span)
     beta_sag = cset.limit("angular_distortion")
     beta_hog = cset.limit("angular_distortion_hog") or beta_sag
     beta_lims = [beta_hog if key in hog_pairs else beta_sag for key in keys]

@@ -418,6 +418,39 @@ class Ground:
         k = self._nearest_sounding_index(xb, yb)
         return np.where(k >= 0, ends[np.maximum(k, 0)], np.nan)
 
+    @property
+    def investigated_depth(self) -> float:
+        """Depth of the deepest borehole or sounding [m]: below it the ground is assumed."""
+        ends = [iv.bottom for b in self.site.boreholes for iv in b.intervals]
+        ends += [float(s.depth[-1]) for s in self.soundings if len(s.depth)]
+        return float(max(ends, default=0.0))
+
+    def cone_minimum_below(self, x, y, z) -> np.ndarray:
+        """Smallest cone resistance of the nearest sounding at or below depth z [kPa].
+
+        The reading interpolated at z and every reading deeper (the last one is
+        held below the sounding's end, as :meth:`cone_resistance` does). NaN
+        where the site has no soundings.
+        """
+        xb, yb, zb = np.broadcast_arrays(
+            np.asarray(x, float), np.asarray(y, float), np.asarray(z, float)
+        )
+        out = np.full(zb.shape, np.nan)
+        if self._sounding_tree is None:
+            return out
+        k = self._nearest_sounding_index(xb, yb)
+        for i, s in enumerate(self.soundings):
+            mask = k == i
+            if not mask.any():
+                continue
+            at = np.interp(zb[mask], s.depth, s.qc)
+            # minimum of the readings deeper than each z: a suffix minimum
+            suffix = np.minimum.accumulate(s.qc[::-1])[::-1]
+            j = np.searchsorted(s.depth, zb[mask], side="right")
+            deeper = np.where(j < len(s.qc), suffix[np.minimum(j, len(s.qc) - 1)], np.inf)
+            out[mask] = np.minimum(at, deeper)
+        return np.where(np.isnan(zb), np.nan, out)
+
     def cone_resistance(self, x, y, z) -> np.ndarray:
         """Cone resistance qc [kPa] at (x, y, z) from the nearest sounding, broadcast.
 

@@ -46,6 +46,17 @@ class Drainage(Choice):
     BOTTOM = "bottom"  #: drained at the bottom only: H_dr = H
 
 
+class DepthRule(Choice):
+    """How deep each evaluation column is integrated."""
+
+    #: to the top of the first rigid stratum, or to where the bounded remaining
+    #: settlement is under the truncation tolerance (the default: nothing dropped)
+    COMPLETE = "complete"
+    #: stop below the deepest sublayer where Δσz ≥ influence_fraction·σ'v0 (an explicit
+    #: option for a code that requires it; what it leaves out is warned about)
+    STRESS_RATIO = "stress_ratio"
+
+
 class EndOfPrimary(Choice):
     """Convention for the time at which secondary compression starts."""
 

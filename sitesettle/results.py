@@ -46,6 +46,12 @@ class Trace:
     modulus : ndarray or None
         Young's modulus used for the sublayer [kPa] (granular strata; the
         equivalent modulus for Burland & Burbidge; undrained E of clay), else NaN.
+    details : dict[str, ndarray]
+        Further per-sublayer columns a checker needs, keyed by a plain heading
+        with its unit ("σ'p (kPa)", "U(t)", "creep (mm)", …); values at the design life.
+    notes : tuple[str, ...]
+        Per-point lines: the own-load method's parameters (Δp, C1, Izp, σ'vp…), how
+        each clay drains, and where and why the integration stopped.
     """
 
     point: tuple[float, float]
@@ -61,6 +67,8 @@ class Trace:
     neighbour_settlement: np.ndarray
     influence: np.ndarray
     modulus: np.ndarray | None = None
+    details: dict[str, np.ndarray] = field(default_factory=dict)
+    notes: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -75,6 +83,29 @@ class SettlementMap:
     y: np.ndarray
     settlement: np.ndarray
     method: str
+
+
+@dataclass(frozen=True)
+class QueryResults:
+    """Settlement of the query points over time (arrays (n_points, n_times) [m]).
+
+    ``total = immediate + creep + consolidation + secondary``; ``xy`` (n, 2) and
+    ``depth`` (n,) [m] say where; ``depth_reached`` [m] where the integration stopped.
+    """
+
+    ids: tuple[str, ...]
+    xy: np.ndarray
+    depth: np.ndarray
+    immediate: np.ndarray
+    creep: np.ndarray
+    consolidation: np.ndarray
+    secondary: np.ndarray
+    depth_reached: np.ndarray
+
+    @property
+    def total(self) -> np.ndarray:
+        """Total settlement (n_points, n_times) [m]."""
+        return self.immediate + self.creep + self.consolidation + self.secondary
 
 
 @dataclass(frozen=True)
@@ -155,9 +186,18 @@ class Results:
     """Per-footing settlements over time, traces, the map and the checks.
 
     Settlement arrays are (n_footings, n_times) [m] at the footing level (mean of
-    the characteristic points for rigid footings, centre for flexible ones).
-    ``total = immediate + consolidation + secondary = own + neighbours``.
-    ``point_total`` (n_footings, n_points, n_times) keeps each evaluation point.
+    the characteristic points for rigid footings, centre for flexible ones; for a
+    strip, its station that settles most at the design life).
+    ``total = immediate + creep + consolidation + secondary = own + neighbours``:
+    ``immediate`` is the settlement on loading (granular strata and undrained clay),
+    ``creep`` the granular time-dependent part (Schmertmann's C2, Burland &
+    Burbidge's ft, beyond 1).
+    ``point_total`` (n_footings, n_points, n_times) keeps each evaluation point;
+    ``station_xy`` (n_footings, n_stations, 2) and ``station_total`` the stations
+    (one per pad: its centre and its value; along a strip, one per segment).
+    ``influence_depth`` is where the integration stopped (the deepest of the
+    footing's points), ``significant_depth`` the deepest point where Δσz ≥
+    ``influence_fraction``·σ'v0 (reported, never used to drop ground by default).
     """
 
     site: Site
@@ -181,11 +221,19 @@ class Results:
     map: SettlementMap | None = None
     checks: Checks | None = None
     warnings: tuple[str, ...] = field(default_factory=tuple)
+    creep: np.ndarray | None = None
+    significant_depth: np.ndarray | None = None
+    station_xy: np.ndarray | None = None
+    station_total: np.ndarray | None = None
+    points: QueryResults | None = None
+    #: what the numbers are: load, time and method basis (one line each)
+    basis: tuple[str, ...] = ()
 
     @property
     def total(self) -> np.ndarray:
         """Total settlement (n_footings, n_times) [m]."""
-        return self.immediate + self.consolidation + self.secondary
+        out = self.immediate + self.consolidation + self.secondary
+        return out if self.creep is None else out + self.creep
 
     @property
     def ids(self) -> tuple[str, ...]:

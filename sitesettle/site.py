@@ -13,7 +13,14 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from sitesettle.options import Behaviour, Drainage, EndOfPrimary, GranularMethod, ShapeInterpolation
+from sitesettle.options import (
+    Behaviour,
+    DepthRule,
+    Drainage,
+    EndOfPrimary,
+    GranularMethod,
+    ShapeInterpolation,
+)
 
 #: default average unit weight of footing concrete and backfill above the base [kN/m³]
 #: (common practice: 20 kN/m³)
@@ -194,10 +201,18 @@ class AnalysisSettings:
     shape_interpolation: ShapeInterpolation = ShapeInterpolation.LINEAR
     report_times: tuple[float, ...] = (0.1, 1.0, 5.0, 10.0)
     design_life: float = 50.0
-    #: the integration stops where Δσz < influence_fraction · σ'v0 (common practice 0.1–0.2)
+    #: how deep every column is integrated (docs/methods.md §3)
+    depth_rule: DepthRule = DepthRule.COMPLETE
+    #: the remaining settlement below the integration is bounded under this fraction
+    #: of the column's settlement (complete rule)
+    truncation_tolerance: float = 0.005
+    #: the "significant depth" is reported where Δσz falls below influence_fraction · σ'v0
+    #: (common practice 0.1–0.2); the stress_ratio rule also stops there
     influence_fraction: float = 0.1
-    #: never integrate deeper than this below the base, in footing widths
-    max_depth_widths: float = 10.0
+    #: optional caps: never integrate deeper than this below the base, in widths, or
+    #: below this depth [m] (inf: no cap; what a cap leaves out is warned about)
+    max_depth_widths: float = math.inf
+    max_depth: float = math.inf
     #: sublayer thickness as a fraction of the footing width (capped by stratum boundaries)
     sublayer_fraction: float = 0.1
     end_of_primary: EndOfPrimary = EndOfPrimary.U95
@@ -231,6 +246,20 @@ class CheckSettings:
 
 
 @dataclass(frozen=True)
+class QueryPoint:
+    """A named point whose settlement is wanted: x, y [m] and a depth below ground [m].
+
+    For instance the rim of a tank, a footing of an existing building next door or
+    a buried service; it carries no load of its own.
+    """
+
+    id: str
+    x: float
+    y: float
+    depth: float = 0.0
+
+
+@dataclass(frozen=True)
 class Site:
     """Everything the analysis needs, in core units."""
 
@@ -249,6 +278,8 @@ class Site:
     units: str = "si"
     #: free project information (client, job number, engineer, notes)
     info: dict[str, str] = field(default_factory=dict)
+    #: query points (settlement over time, listed pairs with footings)
+    points: tuple[QueryPoint, ...] = ()
 
     def stratum(self, name: str) -> Stratum:
         """The stratum called ``name`` (KeyError listing the names otherwise)."""

@@ -21,8 +21,14 @@ from sitesettle.io.footings import FootingDefaults, read_footings
 from sitesettle.io.investigation import read_boreholes, read_soundings
 from sitesettle.io.strata import check_requirements, parse_strata
 from sitesettle.io.tables import Table, parse_csv, parse_flag, read_text, suggest
-from sitesettle.options import Choice, EndOfPrimary, GranularMethod, ShapeInterpolation
-from sitesettle.site import AnalysisSettings, CheckSettings, Site
+from sitesettle.options import (
+    Choice,
+    DepthRule,
+    EndOfPrimary,
+    GranularMethod,
+    ShapeInterpolation,
+)
+from sitesettle.site import AnalysisSettings, CheckSettings, QueryPoint, Site
 
 SITE_FILE = "site.toml"
 
@@ -48,14 +54,18 @@ TABLES: dict[str, tuple[str, ...]] = {
     "footings": ("file", "layer", "depth", "sustained_live_fraction", "rigid", "fill_unit_weight"),
     "boreholes": ("file",),
     "soundings": ("file",),
+    "points": ("file",),
     "strata": (),
     "analysis": (
         "granular_method",
         "shape_interpolation",
         "report_times",
         "design_life",
+        "depth_rule",
+        "truncation_tolerance",
         "influence_fraction",
         "max_depth_widths",
+        "max_depth",
         "sublayer_fraction",
         "end_of_primary",
         "time_factor_r3",
@@ -82,6 +92,8 @@ ANALYSIS_NUMBERS: dict[str, tuple[str, str, bool, float]] = {
     "design_life": ("design_life", "time", False, math.inf),
     "influence_fraction": ("influence_fraction", "dimensionless", False, 1.0),
     "max_depth_widths": ("max_depth_widths", "dimensionless", False, math.inf),
+    "max_depth": ("max_depth", "length", False, math.inf),
+    "truncation_tolerance": ("truncation_tolerance", "dimensionless", False, 0.1),
     "sublayer_fraction": ("sublayer_fraction", "dimensionless", False, 1.0),
     "time_factor_r3": ("bb_r3", "dimensionless", True, math.inf),
     "time_factor_r": ("bb_r", "dimensionless", True, math.inf),
@@ -142,6 +154,7 @@ def parse_analysis(table: dict, where: str = f"{SITE_FILE} [analysis]") -> Analy
         ("granular_method", GranularMethod),
         ("shape_interpolation", ShapeInterpolation),
         ("end_of_primary", EndOfPrimary),
+        ("depth_rule", DepthRule),
     ):
         if key in table:
             kw[key] = cls.parse(table[key], f"{where}, key {key!r}")
@@ -300,6 +313,39 @@ def parse_pairs(data, footing_ids, source: str = "pairs.csv") -> tuple[tuple[str
         if key not in seen:
             seen.add(key)
             out.append((a, b))
+    return tuple(out)
+
+
+def parse_points(data, footing_ids, source: str = "points.csv") -> tuple[QueryPoint, ...]:
+    """Query points: columns ``id``, ``x``, ``y`` [m] and optional ``depth`` [m, default 0]."""
+    table = data if isinstance(data, Table) else parse_csv(data, source)
+    table.check_columns({"id": "text", "x": "length", "y": "length", "depth": "length"}, strict=True)
+    table.require(["id", "x", "y"])
+    taken = set(footing_ids)
+    out: list[QueryPoint] = []
+    seen: set[str] = set()
+    for row in table.rows:
+        pid = table.text(row, "id")
+        if pid in seen:
+            raise InputError(table.where(row, "id"), f'id "{pid}" appears twice', "unique ids")
+        if pid in taken:
+            raise InputError(
+                table.where(row, "id"),
+                f'id "{pid}" is also a footing id',
+                "an id that no footing uses",
+            )
+        seen.add(pid)
+        x = table.quantity(row, "x", "length")
+        y = table.quantity(row, "y", "length")
+        depth = table.quantity(row, "depth", "length", 0.0)
+        for col, v in (("x", x), ("y", y), ("depth", depth)):
+            if not math.isfinite(v):
+                raise InputError(table.where(row, col), f"{v} is not a finite number", "a number")
+        if depth < 0:
+            raise InputError(
+                table.where(row, "depth"), f"{depth:g} m is above ground", "a depth ≥ 0 m"
+            )
+        out.append(QueryPoint(pid, x, y, depth))
     return tuple(out)
 
 
@@ -510,6 +556,9 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
     _warn_soundings_cover(strata, boreholes, soundings)
 
     ids = [f.id for f in footings]
+    qpath = _file(folder, config.get("points", {}), "file", f"{source} [points]", required=False)
+    points = parse_points(read_text(qpath, "points file"), ids, qpath.name) if qpath else ()
+    ids = ids + [p.id for p in points]
     ctable = config.get("checks", {})
     listed: tuple = ()
     lines: tuple = ()
@@ -539,6 +588,7 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
         crs=crs,
         units=out_units,
         info=info,
+        points=points,
     )
 
 

@@ -1,0 +1,656 @@
+"""Strain of every sublayer by its stratum's method, and settlement over time.
+
+The one settlement engine of the tool: footing points, map grid points and query
+points all pass through :func:`sublayer_strains` and :func:`histories`. Per
+sublayer, by the stratum's behaviour:
+
+* granular — elastic strain integration εz = [Δσz − ν(Δσx + Δσy)]/E of the
+  superposed Boussinesq stresses with the stratum's *field modulus*
+  (:func:`field_modulus`), times the time factor of the stratum's method
+  (Schmertmann's C2, Burland & Burbidge's ft; none for the elastic method);
+* cohesive — e–log σ' primary consolidation under the sustained Δσz, with the
+  degree of consolidation of each sublayer from Terzaghi's equation for the
+  actual load profile (:func:`sitesettle.methods.consolidation.sublayer_degree_of_consolidation`),
+  secondary compression with Cα after the end of primary, and optionally the
+  undrained immediate strain (E_u, ν = 0.5);
+* rigid — nothing (the integration stops at its top).
+
+The only footing-specific piece is :func:`own_load_settlement`: the footing's
+own load on granular strata by Schmertmann's strain-influence diagram or by
+Burland & Burbidge, at the footing's own points. The other footings' load there,
+and every load at a map or query point, go through the field methods above.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from sitesettle.columns import GroundColumns
+from sitesettle.methods import burland_burbidge as bb
+from sitesettle.methods import consolidation as cons
+from sitesettle.methods import elastic
+from sitesettle.methods import schmertmann as sch
+from sitesettle.options import Behaviour, GranularMethod
+
+#: Poisson's ratio of a saturated clay loaded undrained (common practice: 0.5)
+UNDRAINED_POISSON = 0.5
+#: Schmertmann's σ'vp is floored here [kPa] for footings at the surface
+MIN_PEAK_STRESS = 1.0
+#: field modulus from cone resistance, E = factor·qc: the axisymmetric factor of
+#: Schmertmann, Hartman & Brown (1978), 2.5, or 2 for the 1970 method (Schmertmann 1970)
+FIELD_CONE_FACTOR = {"1978": 2.5, "1970": 2.0}
+
+#: creep-factor families of the granular methods
+CREEP_NONE, CREEP_SCHMERTMANN, CREEP_BB = 0, 1, 2
+
+
+def creep_kind(method: str) -> int:
+    """The time-factor family of a granular method."""
+    if method in (GranularMethod.SCHMERTMANN, GranularMethod.SCHMERTMANN_1970):
+        return CREEP_SCHMERTMANN
+    if method == GranularMethod.BURLAND_BURBIDGE:
+        return CREEP_BB
+    return CREEP_NONE
+
+
+def creep_factors(times: np.ndarray, r3: float, r: float) -> np.ndarray:
+    """(3, nt) time factor of each creep family at each time (row = family)."""
+    t = np.asarray(times, dtype=float)
+    return np.vstack(
+        [np.ones_like(t), np.asarray(sch.creep_factor(t)), np.asarray(bb.time_factor(t, r3=r3, r=r))]
+    )
+
+
+@dataclass
+class Tables:
+    """(n_columns, n_strata) parameter tables of the ground under the columns."""
+
+    behaviour: np.ndarray
+    method: np.ndarray
+    nu: np.ndarray
+    youngs: np.ndarray
+    qc: np.ndarray
+    sound: np.ndarray
+    spt: np.ndarray
+    gravel: np.ndarray
+    fine: np.ndarray
+    sand_sp: np.ndarray
+    cc: np.ndarray
+    cr: np.ndarray
+    e0: np.ndarray
+    sp: np.ndarray
+    ocr: np.ndarray
+    cv: np.ndarray
+    ca: np.ndarray
+    drainage: np.ndarray
+    eu: np.ndarray
+    tp_given: np.ndarray
+    names: tuple
+
+    @staticmethod
+    def build(gc: GroundColumns, default_method: str) -> Tables:
+        def num(name, default=np.nan):
+            return gc.parameter(
+                lambda s: default if getattr(s, name) is None else float(getattr(s, name))
+            )
+
+        return Tables(
+            behaviour=gc.parameter(lambda s: str(s.behaviour), dtype=object),
+            method=gc.parameter(lambda s: str(s.method or default_method), dtype=object),
+            nu=num("poisson", 0.3),
+            youngs=num("youngs_modulus"),
+            qc=num("cone_resistance"),
+            sound=gc.parameter(lambda s: bool(s.use_soundings), dtype=bool),
+            spt=num("spt_n"),
+            gravel=gc.parameter(lambda s: bool(s.gravel), dtype=bool),
+            fine=gc.parameter(lambda s: bool(s.fine_or_silty), dtype=bool),
+            sand_sp=num("preconsolidation"),
+            cc=num("compression_index"),
+            cr=num("recompression_index"),
+            e0=num("void_ratio"),
+            sp=num("preconsolidation"),
+            ocr=num("ocr"),
+            cv=num("consolidation_coefficient"),
+            ca=num("secondary_index", 0.0),
+            drainage=gc.parameter(lambda s: str(s.drainage), dtype=object),
+            eu=num("undrained_modulus"),
+            tp_given=num("end_of_primary"),
+            names=tuple(s.name for s in gc.variants[0]) if gc.variants else (),
+        )
+
+
+def field_modulus(
+    tab: Tables, ground, col, k, x, y, z, spt_modulus: dict[str, float]
+) -> np.ndarray:
+    """Young's modulus of granular sublayers for elastic strain integration [kPa].
+
+    The stratum's ``youngs_modulus`` where given; else ``FIELD_CONE_FACTOR·qc``
+    with qc the stratum's value or, "from soundings", the nearest sounding's at
+    the sublayer depth; else (SPT only) the stratum's equivalent modulus from the
+    footings' Burland & Burbidge results (``spt_modulus``, NaN when none).
+    """
+    e = tab.youngs[col, k]
+    version = np.where(tab.method[col, k] == GranularMethod.SCHMERTMANN_1970.value, "1970", "1978")
+    factor = np.where(version == "1970", FIELD_CONE_FACTOR["1970"], FIELD_CONE_FACTOR["1978"])
+    qc = tab.qc[col, k].copy()
+    need = tab.sound[col, k] & np.isnan(e)
+    if need.any():
+        qc[need] = ground.cone_resistance(x[need], y[need], z[need])
+    out = np.where(np.isnan(e), factor * qc, e)
+    spt = np.isnan(out)
+    if spt.any():
+        names = np.array(tab.names, dtype=object)[k[spt]]
+        out[spt] = [spt_modulus.get(n, np.nan) for n in names]
+    return out
+
+
+@dataclass
+class Sublayers:
+    """Sublayers of many columns, flattened, with stresses and strains (arrays of length n).
+
+    Geometry: ``col`` (column index), ``top``, ``bottom`` [m], ``stratum`` (index).
+    Stresses [kPa]: ``sig0`` (σ'v0), ``sz``/``t`` (all loads, full service: Δσz and
+    T = qΩ/π), ``sz_sust`` (all loads, sustained), ``own_sz``/``own_t``/``own_sust``
+    (the column's own footing, 0 for unowned columns).
+    Results (final or at unit time factor) [m]: ``gran_own``/``gran_nb`` granular
+    settlement on loading, ``und_own``/``und_nb`` undrained clay, and the clay's
+    final primary strains ``eps_own``/``eps_tot`` [-]; ``modulus`` [kPa], ``iz``,
+    ``creep`` (family), ``method`` (label).
+    """
+
+    col: np.ndarray
+    top: np.ndarray
+    bottom: np.ndarray
+    stratum: np.ndarray
+    x: np.ndarray
+    y: np.ndarray
+    owner: np.ndarray
+    sig0: np.ndarray | None = None
+    sz: np.ndarray | None = None
+    t: np.ndarray | None = None
+    sz_sust: np.ndarray | None = None
+    own_sz: np.ndarray | None = None
+    own_t: np.ndarray | None = None
+    own_sust: np.ndarray | None = None
+    gran_own: np.ndarray | None = None
+    gran_nb: np.ndarray | None = None
+    und_own: np.ndarray | None = None
+    und_nb: np.ndarray | None = None
+    eps_own: np.ndarray | None = None
+    eps_tot: np.ndarray | None = None
+    modulus: np.ndarray | None = None
+    iz: np.ndarray | None = None
+    creep: np.ndarray | None = None
+    method: np.ndarray | None = None
+
+    def __len__(self) -> int:
+        return len(self.top)
+
+    @property
+    def mid(self) -> np.ndarray:
+        return 0.5 * (self.top + self.bottom)
+
+    @property
+    def h(self) -> np.ndarray:
+        return self.bottom - self.top
+
+    @staticmethod
+    def concat(parts: list[Sublayers]) -> Sublayers:
+        names = Sublayers.__dataclass_fields__
+        return Sublayers(
+            **{k: np.concatenate([getattr(p, k) for p in parts]) for k in names}
+        )
+
+    def take(self, index) -> Sublayers:
+        return Sublayers(
+            **{
+                k: (None if getattr(self, k) is None else getattr(self, k)[index])
+                for k in Sublayers.__dataclass_fields__
+            }
+        )
+
+
+# --------------------------------------------------------------------------- strains
+
+
+def sublayer_strains(
+    sub: Sublayers,
+    tab: Tables,
+    ground,
+    spt_modulus: dict[str, float],
+    *,
+    cohesive_immediate: bool,
+) -> None:
+    """Fill the field-method results of every sublayer of ``sub`` (in place).
+
+    Granular: elastic strain of the own and of the other loads with the field
+    modulus (the own part is replaced by :func:`own_load_settlement` where the
+    footing's method is Schmertmann or Burland & Burbidge). Cohesive: final
+    primary strains of the total and of the own sustained stress, and the
+    undrained strain. See the module notes for the equations.
+    """
+    n = len(sub)
+    c, k = sub.col, sub.stratum
+    beh = tab.behaviour[c, k] if n else np.zeros(0, dtype=object)
+    gran = beh == Behaviour.GRANULAR.value
+    coh = beh == Behaviour.COHESIVE.value
+    nu = tab.nu[c, k] if n else np.zeros(0)
+    h = sub.h
+    sub.gran_own = np.zeros(n)
+    sub.gran_nb = np.zeros(n)
+    sub.und_own = np.zeros(n)
+    sub.und_nb = np.zeros(n)
+    sub.eps_own = np.zeros(n)
+    sub.eps_tot = np.zeros(n)
+    sub.modulus = np.full(n, np.nan)
+    sub.iz = np.full(n, np.nan)
+    sub.creep = np.zeros(n, dtype=int)
+    sub.method = np.full(n, "", dtype=object)
+    if n == 0:
+        return
+    nb_sz = sub.sz - sub.own_sz
+    nb_t = sub.t - sub.own_t
+    if gran.any():
+        granular_field(sub, np.flatnonzero(gran), tab, ground, spt_modulus)
+    if coh.any():
+        m = np.flatnonzero(coh)
+        cm, km = c[m], k[m]
+        s0 = sub.sig0[m]
+        sp = np.where(
+            np.isfinite(tab.sp[cm, km]),
+            tab.sp[cm, km],
+            np.where(np.isfinite(tab.ocr[cm, km]), tab.ocr[cm, km] * s0, s0),
+        )
+        cc = tab.cc[cm, km]
+        cr = np.where(np.isfinite(tab.cr[cm, km]), tab.cr[cm, km], cc)
+        e0 = tab.e0[cm, km]
+        sub.eps_tot[m] = cons.primary_strain(s0, sub.sz_sust[m], sp, cc, cr, e0)
+        sub.eps_own[m] = cons.primary_strain(s0, sub.own_sust[m], sp, cc, cr, e0)
+        sub.method[m] = "consolidation"
+        eu = tab.eu[cm, km]
+        if cohesive_immediate and np.isfinite(eu).any():
+            mu = UNDRAINED_POISSON
+            hs_o = (1 + mu) * sub.own_t[m] - sub.own_sz[m]
+            hs_n = (1 + mu) * nb_t[m] - nb_sz[m]
+            und_o = elastic.vertical_strain(sub.own_sz[m], hs_o, eu, mu) * h[m]
+            und_n = elastic.vertical_strain(nb_sz[m], hs_n, eu, mu) * h[m]
+            sub.und_own[m] = np.where(np.isfinite(eu), und_o, 0.0)
+            sub.und_nb[m] = np.where(np.isfinite(eu), und_n, 0.0)
+            sub.modulus[m] = eu
+
+
+def granular_field(sub: Sublayers, m: np.ndarray, tab: Tables, ground, spt_modulus) -> None:
+    """Elastic strain of the own and the other loads on granular sublayers ``m`` (in place).
+
+    Where a sublayer's own part is NaN (no field modulus was known yet) or ``m``
+    is being refreshed, both parts are recomputed; an own part already set by
+    the footing's own method (finite) is kept.
+    """
+    if not len(m):
+        return
+    c, k = sub.col[m], sub.stratum[m]
+    nu = tab.nu[c, k]
+    E = field_modulus(tab, ground, c, k, sub.x[m], sub.y[m], sub.mid[m], spt_modulus)
+    nb_sz = sub.sz[m] - sub.own_sz[m]
+    nb_t = sub.t[m] - sub.own_t[m]
+    hs_own = (1 + nu) * sub.own_t[m] - sub.own_sz[m]
+    hs_nb = (1 + nu) * nb_t - nb_sz
+    own = elastic.vertical_strain(sub.own_sz[m], hs_own, E, nu) * sub.h[m]
+    keep = np.isfinite(sub.gran_own[m]) & (sub.method[m] != "") & (sub.method[m] != "elastic")
+    sub.gran_own[m] = np.where(keep, sub.gran_own[m], own)
+    sub.gran_nb[m] = elastic.vertical_strain(nb_sz, hs_nb, E, nu) * sub.h[m]
+    sub.modulus[m] = np.where(keep & np.isfinite(sub.modulus[m]), sub.modulus[m], E)
+    sub.creep[m] = [creep_kind(x) for x in tab.method[c, k]]
+    sub.method[m] = np.where(keep, sub.method[m], "elastic")
+
+
+# --------------------------------------------------------------------------- own load
+
+
+@dataclass
+class OwnLoad:
+    """Per-footing-point facts of the own-load methods, for the trace (arrays per column)."""
+
+    notes: dict[int, list[str]]
+    spt_modulus: dict[str, list[float]]
+
+
+def own_load_settlement(
+    sub: Sublayers,
+    tab: Tables,
+    gc: GroundColumns,
+    ground,
+    footings,
+    q_full: np.ndarray,
+    *,
+    shape_interpolation: str,
+) -> OwnLoad:
+    """Replace the own granular part of footing-point sublayers by the footing's own method.
+
+    Where the stratum's method is Schmertmann (1978 or 1970), the own settlement
+    of each sublayer is C1·Δp·∫Iz dz/E over the sublayer, with E = (E/qc)·qc of the
+    footing's diagram (or the stratum's given modulus); where it is Burland &
+    Burbidge, the footing point's settlement fs·fl·s_i spread over the sublayers
+    inside z1 in proportion to their thickness. The unit time factor (on
+    loading) is stored; C2 and ft are applied in :func:`histories`.
+
+    Returns the per-point notes (Δp, C1, Izp…) and the Burland & Burbidge
+    equivalent moduli per stratum (the modulus with which elastic strain of the
+    footing's own stress over z1 gives the method's settlement).
+    """
+    notes: dict[int, list[str]] = {}
+    spt_mod: dict[str, list[float]] = {}
+    owned = sub.owner >= 0
+    if not owned.any():
+        return OwnLoad(notes, spt_mod)
+    c, k = sub.col, sub.stratum
+    beh = tab.behaviour[c, k]
+    meth = tab.method[c, k]
+    gran = owned & (beh == Behaviour.GRANULAR.value)
+    is_sch = gran & np.isin(
+        meth, [GranularMethod.SCHMERTMANN.value, GranularMethod.SCHMERTMANN_1970.value]
+    )
+    is_el = gran & (meth == GranularMethod.ELASTIC.value)
+    is_bb = gran & (meth == GranularMethod.BURLAND_BURBIDGE.value)
+    sub.method[is_el] = "elastic"
+    fw = np.array([f.width for f in footings])
+    fd = np.array([f.depth for f in footings])
+    lb = np.array([1.0 if f.shape == "circle" else f.length / f.width for f in footings])
+    diag78 = sch.diagram(lb, version="1978", interpolation=shape_interpolation)
+    diag70 = sch.diagram(lb, version="1970")
+    if is_sch.any():
+        for ver, dg in (("1978", diag78), ("1970", diag70)):
+            m = np.flatnonzero(
+                is_sch & ((meth == GranularMethod.SCHMERTMANN_1970.value) == (ver == "1970"))
+            )
+            if not len(m):
+                continue
+            fi = sub.owner[m]
+            dgi = sch.Diagram(*(np.asarray(a)[fi] if a is not None else None for a in dg))
+            cols = c[m]
+            dp = q_full[fi]
+            sig_base = gc.effective_stress(cols, fd[fi])
+            zp = fd[fi] + np.asarray(sch.peak_depth(fw[fi], dgi))
+            sig_p = gc.effective_stress(cols, zp)
+            peak = (
+                sch.peak_factor(dp, np.maximum(sig_p, MIN_PEAK_STRESS)) if ver == "1978" else None
+            )
+            integral = sch.influence_integral(
+                sub.top[m] - fd[fi], sub.bottom[m] - fd[fi], fw[fi], dgi, peak
+            )
+            e_given = tab.youngs[cols, k[m]]
+            qc = tab.qc[cols, k[m]].copy()
+            need = tab.sound[cols, k[m]] & np.isnan(e_given)
+            if need.any():
+                qc[need] = ground.cone_resistance(sub.x[m][need], sub.y[m][need], sub.mid[m][need])
+            E = np.where(np.isnan(e_given), np.asarray(dgi.modulus_factor) * qc, e_given)
+            c1 = sch.embedment_factor(sig_base, dp)
+            sub.gran_own[m] = c1 * dp * integral / E
+            sub.iz[m] = integral / sub.h[m]
+            sub.modulus[m] = np.where(integral > 0, E, sub.modulus[m])
+            sub.method[m] = "schmertmann" if ver == "1978" else "schmertmann_1970"
+            izp = np.asarray(peak) if peak is not None else np.full(len(m), 0.6)
+            for j in np.unique(cols):
+                r = np.flatnonzero(cols == j)[0]
+                i = int(fi[r])
+                notes.setdefault(int(j), []).append(
+                    f"Schmertmann {ver}: Δp = {dp[r]:.1f} kPa, C1 = {float(c1[r]):.3f}, "
+                    f"Izp = {float(izp[r]):.3f} at {float(zp[r] - fd[i]):.2f} m below the base "
+                    f"(σ'vp = {float(sig_p[r]):.1f} kPa), Iz = 0 at "
+                    f"{float(np.asarray(dgi.zero_depth_ratio)[r]) * fw[i]:.2f} m below the base, "
+                    f"E = {float(np.asarray(dgi.modulus_factor)[r]):.2f}·qc where qc is used; "
+                    "creep C2 = 1 + 0.2 log10(t/0.1 yr)"
+                )
+    if is_bb.any():
+        _burland_burbidge(sub, tab, gc, footings, q_full, fw, fd, lb, is_bb, notes, spt_mod)
+    return OwnLoad(notes, spt_mod)
+
+
+def own_below_reach(sub: Sublayers, tab: Tables) -> None:
+    """Own granular part of footing-point sublayers deeper than the first pass (in place).
+
+    Schmertmann's diagram ends at 2B–4B and Burland & Burbidge's z1 at most at 2B
+    below the base, both inside the first pass: deeper, the footing's own method
+    adds nothing (its elastic strain is *not* added on top of the method).
+    """
+    owned = sub.owner >= 0
+    if not owned.any() or not len(sub):
+        return
+    meth = tab.method[sub.col, sub.stratum]
+    gran = tab.behaviour[sub.col, sub.stratum] == Behaviour.GRANULAR.value
+    by_method = owned & gran & np.isin(
+        meth,
+        [
+            GranularMethod.SCHMERTMANN.value,
+            GranularMethod.SCHMERTMANN_1970.value,
+            GranularMethod.BURLAND_BURBIDGE.value,
+        ],
+    )
+    sub.gran_own[by_method] = 0.0
+    sub.method[by_method] = meth[by_method]
+
+
+def _burland_burbidge(sub, tab, gc, footings, q_full, fw, fd, lb, is_bb, notes, spt_mod):
+    """Burland & Burbidge (1985) own settlement, per footing point, spread over z1."""
+    nu = tab.nu[sub.col, sub.stratum]
+    for j in np.unique(sub.col[is_bb]):
+        m = np.flatnonzero(sub.col == j)
+        i = int(sub.owner[m[0]])
+        B = fw[i]
+        z1 = float(bb.influence_depth(B))
+        zr = sub.top[m] - fd[i]
+        zone = (zr < z1) & is_bb[m]
+        if not zone.any():
+            continue
+        k = sub.stratum[m]
+        n = tab.spt[j, k]
+        below_water = sub.mid[m] > gc.water[j]
+        n_c = bb.corrected_n(
+            n, gravel=tab.gravel[j, k], fine_or_silty_below_water=tab.fine[j, k] & below_water
+        )
+        w = np.minimum(sub.bottom[m] - fd[i], z1) - np.maximum(zr, 0.0)
+        w = np.where(zone, np.clip(w, 0.0, None), 0.0)
+        n_mean = float(np.sum(w * n_c) / np.sum(w))
+        ic = float(bb.compressibility_index(n_mean))
+        beh = tab.behaviour[j]
+        non_gran = [
+            kk
+            for kk in range(len(beh))
+            if beh[kk] != Behaviour.GRANULAR.value
+            and gc.bottoms[j, kk] > fd[i]
+            and gc.bottoms[j, kk] - gc.tops[j, kk] > 0
+        ]
+        hs = (float(gc.tops[j, non_gran[0]]) - fd[i]) if non_gran else np.inf
+        fl = float(bb.thickness_factor(max(hs, 0.0), z1))
+        fs = float(bb.shape_factor(lb[i]))
+        sp = tab.sand_sp[j, k[0]]
+        s_i = float(bb.immediate_settlement(q_full[i], B, ic, None if np.isnan(sp) else sp))
+        s = fs * fl * s_i
+        sub.gran_own[m] = np.where(w > 0, s * w / np.sum(w), np.where(is_bb[m], 0.0, sub.gran_own[m]))
+        sub.method[m[is_bb[m]]] = "burland_burbidge"
+        # equivalent modulus: elastic own strain over the zone with E = 1 kPa
+        hs_own = (1 + nu[m]) * sub.own_t[m] - sub.own_sz[m]
+        unit = float(np.sum(elastic.vertical_strain(sub.own_sz[m], hs_own, 1.0, nu[m]) * w))
+        if s > 0 and unit > 0:
+            e_eq = unit / s
+            sub.modulus[m[zone]] = e_eq
+            for name in {tab.names[kk] for kk in k[zone]}:
+                spt_mod.setdefault(name, []).append(e_eq)
+        notes.setdefault(int(j), []).append(
+            f"Burland & Burbidge: q' = {q_full[i]:.1f} kPa, z1 = {z1:.2f} m, N̄ = {n_mean:.1f}, "
+            f"Ic = {ic:.4f}, fs = {fs:.3f}, fl = {fl:.3f}, s_i = {s_i * 1000:.2f} mm; "
+            "creep ft = 1 + R3 t/3 (t < 3 yr), 1 + R3 + R log10(t/3) after"
+        )
+
+
+# --------------------------------------------------------------------------- time
+
+
+@dataclass
+class History:
+    """Per-sublayer settlement over time (n, nt) [m], own and other loads, by part."""
+
+    imm_own: np.ndarray
+    imm_nb: np.ndarray
+    creep_own: np.ndarray
+    creep_nb: np.ndarray
+    cons_own: np.ndarray
+    cons_nb: np.ndarray
+    sec_own: np.ndarray
+    sec_nb: np.ndarray
+    degree: np.ndarray  # (n, nt) U of the total load (clay), NaN elsewhere
+    drainage_path: np.ndarray  # (n,) H_dr used for t_p [m], NaN off clay
+    drainage_note: np.ndarray  # (n,) how the stratum drains (text)
+
+
+def histories(
+    sub: Sublayers,
+    tab: Tables,
+    gc: GroundColumns,
+    times: np.ndarray,
+    *,
+    end_of_primary: str,
+    r3: float,
+    r: float,
+    investigated_depth: float,
+    own_mask: np.ndarray | None = None,
+    total_mask: np.ndarray | None = None,
+) -> History:
+    """Settlement of every sublayer at every time (sublayers sorted by column, then depth).
+
+    Granular: settlement on loading × the time factor of the stratum's method
+    (C2 or ft; the part beyond 1 is *creep*). Cohesive: primary strain × thickness
+    × the sublayer's degree of consolidation under the profile of the load
+    (own load alone for the own part, all loads for the total), secondary
+    compression Cα/(1 + e_p) log10(t/t_p) after the end of primary where the
+    sublayer is loaded (for a clay with no bottom in the boreholes, down to the
+    investigated depth only), undrained strain at once. ``own_mask`` and
+    ``total_mask`` switch sublayers off (an explicit stress-ratio depth rule).
+    """
+    n, nt = len(sub), len(times)
+    om = np.ones(n, dtype=bool) if own_mask is None else own_mask
+    tm = np.ones(n, dtype=bool) if total_mask is None else total_mask
+    F = creep_factors(times, r3, r)[sub.creep]  # (n, nt)
+    g_own = sub.gran_own * om
+    g_tot = (sub.gran_own + sub.gran_nb) * tm
+    u_own = sub.und_own * om
+    u_tot = (sub.und_own + sub.und_nb) * tm
+    imm_own = np.repeat((g_own + u_own)[:, None], nt, axis=1)
+    imm_tot = np.repeat((g_tot + u_tot)[:, None], nt, axis=1)
+    creep_own = g_own[:, None] * (F - 1.0)
+    creep_tot = g_tot[:, None] * (F - 1.0)
+    cons_own = np.zeros((n, nt))
+    cons_tot = np.zeros((n, nt))
+    sec_own = np.zeros((n, nt))
+    sec_tot = np.zeros((n, nt))
+    degree = np.full((n, nt), np.nan)
+    hdr_out = np.full(n, np.nan)
+    note = np.full(n, "", dtype=object)
+    c, k = sub.col, sub.stratum
+    coh = tab.behaviour[c, k] == Behaviour.COHESIVE.value if n else np.zeros(0, dtype=bool)
+    if coh.any():
+        idx = np.flatnonzero(coh)
+        key = c[idx] * (tab.behaviour.shape[1] + 1) + k[idx]
+        order = np.argsort(key, kind="stable")
+        idx, key = idx[order], key[order]
+        starts = np.flatnonzero(np.r_[True, key[1:] != key[:-1]])
+        lens = np.diff(np.r_[starts, len(idx)])
+        width = int(lens.max())
+        g = len(starts)
+        pad = np.full((g, width), -1)
+        for q, (s0, ln) in enumerate(zip(starts, lens)):
+            pad[q, :ln] = idx[s0 : s0 + ln]
+        valid = pad >= 0
+        pi = np.where(valid, pad, idx[0])
+        gcol, gk = c[pi[:, 0]], k[pi[:, 0]]
+        ltop = gc.tops[gcol, gk]
+        thick = gc.bottoms[gcol, gk] - ltop
+        drain = tab.drainage[gcol, gk].astype(object)
+        open_ = ~np.isfinite(thick)
+        drain = np.where(open_, "top", drain)
+        zt = np.where(valid, sub.top[pi] - ltop[:, None], 0.0)
+        zb = np.where(valid, sub.bottom[pi] - ltop[:, None], 0.0)
+        cv = tab.cv[gcol, gk]
+        for kind, load in (("tot", sub.sz_sust), ("own", sub.own_sust)):
+            u0 = np.where(valid, np.clip(load[pi], 0.0, None), 0.0)
+            U = cons.sublayer_degree_of_consolidation(zt, zb, u0, thick, cv, times, drain)
+            eps = sub.eps_tot if kind == "tot" else sub.eps_own
+            mask = tm if kind == "tot" else om
+            vals = (eps[pi] * sub.h[pi] * mask[pi])[..., None] * U
+            target = cons_tot if kind == "tot" else cons_own
+            target[pad[valid]] = vals[valid]
+            if kind == "tot":
+                degree[pad[valid]] = U[valid]
+        # end of primary from the stratum's drainage path (a clay with no bottom:
+        # drained at the top over the investigated thickness)
+        hdr = np.where(
+            open_,
+            np.maximum(investigated_depth - ltop, 0.0),
+            np.array([float(cons.drainage_path(t, d)) if np.isfinite(t) else np.nan
+                      for t, d in zip(thick, drain)]),
+        )
+        tp = cons.end_of_primary_time(end_of_primary, cv, hdr, given=tab.tp_given[gcol, gk])
+        e0 = tab.e0[c, k]
+        ca = tab.ca[c, k]
+        tp_s = np.zeros(n)
+        hdr_s = np.zeros(n)
+        tp_s[pad[valid]] = np.broadcast_to(tp[:, None], pad.shape)[valid]
+        hdr_s[pad[valid]] = np.broadcast_to(hdr[:, None], pad.shape)[valid]
+        open_s = np.zeros(n, dtype=bool)
+        open_s[pad[valid]] = np.broadcast_to(open_[:, None], pad.shape)[valid]
+        within = ~open_s | (sub.mid < investigated_depth)
+        m = idx
+        for kind, load, eps, mask, target in (
+            ("tot", sub.sz_sust, sub.eps_tot, tm, sec_tot),
+            ("own", sub.own_sust, sub.eps_own, om, sec_own),
+        ):
+            ep = cons.void_ratio_after(e0[m], eps[m])
+            s = cons.secondary_strain(ca[m][:, None], ep[:, None], times[None, :], tp_s[m][:, None])
+            on = (load[m] > 0) & within[m] & mask[m]
+            target[m] = np.where(on[:, None], s * sub.h[m][:, None], 0.0)
+        hdr_out[m] = hdr_s[m]
+        for q in range(g):
+            rows = pad[q][valid[q]]
+            if open_[q]:
+                text = (
+                    f"no bottom in the boreholes: drained at its top (half-space); "
+                    f"t_p from H_dr = {hdr[q]:.2f} m to the investigated depth"
+                )
+            else:
+                text = f"drained {drain[q]}: H_dr = {hdr[q]:.2f} m (thickness {thick[q]:.2f} m)"
+            note[rows] = text
+    return History(
+        imm_own=imm_own,
+        imm_nb=imm_tot - imm_own,
+        creep_own=creep_own,
+        creep_nb=creep_tot - creep_own,
+        cons_own=cons_own,
+        cons_nb=cons_tot - cons_own,
+        sec_own=sec_own,
+        sec_nb=sec_tot - sec_own,
+        degree=degree,
+        drainage_path=hdr_out,
+        drainage_note=note,
+    )
+
+
+def final_estimate(sub: Sublayers, creep_life: np.ndarray) -> np.ndarray:
+    """Per-sublayer final settlement estimate [m] for the depth rule (no time, no secondary)."""
+    eps = sub.eps_tot * sub.h
+    return (sub.gran_own + sub.gran_nb) * creep_life[sub.creep] + sub.und_own + sub.und_nb + eps
+
+
+__all__ = [
+    "FIELD_CONE_FACTOR",
+    "History",
+    "Sublayers",
+    "Tables",
+    "creep_factors",
+    "field_modulus",
+    "final_estimate",
+    "histories",
+    "own_load_settlement",
+    "sublayer_strains",
+]
