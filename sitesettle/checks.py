@@ -531,21 +531,59 @@ def _nearest_stations(st_xy: np.ndarray, a: np.ndarray, b: np.ndarray):
     return sa, sb
 
 
+def relative_rotation_along(xy, s) -> float:
+    """Largest relative rotation along a line of points: segment slope less the chord's.
+
+    Parameters
+    ----------
+    xy : array_like
+        (n, 2) points in order along the line [m].
+    s : array_like
+        (n,) their settlements [m].
+
+    Returns
+    -------
+    float
+        max_i |(s_{i+1} − s_i)/d_i − (s_n − s_1)/L| [-]: the angular distortion of
+        each segment after the line's own rigid-body tilt (the chord) is removed
+        (relative rotation β, EN 1997-1:2004 Fig. H.1; Burland, Broms & de Mello 1977).
+
+    Examples
+    --------
+    >>> round(relative_rotation_along([[0, 0], [5, 0], [10, 0]], [0.0, 0.01, 0.0]), 6)
+    0.002
+    """
+    xy = np.asarray(xy, dtype=float).reshape(-1, 2)
+    s = np.asarray(s, dtype=float)
+    d = np.hypot(*np.diff(xy, axis=0).T)
+    length = float(d.sum())
+    if length <= 0 or len(s) < 2:
+        return math.nan
+    chord = (s[-1] - s[0]) / length
+    return float(np.max(np.abs(np.diff(s) / d - chord)))
+
+
 def _strip_lines(footings, st_xy, st_moved, cset, line_checks):
-    """Deflection ratio along every footing with several stations (a strip), as lines."""
+    """Deflection ratio along every footing with several stations (a strip), checked like
+    a structure line; the largest relative rotation between its stations is reported
+    with it, not checked: stations one width apart see the local end effect of a
+    flexible strip, which the wall it carries bridges (the deflection ratio is the
+    measure for a wall; Burland & Wroth 1974)."""
     rows = []
     for i, f in enumerate(footings):
         ok = np.isfinite(st_xy[i, :, 0])
         if ok.sum() < 3:
             continue
         d, length = relative_deflection(st_xy[i, ok], st_moved[i, ok])
-        rows.append(((f.id,), float(length), float(d)))
+        rot = relative_rotation_along(st_xy[i, ok], st_moved[i, ok])
+        rows.append(((f.id,), float(length), float(d), rot))
     if not rows:
         return line_checks
     sag = cset.limit("deflection_ratio")
     hog = cset.limit("deflection_ratio_hog") or sag
     deltas = np.array([r[2] for r in rows])
     lengths = np.array([r[1] for r in rows])
+    rotation = np.array([r[3] for r in rows])
     ratio = deltas / lengths
     lims = [hog if d < 0 else sag for d in deltas]
     util, gov, passed = _govern([ratio], [lims], len(rows))
@@ -555,20 +593,29 @@ def _strip_lines(footings, st_xy, st_moved, cset, line_checks):
         relative_deflection=deltas,
         deflection_ratio=ratio,
         limit=tuple(
-            g.describe() if g else f"no deflection-ratio limit in {cset.name}" for g in gov
+            (g.describe() + " along the strip")
+            if g
+            else f"no deflection-ratio limit in {cset.name}"
+            for g in gov
         ),
         limit_value=np.array([g.value if g else np.nan for g in gov]),
         limit_source=tuple(g.source if g else "" for g in gov),
         utilisation=util,
         passed=passed.astype(bool),
+        angular_distortion=rotation,
     )
     if line_checks is None:
         return new
+    old = line_checks
+    if old.angular_distortion is None:
+        old = LineChecks(
+            **{**old.__dict__, "angular_distortion": np.full(len(old.ids), np.nan)}
+        )
     return LineChecks(
         *(
-            (tuple(getattr(line_checks, k)) + tuple(getattr(new, k)))
+            (tuple(getattr(old, k)) + tuple(getattr(new, k)))
             if isinstance(getattr(new, k), tuple)
-            else np.concatenate([getattr(line_checks, k), getattr(new, k)])
+            else np.concatenate([getattr(old, k), getattr(new, k)])
             for k in LineChecks.__dataclass_fields__
         )
     )
@@ -888,6 +935,7 @@ __all__ = [
     "neighbour_pairs",
     "plane_fit",
     "relative_deflection",
+    "relative_rotation_along",
     "remove_plane",
     "tilt_from_gradient",
 ]

@@ -136,7 +136,12 @@ class PairChecks:
 
 @dataclass(frozen=True)
 class LineChecks:
-    """Relative deflection along each user-given structure line."""
+    """Relative deflection along each structure line and along each strip.
+
+    A strip's line has its own id only; ``angular_distortion`` is then the largest
+    relative rotation between its stations (segment slope less the chord's), NaN
+    for user lines (whose consecutive footings are checked as pairs).
+    """
 
     ids: tuple[tuple[str, ...], ...]
     length: np.ndarray  # [m]
@@ -147,6 +152,7 @@ class LineChecks:
     limit_source: tuple[str, ...]
     utilisation: np.ndarray
     passed: np.ndarray
+    angular_distortion: np.ndarray | None = None
 
 
 @dataclass(frozen=True)

@@ -8,11 +8,13 @@ whole chain, not a reference. Why the figures are what they are:
 * The clay lens thickens to about 7 m under the north-east corner (BH4). The pads there
   carry the same loads but add 25–40 mm of consolidation and 10–15 mm of secondary
   compression under the superposed stress of the whole corner, so F4 (an interior
-  column over the thickest clay) is the worst footing at about 85 mm.
+  column over the thickest clay) settles about 85 mm, and so does the north end of the
+  gable strip W1 (a strip is evaluated at stations along its length; its worst station
+  is its settlement).
 * Differential movement after six months (``checked_after``) is mostly consolidation,
   so the pairs that exceed β = 1/500 (EN 1997-1 Annex H) are those across the edge of
-  the lens, where the clay thickness changes fastest: F3–F4, G2–G3, G3–G4 and the
-  gable strip W1 beside G2.
+  the lens, where the clay thickness changes fastest: F3–F4, G2–G3 and G3–G4 (the
+  gable strip is paired from its station nearest each pad, 5 m from G3).
 
 Tolerances: ±3 % on settlements (the far-field stress tolerance is 0.1 % of the
 largest pressure, and sublayer convergence is within 0.5 %; 3 % leaves room for
@@ -47,8 +49,9 @@ def test_headline_figures(results):
     r = results
     tot = r.at_design_life() * 1000
     assert len(r.ids) == 39 and len(r.checks.pairs.a) == 66
-    assert r.ids[int(np.argmax(tot))] == "F4"
-    assert tot.max() == pytest.approx(84.9, rel=0.03)
+    assert r.ids[int(np.argmax(tot))] in ("F4", "W1")
+    assert tot[r.ids.index("F4")] == pytest.approx(85.4, rel=0.03)
+    assert tot[r.ids.index("W1")] == pytest.approx(86.0, rel=0.03)
     line_a = [i for i, f in enumerate(r.site.footings) if f.id[0] == "A"]
     assert tot[line_a].max() < 25.0  # no clay under grid line A, edge columns
 
@@ -57,9 +60,7 @@ def test_failing_pairs_are_on_the_edge_of_the_clay_lens(results):
     pc = results.checks.pairs
     ids = results.ids
     failing = {frozenset((ids[a], ids[b])) for a, b, ok in zip(pc.a, pc.b, pc.passed) if not ok}
-    assert failing == {
-        frozenset(p) for p in (("F3", "F4"), ("G2", "G3"), ("G3", "G4"), ("G2", "W1"))
-    }
+    assert failing == {frozenset(p) for p in (("F3", "F4"), ("G2", "G3"), ("G3", "G4"))}
     assert np.mean(pc.passed) > 0.9  # most of the plan passes
 
 
@@ -75,7 +76,7 @@ def test_readme_first_command_writes_a_valid_results_folder(tmp_path):
     rc = main(["check", str(DEMO), "--out", str(out), "--quiet"])
     assert rc == 1  # some checks fail: the point of the demo
     s = json.loads((out / "summary.json").read_text())
-    assert s["n_footings"] == 39 and len(s["failing_pairs"]) == 4
+    assert s["n_footings"] == 39 and len(s["failing_pairs"]) == 3
     if CHECKER.exists():
         done = subprocess.run(
             [sys.executable, str(CHECKER), str(out), str(rc)], capture_output=True, text=True

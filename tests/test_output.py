@@ -84,7 +84,7 @@ def test_footings_csv_reads_back_with_the_results_values(written):
     np.testing.assert_allclose(f["q_net_kPa"], r.net_pressure, atol=0.005 + 1e-12)
     np.testing.assert_allclose(f["tilt"], r.tilt, rtol=1e-5)  # 6 significant figures
     assert np.isnan(f["tilt"][0])  # NaN is written as an empty cell and reads back as NaN
-    np.testing.assert_allclose(f["influence_depth_m"], r.influence_depth, atol=MM_TOL)
+    np.testing.assert_allclose(f["integration_depth_m"], r.influence_depth, atol=MM_TOL)
     assert list(f["outside_boreholes"]) == [bool(v) for v in r.outside_hull]
     expected = ["pass" if p else "fail" for p in r.checks.footing_passed]
     assert list(f["status"]) == expected and "fail" in expected and "pass" in expected
@@ -200,7 +200,7 @@ def test_us_units_equal_si_converted(tmp_path):
         np.testing.assert_allclose(
             b[f"{col}_in"], a[f"{col}_mm"] / inch_mm, atol=5e-5 + MM_TOL / inch_mm
         )
-    for col in ("x", "y", "width", "length", "depth", "influence_depth"):
+    for col in ("x", "y", "width", "length", "depth", "integration_depth"):
         np.testing.assert_allclose(
             b[f"{col}_ft"], a[f"{col}_m"] / foot_m, atol=5e-4 + MM_TOL / foot_m
         )

@@ -78,9 +78,15 @@ def format_sheet(results: Results, footing_id: str) -> str:
         f"  loads: dead {f.dead_load:.0f} kN, live {f.live_load:.0f} kN "
         f"(sustained {f.sustained_live_fraction:.0%}); q_net {results.net_pressure[i]:.1f} kPa "
         f"(sustained {results.sustained_net_pressure[i]:.1f} kPa)",
-        f"  methods: {results.methods[i]}; influence depth {results.influence_depth[i]:.2f} m",
-        f"  at {results.times[k]:g} years: total {results.total[i, k] * 1000:.1f} mm = immediate "
-        f"{results.immediate[i, k] * 1000:.1f} + consolidation "
+        f"  methods: {results.methods[i]}; integrated to {results.influence_depth[i]:.2f} m"
+        + (
+            f" (significant depth {results.significant_depth[i]:.2f} m)"
+            if getattr(results, "significant_depth", None) is not None
+            else ""
+        ),
+        f"  at {results.times[k]:g} years: total {results.total[i, k] * 1000:.1f} mm = on loading "
+        f"{results.immediate[i, k] * 1000:.1f} + creep "
+        f"{(0.0 if results.creep is None else results.creep[i, k]) * 1000:.1f} + consolidation "
         f"{results.consolidation[i, k] * 1000:.1f} + secondary "
         f"{results.secondary[i, k] * 1000:.1f} mm (own {results.own[i, k] * 1000:.1f}, "
         f"neighbours {results.neighbours[i, k] * 1000:.1f})",

@@ -140,7 +140,9 @@ def footing_table(results: Results, units: str = "si") -> pd.DataFrame:
             column("depth", "length", u): [f.depth * L for f in fs],
             column("service_load", "force", u): [f.service_load * F for f in fs],
             column("q_net", "pressure", u): np.asarray(results.net_pressure, float) * P,
-            column("immediate", "settlement", u): results.immediate[:, life] * S,
+            column("immediate", "settlement", u): _granular_all(results)[:, life] * S,
+            column("on_loading", "settlement", u): results.immediate[:, life] * S,
+            column("creep", "settlement", u): _creep(results)[:, life] * S,
             column("consolidation", "settlement", u): results.consolidation[:, life] * S,
             column("secondary", "settlement", u): results.secondary[:, life] * S,
             column("total", "settlement", u): results.total[:, life] * S,
@@ -148,7 +150,9 @@ def footing_table(results: Results, units: str = "si") -> pd.DataFrame:
             column("neighbours", "settlement", u): results.neighbours[:, life] * S,
             "tilt": np.asarray(results.tilt, float),
             "tilt_direction_deg": np.asarray(results.tilt_direction, float),
-            column("influence_depth", "length", u): np.asarray(results.influence_depth, float) * L,
+            column("integration_depth", "length", u): np.asarray(results.influence_depth, float)
+            * L,
+            column("significant_depth", "length", u): _significant(results) * L,
             "method": list(results.methods),
             "outside_boreholes": [bool(v) for v in results.outside_hull],
             "status": [_status(p) for p in passed],
@@ -218,6 +222,22 @@ def pair_table(results: Results, units: str = "si") -> pd.DataFrame:
     )
 
 
+def _creep(results: Results) -> np.ndarray:
+    """Granular creep (n_f, n_t) [m]; zeros for results made without the split."""
+    c = getattr(results, "creep", None)
+    return np.zeros_like(results.immediate) if c is None else c
+
+
+def _granular_all(results: Results) -> np.ndarray:
+    """'immediate' of the tables: on loading plus granular creep (total = it + cons + sec)."""
+    return results.immediate + _creep(results)
+
+
+def _significant(results: Results) -> np.ndarray:
+    s = getattr(results, "significant_depth", None)
+    return np.full(len(results.ids), np.nan) if s is None else np.asarray(s, float)
+
+
 def time_table(results: Results, units: str = "si") -> pd.DataFrame:
     """Settlement of every footing at every time of ``results.times`` (footing-major order)."""
     u = _units(units)
@@ -228,7 +248,9 @@ def time_table(results: Results, units: str = "si") -> pd.DataFrame:
             "id": np.repeat(np.array(results.ids, dtype=object), m),
             "time_yr": np.tile(np.asarray(results.times, float), n),
             column("total", "settlement", u): results.total.reshape(-1) * S,
-            column("immediate", "settlement", u): results.immediate.reshape(-1) * S,
+            column("immediate", "settlement", u): _granular_all(results).reshape(-1) * S,
+            column("on_loading", "settlement", u): results.immediate.reshape(-1) * S,
+            column("creep", "settlement", u): _creep(results).reshape(-1) * S,
             column("consolidation", "settlement", u): results.consolidation.reshape(-1) * S,
             column("secondary", "settlement", u): results.secondary.reshape(-1) * S,
         }
