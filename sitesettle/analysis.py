@@ -259,12 +259,12 @@ def integrate(
     z_from = pts.base.copy()
     z_to = np.minimum(stop, pts.base + reach)
     estimate = np.zeros(n)
-    creep_life = fld.creep_factors(
-        np.array([ctx.times[ctx.life]]), st.bb_r3, st.bb_r
-    )[:, 0]
-    creep_tab = creep_life[
-        np.vectorize(fld.creep_kind, otypes=[int])(tab.method)
-    ] if tab.method.size else np.ones((n, 0))
+    creep_life = fld.creep_factors(np.array([ctx.times[ctx.life]]), st.bb_r3, st.bb_r)[:, 0]
+    creep_tab = (
+        creep_life[np.vectorize(fld.creep_kind, otypes=[int])(tab.method)]
+        if tab.method.size
+        else np.ones((n, 0))
+    )
     templates: dict = {}
     parts: list[fld.Sublayers] = []
     active = z_to > z_from + 1e-9
@@ -327,9 +327,13 @@ def integrate(
             own_notes = own.notes
             spt_modulus = {k: float(np.median(v)) for k, v in own.spt_modulus.items()}
             stale = np.flatnonzero(np.isnan(sub.gran_nb) | np.isnan(sub.gran_own))
-            fld.granular_field(sub, stale[np.isin(sub.method[stale], ["", "elastic"]) |
-                                          np.isnan(sub.gran_nb[stale])],
-                               tab, ctx.ground, spt_modulus)
+            fld.granular_field(
+                sub,
+                stale[np.isin(sub.method[stale], ["", "elastic"]) | np.isnan(sub.gran_nb[stale])],
+                tab,
+                ctx.ground,
+                spt_modulus,
+            )
             first = False
         else:
             fld.own_below_reach(sub, tab)
@@ -395,9 +399,29 @@ def _empty_sublayers() -> fld.Sublayers:
     z = np.zeros(0)
     zi = np.zeros(0, dtype=int)
     return fld.Sublayers(
-        col=zi, top=z, bottom=z, stratum=zi, x=z, y=z, owner=zi, sig0=z, sz=z, t=z,
-        sz_sust=z, own_sz=z, own_t=z, own_sust=z, gran_own=z, gran_nb=z, und_own=z,
-        und_nb=z, eps_own=z, eps_tot=z, modulus=z, iz=z, creep=zi,
+        col=zi,
+        top=z,
+        bottom=z,
+        stratum=zi,
+        x=z,
+        y=z,
+        owner=zi,
+        sig0=z,
+        sz=z,
+        t=z,
+        sz_sust=z,
+        own_sz=z,
+        own_t=z,
+        own_sust=z,
+        gran_own=z,
+        gran_nb=z,
+        und_own=z,
+        und_nb=z,
+        eps_own=z,
+        eps_tot=z,
+        modulus=z,
+        iz=z,
+        creep=zi,
         method=np.zeros(0, dtype=object),
     )
 
@@ -740,12 +764,24 @@ def _depth_warnings(ctx, pts, gc, sub, hist, run, cols, ratio_rule, warnings) ->
     below = sub.mid > deep
     if below.any() and len(fcols):
         tot_life = (
-            hist.imm_own + hist.imm_nb + hist.creep_own + hist.creep_nb
-            + hist.cons_own + hist.cons_nb + hist.sec_own + hist.sec_nb
+            hist.imm_own
+            + hist.imm_nb
+            + hist.creep_own
+            + hist.creep_nb
+            + hist.cons_own
+            + hist.cons_nb
+            + hist.sec_own
+            + hist.sec_nb
         )[:, life]
-        part = np.bincount(sub.col[below], weights=np.nan_to_num(tot_life[below]), minlength=len(pts))
-        share = np.divide(part, np.abs(cols["tot"][:, life]), out=np.zeros(len(pts)),
-                          where=np.abs(cols["tot"][:, life]) > 0)
+        part = np.bincount(
+            sub.col[below], weights=np.nan_to_num(tot_life[below]), minlength=len(pts)
+        )
+        share = np.divide(
+            part,
+            np.abs(cols["tot"][:, life]),
+            out=np.zeros(len(pts)),
+            where=np.abs(cols["tot"][:, life]) > 0,
+        )
         worst = fcols[np.argsort(-share[fcols])]
         worst = [c for c in worst if share[c] > ASSUMED_GROUND_SHARE]
         if worst:
@@ -757,7 +793,9 @@ def _depth_warnings(ctx, pts, gc, sub, hist, run, cols, ratio_rule, warnings) ->
                 "the last stratum is assumed to continue with no rigid base (most: "
                 f"{label(c)}, {share[c]:.0%}, integrated to {run.bottom[c]:.0f} m): give the "
                 "deeper strata or a rigid base if they are known ("
-                + ", ".join(feet[:8]) + ("…" if len(feet) > 8 else "") + ")"
+                + ", ".join(feet[:8])
+                + ("…" if len(feet) > 8 else "")
+                + ")"
             )
 
 
@@ -767,21 +805,36 @@ def _left_out(sub, gc, run, pts, cols, ctx, st) -> dict[int, tuple[float, str]]:
     life = ctx.life
     tab = fld.Tables.build(gc, str(st.granular_method))
     full = fld.histories(
-        sub, tab, gc, ctx.times,
-        end_of_primary=st.end_of_primary, r3=st.bb_r3, r=st.bb_r,
+        sub,
+        tab,
+        gc,
+        ctx.times,
+        end_of_primary=st.end_of_primary,
+        r3=st.bb_r3,
+        r=st.bb_r,
         investigated_depth=ctx.ground.investigated_depth,
     )
     n = len(pts)
     all_life = per_column(
         sub,
-        (full.imm_own + full.imm_nb + full.creep_own + full.creep_nb + full.cons_own
-         + full.cons_nb + full.sec_own + full.sec_nb)[:, [life]],
+        (
+            full.imm_own
+            + full.imm_nb
+            + full.creep_own
+            + full.creep_nb
+            + full.cons_own
+            + full.cons_nb
+            + full.sec_own
+            + full.sec_nb
+        )[:, [life]],
         n,
     )[:, 0]
     gap = all_life - cols["tot"][:, life]
     out = {}
     names = [s.name for s in site.strata]
-    for c in np.flatnonzero((pts.kind == "footing") & (gap > st.truncation_tolerance * np.abs(all_life))):
+    for c in np.flatnonzero(
+        (pts.kind == "footing") & (gap > st.truncation_tolerance * np.abs(all_life))
+    ):
         i = int(pts.owner[c])
         rows = np.flatnonzero(sub.col == c)
         strata = sorted({names[k] for k in sub.stratum[rows]})
@@ -815,8 +868,13 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
     sp = np.maximum(sp, sub.sig0)
     final = sub.sig0 + np.maximum(sub.sz_sust, 0.0)
     branch = np.where(
-        ~coh, "", np.where(final <= sp + 1e-9, "recompression (OC)",
-                           np.where(sp <= sub.sig0 + 1e-9, "virgin (NC)", "OC → NC"))
+        ~coh,
+        "",
+        np.where(
+            final <= sp + 1e-9,
+            "recompression (OC)",
+            np.where(sp <= sub.sig0 + 1e-9, "virgin (NC)", "OC → NC"),
+        ),
     )
     starts = np.searchsorted(sub.col, np.arange(len(pts)))
     ends = np.searchsorted(sub.col, np.arange(len(pts)), side="right")
@@ -959,4 +1017,3 @@ __all__ = [
     "prepare",
     "worst_pair_section",
 ]
-

@@ -608,9 +608,7 @@ def _strip_lines(footings, st_xy, st_moved, cset, line_checks):
         return new
     old = line_checks
     if old.angular_distortion is None:
-        old = LineChecks(
-            **{**old.__dict__, "angular_distortion": np.full(len(old.ids), np.nan)}
-        )
+        old = LineChecks(**{**old.__dict__, "angular_distortion": np.full(len(old.ids), np.nan)})
     return LineChecks(
         *(
             (tuple(getattr(old, k)) + tuple(getattr(new, k)))
@@ -619,7 +617,6 @@ def _strip_lines(footings, st_xy, st_moved, cset, line_checks):
             for k in LineChecks.__dataclass_fields__
         )
     )
-
 
 
 def _utilisation(value: np.ndarray, limit: Limit) -> np.ndarray:

@@ -25,7 +25,7 @@ import numpy as np
 
 from sitesettle.methods import elastic
 from sitesettle.options import Behaviour
-from sitesettle.site import WATER_UNIT_WEIGHT, Footing, Site
+from sitesettle.site import WATER_UNIT_WEIGHT, Footing
 
 #: a rectangle longer than this many widths is a strip: rigid (if rigid) across
 #: its width, flexible along its length, evaluated at stations along its length
@@ -415,13 +415,17 @@ def tail_bound(
             a = np.maximum(gc.tops[:, j], z)
             b = np.minimum(gc.bottoms[:, j], stop)
             real = b > a
-            rigid = (behaviour[:, j] == Behaviour.RIGID.value) & (gc.bottoms[:, j] > z) & (
-                gc.bottoms[:, j] > gc.tops[:, j]
+            rigid = (
+                (behaviour[:, j] == Behaviour.RIGID.value)
+                & (gc.bottoms[:, j] > z)
+                & (gc.bottoms[:, j] > gc.tops[:, j])
             )
             stop = np.where(rigid, np.minimum(stop, np.maximum(gc.tops[:, j], z)), stop)
             if not real.any():
                 continue
-            part = coef * (1.0 / (a - load_depth) - 1.0 / np.where(np.isinf(b), np.inf, b - load_depth))
+            part = coef * (
+                1.0 / (a - load_depth) - 1.0 / np.where(np.isinf(b), np.inf, b - load_depth)
+            )
             gran = behaviour[:, j] == Behaviour.GRANULAR.value
             coh = behaviour[:, j] == Behaviour.COHESIVE.value
             w = np.zeros(n)

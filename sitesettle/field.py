@@ -59,7 +59,11 @@ def creep_factors(times: np.ndarray, r3: float, r: float) -> np.ndarray:
     """(3, nt) time factor of each creep family at each time (row = family)."""
     t = np.asarray(times, dtype=float)
     return np.vstack(
-        [np.ones_like(t), np.asarray(sch.creep_factor(t)), np.asarray(bb.time_factor(t, r3=r3, r=r))]
+        [
+            np.ones_like(t),
+            np.asarray(sch.creep_factor(t)),
+            np.asarray(bb.time_factor(t, r3=r3, r=r)),
+        ]
     )
 
 
@@ -199,9 +203,7 @@ class Sublayers:
     @staticmethod
     def concat(parts: list[Sublayers]) -> Sublayers:
         names = Sublayers.__dataclass_fields__
-        return Sublayers(
-            **{k: np.concatenate([getattr(p, k) for p in parts]) for k in names}
-        )
+        return Sublayers(**{k: np.concatenate([getattr(p, k) for p in parts]) for k in names})
 
     def take(self, index) -> Sublayers:
         return Sublayers(
@@ -236,7 +238,6 @@ def sublayer_strains(
     beh = tab.behaviour[c, k] if n else np.zeros(0, dtype=object)
     gran = beh == Behaviour.GRANULAR.value
     coh = beh == Behaviour.COHESIVE.value
-    nu = tab.nu[c, k] if n else np.zeros(0)
     h = sub.h
     sub.gran_own = np.zeros(n)
     sub.gran_nb = np.zeros(n)
@@ -420,13 +421,17 @@ def own_below_reach(sub: Sublayers, tab: Tables) -> None:
         return
     meth = tab.method[sub.col, sub.stratum]
     gran = tab.behaviour[sub.col, sub.stratum] == Behaviour.GRANULAR.value
-    by_method = owned & gran & np.isin(
-        meth,
-        [
-            GranularMethod.SCHMERTMANN.value,
-            GranularMethod.SCHMERTMANN_1970.value,
-            GranularMethod.BURLAND_BURBIDGE.value,
-        ],
+    by_method = (
+        owned
+        & gran
+        & np.isin(
+            meth,
+            [
+                GranularMethod.SCHMERTMANN.value,
+                GranularMethod.SCHMERTMANN_1970.value,
+                GranularMethod.BURLAND_BURBIDGE.value,
+            ],
+        )
     )
     sub.gran_own[by_method] = 0.0
     sub.method[by_method] = meth[by_method]
@@ -468,7 +473,9 @@ def _burland_burbidge(sub, tab, gc, footings, q_full, fw, fd, lb, is_bb, notes, 
         sp = tab.sand_sp[j, k[0]]
         s_i = float(bb.immediate_settlement(q_full[i], B, ic, None if np.isnan(sp) else sp))
         s = fs * fl * s_i
-        sub.gran_own[m] = np.where(w > 0, s * w / np.sum(w), np.where(is_bb[m], 0.0, sub.gran_own[m]))
+        sub.gran_own[m] = np.where(
+            w > 0, s * w / np.sum(w), np.where(is_bb[m], 0.0, sub.gran_own[m])
+        )
         sub.method[m[is_bb[m]]] = "burland_burbidge"
         # equivalent modulus: elastic own strain over the zone with E = 1 kPa
         hs_own = (1 + nu[m]) * sub.own_t[m] - sub.own_sz[m]
@@ -525,9 +532,12 @@ def histories(
     × the sublayer's degree of consolidation under the profile of the load
     (own load alone for the own part, all loads for the total), secondary
     compression Cα/(1 + e_p) log10(t/t_p) after the end of primary where the
-    sublayer is loaded (for a clay with no bottom in the boreholes, down to the
-    investigated depth only), undrained strain at once. ``own_mask`` and
-    ``total_mask`` switch sublayers off (an explicit stress-ratio depth rule).
+    sublayer is loaded — Cα scaled by the ratio of the actual primary strain to the
+    normally consolidated one: Cα·Cr/Cc where the clay stays in recompression, Cα
+    once normally consolidated (Cα/Cc constant, Mesri & Godlewski 1977); for a clay with no
+    bottom in the boreholes, down to the investigated depth only; undrained strain
+    at once. ``own_mask`` and ``total_mask`` switch sublayers off (an explicit
+    stress-ratio depth rule).
     """
     n, nt = len(sub), len(times)
     om = np.ones(n, dtype=bool) if own_mask is None else own_mask
@@ -588,12 +598,27 @@ def histories(
         hdr = np.where(
             open_,
             np.maximum(investigated_depth - ltop, 0.0),
-            np.array([float(cons.drainage_path(t, d)) if np.isfinite(t) else np.nan
-                      for t, d in zip(thick, drain)]),
+            np.array(
+                [
+                    float(cons.drainage_path(t, d)) if np.isfinite(t) else np.nan
+                    for t, d in zip(thick, drain)
+                ]
+            ),
         )
         tp = cons.end_of_primary_time(end_of_primary, cv, hdr, given=tab.tp_given[gcol, gk])
         e0 = tab.e0[c, k]
         ca = tab.ca[c, k]
+        # Cα/Cc stays constant (Mesri & Godlewski 1977): a clay that stays in
+        # recompression creeps with Cα·Cr/Cc
+        s0 = sub.sig0
+        sp = np.where(
+            np.isfinite(tab.sp[c, k]),
+            tab.sp[c, k],
+            np.where(np.isfinite(tab.ocr[c, k]), tab.ocr[c, k] * s0, s0),
+        )
+        sp = np.maximum(sp, s0)
+        ccx = tab.cc[c, k]
+        crx = np.where(np.isfinite(tab.cr[c, k]), tab.cr[c, k], ccx)
         tp_s = np.zeros(n)
         hdr_s = np.zeros(n)
         tp_s[pad[valid]] = np.broadcast_to(tp[:, None], pad.shape)[valid]
@@ -602,12 +627,22 @@ def histories(
         open_s[pad[valid]] = np.broadcast_to(open_[:, None], pad.shape)[valid]
         within = ~open_s | (sub.mid < investigated_depth)
         m = idx
-        for kind, load, eps, mask, target in (
-            ("tot", sub.sz_sust, sub.eps_tot, tm, sec_tot),
-            ("own", sub.own_sust, sub.eps_own, om, sec_own),
+        for load, eps, mask, target in (
+            (sub.sz_sust, sub.eps_tot, tm, sec_tot),
+            (sub.own_sust, sub.eps_own, om, sec_own),
         ):
             ep = cons.void_ratio_after(e0[m], eps[m])
-            s = cons.secondary_strain(ca[m][:, None], ep[:, None], times[None, :], tp_s[m][:, None])
+            # Cα in the ratio of the clay's actual primary strain to the strain it
+            # would have if normally consolidated: Cα·Cr/Cc in recompression, Cα
+            # when normally consolidated, in between when the load crosses σ'p
+            sf = s0[m] + np.maximum(load[m], 0.0)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                nc = ccx[m] * np.log10(sf / s0[m]) / (1.0 + e0[m])
+                share = np.where(nc > 0, eps[m] / nc, np.where(sp[m] > s0[m], crx[m] / ccx[m], 1.0))
+            ca_used = ca[m] * np.clip(np.nan_to_num(share, nan=1.0), 0.0, 1.0)
+            s = cons.secondary_strain(
+                ca_used[:, None], ep[:, None], times[None, :], tp_s[m][:, None]
+            )
             on = (load[m] > 0) & within[m] & mask[m]
             target[m] = np.where(on[:, None], s * sub.h[m][:, None], 0.0)
         hdr_out[m] = hdr_s[m]

@@ -226,7 +226,7 @@ def plan_figure(results: Results, *, ax=None, units: str = "si"):
         top = math.ceil(vmax / step - 1e-9) * step
     norm = Normalize(vmin=0.0, vmax=top)
 
-    xy = np.array([[f.x, f.y] for f in results.site.footings]) * L
+    xy = results.member_xy * L
     handles = []
     if results.checks is not None and len(results.checks.pairs.a):
         pc = results.checks.pairs
@@ -273,6 +273,18 @@ def plan_figure(results: Results, *, ax=None, units: str = "si"):
         )
     if results.checks is None:
         handles.append(Patch(facecolor="none", edgecolor="none", label="no checks were run"))
+    q = getattr(results, "points", None)
+    if q is not None and len(q.ids):
+        qxy = np.asarray(q.xy, float) * L
+        qs = q.total[:, results.design_life_index]
+        ax.scatter(qxy[:, 0], qxy[:, 1], c=qs * S,
+                   cmap=SETTLEMENT_CMAP, norm=norm, marker="D", s=36, edgecolors="#222222",
+                   linewidths=0.8, zorder=6)
+        for name, (x, y) in zip(q.ids, qxy):
+            ax.annotate(_esc(name), (x, y), xytext=(4, 4), textcoords="offset points",
+                        fontsize=7, zorder=7)
+        handles.append(Line2D([], [], marker="D", color="#222222", lw=0, markerfacecolor="none",
+                              label="query point"))
 
     _set_plan_limits(ax, results, L)
     cb = fig.colorbar(patches, ax=ax, shrink=0.85, pad=0.02)
@@ -491,8 +503,10 @@ def time_figure(results: Results, *, ax=None, units: str = "si"):
             pc = results.checks.pairs
             a, b = int(pc.a[p]), int(pc.b[p])
             after = float(results.checks.checked_after)
-            label = f"|s({_esc(results.ids[a])}) − s({_esc(results.ids[b])})|"
-            t_plot, rel = times, total[a] - total[b]
+            mids = results.member_ids
+            label = f"|s({_esc(mids[a])}) − s({_esc(mids[b])})|"
+            mt = results.member_total * S
+            t_plot, rel = times, mt[a] - mt[b]
             if after > 0:
                 # the check looks at the movement after `after` years only
                 rel0 = _at_time(times, rel, after)

@@ -431,7 +431,7 @@ def _checks(results: Results, units: str) -> str:
         parts.append(f"<p>Only the movement after {c.checked_after:g} yr is checked for pairs.</p>")
     bad_f = [_e(i) for i, p in zip(ids, c.footing_passed) if not p]
     bad_p = [
-        f"{_e(ids[int(a)])} – {_e(ids[int(b)])}"
+        f"{_e(results.member_ids[int(a)])} – {_e(results.member_ids[int(b)])}"
         for a, b, p in zip(c.pairs.a, c.pairs.b, c.pairs.passed)
         if not p
     ]
@@ -619,6 +619,18 @@ def render_report(
     body.append("<h3>Pairs</h3>")
     pt = pair_table(results, units)
     body.append(_df_table(pt) if len(pt) else "<p>No pairs were checked.</p>")
+    if getattr(results, "points", None) is not None:
+        from sitesettle.io.output import point_table
+
+        qt = point_table(results, units)
+        life = float(results.times[results.design_life_index])
+        body.append(f"<h3>Query points at the design life ({life:g} yr)</h3>")
+        body.append(
+            "<p class='note'>Named points with no load of their own (an existing building's "
+            "footings, a tank rim, a buried service): the same engine as the footings, the "
+            "footings' own load counted by elastic strain and consolidation.</p>"
+        )
+        body.append(_df_table(qt[np.isclose(qt["time_yr"], life)]))
 
     body.append(f"<h2 id='figures'>{SECTIONS[4]}</h2>")
     if not figures:

@@ -246,6 +246,26 @@ class Results:
         """Footing ids in order."""
         return tuple(f.id for f in self.site.footings)
 
+    @property
+    def member_ids(self) -> tuple[str, ...]:
+        """Ids of everything a pair may join: the footings, then the query points."""
+        return self.ids + (self.points.ids if self.points is not None else ())
+
+    @property
+    def member_total(self) -> np.ndarray:
+        """(n, n_times) total settlement of every member [m]: footings, then query points."""
+        if self.points is None:
+            return self.total
+        return np.concatenate([self.total, self.points.total])
+
+    @property
+    def member_xy(self) -> np.ndarray:
+        """(n, 2) plan position of every member [m]: footing centroids, then query points."""
+        xy = np.array([[f.x, f.y] for f in self.site.footings], dtype=float).reshape(-1, 2)
+        if self.points is not None:
+            xy = np.concatenate([xy, np.asarray(self.points.xy, float).reshape(-1, 2)])
+        return xy
+
     def at_design_life(self, name: str = "total") -> np.ndarray:
         """One settlement array (``"total"``, ``"own"``…) at the design life [m]."""
         return getattr(self, name)[:, self.design_life_index]

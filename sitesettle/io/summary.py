@@ -50,7 +50,7 @@ def format_summary(results: Results, summary: dict, units: str = "si") -> str:
         out.append("")
         out.append("Most utilised pairs:")
         for k in np.argsort(-np.nan_to_num(pc.utilisation, nan=-1.0), kind="stable")[:SHOWN]:
-            a, b = ids[int(pc.a[k])], ids[int(pc.b[k])]
+            a, b = results.member_ids[int(pc.a[k])], results.member_ids[int(pc.b[k])]
             out.append(
                 f"  {a + ' – ' + b:<22} diff {pc.differential[k] * scale:6.1f} {unit}  "
                 f"β {ratio_text(pc.angular_distortion[k]):>8}  limit {pc.limit[k]} "

@@ -26,8 +26,8 @@ import functools
 import math
 
 import numpy as np
-from scipy.special import erf
 from numpy.typing import ArrayLike
+from scipy.special import erf
 
 from sitesettle.options import Drainage, EndOfPrimary
 
@@ -553,9 +553,7 @@ def sublayer_degree_of_consolidation(
             ubar[open_, :, it] = _half_space_mean(a[open_], b[open_], u0[open_], ct[open_])
         fin = np.flatnonzero(~open_)
         if len(fin):
-            ubar[fin, :, it] = _series_mean(
-                a[fin], b[fin], u0[fin], L[fin], ct[fin], one_face[fin]
-            )
+            ubar[fin, :, it] = _series_mean(a[fin], b[fin], u0[fin], L[fin], ct[fin], one_face[fin])
     with np.errstate(divide="ignore", invalid="ignore"):
         U = 1.0 - ubar / u0[..., None]
     loaded = (u0 > 0) & (h > 0)
@@ -578,7 +576,9 @@ def _series_mean(a, b, u0, L, ct, one_face) -> np.ndarray:
         sl = slice(s, s + step)
         # one face: k = (2i−1)π/(2L); both: k = iπ/L
         k = np.where(
-            one_face[sl, None], (2.0 * j - 1.0) * math.pi / (2.0 * L[sl, None]), j * math.pi / L[sl, None]
+            one_face[sl, None],
+            (2.0 * j - 1.0) * math.pi / (2.0 * L[sl, None]),
+            j * math.pi / L[sl, None],
         )  # (mc, N)
         integ = _mean_sin(k[:, None, :], a[sl, :, None], b[sl, :, None])  # (mc, n, N)
         bn = 2.0 / L[sl, None] * np.einsum("mj,mjn->mn", u0[sl], integ)
@@ -603,10 +603,10 @@ def _half_space_mean(a, b, u0, ct) -> np.ndarray:
         aj, bj = a[sl, None, :], b[sl, None, :]  # the loaded sublayers
         ss = s[sl]
 
-        def ramp(x0):
+        def ramp(x0, ai=ai, bi=bi, ss=ss):
             return F((bi - x0) / ss) - F((ai - x0) / ss)
 
-        def image(x0):
+        def image(x0, ai=ai, bi=bi, ss=ss):
             return F((bi + x0) / ss) - F((ai + x0) / ss)
 
         kern = ramp(aj) - ramp(bj) - image(bj) + image(aj)  # (mc, n, n)
