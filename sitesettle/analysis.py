@@ -323,6 +323,7 @@ def integrate(
                 site.footings,
                 ctx.q_full,
                 shape_interpolation=st.shape_interpolation,
+                bb_reading=str(st.bb_pressure),
             )
             own_notes = own.notes
             spt_modulus = {k: float(np.median(v)) for k, v in own.spt_modulus.items()}
@@ -444,6 +445,12 @@ def _stresses(ctx: Context, sub: fld.Sublayers, tol: float) -> None:
     sub.own_sust = np.where(sub.owner >= 0, sub.own_sz * ratio[np.maximum(sub.owner, 0)], 0.0)
 
 
+def _strip_sublayers(site: Site, sub: fld.Sublayers) -> np.ndarray:
+    """Per sublayer: does its column belong to a strip (plane strain)?"""
+    strips = np.array([colmod.is_strip(f) for f in site.footings] + [False], dtype=bool)
+    return strips[np.where(sub.owner >= 0, sub.owner, len(site.footings))]
+
+
 def depth_masks(sub: fld.Sublayers, n_columns: int, fraction: float):
     """Significant depth of every column, and the sublayers the stress-ratio rule keeps.
 
@@ -519,6 +526,9 @@ def analyse(
         investigated_depth=ctx.ground.investigated_depth,
         own_mask=own_mask if ratio_rule else None,
         total_mask=total_mask if ratio_rule else None,
+        clay_settlement=str(st.clay_settlement),
+        cohesive_immediate=st.cohesive_immediate,
+        strip=_strip_sublayers(site, sub),
     )
     say("assembling", 0.85)
     cols = {
@@ -813,6 +823,9 @@ def _left_out(sub, gc, run, pts, cols, ctx, st) -> dict[int, tuple[float, str]]:
         r3=st.bb_r3,
         r=st.bb_r,
         investigated_depth=ctx.ground.investigated_depth,
+        clay_settlement=str(st.clay_settlement),
+        cohesive_immediate=st.cohesive_immediate,
+        strip=_strip_sublayers(site, sub),
     )
     n = len(pts)
     all_life = per_column(

@@ -44,6 +44,11 @@ SLIVER_FRACTION = 0.25
 #: sublayer's own small share)
 DEEP_START = 10.0
 DEEP_GROWTH = 0.2
+#: no sublayer is thicker than this fraction of the depth of its top below ground (so
+#: that σ'v0 changes by at most about 15 % across it, whatever the footing's width)
+DEPTH_FRACTION = 0.15
+#: ... nor, near the surface, thicker than this [m]
+SHALLOW_SUBLAYER = 0.05
 #: the first pass integrates at least this far below the start, in widths and in
 #: metres; a column still short of the bound is deepened by ``DEEPEN_FACTOR``
 FIRST_REACH_WIDTHS = 12.0
@@ -324,7 +329,8 @@ def column_edges(
     The regular edges (:func:`regular_edges`, from ``base``) that fall inside,
     plus every stratum boundary and load plane in ``boundaries`` inside the
     range; slivers thinner than a quarter of the first sublayer (at most 1 mm)
-    next to a boundary are merged.
+    next to a boundary are merged; a sublayer thicker than
+    :data:`DEPTH_FRACTION` of its depth (at least :data:`SHALLOW_SUBLAYER`) is split.
     """
     e = template if template is not None else regular_edges(base, scale, fraction, bottom)
     e = e[(e > top) & (e < bottom)]
@@ -332,11 +338,22 @@ def column_edges(
     e = np.unique(np.concatenate([[top], e, inner, [bottom]]))
     sliver = min(MIN_SUBLAYER, SLIVER_FRACTION * fraction * scale)
     is_boundary = np.isin(e, inner) | (e == top) | (e == bottom)
-    keep = np.ones(len(e), dtype=bool)
-    for k in range(1, len(e) - 1):
-        if not is_boundary[k] and (e[k] - e[k - 1] < sliver or e[k + 1] - e[k] < sliver):
-            keep[k] = False
-    return e[keep]
+    d_prev = np.r_[np.inf, np.diff(e)]
+    d_next = np.r_[np.diff(e), np.inf]
+    keep = is_boundary | ((d_prev >= sliver) & (d_next >= sliver))
+    e = e[keep]
+    # no sublayer thicker than DEPTH_FRACTION of its depth (a wide footing's first
+    # sublayers would otherwise span a shallow clay whole)
+    h = np.diff(e)
+    cap = np.maximum(DEPTH_FRACTION * e[:-1], SHALLOW_SUBLAYER)
+    parts = np.ceil(h / cap - 1e-9).astype(int)
+    if np.any(parts > 1):
+        pieces = [
+            np.linspace(a, b, p, endpoint=False) if p > 1 else np.array([a])
+            for a, b, p in zip(e[:-1], e[1:], parts)
+        ]
+        e = np.concatenate(pieces + [e[-1:]])
+    return e
 
 
 # --------------------------------------------------------------------------- depth bound

@@ -32,7 +32,7 @@ from sitesettle.methods import burland_burbidge as bb
 from sitesettle.methods import consolidation as cons
 from sitesettle.methods import elastic
 from sitesettle.methods import schmertmann as sch
-from sitesettle.options import Behaviour, GranularMethod
+from sitesettle.options import Behaviour, ClaySettlement, Drainage, GranularMethod
 
 #: Poisson's ratio of a saturated clay loaded undrained (common practice: 0.5)
 UNDRAINED_POISSON = 0.5
@@ -91,6 +91,7 @@ class Tables:
     drainage: np.ndarray
     eu: np.ndarray
     tp_given: np.ndarray
+    pore_a: np.ndarray
     names: tuple
 
     @staticmethod
@@ -121,6 +122,7 @@ class Tables:
             drainage=gc.parameter(lambda s: str(s.drainage), dtype=object),
             eu=num("undrained_modulus"),
             tp_given=num("end_of_primary"),
+            pore_a=num("pore_pressure_coefficient"),
             names=tuple(s.name for s in gc.variants[0]) if gc.variants else (),
         )
 
@@ -327,6 +329,7 @@ def own_load_settlement(
     q_full: np.ndarray,
     *,
     shape_interpolation: str,
+    bb_reading: str = "gross_effective",
 ) -> OwnLoad:
     """Replace the own granular part of footing-point sublayers by the footing's own method.
 
@@ -405,7 +408,9 @@ def own_load_settlement(
                     "creep C2 = 1 + 0.2 log10(t/0.1 yr)"
                 )
     if is_bb.any():
-        _burland_burbidge(sub, tab, gc, footings, q_full, fw, fd, lb, is_bb, notes, spt_mod)
+        _burland_burbidge(
+            sub, tab, gc, footings, q_full, fw, fd, lb, is_bb, notes, spt_mod, bb_reading
+        )
     return OwnLoad(notes, spt_mod)
 
 
@@ -437,24 +442,57 @@ def own_below_reach(sub: Sublayers, tab: Tables) -> None:
     sub.method[by_method] = meth[by_method]
 
 
-def _burland_burbidge(sub, tab, gc, footings, q_full, fw, fd, lb, is_bb, notes, spt_mod):
-    """Burland & Burbidge (1985) own settlement, per footing point, spread over z1."""
+def bb_influence_depth(width: float, depth_below: np.ndarray, n: np.ndarray, bottoms: np.ndarray):
+    """z1 of Burland & Burbidge (1985) at one footing point, and whether N decreases.
+
+    ``depth_below`` (mid-depths below the base [m]), ``n`` (corrected N) of the granular
+    sublayers, ``bottoms`` (bottom depth below the base of the stratum of each). z1 =
+    B^0.763; where N decreases with depth — the mean N between B^0.763 and 2B is less
+    than above B^0.763 — z1 = 2B or the base of the soft layer (the bottom of the stratum
+    holding the lowest N within 2B), whichever is less (Burland & Burbidge 1985;
+    METHODS.md §4 [V]).
+    """
+    usual = float(bb.influence_depth(width))
+    above = depth_below < usual
+    below = (depth_below >= usual) & (depth_below < 2.0 * width)
+    if not above.any() or not below.any():
+        return usual, False
+    if np.mean(n[below]) >= np.mean(n[above]):
+        return usual, False
+    inside = depth_below < 2.0 * width
+    soft = bottoms[inside][int(np.argmin(n[inside]))]
+    return float(max(min(2.0 * width, soft), usual)), True
+
+
+def _burland_burbidge(sub, tab, gc, footings, q_full, fw, fd, lb, is_bb, notes, spt_mod, reading):
+    """Burland & Burbidge (1985) own settlement, per footing point, spread over z1.
+
+    q' is the average gross effective bearing pressure (q_net + σ'v0 at the base: the
+    paper's definition as we read it) and σ'p the larger of the stratum's
+    preconsolidation and the effective overburden at the base (the maximum previous
+    effective overburden of a footing in an excavation). ``reading = "net"`` takes
+    instead q' = q_net with σ'p only where the stratum gives one (the reading of
+    some texts, e.g. Tomlinson's "average net applied pressure").
+    """
     nu = tab.nu[sub.col, sub.stratum]
     for j in np.unique(sub.col[is_bb]):
         m = np.flatnonzero(sub.col == j)
         i = int(sub.owner[m[0]])
         B = fw[i]
-        z1 = float(bb.influence_depth(B))
-        zr = sub.top[m] - fd[i]
-        zone = (zr < z1) & is_bb[m]
-        if not zone.any():
-            continue
         k = sub.stratum[m]
         n = tab.spt[j, k]
         below_water = sub.mid[m] > gc.water[j]
         n_c = bb.corrected_n(
             n, gravel=tab.gravel[j, k], fine_or_silty_below_water=tab.fine[j, k] & below_water
         )
+        zr = sub.top[m] - fd[i]
+        bbm = is_bb[m]
+        z1, decreasing = bb_influence_depth(
+            B, (sub.mid[m] - fd[i])[bbm], n_c[bbm], (gc.bottoms[j, k] - fd[i])[bbm]
+        )
+        zone = (zr < z1) & bbm
+        if not zone.any():
+            continue
         w = np.minimum(sub.bottom[m] - fd[i], z1) - np.maximum(zr, 0.0)
         w = np.where(zone, np.clip(w, 0.0, None), 0.0)
         n_mean = float(np.sum(w * n_c) / np.sum(w))
@@ -470,25 +508,36 @@ def _burland_burbidge(sub, tab, gc, footings, q_full, fw, fd, lb, is_bb, notes, 
         hs = (float(gc.tops[j, non_gran[0]]) - fd[i]) if non_gran else np.inf
         fl = float(bb.thickness_factor(max(hs, 0.0), z1))
         fs = float(bb.shape_factor(lb[i]))
-        sp = tab.sand_sp[j, k[0]]
-        s_i = float(bb.immediate_settlement(q_full[i], B, ic, None if np.isnan(sp) else sp))
+        sp_given = tab.sand_sp[j, k[0]]
+        sig_base = float(gc.effective_stress(np.array([j]), np.array([fd[i]]))[0])
+        if reading == "net":
+            q_eff, sp = q_full[i], (None if np.isnan(sp_given) else float(sp_given))
+        else:
+            q_eff = q_full[i] + sig_base
+            sp = max(0.0 if np.isnan(sp_given) else float(sp_given), sig_base)
+            sp = sp if sp > 0 else None
+        s_i = float(bb.immediate_settlement(q_eff, B, ic, sp))
         s = fs * fl * s_i
-        sub.gran_own[m] = np.where(
-            w > 0, s * w / np.sum(w), np.where(is_bb[m], 0.0, sub.gran_own[m])
-        )
-        sub.method[m[is_bb[m]]] = "burland_burbidge"
-        # equivalent modulus: elastic own strain over the zone with E = 1 kPa
+        sub.gran_own[m] = np.where(w > 0, s * w / np.sum(w), np.where(bbm, 0.0, sub.gran_own[m]))
+        sub.method[m[bbm]] = "burland_burbidge"
+        # equivalent modulus: the E with which elastic strain of the footing's own
+        # stress over the depth where the modulus is applied (every SPT sublayer of
+        # the column, not z1 alone) gives the method's settlement
         hs_own = (1 + nu[m]) * sub.own_t[m] - sub.own_sz[m]
-        unit = float(np.sum(elastic.vertical_strain(sub.own_sz[m], hs_own, 1.0, nu[m]) * w))
+        strain1 = elastic.vertical_strain(sub.own_sz[m], hs_own, 1.0, nu[m]) * sub.h[m]
+        unit = float(np.sum(np.where(bbm, strain1, 0.0)))
         if s > 0 and unit > 0:
             e_eq = unit / s
-            sub.modulus[m[zone]] = e_eq
-            for name in {tab.names[kk] for kk in k[zone]}:
+            sub.modulus[m[bbm]] = e_eq
+            for name in {tab.names[kk] for kk in k[bbm]}:
                 spt_mod.setdefault(name, []).append(e_eq)
+        sp_text = "none" if sp is None else f"{sp:.1f} kPa"
         notes.setdefault(int(j), []).append(
-            f"Burland & Burbidge: q' = {q_full[i]:.1f} kPa, z1 = {z1:.2f} m, N̄ = {n_mean:.1f}, "
-            f"Ic = {ic:.4f}, fs = {fs:.3f}, fl = {fl:.3f}, s_i = {s_i * 1000:.2f} mm; "
-            "creep ft = 1 + R3 t/3 (t < 3 yr), 1 + R3 + R log10(t/3) after"
+            f"Burland & Burbidge: q' = {q_eff:.1f} kPa ({reading} reading), σ'p = {sp_text}, "
+            f"z1 = {z1:.2f} m{' (N decreases with depth)' if decreasing else ''}, "
+            f"N̄ = {n_mean:.1f}, Ic = {ic:.4f}, fs = {fs:.3f}, fl = {fl:.3f}, "
+            f"s_i = {s_i * 1000:.2f} mm; creep ft = 1 + R3 t/3 (t < 3 yr), "
+            "1 + R3 + R log10(t/3) after"
         )
 
 
@@ -524,6 +573,9 @@ def histories(
     investigated_depth: float,
     own_mask: np.ndarray | None = None,
     total_mask: np.ndarray | None = None,
+    clay_settlement: str = "oedometer",
+    cohesive_immediate: bool = True,
+    strip: np.ndarray | None = None,
 ) -> History:
     """Settlement of every sublayer at every time (sublayers sorted by column, then depth).
 
@@ -545,10 +597,8 @@ def histories(
     F = creep_factors(times, r3, r)[sub.creep]  # (n, nt)
     g_own = sub.gran_own * om
     g_tot = (sub.gran_own + sub.gran_nb) * tm
-    u_own = sub.und_own * om
-    u_tot = (sub.und_own + sub.und_nb) * tm
-    imm_own = np.repeat((g_own + u_own)[:, None], nt, axis=1)
-    imm_tot = np.repeat((g_tot + u_tot)[:, None], nt, axis=1)
+    imm_own = np.repeat(g_own[:, None], nt, axis=1)
+    imm_tot = np.repeat(g_tot[:, None], nt, axis=1)
     creep_own = g_own[:, None] * (F - 1.0)
     creep_tot = g_tot[:, None] * (F - 1.0)
     cons_own = np.zeros((n, nt))
@@ -561,55 +611,58 @@ def histories(
     c, k = sub.col, sub.stratum
     coh = tab.behaviour[c, k] == Behaviour.COHESIVE.value if n else np.zeros(0, dtype=bool)
     if coh.any():
+        units = consolidating_units(gc, tab, investigated_depth)
         idx = np.flatnonzero(coh)
-        key = c[idx] * (tab.behaviour.shape[1] + 1) + k[idx]
-        order = np.argsort(key, kind="stable")
-        idx, key = idx[order], key[order]
-        starts = np.flatnonzero(np.r_[True, key[1:] != key[:-1]])
+        ukey = units.index[c[idx], k[idx]]
+        order = np.argsort(ukey, kind="stable")
+        idx, ukey = idx[order], ukey[order]
+        starts = np.flatnonzero(np.r_[True, ukey[1:] != ukey[:-1]])
         lens = np.diff(np.r_[starts, len(idx)])
         width = int(lens.max())
         g = len(starts)
         pad = np.full((g, width), -1)
-        for q, (s0, ln) in enumerate(zip(starts, lens)):
-            pad[q, :ln] = idx[s0 : s0 + ln]
+        for q, (s0_, ln) in enumerate(zip(starts, lens)):
+            pad[q, :ln] = idx[s0_ : s0_ + ln]
         valid = pad >= 0
         pi = np.where(valid, pad, idx[0])
-        gcol, gk = c[pi[:, 0]], k[pi[:, 0]]
-        ltop = gc.tops[gcol, gk]
-        thick = gc.bottoms[gcol, gk] - ltop
-        drain = tab.drainage[gcol, gk].astype(object)
-        open_ = ~np.isfinite(thick)
-        drain = np.where(open_, "top", drain)
-        zt = np.where(valid, sub.top[pi] - ltop[:, None], 0.0)
-        zb = np.where(valid, sub.bottom[pi] - ltop[:, None], 0.0)
-        cv = tab.cv[gcol, gk]
-        for kind, load in (("tot", sub.sz_sust), ("own", sub.own_sust)):
+        gu = ukey[starts]  # the unit of each group
+        # depths below the unit's top in the equivalent layer of the first stratum's cv
+        f = units.factor[c, k]
+        zt_all = units.offset[c, k] + (sub.top - gc.tops[c, k]) * f
+        zb_all = units.offset[c, k] + (sub.bottom - gc.tops[c, k]) * f
+        zt = np.where(valid, zt_all[pi], 0.0)
+        zb = np.where(valid, zb_all[pi], 0.0)
+        thick, cv, drain = units.length[gu], units.cv[gu], units.drainage[gu]
+        und_tot_all = sub.und_own + sub.und_nb
+        for kind in ("tot", "own"):
+            load = sub.sz_sust if kind == "tot" else sub.own_sust
             u0 = np.where(valid, np.clip(load[pi], 0.0, None), 0.0)
             U = cons.sublayer_degree_of_consolidation(zt, zb, u0, thick, cv, times, drain)
             eps = sub.eps_tot if kind == "tot" else sub.eps_own
+            und = und_tot_all if kind == "tot" else sub.und_own
             mask = tm if kind == "tot" else om
-            vals = (eps[pi] * sub.h[pi] * mask[pi])[..., None] * U
+            oed = (eps * sub.h * mask)[pi]
+            und_g = np.where(cohesive_immediate, und * mask, 0.0)[pi]
+            if clay_settlement == ClaySettlement.SKEMPTON_BJERRUM.value:
+                mu = _skempton_bjerrum_mu(sub, tab, pi, valid, strip, own=kind == "own")
+                on_load = und_g
+                later = mu[:, None] * oed
+            else:  # the oedometer settlement, of which the undrained part happens at once
+                on_load = np.clip(und_g, 0.0, np.maximum(oed, 0.0))
+                later = oed - on_load
+            vals = later[..., None] * U
             target = cons_tot if kind == "tot" else cons_own
             target[pad[valid]] = vals[valid]
+            first = imm_tot if kind == "tot" else imm_own
+            first[pad[valid]] += np.repeat(on_load[valid][:, None], nt, axis=1)
             if kind == "tot":
                 degree[pad[valid]] = U[valid]
-        # end of primary from the stratum's drainage path (a clay with no bottom:
-        # drained at the top over the investigated thickness)
-        hdr = np.where(
-            open_,
-            np.maximum(investigated_depth - ltop, 0.0),
-            np.array(
-                [
-                    float(cons.drainage_path(t, d)) if np.isfinite(t) else np.nan
-                    for t, d in zip(thick, drain)
-                ]
-            ),
+        hdr = units.drainage_path[gu]
+        tp = cons.end_of_primary_time(
+            end_of_primary, cv, hdr, given=tab.tp_given[c[pi[:, 0]], k[pi[:, 0]]]
         )
-        tp = cons.end_of_primary_time(end_of_primary, cv, hdr, given=tab.tp_given[gcol, gk])
         e0 = tab.e0[c, k]
         ca = tab.ca[c, k]
-        # Cα/Cc stays constant (Mesri & Godlewski 1977): a clay that stays in
-        # recompression creeps with Cα·Cr/Cc
         s0 = sub.sig0
         sp = np.where(
             np.isfinite(tab.sp[c, k]),
@@ -624,7 +677,7 @@ def histories(
         tp_s[pad[valid]] = np.broadcast_to(tp[:, None], pad.shape)[valid]
         hdr_s[pad[valid]] = np.broadcast_to(hdr[:, None], pad.shape)[valid]
         open_s = np.zeros(n, dtype=bool)
-        open_s[pad[valid]] = np.broadcast_to(open_[:, None], pad.shape)[valid]
+        open_s[pad[valid]] = np.broadcast_to(~np.isfinite(thick)[:, None], pad.shape)[valid]
         within = ~open_s | (sub.mid < investigated_depth)
         m = idx
         for load, eps, mask, target in (
@@ -647,15 +700,7 @@ def histories(
             target[m] = np.where(on[:, None], s * sub.h[m][:, None], 0.0)
         hdr_out[m] = hdr_s[m]
         for q in range(g):
-            rows = pad[q][valid[q]]
-            if open_[q]:
-                text = (
-                    f"no bottom in the boreholes: drained at its top (half-space); "
-                    f"t_p from H_dr = {hdr[q]:.2f} m to the investigated depth"
-                )
-            else:
-                text = f"drained {drain[q]}: H_dr = {hdr[q]:.2f} m (thickness {thick[q]:.2f} m)"
-            note[rows] = text
+            note[pad[q][valid[q]]] = units.note[gu[q]]
     return History(
         imm_own=imm_own,
         imm_nb=imm_tot - imm_own,
@@ -669,6 +714,151 @@ def histories(
         drainage_path=hdr_out,
         drainage_note=note,
     )
+
+
+@dataclass
+class Units:
+    """Consolidating units: cohesive strata in contact consolidate as one layer.
+
+    Per (column, stratum): ``index`` (the unit, −1 off clay), ``factor`` √(cv_ref/cv)
+    and ``offset`` (depth of the stratum's top below the unit's top in the
+    equivalent layer [m]). Per unit: ``length`` (equivalent thickness [m], inf with
+    no bottom), ``cv`` (cv_ref [m²/yr]), ``drainage`` ("both", "top", "bottom"),
+    ``drainage_path`` (H_dr for the end of primary [m]) and ``note`` (why).
+    """
+
+    index: np.ndarray
+    factor: np.ndarray
+    offset: np.ndarray
+    length: np.ndarray
+    cv: np.ndarray
+    drainage: np.ndarray
+    drainage_path: np.ndarray
+    note: np.ndarray
+
+
+def consolidating_units(gc: GroundColumns, tab: Tables, investigated_depth: float) -> Units:
+    """Group the cohesive strata of every column into consolidating layers, with their drainage.
+
+    Rules (docs/methods.md §4.4):
+
+    * cohesive strata in contact (no stratum of real thickness between them)
+      consolidate as one layer; different cv are handled by the equivalent-thickness
+      transformation z' = z √(cv_ref/cv) (cv_ref of the top stratum; common practice);
+    * the top face drains unless the top stratum says ``drainage = "bottom"``;
+    * the bottom face: ``"top"`` on the bottom stratum makes it impermeable and
+      ``"both"``/``"bottom"`` drained; by default (``"auto"``) it drains into a
+      granular stratum below and not into a rigid one;
+    * a layer with no bottom in the boreholes drains at its top into a half-space.
+    """
+    n, k = gc.tops.shape
+    index = np.full((n, k), -1)
+    factor = np.ones((n, k))
+    offset = np.zeros((n, k))
+    length, cvs, drains, hdrs, notes = [], [], [], [], []
+    beh = tab.behaviour
+    names = tab.names
+    for col in range(n):
+        j = 0
+        while j < k:
+            if beh[col, j] != Behaviour.COHESIVE.value or not (
+                gc.bottoms[col, j] > gc.tops[col, j]
+            ):
+                j += 1
+                continue
+            run = [j]
+            nxt = j + 1
+            while nxt < k:
+                thick = gc.bottoms[col, nxt] - gc.tops[col, nxt]
+                if thick <= 0:
+                    nxt += 1
+                    continue
+                if beh[col, nxt] == Behaviour.COHESIVE.value:
+                    run.append(nxt)
+                    nxt += 1
+                    continue
+                break
+            below = beh[col, nxt] if nxt < k else ""
+            u = len(length)
+            cv_ref = tab.cv[col, run[0]]
+            z = 0.0
+            for r in run:
+                f = float(np.sqrt(cv_ref / tab.cv[col, r])) if tab.cv[col, r] > 0 else 1.0
+                index[col, r] = u
+                factor[col, r] = f
+                offset[col, r] = z
+                z += (gc.bottoms[col, r] - gc.tops[col, r]) * f
+            top_says = tab.drainage[col, run[0]]
+            bot_says = tab.drainage[col, run[-1]]
+            top_open = top_says != Drainage.BOTTOM.value
+            what = " + ".join(dict.fromkeys(names[r] for r in run))
+            if not np.isfinite(z):
+                drain, hdr = "top", max(investigated_depth - gc.tops[col, run[0]], 0.0)
+                why = (
+                    f"{what}: no bottom in the boreholes, drained at its top into a half-space; "
+                    f"t_p from H_dr = {hdr:.2f} m to the investigated depth"
+                )
+            else:
+                if bot_says == Drainage.TOP.value:
+                    bot_open, reason = False, "impermeable below (as the stratum says)"
+                elif bot_says in (Drainage.BOTH.value, Drainage.BOTTOM.value):
+                    bot_open, reason = True, "drained below (as the stratum says)"
+                elif below == Behaviour.GRANULAR.value:
+                    bot_open, reason = True, "drained into the granular stratum below"
+                else:
+                    bot_open, reason = False, "impermeable on the rigid stratum below"
+                if not top_open and not bot_open:
+                    top_open, reason = True, reason + "; no drained face stated: top drained"
+                drain = "both" if (top_open and bot_open) else ("top" if top_open else "bottom")
+                hdr = z / 2.0 if drain == "both" else z
+                joined = " (strata in contact: one layer)" if len(run) > 1 else ""
+                face = "drained at the top" if top_open else "impermeable at the top"
+                why = f"{what}{joined}: {face}, {reason}; H_dr = {hdr:.2f} m" + (
+                    " (equivalent thickness, cv of the top stratum)" if len(run) > 1 else ""
+                )
+            length.append(z)
+            cvs.append(cv_ref)
+            drains.append(drain)
+            hdrs.append(hdr)
+            notes.append(why)
+            j = nxt
+    return Units(
+        index=index,
+        factor=factor,
+        offset=offset,
+        length=np.array(length, dtype=float),
+        cv=np.array(cvs, dtype=float),
+        drainage=np.array(drains, dtype=object),
+        drainage_path=np.array(hdrs, dtype=float),
+        note=np.array(notes, dtype=object),
+    )
+
+
+#: Poisson's ratio in the Skempton & Bjerrum geometry factor (undrained, ν = 0.5)
+_SB_POISSON = 0.5
+
+
+def _skempton_bjerrum_mu(sub, tab, pi, valid, strip, *, own: bool) -> np.ndarray:
+    """μ = A + α(1 − A) per consolidating unit (Skempton & Bjerrum 1957).
+
+    α = ∫Δσ3 dz / ∫Δσ1 dz over the unit's sublayers from the elastic stresses
+    (ν = 0.5): Δσ3 = ((1 + ν)T − Δσz)/2 on the axis of a compact load, T − Δσz in
+    plane strain under a strip (σy = ν(σx + σz)); A is the stratum's
+    ``pore_pressure_coefficient`` (thickness-weighted over the unit).
+    """
+    sz = (sub.own_sz if own else sub.sz)[pi]
+    t = (sub.own_t if own else sub.t)[pi]
+    plane = np.zeros(pi.shape, dtype=bool) if strip is None else strip[pi]
+    s3 = np.where(plane, t - sz, ((1 + _SB_POISSON) * t - sz) / 2.0)
+    h = np.where(valid, sub.h[pi], 0.0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        alpha = np.sum(np.where(valid, s3, 0.0) * h, axis=1) / np.sum(
+            np.where(valid, sz, 0.0) * h, axis=1
+        )
+        a = tab.pore_a[sub.col[pi], sub.stratum[pi]]
+        a = np.sum(np.where(valid, a, 0.0) * h, axis=1) / np.sum(h, axis=1)
+    alpha = np.clip(np.nan_to_num(alpha, nan=1.0), 0.0, 1.0)
+    return np.nan_to_num(a + alpha * (1.0 - a), nan=1.0)
 
 
 def final_estimate(sub: Sublayers, creep_life: np.ndarray) -> np.ndarray:

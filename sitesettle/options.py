@@ -41,9 +41,23 @@ class GranularMethod(Choice):
 class Drainage(Choice):
     """Drainage boundaries of a cohesive stratum."""
 
+    #: drained at the top, and at the bottom into a granular stratum but not into a
+    #: rigid one; strata in contact consolidate as one layer (the default)
+    AUTO = "auto"
     BOTH = "both"  #: drained at top and bottom: H_dr = H/2
-    TOP = "top"  #: drained at the top only: H_dr = H
-    BOTTOM = "bottom"  #: drained at the bottom only: H_dr = H
+    TOP = "top"  #: drained at the top only (impermeable below): H_dr = H
+    BOTTOM = "bottom"  #: drained at the bottom only (impermeable above): H_dr = H
+
+
+class ClaySettlement(Choice):
+    """How the undrained and the consolidation settlement of clay are combined."""
+
+    #: the one-dimensional oedometer settlement is the total; the undrained part
+    #: (E_u, ν = 0.5) is the share of it that happens on loading (Burland, Broms &
+    #: de Mello 1977)
+    OEDOMETER = "oedometer"
+    #: s = s_u + μ·s_oed, μ = A + α(1 − A) (Skempton & Bjerrum 1957)
+    SKEMPTON_BJERRUM = "skempton_bjerrum"
 
 
 class DepthRule(Choice):

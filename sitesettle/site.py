@@ -15,6 +15,7 @@ import numpy as np
 
 from sitesettle.options import (
     Behaviour,
+    ClaySettlement,
     DepthRule,
     Drainage,
     EndOfPrimary,
@@ -151,9 +152,11 @@ class Stratum:
     ocr: float | None = None
     consolidation_coefficient: float | None = None
     secondary_index: float = 0.0
-    drainage: Drainage = Drainage.BOTH
+    drainage: Drainage = Drainage.AUTO
     undrained_modulus: float | None = None
     end_of_primary: float | None = None
+    #: Skempton's pore-pressure coefficient A (for clay_settlement = "skempton_bjerrum")
+    pore_pressure_coefficient: float | None = None
 
 
 @dataclass(frozen=True)
@@ -219,6 +222,9 @@ class AnalysisSettings:
     #: Burland & Burbidge time factor: R3 and R (static loads; Burland & Burbidge 1985)
     bb_r3: float = 0.3
     bb_r: float = 0.2
+    #: Burland & Burbidge q': "gross_effective" (the paper, with σ'p the overburden at
+    #: the base) or "net" (q_net, σ'p only where given)
+    bb_pressure: str = "gross_effective"
     #: settlement map grid spacing [m] (0: chosen from the plan) and margin [m]
     map_spacing: float = 0.0
     map_margin: float = 5.0
@@ -226,6 +232,8 @@ class AnalysisSettings:
     stress_tolerance: float = 1e-3
     #: clay immediate settlement from undrained_modulus where given
     cohesive_immediate: bool = True
+    #: how undrained and consolidation settlement of clay combine (docs/methods.md §4.4)
+    clay_settlement: ClaySettlement = ClaySettlement.OEDOMETER
 
 
 @dataclass(frozen=True)

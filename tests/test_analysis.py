@@ -221,7 +221,7 @@ def test_consolidation_under_a_wide_load_matches_quadrature_of_elog():
     # the e–log strain is larger near the top where σ'0 is smaller.
     q, B = 50.0, 60.0
     sand = elastic_sand()
-    cl = clay()
+    cl = clay(drainage="both")  # the stratum states that it drains into the rock too
     f = pad("R", 0, 0, B, load=q * B * B)
     hdr = 2.0  # 4 m clay drained both faces
     t50 = 0.1967 * hdr**2 / cl.consolidation_coefficient
@@ -443,11 +443,41 @@ def test_burland_burbidge_footing_through_the_pipeline():
         method=GranularMethod.BURLAND_BURBIDGE,
     )
     f = pad("F", 0, 0, 3.0, depth=1.0, load=150.0 * 9 + 18.0 * 9)  # q_net = 150 kPa
-    site = uniform_site([f], [sand], [40.0], report_times=(3.0,), design_life=30.0)
+    site = uniform_site(
+        [f], [sand], [40.0], report_times=(3.0,), design_life=30.0, bb_pressure="net"
+    )
     r = analyse(site, with_map=False)
     assert r.net_pressure[0] == pytest.approx(150.0)
+    # the "net" reading (q' = q_net, no σ'p): METHODS.md §4 benchmark, 8.35 mm
     assert r.total[0, 0] * 1000 == pytest.approx(8.35 * 1.30, abs=0.01)
     assert r.total[0, 1] * 1000 == pytest.approx(8.35 * 1.50, abs=0.01)
+    # the paper's reading (default): q' = gross effective = 150 + 18 kPa and the footing
+    # in an excavation is preloaded by σ'p = 18 kPa (the overburden at its base), so
+    # s_i = (q' − 2/3 σ'p) B^0.7 Ic = 156 × 3^0.7 × 1.71/20^1.4 (Burland & Burbidge 1985)
+    r = analyse(
+        dataclasses.replace(
+            site, analysis=dataclasses.replace(site.analysis, bb_pressure="gross_effective")
+        ),
+        with_map=False,
+    )
+    ref = (168.0 - 2.0 / 3.0 * 18.0) * 3.0**0.7 * 1.71 / 20.0**1.4
+    assert r.total[0, 0] * 1000 == pytest.approx(ref * 1.30, rel=1e-3)
+
+
+def test_burland_burbidge_depth_of_influence_where_n_decreases():
+    # Burland & Burbidge (1985), METHODS.md §4 [V]: where N decreases with depth, z1 is
+    # 2B or the base of the soft layer, whichever is less; here a loose sand from
+    # 2.5 m to 5 m below a 3 m footing at the surface: z1 = min(6 m, 5 m) = 5 m
+    from sitesettle.field import bb_influence_depth
+
+    z = np.arange(0.25, 8.0, 0.5)
+    n = np.where(z < 2.5, 25.0, 8.0)
+    bottoms = np.where(z < 2.5, 2.5, 5.0)
+    z1, decreasing = bb_influence_depth(3.0, z, n, bottoms)
+    assert decreasing and z1 == pytest.approx(5.0)
+    # N increasing with depth: the usual z1 = B^0.763
+    z1, decreasing = bb_influence_depth(3.0, z, np.linspace(10, 30, len(z)), bottoms)
+    assert not decreasing and z1 == pytest.approx(3.0**0.763, rel=1e-12)
 
 
 def test_rotating_and_translating_the_site_changes_nothing():

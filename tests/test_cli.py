@@ -7,8 +7,8 @@ unit conversions are the exact NIST SP 811 factors (1 in = 25.4 mm, 1 ft = 0.304
 from __future__ import annotations
 
 import io
-import math
 import json
+import math
 import pathlib
 import re
 import shutil

@@ -51,8 +51,8 @@ def test_headline_figures(results):
     tot = r.at_design_life() * 1000
     assert len(r.ids) == 39 and len(r.checks.pairs.a) == 66 + 4  # 4 listed cottage pairs
     assert r.ids[int(np.argmax(tot))] in ("F4", "W1")
-    assert tot[r.ids.index("F4")] == pytest.approx(81.3, rel=0.03)
-    assert tot[r.ids.index("W1")] == pytest.approx(79.7, rel=0.03)
+    assert tot[r.ids.index("F4")] == pytest.approx(81.7, rel=0.03)
+    assert tot[r.ids.index("W1")] == pytest.approx(77.3, rel=0.03)
     line_a = [i for i, f in enumerate(r.site.footings) if f.id[0] == "A"]
     assert tot[line_a].max() < 25.0  # no clay under grid line A, edge columns
 

@@ -23,6 +23,7 @@ from sitesettle.io.strata import check_requirements, parse_strata
 from sitesettle.io.tables import Table, parse_csv, parse_flag, read_text, suggest
 from sitesettle.options import (
     Choice,
+    ClaySettlement,
     DepthRule,
     EndOfPrimary,
     GranularMethod,
@@ -74,6 +75,8 @@ TABLES: dict[str, tuple[str, ...]] = {
         "map_margin",
         "stress_tolerance",
         "cohesive_immediate",
+        "clay_settlement",
+        "burland_burbidge_pressure",
     ),
     "checks": (
         "criteria",
@@ -155,6 +158,7 @@ def parse_analysis(table: dict, where: str = f"{SITE_FILE} [analysis]") -> Analy
         ("shape_interpolation", ShapeInterpolation),
         ("end_of_primary", EndOfPrimary),
         ("depth_rule", DepthRule),
+        ("clay_settlement", ClaySettlement),
     ):
         if key in table:
             kw[key] = cls.parse(table[key], f"{where}, key {key!r}")
@@ -186,6 +190,15 @@ def parse_analysis(table: dict, where: str = f"{SITE_FILE} [analysis]") -> Analy
                     "times after loading > 0",
                 )
         kw["report_times"] = tuple(sorted(set(times)))
+    if "burland_burbidge_pressure" in table:
+        value = str(table["burland_burbidge_pressure"]).strip().lower()
+        if value not in ("gross_effective", "net"):
+            raise InputError(
+                f"{where}, key 'burland_burbidge_pressure'",
+                f'unknown value "{table["burland_burbidge_pressure"]}"',
+                'one of "gross_effective", "net"',
+            )
+        kw["bb_pressure"] = value
     if "cohesive_immediate" in table:
         kw["cohesive_immediate"] = parse_flag(
             table["cohesive_immediate"], f"{where}, key 'cohesive_immediate'"
@@ -551,6 +564,7 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
         strata,
         granular_method=analysis.granular_method,
         end_of_primary=analysis.end_of_primary,
+        clay_settlement=analysis.clay_settlement,
         measured=measured,
         has_soundings=bool(soundings),
         where=source,

@@ -33,6 +33,7 @@ QUANTITY_KEYS: dict[str, tuple[str, str]] = {
     "secondary_index": ("secondary_index", "dimensionless"),
     "undrained_modulus": ("undrained_modulus", "pressure"),
     "end_of_primary": ("end_of_primary", "time"),
+    "pore_pressure_coefficient": ("pore_pressure_coefficient", "dimensionless"),
 }
 #: other keys: key → kind
 OTHER_KEYS: dict[str, str] = {
@@ -75,6 +76,9 @@ VALID: dict[str, tuple[float, bool, float, bool]] = {
     "secondary_index": (0.0, True, math.inf, False),
     "undrained_modulus": (0.0, False, math.inf, False),
     "end_of_primary": (0.0, False, math.inf, False),
+    # Skempton's A: about 0–1.5 from heavily overconsolidated to sensitive clays
+    # (Skempton 1954; Skempton & Bjerrum 1957)
+    "pore_pressure_coefficient": (-0.5, True, 1.5, True),
 }
 #: usual ranges (warnings outside), core units; common practice for soils
 USUAL: dict[str, tuple[float, float]] = {
@@ -229,6 +233,7 @@ def check_requirements(
     measured: dict[str, set[str]],
     has_soundings: bool,
     where: str = "site.toml",
+    clay_settlement: str = "oedometer",
 ) -> None:
     """Raise InputError naming the stratum and key when a method lacks a parameter.
 
@@ -286,6 +291,15 @@ def check_requirements(
                     f"{place}, key 'recompression_index'",
                     "an overconsolidated clay needs the recompression index, which is missing",
                     "recompression_index (Cr), or ocr = 1",
+                )
+            if str(clay_settlement) == "skempton_bjerrum" and not given(
+                s, "pore_pressure_coefficient"
+            ):
+                raise InputError(
+                    f"{place}, key 'pore_pressure_coefficient'",
+                    '[analysis] clay_settlement = "skempton_bjerrum" needs Skempton\'s A',
+                    "pore_pressure_coefficient = 0.6 (about 0.2–0.5 overconsolidated, "
+                    "0.7–1 normally consolidated clay)",
                 )
             if (
                 end_of_primary == EndOfPrimary.GIVEN

@@ -48,7 +48,13 @@ __all__ = [
 
 #: H_dr / H for each drainage condition: half the thickness when both faces drain,
 #: the whole thickness when one does (Terzaghi 1943; every text).
-DRAINAGE_PATH_FRACTION = {Drainage.BOTH: 0.5, Drainage.TOP: 1.0, Drainage.BOTTOM: 1.0}
+#: ("auto" is resolved by the engine from the neighbouring strata; alone it is "both")
+DRAINAGE_PATH_FRACTION = {
+    Drainage.AUTO: 0.5,
+    Drainage.BOTH: 0.5,
+    Drainage.TOP: 1.0,
+    Drainage.BOTTOM: 1.0,
+}
 
 #: Average degree of consolidation that ends primary consolidation, per convention
 #: (common practice, METHODS.md §5.3); Tv = 1 is the third convention.
