@@ -260,11 +260,7 @@ def integrate(
     z_to = np.minimum(stop, pts.base + reach)
     estimate = np.zeros(n)
     creep_life = fld.creep_factors(np.array([ctx.times[ctx.life]]), st.bb_r3, st.bb_r)[:, 0]
-    creep_tab = (
-        creep_life[np.vectorize(fld.creep_kind, otypes=[int])(tab.method)]
-        if tab.method.size
-        else np.ones((n, 0))
-    )
+    creep_tab = creep_life[fld.creep_kinds(tab.method)] if tab.method.size else np.ones((n, 0))
     templates: dict = {}
     parts: list[fld.Sublayers] = []
     active = z_to > z_from + 1e-9
@@ -666,12 +662,13 @@ def assemble_footings(ctx: Context, pts: Points, cols: dict, run: Integration, s
         depth[i] = float(np.max(run.bottom[cs]))
         s = significant[cs]
         sig[i] = float(np.nanmax(s)) if np.isfinite(s).any() else site.footings[i].depth
-    methods = []
     sub = run.sub
-    for i in range(nf):
-        mask = (sub.owner == i) & (pts.kind[sub.col] == "footing")
-        ms = sorted({str(x) for x in sub.method[mask] if x})
-        methods.append(" + ".join(ms) if ms else "none")
+    found: list[set] = [set() for _ in range(nf)]
+    owned = np.flatnonzero((sub.owner >= 0) & (pts.kind[sub.col] == "footing"))
+    pairs = {(int(o), str(mth)) for o, mth in zip(sub.owner[owned], sub.method[owned]) if mth}
+    for o, mth in pairs:
+        found[o].add(mth)
+    methods = [" + ".join(sorted(ms)) if ms else "none" for ms in found]
     out.update(
         point_xy=point_xy,
         point_total=point_total,

@@ -348,11 +348,9 @@ def column_edges(
     cap = np.maximum(DEPTH_FRACTION * e[:-1], SHALLOW_SUBLAYER)
     parts = np.ceil(h / cap - 1e-9).astype(int)
     if np.any(parts > 1):
-        pieces = [
-            np.linspace(a, b, p, endpoint=False) if p > 1 else np.array([a])
-            for a, b, p in zip(e[:-1], e[1:], parts)
-        ]
-        e = np.concatenate(pieces + [e[-1:]])
+        which = np.repeat(np.arange(len(h)), parts)
+        step = np.arange(len(which)) - np.repeat(np.cumsum(parts) - parts, parts)
+        e = np.concatenate([e[:-1][which] + h[which] * step / parts[which], e[-1:]])
     return e
 
 

@@ -55,6 +55,13 @@ def creep_kind(method: str) -> int:
     return CREEP_NONE
 
 
+def creep_kinds(methods: np.ndarray) -> np.ndarray:
+    """:func:`creep_kind` of an array of method names."""
+    m = np.asarray(methods, dtype=object)
+    sch_ = np.isin(m, [GranularMethod.SCHMERTMANN.value, GranularMethod.SCHMERTMANN_1970.value])
+    return np.where(sch_, CREEP_SCHMERTMANN, np.where(m == "burland_burbidge", CREEP_BB, 0))
+
+
 def creep_factors(times: np.ndarray, r3: float, r: float) -> np.ndarray:
     """(3, nt) time factor of each creep family at each time (row = family)."""
     t = np.asarray(times, dtype=float)
@@ -305,7 +312,7 @@ def granular_field(sub: Sublayers, m: np.ndarray, tab: Tables, ground, spt_modul
     sub.gran_own[m] = np.where(keep, sub.gran_own[m], own)
     sub.gran_nb[m] = elastic.vertical_strain(nb_sz, hs_nb, E, nu) * sub.h[m]
     sub.modulus[m] = np.where(keep & np.isfinite(sub.modulus[m]), sub.modulus[m], E)
-    sub.creep[m] = [creep_kind(x) for x in tab.method[c, k]]
+    sub.creep[m] = creep_kinds(tab.method[c, k])
     sub.method[m] = np.where(keep, sub.method[m], "elastic")
 
 
