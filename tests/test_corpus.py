@@ -34,6 +34,8 @@ FAMILIES = {
     "bh_": "the boreholes file",
     "cpt_": "the soundings file",
     "out_": "the results folder",
+    "text_": "ids and names: invisible, control and formula characters, length",
+    "file_": "input files that are not what they claim (folders, GDAL virtual files)",
 }
 
 

@@ -291,8 +291,8 @@ def test_gis_property_with_numbers_and_blanks_is_read_cell_by_cell(tmp_path):
 
 def test_unreadable_gis_file(tmp_path):
     p = tmp_path / "plan.gpkg"
-    p.write_bytes(b"not a geopackage")
-    with pytest.raises(InputError, match="plan.gpkg: cannot read the file as GIS data"):
+    p.write_bytes(b"not a geopackage")  # refused on its first bytes, before GDAL opens it
+    with pytest.raises(InputError, match="plan.gpkg: the footings file is not a GeoPackage"):
         read_footings(p)
 
 

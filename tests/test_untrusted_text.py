@@ -30,7 +30,9 @@ QUOTES = "\"&'"
 TEX = "$x^2$"
 LONG = "Long-" + "".join(chr(ord("a") + i % 26) for i in range(295))
 NAME = f"{SCRIPT} {QUOTES} {TEX} {LONG}"
-FOOTINGS = {"C1": SCRIPT, "C2": QUOTES, "C3": TEX, "C4": LONG}
+#: the longest id accepted (sitesettle.io.text.MAX_ID_LENGTH)
+LONG_ID = LONG[:100]
+FOOTINGS = {"C1": SCRIPT, "C2": QUOTES, "C3": TEX, "C4": LONG_ID}
 BOREHOLES = {"BH1": SCRIPT, "BH2": QUOTES, "BH3": TEX}
 #: warnings raised while the command ran (filled by the ``checked`` fixture)
 CAUGHT: list[str] = []

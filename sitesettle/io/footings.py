@@ -9,12 +9,13 @@ geometry ones. Columns are documented in docs/input.md.
 from __future__ import annotations
 
 import math
+import os
 import pathlib
 import warnings
 from dataclasses import dataclass
 
 from sitesettle.errors import InputError, InputWarning
-from sitesettle.io import geometry
+from sitesettle.io import files, geometry
 from sitesettle.io.tables import Row, Table, parse_csv, read_text, table_from_frame
 from sitesettle.site import DEFAULT_FILL_UNIT_WEIGHT, Footing
 
@@ -52,6 +53,17 @@ ALIASES: dict[str, str] = {
 #: a base pressure above this is not a shallow footing's service load (an input error) [kPa]
 MAX_PRESSURE = 1e5
 PRESSURE_RANGE = (10.0, 1500.0)
+#: smallest and largest footing side accepted [m]. Below 0.2 m a "footing" is a
+#: typing error (mm taken as m, a missing digit): the narrowest wall strips of
+#: common practice are 0.3–0.45 m wide, and the sublayers of the analysis
+#: (sublayer_fraction ≥ 0.01 of the width, ≥ 2 mm) must stay above the 1 mm that the
+#: integration drops. Above 200 m it is not a shallow footing of one building
+#: (a raft under a whole block is some tens of metres).
+MIN_SIDE = 0.2
+MAX_SIDE = 200.0
+#: deepest base accepted [m]: a shallow footing is founded a few metres down; 30 m
+#: is a deep basement, deeper is a pile or a typing error
+MAX_DEPTH = 30.0
 #: GIS file suffixes read with geopandas
 GIS_SUFFIXES = (".gpkg", ".geojson", ".json", ".shp", ".fgb", ".gml", ".kml", ".zip")
 
@@ -90,15 +102,37 @@ def _load(table: Table, row: Row, kind: str, area: float) -> float:
     return 0.0
 
 
+def _check_size(table: Table, row: Row, shape: dict) -> None:
+    """Refuse a footing whose sides are outside MIN_SIDE–MAX_SIDE (see their notes)."""
+    for side in ("width", "length"):
+        v = shape[side]
+        if MIN_SIDE <= v <= MAX_SIDE:
+            continue
+        # a CSV row names the column; a GIS polygon's sides come from its outline
+        column = side if table.has(row, side) else "width" if table.has(row, "width") else None
+        raise InputError(
+            table.where(row, column),
+            f"the footing's {side} {v:g} m is outside {MIN_SIDE:g}–{MAX_SIDE:g} m",
+            f"sides between {MIN_SIDE:g} m and {MAX_SIDE:g} m (a shallow footing; check the unit)",
+        )
+
+
 def _attributes(table: Table, row: Row, shape: dict, defaults: FootingDefaults) -> Footing:
-    fid = table.text(row, "id")
+    fid = table.identifier(row, "id", "footing id")
     where = table.where(row)
+    _check_size(table, row, shape)
     depth = table.quantity(row, "depth", "length", default=defaults.depth)
     if depth < 0:
         raise InputError(
             table.where(row, "depth"),
             f"the base depth {depth:g} m is negative",
             "a depth below ground ≥ 0",
+        )
+    if depth > MAX_DEPTH:
+        raise InputError(
+            table.where(row, "depth" if table.has(row, "depth") else None),
+            f"the base depth {depth:g} m is deeper than {MAX_DEPTH:g} m",
+            f"a shallow footing's base depth, 0–{MAX_DEPTH:g} m",
         )
     area = (
         math.pi * shape["width"] ** 2 / 4.0
@@ -301,6 +335,52 @@ def parse_footings_frame(
     return _check_plan(footings, labels, source), crs
 
 
+#: the parts of a shapefile that GDAL may open beside the .shp (and inside a .zip)
+SHAPEFILE_PARTS = (".shp", ".shx", ".dbf", ".prj", ".cpg")
+
+
+def _check_gis_file(path: pathlib.Path) -> None:
+    """Refuse before GDAL opens anything: not a regular file of the format its suffix
+    says, a shapefile part that is not a regular file, a zip holding anything but a
+    shapefile. Then switch GDAL's network access off."""
+    files.check_gis_content(path, "footings file")
+    suffix = path.suffix.lower()
+    if suffix == ".shp":
+        for part in SHAPEFILE_PARTS[1:]:
+            for sibling in (path.with_suffix(part), path.with_suffix(part.upper())):
+                if os.path.lexists(sibling):
+                    files.check_input_file(sibling, "shapefile part")
+    if suffix == ".zip":
+        import zipfile
+
+        try:
+            with zipfile.ZipFile(path) as zf:
+                members = [m for m in zf.infolist() if not m.is_dir()]
+        except zipfile.BadZipFile:
+            raise InputError(
+                path.name, "the file is not a zip archive", "a zipped shapefile"
+            ) from None
+        odd = [
+            m.filename
+            for m in members
+            if pathlib.PurePath(m.filename).suffix.lower() not in SHAPEFILE_PARTS
+        ]
+        total = sum(m.file_size for m in members)
+        if odd or not members:
+            raise InputError(
+                path.name,
+                f"the zip archive holds {odd[0]!r}" if odd else "the zip archive is empty",
+                "a zipped shapefile (.shp, .shx, .dbf, .prj, .cpg only)",
+            )
+        if total > files.MAX_INPUT_BYTES:
+            raise InputError(
+                path.name,
+                f"the zip archive unpacks to {total / 2**20:.0f} MB",
+                "at most 200 MB of shapefile",
+            )
+    files.disable_gdal_network()
+
+
 def read_footings(
     path: pathlib.Path, defaults: FootingDefaults = FootingDefaults(), *, layer: str | None = None
 ) -> tuple[tuple[Footing, ...], str | None]:
@@ -308,8 +388,7 @@ def read_footings(
     path = pathlib.Path(path)
     if path.suffix.lower() in (".csv", ".txt", ".tsv"):
         return parse_footings_csv(read_text(path, "footings file"), path.name, defaults), None
-    if not path.exists():
-        read_text(path, "footings file")  # raises the missing-file error
+    _check_gis_file(path)
     import geopandas
 
     try:

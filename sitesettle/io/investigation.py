@@ -96,7 +96,7 @@ def parse_boreholes(
     order = {s.name: i for i, s in enumerate(strata)}
     groups: dict[str, list] = {}
     for row in table.rows:
-        groups.setdefault(table.text(row, "borehole"), []).append(row)
+        groups.setdefault(table.identifier(row, "borehole", "borehole id"), []).append(row)
     boreholes = []
     positions: dict[tuple[float, float], str] = {}
     for bid, rows in groups.items():
@@ -126,7 +126,7 @@ def parse_boreholes(
             )
         items = []
         for row in rows:
-            name = table.text(row, "stratum")
+            name = table.identifier(row, "stratum", "stratum name")
             if name not in order:
                 raise InputError(
                     table.where(row, "stratum"),
@@ -211,7 +211,7 @@ def parse_soundings(data, source: str = "soundings.csv") -> tuple[Sounding, ...]
         raise InputError(source, "the file has no readings", "one row per cone reading")
     groups: dict[str, list] = {}
     for row in table.rows:
-        groups.setdefault(table.text(row, "sounding"), []).append(row)
+        groups.setdefault(table.identifier(row, "sounding", "sounding id"), []).append(row)
     out = []
     unusual = []
     for sid, rows in groups.items():

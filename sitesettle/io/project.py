@@ -16,12 +16,14 @@ import warnings
 from sitesettle import units
 from sitesettle.criteria import CRITERIA, MEASURES
 from sitesettle.errors import InputError, InputWarning
-from sitesettle.io import geometry
+from sitesettle.io import files, geometry
 from sitesettle.io.footings import FootingDefaults, read_footings
 from sitesettle.io.investigation import read_boreholes, read_soundings
 from sitesettle.io.strata import check_requirements, parse_strata
 from sitesettle.io.tables import Table, parse_csv, parse_flag, read_text, suggest
+from sitesettle.io.text import free_text
 from sitesettle.options import (
+    Behaviour,
     Choice,
     ClaySettlement,
     DepthRule,
@@ -89,20 +91,43 @@ TABLES: dict[str, tuple[str, ...]] = {
     ),
 }
 
-#: numeric [analysis] keys and their ranges (all values must be ≥ 0)
-ANALYSIS_NUMBERS: dict[str, tuple[str, str, bool, float]] = {
-    # key: (field, dimension, zero allowed?, highest allowed)
-    "design_life": ("design_life", "time", False, math.inf),
-    "influence_fraction": ("influence_fraction", "dimensionless", False, 1.0),
-    "max_depth_widths": ("max_depth_widths", "dimensionless", False, math.inf),
-    "max_depth": ("max_depth", "length", False, math.inf),
-    "truncation_tolerance": ("truncation_tolerance", "dimensionless", False, 0.1),
-    "sublayer_fraction": ("sublayer_fraction", "dimensionless", False, 1.0),
-    "time_factor_r3": ("bb_r3", "dimensionless", True, math.inf),
-    "time_factor_r": ("bb_r", "dimensionless", True, math.inf),
-    "map_spacing": ("map_spacing", "length", True, math.inf),
-    "map_margin": ("map_margin", "length", True, math.inf),
-    "stress_tolerance": ("stress_tolerance", "dimensionless", True, 1.0),
+#: longest time accepted for the design life and the report times [yr]. Terzaghi's
+#: consolidation and Cα secondary compression are extrapolated beyond any test
+#: as the time grows; 1,000 years is ten times the longest design life of common
+#: practice (EN 1990:2002 Table 2.1, from memory: 100 years for monumental buildings
+#: and bridges),
+#: and larger values only give numbers without meaning (1e300 yr overflows)
+MAX_TIME = 1000.0
+
+#: numeric [analysis] keys and their ranges, each with its reason (docs/input.md):
+#: key: (field, dimension, lowest, highest, lowest allowed?, zero also allowed?)
+ANALYSIS_NUMBERS: dict[str, tuple[str, str, float, float, bool, bool]] = {
+    # a time after loading, up to MAX_TIME (see there)
+    "design_life": ("design_life", "time", 0.0, MAX_TIME, False, False),
+    # a fraction of the in-situ stress: 0 would integrate to max_depth_widths always
+    # (allowed through the limit below), above 1 stops before the stress has spread
+    "influence_fraction": ("influence_fraction", "dimensionless", 0.0, 1.0, False, False),
+    # optional caps (none by default; the analysis warns about what a cap leaves
+    # out): below one width a cap misses most of the strain (Schmertmann's diagram
+    # reaches 2 B to 4 B)
+    "max_depth_widths": ("max_depth_widths", "dimensionless", 1.0, math.inf, True, False),
+    "max_depth": ("max_depth", "length", 0.0, math.inf, False, False),
+    # the bound on what the complete depth rule leaves below the integration, as a
+    # fraction of the column's settlement: above 10 % the rule is no longer "complete"
+    "truncation_tolerance": ("truncation_tolerance", "dimensionless", 0.0, 0.1, False, False),
+    # 100 sublayers per width is far finer than any parameter is known; with the
+    # smallest footing side (0.2 m) a sublayer is still ≥ 2 mm, above the 1 mm the
+    # integration drops as rounding (finer sublayers gave 0 mm silently)
+    "sublayer_fraction": ("sublayer_fraction", "dimensionless", 0.01, 1.0, True, False),
+    # Burland & Burbidge (1985) time factors: 0.3/0.2 static, 0.7/0.8 cyclic loads
+    "time_factor_r3": ("bb_r3", "dimensionless", 0.0, 1.0, True, True),
+    "time_factor_r": ("bb_r", "dimensionless", 0.0, 1.0, True, True),
+    # 0 chooses the spacing from the plan; a map wider than 1 km is not one building's
+    "map_spacing": ("map_spacing", "length", 0.0, 1000.0, True, True),
+    "map_margin": ("map_margin", "length", 0.0, 1000.0, True, True),
+    # the far-field bound as a fraction of the largest pressure: 0 is exact; above
+    # 10 % the bound is as large as the neighbours' stress it approximates
+    "stress_tolerance": ("stress_tolerance", "dimensionless", 0.0, 0.1, True, True),
 }
 
 
@@ -119,6 +144,12 @@ def parse_toml(text: str, source: str = SITE_FILE) -> dict:
             source,
             f"not valid TOML: {exc}",
             'key = value lines under [table] headers; text in quotes, e.g. depth = "1.2 m"',
+        ) from None
+    except RecursionError:  # tomllib recurses once per level of nested arrays or tables
+        raise InputError(
+            source,
+            "arrays or tables are nested too deeply to read",
+            "the flat tables and short lists of docs/input.md",
         ) from None
     for name, value in data.items():
         if name not in TABLES:
@@ -162,16 +193,20 @@ def parse_analysis(table: dict, where: str = f"{SITE_FILE} [analysis]") -> Analy
     ):
         if key in table:
             kw[key] = cls.parse(table[key], f"{where}, key {key!r}")
-    for key, (field, dim, zero_ok, hi) in ANALYSIS_NUMBERS.items():
+    for key, (field, dim, lo, hi, lo_ok, zero_ok) in ANALYSIS_NUMBERS.items():
         if key in table:
             kwhere = f"{where}, key {key!r}"
             v = units.parse(table[key], dim, kwhere)
-            if not ((v >= 0 if zero_ok else v > 0) and v <= hi):
-                low = "≥ 0" if zero_ok else "> 0"
+            inside = (v >= lo if lo_ok else v > lo) and v <= hi
+            if not (inside or (zero_ok and v == 0.0)):
+                unit = {"time": " yr", "length": " m"}.get(dim, "")
+                low = f"{'≥' if lo_ok else '>'} {lo:g}{unit}"
+                high = f" and ≤ {hi:g}{unit}" if math.isfinite(hi) else ""
                 raise InputError(
                     kwhere,
-                    f"{v:g} is out of range",
-                    f"a value {low}" + (f" and ≤ {hi:g}" if math.isfinite(hi) else ""),
+                    f"{v:g}{unit} is out of range",
+                    ("0 or " if zero_ok and lo > 0 else "")
+                    + f"a value {low}{high} (docs/input.md gives the reason)",
                 )
             kw[field] = v
     if "report_times" in table:
@@ -188,6 +223,12 @@ def parse_analysis(table: dict, where: str = f"{SITE_FILE} [analysis]") -> Analy
                     f"{kwhere} item {i}",
                     f"the time {t:g} yr is not positive",
                     "times after loading > 0",
+                )
+            if t > MAX_TIME:
+                raise InputError(
+                    f"{kwhere} item {i}",
+                    f"the time {t:g} yr is longer than {MAX_TIME:g} yr",
+                    f"times after loading up to {MAX_TIME:g} yr (docs/input.md gives the reason)",
                 )
         kw["report_times"] = tuple(sorted(set(times)))
     if "burland_burbidge_pressure" in table:
@@ -308,7 +349,8 @@ def parse_pairs(data, footing_ids, source: str = "pairs.csv") -> tuple[tuple[str
     out: list[tuple[str, str]] = []
     seen = set()
     for row in table.rows:
-        a, b = table.text(row, "a"), table.text(row, "b")
+        a = table.identifier(row, "a", "footing id")
+        b = table.identifier(row, "b", "footing id")
         for col, fid in (("a", a), ("b", b)):
             if fid not in ids:
                 raise InputError(
@@ -374,7 +416,8 @@ def parse_structure_lines(
     ids = set(footing_ids)
     lines: dict[str, list[str]] = {}
     for row in table.rows:
-        name, fid = table.text(row, "line"), table.text(row, "footing")
+        name = table.identifier(row, "line", "line name")
+        fid = table.identifier(row, "footing", "footing id")
         if fid not in ids:
             raise InputError(
                 table.where(row, "footing"),
@@ -398,6 +441,7 @@ def _file(
         if required:
             raise InputError(where, f'the key "{key}" is missing', f'{key} = "name of the file"')
         return None
+    files.check_path_name(str(table[key]), "file", f"{where}, key {key!r}")
     path = folder / str(table[key])
     if not path.exists():
         raise InputError(
@@ -502,9 +546,11 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
                 f'text in quotes, e.g. {k} = "..."',
             )
     info = {
-        k: str(project[k]) for k in ("client", "job_number", "engineer", "notes") if k in project
+        k: free_text(project[k], f"{source} [project], key '{k}'")
+        for k in ("client", "job_number", "engineer", "notes")
+        if k in project
     }
-    name = str(project.get("name", folder.resolve().name))
+    name = free_text(project.get("name", folder.resolve().name), f"{source} [project], key 'name'")
     out_units = OutputUnits.parse(
         project.get("output_units", "si"), f"{source} [project], key 'output_units'"
     ).value
@@ -571,6 +617,8 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
     )
     _warn_soundings_cover(strata, boreholes, soundings)
 
+    _check_base_depths(footings, boreholes, strata, f"{source} [footings]")
+
     ids = [f.id for f in footings]
     qpath = _file(folder, config.get("points", {}), "file", f"{source} [points]", required=False)
     points = parse_points(read_text(qpath, "points file"), ids, qpath.name) if qpath else ()
@@ -592,6 +640,18 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
         lines = parse_structure_lines(read_text(lpath, "structure lines file"), ids, lpath.name)
     checks = CheckSettings(**{**checks.__dict__, "listed_pairs": listed, "structure_lines": lines})
 
+    names = ftable.get("file")
+    read = [folder / str(n) for n in (names if isinstance(names, list) else [names])]
+    read += [p for p in (bpath, spath, ppath, lpath) if p is not None]
+    outside = outside_files(folder, read)
+    if outside:
+        warnings.warn(
+            f"files read from outside the project folder {folder}: {', '.join(outside)}",
+            InputWarning,
+            stacklevel=2,
+        )
+        info = {**info, OUTSIDE_INFO: ", ".join(outside)}
+
     return Site(
         name=name,
         footings=footings,
@@ -606,6 +666,69 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
         info=info,
         points=points,
     )
+
+
+#: the entry of Site.info that lists the input files read from outside the project
+#: folder (shown in the report's project table and in summary.json)
+OUTSIDE_INFO = "files read from outside the project folder"
+
+
+def outside_files(folder: pathlib.Path, paths) -> list[str]:
+    """The paths (resolved, links followed) that are not inside ``folder``."""
+    base = pathlib.Path(folder).resolve()
+    out = []
+    for p in paths:
+        real = pathlib.Path(p).resolve()
+        if not real.is_relative_to(base) and str(real) not in out:
+            out.append(str(real))
+    return out
+
+
+def _check_base_depths(footings, boreholes, strata, where: str) -> None:
+    """Refuse a footing founded below every borehole; warn for one founded below the
+    nearest borehole's log or in a rigid last stratum (its settlement is zero there).
+
+    Below the investigated depth nothing is known of the ground, and the analysis
+    would integrate nothing: a silent 0 mm.
+    """
+    if not boreholes:
+        return
+    ends = [max(iv.bottom for iv in b.intervals) for b in boreholes]
+    deepest = max(ends)
+    rigid = {s.name for s in strata if s.behaviour == Behaviour.RIGID}
+    for f in footings:
+        if f.depth >= deepest:
+            raise InputError(
+                f'{where}, footing "{f.id}"',
+                f"the base depth {f.depth:g} m is at or below the bottom of every borehole "
+                f"(the deepest ends at {deepest:g} m)",
+                "a base above the investigated depth (extend the borehole logs, or check "
+                "the depth and its unit)",
+            )
+        k = min(
+            range(len(boreholes)),
+            key=lambda i: (boreholes[i].x - f.x) ** 2 + (boreholes[i].y - f.y) ** 2,
+        )
+        bh = boreholes[k]
+        if f.depth >= ends[k]:
+            warnings.warn(
+                f'footing "{f.id}": the base depth {f.depth:g} m is below the bottom of the '
+                f'nearest borehole "{bh.id}" ({ends[k]:g} m); the ground under it comes from '
+                "deeper boreholes further away",
+                InputWarning,
+                stacklevel=3,
+            )
+            continue
+        for iv in bh.intervals:
+            if iv.stratum in rigid and f.depth >= iv.top:
+                warnings.warn(
+                    f'footing "{f.id}": the base depth {f.depth:g} m is in the rigid stratum '
+                    f'"{iv.stratum}" at the nearest borehole "{bh.id}" (top {iv.top:g} m); its '
+                    "own settlement there is taken as zero",
+                    InputWarning,
+                    stacklevel=3,
+                )
+                break
 
 
 def _warn_soundings_cover(strata, boreholes, soundings) -> None:

@@ -13,6 +13,7 @@ import warnings
 from sitesettle import units
 from sitesettle.errors import InputError, InputWarning
 from sitesettle.io.tables import parse_flag, suggest
+from sitesettle.io.text import identifier
 from sitesettle.options import Behaviour, Drainage, EndOfPrimary, GranularMethod
 from sitesettle.site import Stratum
 
@@ -142,7 +143,7 @@ def parse_stratum(table: dict, where: str) -> Stratum:
             )
     if "name" not in table or not str(table["name"]).strip():
         raise InputError(where, 'the key "name" is missing', 'a name such as name = "dense sand"')
-    name = str(table["name"]).strip()
+    name = identifier(str(table["name"]).strip(), f"{where}, key 'name'", "stratum name")
     if "behaviour" not in table:
         raise InputError(
             f"{where}, key 'behaviour'",

@@ -24,6 +24,8 @@ from dataclasses import dataclass, field
 
 from sitesettle import units
 from sitesettle.errors import InputError
+from sitesettle.io import files
+from sitesettle.io import text as untrusted
 
 _HEADER = re.compile(r"^(?P<name>[^\[\]]*?)\s*(\[(?P<unit>[^\[\]]*)\])?$")
 
@@ -36,19 +38,11 @@ def read_text(path: pathlib.Path, what: str = "file") -> str:
     """Read a UTF-8 text file (a byte-order mark is allowed) or raise InputError.
 
     The error names the file and, for text that is not UTF-8, the line of the
-    first undecodable byte.
+    first undecodable byte. Only a regular file of at most
+    :data:`sitesettle.io.files.MAX_INPUT_BYTES` is read (:func:`files.read_bytes`).
     """
     path = pathlib.Path(path)
-    if not path.is_file():
-        where = path.name
-        if path.exists():
-            raise InputError(where, f"the {what} {str(path)!r} is not a file", "a path to a file")
-        raise InputError(
-            where,
-            f"the {what} {str(path)!r} does not exist",
-            "a path relative to the project folder",
-        )
-    data = path.read_bytes()
+    data = files.read_bytes(path, what)
     try:
         return data.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
@@ -228,6 +222,12 @@ class Table:
         if isinstance(value, float) and value.is_integer():
             value = int(value)
         return str(value).strip()
+
+    def identifier(self, row: Row, name: str, what: str = "id") -> str:
+        """The cell as an id: :meth:`text`, NFC-normalised and checked by
+        :func:`sitesettle.io.text.identifier` (no invisible or control characters,
+        no leading formula character, at most 100 characters)."""
+        return untrusted.identifier(self.text(row, name), self.where(row, name), what)
 
     def flag(self, row: Row, name: str, default: bool) -> bool:
         """The cell as a boolean (true/false, yes/no, 1/0, rigid/flexible)."""

@@ -205,7 +205,7 @@ def _(d):
     "a sublayer fraction of zero",
     "key 'sublayer_fraction'",
     r"out of range",
-    "> 0",
+    "≥ 0.01",
 )
 def _(d):
     toml_sub(d, "sublayer_fraction = 0.1", "sublayer_fraction = 0")
@@ -869,6 +869,276 @@ def _(d):
     (d / "results" / "summary.json").write_text(
         json.dumps({"program": "sitesettle", "note": "earlier run"}) + "\n", encoding="utf-8"
     )
+
+
+# ------------------------------------------------------- documented ranges (issue 15)
+@case(
+    "toml_tiny_sublayer",
+    "sublayer_fraction = 1e-4: sublayers thinner than the 1 mm the integration drops",
+    "key 'sublayer_fraction'",
+    r"0\.0001 is out of range",
+    "≥ 0.01",
+)
+def _(d):
+    toml_sub(d, "sublayer_fraction = 0.1", "sublayer_fraction = 1e-4")
+
+
+@case(
+    "toml_huge_design_life",
+    "design_life = 1e300 years (overflows the time factors)",
+    "key 'design_life'",
+    r"1e\+300 yr is out of range",
+    "≤ 1000 yr",
+)
+def _(d):
+    toml_sub(d, 'design_life = "50 yr"', "design_life = 1e300")
+
+
+@case(
+    "toml_huge_report_time",
+    "a report time of 5,000 years",
+    "key 'report_times' item 2",
+    r"longer than 1000 yr",
+    "up to 1000 yr",
+)
+def _(d):
+    sub(d, "site.toml", "report_times = [", 'report_times = ["1 yr", "5000 yr", ')
+
+
+@case(
+    "toml_shallow_integration",
+    "max_depth_widths = 0.001: the integration would end just under the base",
+    "key 'max_depth_widths'",
+    r"out of range",
+    "≥ 1",
+)
+def _(d):
+    toml_sub(d, "max_depth_widths = 10 ", "max_depth_widths = 0.001 ")
+
+
+@case(
+    "toml_deep_nesting",
+    "a 3,000-deep nested array (a recursion error in the TOML reader)",
+    "site.toml",
+    r"nested too deeply",
+    "flat tables",
+)
+def _(d):
+    path = d / "site.toml"
+    path.write_text(
+        path.read_text(encoding="utf-8") + "deep = " + "[" * 3000 + "]" * 3000 + "\n",
+        encoding="utf-8",
+    )
+
+
+@case(
+    "toml_name_too_long",
+    "a 10,000-character project name",
+    "[project], key 'name'",
+    r"10000 characters",
+    "at most 1000",
+)
+def _(d):
+    toml_sub(d, 'name = "Workshop, Unit 4"', 'name = "' + "W" * 10000 + '"')
+
+
+@case(
+    "footing_one_millimetre",
+    "a 1 mm footing (it gave 0 mm and lost its neighbours' stress)",
+    'footings.csv row 4, column "width [m]"',
+    r"0\.001 m is outside 0\.2–200 m",
+    "between 0.2 m and 200 m",
+)
+def _(d):
+    sub(d, "footings.csv", "C1,rectangle,0,0,1.8,1.8,", "C1,rectangle,0,0,0.001,0.001,")
+
+
+@case(
+    "footing_too_large",
+    "a 500 m footing",
+    'footings.csv row 5, column "width [m]"',
+    r"500 m is outside",
+    "between 0.2 m and 200 m",
+)
+def _(d):
+    sub(d, "footings.csv", "C2,rectangle,6,0,2.2,2.2,", "C2,rectangle,6,0,500,500,")
+
+
+@case(
+    "footing_below_boreholes",
+    "a base at 14 m, below the deepest borehole (13 m): it gave 0 mm, method none",
+    'footing "C4"',
+    r"base depth 14 m is at or below the bottom of every borehole",
+    "a base above the investigated depth",
+)
+def _(d):
+    sub(d, "footings.csv", "C4,rectangle,6,7,2.2,2.4,90,1.2,", "C4,rectangle,6,7,2.2,2.4,90,14,")
+
+
+@case(
+    "footing_below_nearest_borehole",
+    "a base at 11.2 m: below the nearest borehole (BH3, 11 m) but above BH1 and BH2",
+    'footing "C3"',
+    r"below the bottom of the\s+nearest borehole \"BH3\"",
+    "",
+    warning=True,
+)
+def _(d):
+    sub(d, "footings.csv", "C3,rectangle,0,7,1.8,1.8,0,1.0,", "C3,rectangle,0,7,1.8,1.8,0,11.2,")
+    toml_sub(d, 'map_spacing = "0 m"', 'map_spacing = "3 m"')
+
+
+@case(
+    "footing_on_rigid_base",
+    "a base at 10 m, inside the rigid mudstone at BH3 (top 9.8 m): zero own settlement",
+    'footing "C3"',
+    r'in the rigid stratum "mudstone"',
+    "",
+    warning=True,
+)
+def _(d):
+    sub(d, "footings.csv", "C3,rectangle,0,7,1.8,1.8,0,1.0,", "C3,rectangle,0,7,1.8,1.8,0,10,")
+    toml_sub(d, 'map_spacing = "0 m"', 'map_spacing = "3 m"')
+
+
+# ------------------------------------------------------- hostile text (issue 15)
+def set_id(d, old: str, new: str) -> None:
+    """Give footing ``old`` the id ``new``, in quotes (a quoted cell may hold anything)."""
+    quoted = '"' + new.replace('"', '""') + '"'
+    sub(d, "footings.csv", f"\n{old},", f"\n{quoted},")
+
+
+for _name, _id, _what in (
+    ("text_formula_equals", '=HYPERLINK("http://example.invalid","C1")', "="),
+    ("text_formula_plus", "+cmd|' /C calc'!A0", "+"),
+    ("text_formula_at", "@SUM(1+1)", "@"),
+    ("text_formula_minus", "-2+3", "-"),
+):
+    case(
+        _name,
+        f"a footing id beginning with {_what} (a spreadsheet formula)",
+        'footings.csv row 4, column "id"',
+        r"begins with \"" + ("\\" if _what == "+" else "") + _what + r"\".*formula",
+        "an id beginning with a letter",
+    )(lambda d, _id=_id: set_id(d, "C1", _id))
+
+R6 = 'footings.csv row 7, column "id"'
+for _name, _id, _code, _where in (
+    ("text_zero_width_space", "C\u200b4", "U\\+200B", R6),
+    ("text_bidi_override", "C\u202e4", "U\\+202E", R6),
+    # a quoted line break: the csv module numbers the row by its last line
+    ("text_line_break", "C4\nPASS", "U\\+000A", 'column "id"'),
+    ("text_ansi_escape", "C4\x1b[32m", "U\\+001B", R6),
+):
+    case(
+        _name,
+        "an invisible or control character in a footing id",
+        _where,
+        r"invisible or control character " + _code,
+        "visible characters",
+    )(lambda d, _id=_id: set_id(d, "C4", _id))
+
+
+@case(
+    "text_nfc_duplicate",
+    "two footing ids that differ only in Unicode normal form (é as one or two code points)",
+    "footings.csv row 5",
+    r'the footing id "Caf\u00e9" is used again \(first at row 4\)',
+    "a unique id",
+)
+def _(d):
+    set_id(d, "C1", "Caf\u00e9")
+    set_id(d, "C2", "Cafe\u0301")
+
+
+@case(
+    "text_id_too_long",
+    "a 10,000-character footing id",
+    'footings.csv row 4, column "id"',
+    r"10000 characters",
+    "at most 100 characters",
+)
+def _(d):
+    set_id(d, "C1", "C" * 10000)
+
+
+@case(
+    "text_borehole_id_control",
+    "an ANSI escape in a borehole id",
+    'boreholes.csv row 3, column "borehole"',
+    r"borehole id .*U\+001B",
+    "visible characters",
+)
+def _(d):
+    sub(d, "boreholes.csv", "\nBH1,", "\nBH1\x1b[2J,", count=1)
+
+
+@case(
+    "text_stratum_bidi",
+    "a bidi isolate in a stratum name",
+    "key 'name'",
+    r"stratum name .*U\+2066",
+    "visible characters",
+)
+def _(d):
+    toml_sub(d, 'name = "sand"', 'name = "sa\u2066nd"')
+
+
+# ------------------------------------------------------- input files (issue 15)
+@case(
+    "file_gdal_virtual_dataset",
+    "a .geojson that is a GDAL virtual dataset pointing at a URL (it sent an HTTP request)",
+    "raft.geojson",
+    r"is not GeoJSON.*virtual datasets",
+    "GeoJSON file",
+)
+def _(d):
+    (d / "raft.geojson").write_text(
+        "<OGRVRTDataSource><OGRVRTLayer name=\"raft\">"
+        "<SrcDataSource>/vsicurl/http://127.0.0.1:9/raft.geojson</SrcDataSource>"
+        "</OGRVRTLayer></OGRVRTDataSource>\n",
+        encoding="utf-8",
+    )
+    toml_sub(d, 'file = "footings.csv"', 'file = ["footings.csv", "raft.geojson"]')
+
+
+@case(
+    "file_gdal_prefix",
+    "a footings file named with a GDAL virtual-file prefix",
+    "[footings], key 'file'",
+    r"GDAL virtual file system",
+    "a path to a file on this computer",
+)
+def _(d):
+    toml_sub(d, 'file = "footings.csv"', 'file = "/vsicurl/http://127.0.0.1:9/raft.geojson"')
+
+
+@case(
+    "file_folder_as_table",
+    "the boreholes file is a folder",
+    "boreholes.csv",
+    r"is a folder, not a file",
+    "a regular file",
+)
+def _(d):
+    (d / "boreholes.csv").unlink()
+    (d / "boreholes.csv").mkdir()
+    (d / "boreholes.csv" / "keep.txt").write_text("a folder, not a table\n", encoding="utf-8")
+
+
+@case(
+    "file_zip_with_vrt",
+    "a zipped 'shapefile' holding a GDAL virtual dataset",
+    "raft.zip",
+    r"holds 'raft\.vrt'",
+    "a zipped shapefile",
+)
+def _(d):
+    import zipfile
+
+    with zipfile.ZipFile(d / "raft.zip", "w") as zf:
+        zf.writestr("raft.vrt", "<OGRVRTDataSource/>")
+    toml_sub(d, 'file = "footings.csv"', 'file = ["footings.csv", "raft.zip"]')
 
 
 def materialise(names=None) -> list[pathlib.Path]:
