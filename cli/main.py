@@ -1,18 +1,54 @@
 """The ``sitesettle`` command: arguments, progress, the API, and exit codes.
 
-Exit codes: 0 every check passes; 1 some check fails (outputs written);
-2 bad input or an unwritable results folder (one clear message, nothing written);
-130 interrupted.
+Exit codes (:data:`EXIT_CODES`, also in ``--help`` and the README):
+
+* 0 every check passes;
+* 1 some check fails (all outputs written);
+* 2 bad input, or a results folder that cannot be used (one message naming the
+  file and row, column or key; nothing written);
+* 3 the tool could not finish: no space left, a file too large for the file
+  system, no permission, a folder that cannot be moved, an internal error. One
+  line, no traceback unless ``--debug``; an earlier results folder is untouched;
+* 130 interrupted (Ctrl-C), 143 terminated (SIGTERM): nothing written over
+  earlier results, no temporary folder left.
+
+Everything printed goes through :func:`sitesettle.io.text.terminal_text`: a name or
+an id cannot add a line, an ANSI escape or a bidi override to the terminal.
 """
 
 from __future__ import annotations
 
 import argparse
+import errno
+import signal
 import sys
 import warnings
 from pathlib import Path
 
-from sitesettle.errors import one_line
+from sitesettle.io.text import terminal_line, terminal_text
+
+#: exit code → meaning (printed by --help)
+EXIT_CODES = {
+    0: "every check passes",
+    1: "some check fails (all outputs written)",
+    2: "bad input or unusable results folder (one message; nothing written)",
+    3: "could not finish: no space, no permission, internal error (one line; --debug "
+    "shows the traceback)",
+    130: "interrupted (Ctrl-C)",
+    143: "terminated (SIGTERM)",
+}
+OK, FAILS, BAD_INPUT, NOT_FINISHED, INTERRUPTED, TERMINATED = 0, 1, 2, 3, 130, 143
+
+
+class Terminated(KeyboardInterrupt):
+    """SIGTERM, raised where the signal arrives so that it takes the Ctrl-C path
+    (the temporary results folder is removed, the old one kept)."""
+
+
+def say(text: str = "", file=None) -> None:
+    """Print ``text`` with every line made safe for the terminal."""
+    print(terminal_text(text), file=file if file is not None else sys.stdout)
+
 
 CAUTIONS = (
     "Results support, and never replace, the judgement of a licensed engineer. "
@@ -29,8 +65,14 @@ def _parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(
         prog="sitesettle",
         description="Settlement and movement checks for every shallow footing of a building plan.",
+        epilog="exit codes: " + "; ".join(f"{k} {v}" for k, v in EXIT_CODES.items()),
     )
     p.add_argument("--version", action="version", version=f"sitesettle {sitesettle.__version__}")
+    p.add_argument(
+        "--debug",
+        action="store_true",
+        help="show the traceback when the tool cannot finish (exit code 3)",
+    )
     sub = p.add_subparsers(dest="command", required=True)
     c = sub.add_parser("check", help="analyse a project, check it and write the results folder")
     c.add_argument("project", help="project folder with a site.toml")
@@ -105,21 +147,27 @@ def _check(args) -> int:
         results = sitesettle.analyse(site, progress=bar)
         section = worst_pair_section(results)
         bar("writing results", 0.99)
-        write_results(results, out, units=units, section=section)
+        write_results(
+            results,
+            out,
+            units=units,
+            section=section,
+            on_wait=lambda msg: say(terminal_line(msg), file=sys.stderr),
+        )
     finally:
         bar.close()
     summary = summary_dict(results, units)
     ok = results.checks is None or results.checks.all_passed
     if not args.quiet:
         for n in notes:
-            print(f"warning: {one_line(str(n))}")
-        print(format_summary(results, summary, units))
-        print(f"results written to {out}")
-        print()
-        print("Caution: " + CAUTIONS)
+            say(f"warning: {terminal_line(str(n))}")
+        say(format_summary(results, summary, units))
+        say(f"results written to {terminal_line(str(out))}")
+        say()
+        say("Caution: " + CAUTIONS)
     else:
-        print("PASS" if ok else "FAIL")
-    return 0 if ok else 1
+        say("PASS" if ok else "FAIL")
+    return OK if ok else FAILS
 
 
 def _explain(args) -> int:
@@ -129,23 +177,25 @@ def _explain(args) -> int:
     site, notes = _load(args.project)
     if args.footing not in {f.id for f in site.footings}:
         ids = [f.id for f in site.footings]
-        print(
-            one_line(
+        say(
+            terminal_line(
                 f'error: no footing "{args.footing}" in {args.project}; footings are '
                 f"{', '.join(ids[:15])}{' …' if len(ids) > 15 else ''}"
             ),
             file=sys.stderr,
         )
-        return 2
+        return BAD_INPUT
     results = sitesettle.analyse(site, with_map=False)
     if args.csv:
         sys.stdout.write(
-            trace_table(results, args.footing).to_csv(index=False, float_format="%.6g")
+            terminal_text(
+                trace_table(results, args.footing).to_csv(index=False, float_format="%.6g")
+            )
         )
     else:
-        print(format_sheet(results, args.footing))
-        print("Caution: " + CAUTIONS)
-    return 0
+        say(format_sheet(results, args.footing))
+        say("Caution: " + CAUTIONS)
+    return OK
 
 
 def _new(args) -> int:
@@ -153,25 +203,59 @@ def _new(args) -> int:
 
     dest = Path(args.folder)
     if dest.exists() and (not dest.is_dir() or any(dest.iterdir())):
-        print(
-            one_line(f"error: {dest} exists and is not an empty folder; choose a new folder name"),
+        say(
+            terminal_line(
+                f"error: {dest} exists and is not an empty folder; choose a new folder name"
+            ),
             file=sys.stderr,
         )
-        return 2
+        return BAD_INPUT
     src = resources.files("sitesettle") / "templates" / "starter"
     dest.mkdir(parents=True, exist_ok=True)
     for item in src.iterdir():
         if item.is_file():
             (dest / item.name).write_bytes(item.read_bytes())
-    print(f"starter project written to {dest}; run: sitesettle check {dest}")
-    return 0
+    say(terminal_line(f"starter project written to {dest}; run: sitesettle check {dest}"))
+    return OK
+
+
+def _could_not_finish(exc: BaseException) -> str:
+    """One line saying why the run could not finish."""
+    if isinstance(exc, OSError):
+        reason = {
+            errno.ENOSPC: "no space left on the device",
+            getattr(errno, "EDQUOT", -1): "the disk quota is exceeded",
+            errno.EFBIG: "a file is too large for the file system",
+            errno.EACCES: "permission denied",
+            errno.EPERM: "operation not permitted",
+            errno.EROFS: "the file system is read-only",
+            errno.ENOTEMPTY: "a folder could not be replaced (not empty)",
+            errno.EBUSY: "a folder is in use and could not be moved",
+            errno.EXDEV: "the results and their temporary folder are on different file systems",
+        }.get(exc.errno, exc.strerror or type(exc).__name__)
+        name = f" ({exc.filename})" if exc.filename else ""
+        return f"{reason}{name}"
+    if isinstance(exc, MemoryError):
+        return "out of memory"
+    if isinstance(exc, RecursionError):
+        return "internal error: recursion too deep"
+    return f"internal error: {type(exc).__name__}: {exc}"
+
+
+def _on_sigterm(signum, frame):  # pragma: no cover - exercised in a child process
+    raise Terminated()
 
 
 def main(argv: list[str] | None = None) -> int:
-    """Entry point of the ``sitesettle`` command; returns the exit code."""
+    """Entry point of the ``sitesettle`` command; returns the exit code (:data:`EXIT_CODES`)."""
     from sitesettle.errors import InputError, OutputError
 
     args = _parser().parse_args(argv)
+    previous = None
+    try:
+        previous = signal.signal(signal.SIGTERM, _on_sigterm)
+    except (ValueError, OSError, AttributeError):  # not the main thread, or no SIGTERM
+        previous = None
     try:
         if args.command == "check":
             return _check(args)
@@ -179,11 +263,30 @@ def main(argv: list[str] | None = None) -> int:
             return _explain(args)
         return _new(args)
     except (InputError, OutputError) as exc:
-        print(f"error: {one_line(str(exc))}", file=sys.stderr)
-        return 2
+        say(f"error: {terminal_line(str(exc))}", file=sys.stderr)
+        return BAD_INPUT
+    except Terminated:
+        say("terminated: nothing was written over earlier results", file=sys.stderr)
+        return TERMINATED
     except KeyboardInterrupt:
-        print("interrupted: nothing was written over earlier results", file=sys.stderr)
-        return 130
+        say("interrupted: nothing was written over earlier results", file=sys.stderr)
+        return INTERRUPTED
+    except Exception as exc:  # OSError, MemoryError, RecursionError, a bug: exit 3
+        if args.debug:
+            import traceback
+
+            traceback.print_exc()
+        say(
+            "error: could not finish: "
+            + terminal_line(_could_not_finish(exc))
+            + ("; nothing was written over earlier results" if args.command == "check" else "")
+            + ("" if args.debug else " (--debug shows the traceback)"),
+            file=sys.stderr,
+        )
+        return NOT_FINISHED
+    finally:
+        if previous is not None:
+            signal.signal(signal.SIGTERM, previous)
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -288,6 +288,8 @@ class Site:
     info: dict[str, str] = field(default_factory=dict)
     #: query points (settlement over time, listed pairs with footings)
     points: tuple[QueryPoint, ...] = ()
+    #: input files read from outside the project folder (resolved paths)
+    outside_files: tuple[str, ...] = ()
 
     def stratum(self, name: str) -> Stratum:
         """The stratum called ``name`` (KeyError listing the names otherwise)."""

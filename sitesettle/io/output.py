@@ -15,11 +15,26 @@ NIST SP 811 (2008), Appendix B: 1 ft = 0.3048 m, 1 in = 25.4 mm,
 CSV and JSON output is deterministic: the same Results give byte-identical
 files (fixed decimals per column, sorted JSON keys, no dates). The run date
 appears in report.html only; set ``SOURCE_DATE_EPOCH`` to make it fixed too.
+
+The CSV files are opened in spreadsheets: a text cell that begins with ``=``,
+``+``, ``-``, ``@``, a tab or a carriage return is written with a leading single
+quote (:func:`sitesettle.io.text.spreadsheet_text`), so that it stays text and is
+never run as a formula. Numeric columns are never changed (``-3.200`` stays a
+number).
+
+One run at a time writes a results folder: :func:`write_results` holds an
+exclusive lock (``.NAME.lock`` beside the folder, holding the process id) from the
+temporary folder to the swap; a second run waits for it. Under the lock, the
+leftovers of runs that died (``.NAME.tmp-*``, ``.NAME.old-*`` after a SIGKILL or a
+power cut) are removed first, and a set-aside old folder whose swap never finished
+is put back. A results path that is a symbolic link to a folder is followed: the
+folder it points to is replaced and the link is left as it was.
 """
 
 from __future__ import annotations
 
 import contextlib
+import glob
 import json
 import math
 import os
@@ -35,6 +50,7 @@ import pandas as pd
 
 import sitesettle
 from sitesettle.errors import OutputError
+from sitesettle.io.text import spreadsheet_text
 from sitesettle.results import Results
 
 #: exact conversion factors, NIST SP 811 (2008) Appendix B.8 / B.9
@@ -322,6 +338,7 @@ def summary_dict(results: Results, units: str = "si") -> dict:
         ),
         "warnings": list(results.warnings),
         "cautions": list(CAUTIONS),
+        "files_outside_project": list(getattr(results.site, "outside_files", ())),
     }
     diff_name = column("max_differential", "settlement", u)
     if checks is None:
@@ -395,8 +412,20 @@ def format_table(df: pd.DataFrame) -> pd.DataFrame:
     return out
 
 
+def spreadsheet_safe(df: pd.DataFrame) -> pd.DataFrame:
+    """The table with every text cell through :func:`spreadsheet_text` (numbers untouched).
+
+    Only columns of text (object dtype) are changed, and in them only ``str`` cells.
+    """
+    out = df.copy()
+    for name in df.columns:
+        if df[name].dtype == object:
+            out[name] = [spreadsheet_text(v) for v in df[name]]
+    return out
+
+
 def _write_csv(df: pd.DataFrame, path: Path) -> None:
-    format_table(df).to_csv(path, index=False, lineterminator="\n")
+    format_table(spreadsheet_safe(df)).to_csv(path, index=False, lineterminator="\n")
 
 
 def _write_json(data: dict, path: Path) -> None:
@@ -557,7 +586,7 @@ def check_target(out_dir: str | os.PathLike) -> None:
     The command line calls it before a long analysis; :func:`write_results` calls it
     again before writing. Nothing is written.
     """
-    _check_target(Path(out_dir).absolute())
+    _check_target(_follow_link(Path(out_dir).absolute()))
 
 
 @contextlib.contextmanager
@@ -596,6 +625,98 @@ def _swap(tmp: Path, out: Path) -> None:
         shutil.rmtree(old, ignore_errors=True)  # a results folder: quick, still held
 
 
+def _follow_link(out: Path) -> Path:
+    """The folder a symbolic link ``out`` points to (``out`` itself when not a link).
+
+    The swap then replaces that folder and leaves the link alone; a link that points
+    nowhere is refused (it would otherwise be moved aside and left).
+    """
+    if not out.is_symlink():
+        return out
+    target = Path(os.path.realpath(out))
+    if not target.exists():
+        raise OutputError(
+            f"cannot write results to {out}: it is a symbolic link to {target}, which does "
+            "not exist; remove the link or give --out the real folder"
+        )
+    return target
+
+
+@contextlib.contextmanager
+def _results_lock(out: Path, on_wait: Callable[[str], None] | None):
+    """Hold the exclusive lock of the results folder ``out`` (waiting for another run).
+
+    The lock is ``flock`` on ``.NAME.lock`` beside the folder; it is released when the
+    process ends, however it ends. The file is removed on release; a run that
+    locked a file since removed by its holder locks the new one instead.
+    """
+    try:
+        import fcntl
+    except ImportError:  # pragma: no cover - not POSIX: no lock
+        yield
+        return
+    path = out.parent / f".{out.name}.lock"
+    while True:
+        fd = os.open(path, os.O_RDWR | os.O_CREAT, 0o644)
+        try:
+            try:
+                fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+            except BlockingIOError:
+                try:
+                    holder = os.pread(fd, 32, 0).decode("ascii", "replace").strip() or "?"
+                except OSError:
+                    holder = "?"
+                if on_wait is not None:
+                    on_wait(
+                        f"waiting for another sitesettle run (process {holder}) that is "
+                        f"writing {out}"
+                    )
+                fcntl.flock(fd, fcntl.LOCK_EX)
+            mine = os.fstat(fd)
+            try:
+                now = os.stat(path)
+            except FileNotFoundError:
+                now = None
+            if now is not None and (now.st_dev, now.st_ino) == (mine.st_dev, mine.st_ino):
+                break
+        except BaseException:
+            os.close(fd)
+            raise
+        os.close(fd)  # the holder removed that file: lock the new one
+    try:
+        os.ftruncate(fd, 0)
+        os.pwrite(fd, f"{os.getpid()}\n".encode("ascii"), 0)
+        yield
+    finally:
+        with contextlib.suppress(OSError):
+            os.unlink(path)
+        os.close(fd)
+
+
+def _remove_stale(out: Path) -> None:
+    """Remove what runs that died left beside ``out`` (the caller holds the lock).
+
+    ``.NAME.tmp-*`` are unfinished results: removed. ``.NAME.old-*`` are earlier
+    results set aside during a swap: when ``out`` is missing (the swap was cut
+    between its two renames) the newest is put back, the others are removed.
+    """
+    tmps = sorted(out.parent.glob(f".{glob.escape(out.name)}.tmp-*"))
+    olds = sorted(
+        out.parent.glob(f".{glob.escape(out.name)}.old-*"),
+        key=lambda p: p.lstat().st_mtime,
+    )
+    for p in tmps:
+        if p.is_dir() and not p.is_symlink():
+            shutil.rmtree(p, ignore_errors=True)
+    if olds and not (out.exists() or out.is_symlink()):
+        newest = olds.pop()
+        if newest.is_dir() and not newest.is_symlink():
+            os.replace(newest, out)
+    for p in olds:
+        if p.is_dir() and not p.is_symlink():
+            shutil.rmtree(p, ignore_errors=True)
+
+
 def write_results(
     results: Results,
     out_dir: str | os.PathLike,
@@ -603,6 +724,7 @@ def write_results(
     units: str = "si",
     progress: Callable[[str], None] | None = None,
     section=None,
+    on_wait: Callable[[str], None] | None = None,
 ) -> Path:
     """Write every output file into ``out_dir``, atomically.
 
@@ -612,7 +734,8 @@ def write_results(
         What :func:`sitesettle.analyse` returned.
     out_dir : path
         The results folder. It may exist if it is empty or an earlier results
-        folder; it is then replaced as a whole.
+        folder; it is then replaced as a whole. A symbolic link to such a folder is
+        followed (the folder is replaced, the link kept).
     units : {"si", "us"}, optional
         SI (m, mm, kPa, kN) or US customary units (ft, in, ksf, kip) in the tables,
         GeoPackage, figures and report.
@@ -620,6 +743,9 @@ def write_results(
         Called as ``progress(file_name)`` before each file is made.
     section : sitesettle.mapping.Section, optional
         A section through the stratigraphy; section.png is drawn when given.
+    on_wait : callable, optional
+        Called once with a message when another run holds the folder's lock and
+        this one waits for it.
 
     Returns
     -------
@@ -629,11 +755,14 @@ def write_results(
     Raises
     ------
     OutputError
-        ``out_dir`` is an existing file or a folder sitesettle did not write, or its
-        parent cannot be written; nothing is written then.
+        ``out_dir`` is an existing file or a folder sitesettle did not write, a link
+        to nothing, or its parent cannot be written; nothing is written then.
+    OSError
+        The disk is full, a file is too large, the old folder cannot be moved …:
+        the temporary folder is removed and the old folder kept.
     """
     u = _units(units)
-    out = Path(out_dir).absolute()
+    out = _follow_link(Path(out_dir).absolute())
     _check_target(out)
     # the temporary folder's name is chosen before it exists, so that an interrupt at
     # any moment after its creation finds it and removes it
@@ -642,20 +771,23 @@ def write_results(
         out.parent.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
         raise OutputError(f"cannot write results to {out}: {exc.strerror or exc}") from None
-    try:
+    with _results_lock(out, on_wait):
+        _remove_stale(out)
+        _check_target(out)  # again: another run may have changed it while this one waited
         try:
-            with _signals_deferred():
-                tmp.mkdir(mode=0o700)
-        except OSError as exc:
-            raise OutputError(f"cannot write results to {out}: {exc.strerror or exc}") from None
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o777 & ~umask)
-        _write_all(results, tmp, u, progress or (lambda name: None), section)
-        _swap(tmp, out)
-    except BaseException:
-        shutil.rmtree(tmp, ignore_errors=True)
-        raise
+            try:
+                with _signals_deferred():
+                    tmp.mkdir(mode=0o700)
+            except OSError as exc:
+                raise OutputError(f"cannot write results to {out}: {exc.strerror or exc}") from None
+            umask = os.umask(0)
+            os.umask(umask)
+            os.chmod(tmp, 0o777 & ~umask)
+            _write_all(results, tmp, u, progress or (lambda name: None), section)
+            _swap(tmp, out)
+        except BaseException:
+            shutil.rmtree(tmp, ignore_errors=True)
+            raise
     return out
 
 

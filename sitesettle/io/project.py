@@ -382,7 +382,7 @@ def parse_points(data, footing_ids, source: str = "points.csv") -> tuple[QueryPo
     out: list[QueryPoint] = []
     seen: set[str] = set()
     for row in table.rows:
-        pid = table.text(row, "id")
+        pid = table.identifier(row, "id", "point id")
         if pid in seen:
             raise InputError(table.where(row, "id"), f'id "{pid}" appears twice', "unique ids")
         if pid in taken:
@@ -642,7 +642,7 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
 
     names = ftable.get("file")
     read = [folder / str(n) for n in (names if isinstance(names, list) else [names])]
-    read += [p for p in (bpath, spath, ppath, lpath) if p is not None]
+    read += [p for p in (bpath, spath, qpath, ppath, lpath) if p is not None]
     outside = outside_files(folder, read)
     if outside:
         warnings.warn(
@@ -665,6 +665,7 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
         units=out_units,
         info=info,
         points=points,
+        outside_files=tuple(outside),
     )
 
 
