@@ -65,7 +65,8 @@ def _parser() -> argparse.ArgumentParser:
     p = argparse.ArgumentParser(
         prog="sitesettle",
         description="Settlement and movement checks for every shallow footing of a building plan.",
-        epilog="exit codes: " + "; ".join(f"{k} {v}" for k, v in EXIT_CODES.items()),
+        epilog="exit codes:\n" + "\n".join(f"  {k:<4}{v}" for k, v in EXIT_CODES.items()),
+        formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     p.add_argument("--version", action="version", version=f"sitesettle {sitesettle.__version__}")
     p.add_argument(

@@ -40,6 +40,7 @@ import math
 import os
 import shutil
 import signal
+import unicodedata
 import uuid
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -50,7 +51,7 @@ import pandas as pd
 
 import sitesettle
 from sitesettle.errors import OutputError
-from sitesettle.io.text import spreadsheet_text
+from sitesettle.io.text import FORBIDDEN_CATEGORIES, spreadsheet_text, terminal_line
 from sitesettle.results import Results
 
 #: exact conversion factors, NIST SP 811 (2008) Appendix B.8 / B.9
@@ -415,12 +416,14 @@ def format_table(df: pd.DataFrame) -> pd.DataFrame:
 def spreadsheet_safe(df: pd.DataFrame) -> pd.DataFrame:
     """The table with every text cell through :func:`spreadsheet_text` (numbers untouched).
 
-    Only columns of text (object dtype) are changed, and in them only ``str`` cells.
+    Only columns of text (object or string dtype) are changed, and in them only
+    ``str`` cells; numeric and boolean columns are left as they are.
     """
     out = df.copy()
     for name in df.columns:
-        if df[name].dtype == object:
-            out[name] = [spreadsheet_text(v) for v in df[name]]
+        col = df[name]
+        if col.dtype == object or pd.api.types.is_string_dtype(col.dtype):
+            out[name] = pd.Series([spreadsheet_text(v) for v in col], index=col.index, dtype=object)
     return out
 
 
@@ -560,6 +563,13 @@ def _is_results_folder(path: Path) -> bool:
 
 def _check_target(out: Path) -> None:
     """Raise OutputError when ``out`` cannot become a results folder (nothing is written)."""
+    bad = [c for c in str(out) if unicodedata.category(c) in FORBIDDEN_CATEGORIES]
+    if bad:
+        raise OutputError(
+            f"cannot write results to {terminal_line(str(out))}: the path holds the control "
+            f"or invisible character U+{ord(bad[0]):04X}, which the GIS library cannot "
+            "write and a terminal cannot show; choose a plain folder name"
+        )
     if out.exists() or out.is_symlink():
         if not out.is_dir():
             raise OutputError(

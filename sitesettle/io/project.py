@@ -21,7 +21,7 @@ from sitesettle.io.footings import FootingDefaults, read_footings
 from sitesettle.io.investigation import read_boreholes, read_soundings
 from sitesettle.io.strata import check_requirements, parse_strata
 from sitesettle.io.tables import Table, parse_csv, parse_flag, read_text, suggest
-from sitesettle.io.text import free_text
+from sitesettle.io.text import free_text, terminal_line
 from sitesettle.options import (
     Behaviour,
     Choice,
@@ -546,11 +546,14 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
                 f'text in quotes, e.g. {k} = "..."',
             )
     info = {
-        k: free_text(project[k], f"{source} [project], key '{k}'")
+        k: free_text(project[k], f"{source} [project], key '{k}'", lines=k == "notes")
         for k in ("client", "job_number", "engineer", "notes")
         if k in project
     }
-    name = free_text(project.get("name", folder.resolve().name), f"{source} [project], key 'name'")
+    if "name" in project:
+        name = free_text(project["name"], f"{source} [project], key 'name'")
+    else:  # the folder's name, shown as its escaped, visible form
+        name = terminal_line(folder.resolve().name)
     out_units = OutputUnits.parse(
         project.get("output_units", "si"), f"{source} [project], key 'output_units'"
     ).value

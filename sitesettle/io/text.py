@@ -133,16 +133,27 @@ def identifier(value: str, where: str, what: str = "id") -> str:
     return text
 
 
-def free_text(value: str, where: str) -> str:
-    """Free text (project name, notes): NFC, at most :data:`MAX_TEXT_LENGTH` characters.
+def free_text(value: str, where: str, *, lines: bool = False) -> str:
+    """Free text (project name, client, notes): NFC, at most :data:`MAX_TEXT_LENGTH` characters.
 
-    Control characters are kept (they are escaped wherever the text is printed)
-    but a text longer than the limit is refused.
+    The characters refused in ids (controls, format and bidi characters,
+    separators) are refused here too, except line breaks and tabs when ``lines``
+    (notes may run over several lines); a formula character at the start is
+    allowed (it is neutralised where a spreadsheet could read it).
     """
     text = unicodedata.normalize("NFC", str(value))
     if len(text) > MAX_TEXT_LENGTH:
         raise InputError(
             where, f"the text has {len(text)} characters", f"at most {MAX_TEXT_LENGTH} characters"
+        )
+    bad = _bad_char(text.replace("\n", " ").replace("\t", " ") if lines else text)
+    if bad is not None:
+        i, ch = bad
+        raise InputError(
+            where,
+            f'the text "{terminal_line(text[:60])}" holds the invisible or control character '
+            f"U+{ord(ch):04X} ({unicodedata.name(ch, 'a control character')}) at position {i + 1}",
+            "visible characters" + (" and line breaks" if lines else " on one line"),
         )
     return text
 
