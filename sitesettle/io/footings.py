@@ -64,6 +64,9 @@ MAX_SIDE = 200.0
 #: deepest base accepted [m]: a shallow footing is founded a few metres down; 30 m
 #: is a deep basement, deeper is a pile or a typing error
 MAX_DEPTH = 30.0
+#: heaviest average unit weight of footing and backfill [kN/m³]: reinforced concrete
+#: is about 25 (EN 1991-1-1:2002 Table A.1, from memory), compacted fill 18–22
+MAX_FILL_UNIT_WEIGHT = 30.0
 #: GIS file suffixes read with geopandas
 GIS_SUFFIXES = (".gpkg", ".geojson", ".json", ".shp", ".fgb", ".gml", ".kml", ".zip")
 
@@ -168,6 +171,12 @@ def _attributes(table: Table, row: Row, shape: dict, defaults: FootingDefaults) 
             table.where(row, "fill_unit_weight"),
             f"{fill:g} kN/m³ is negative",
             "a unit weight ≥ 0 (0: the loads include footing and backfill)",
+        )
+    if fill > MAX_FILL_UNIT_WEIGHT:
+        raise InputError(
+            table.where(row, "fill_unit_weight"),
+            f"{fill:g} kN/m³ is heavier than any footing or backfill",
+            f"a unit weight ≤ {MAX_FILL_UNIT_WEIGHT:g} kN/m³ (check the unit)",
         )
     rigid = table.flag(row, "rigid", defaults.rigid)
     pressure = (dead + live) / area

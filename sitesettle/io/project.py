@@ -17,7 +17,7 @@ from sitesettle import units
 from sitesettle.criteria import CRITERIA, MEASURES
 from sitesettle.errors import InputError, InputWarning
 from sitesettle.io import files, geometry
-from sitesettle.io.footings import FootingDefaults, read_footings
+from sitesettle.io.footings import MAX_FILL_UNIT_WEIGHT, FootingDefaults, read_footings
 from sitesettle.io.investigation import read_boreholes, read_soundings
 from sitesettle.io.strata import check_requirements, parse_strata
 from sitesettle.io.tables import Table, parse_csv, parse_flag, read_text, suggest
@@ -526,7 +526,11 @@ def _footing_defaults(table: dict, where: str) -> FootingDefaults:
     checks = (
         ("depth", lambda v: v >= 0.0, "a depth ≥ 0 below ground"),
         ("sustained_live_fraction", lambda v: 0.0 <= v <= 1.0, "a fraction between 0 and 1"),
-        ("fill_unit_weight", lambda v: v >= 0.0, "a unit weight ≥ 0 (0: loads include them)"),
+        (
+            "fill_unit_weight",
+            lambda v: 0.0 <= v <= MAX_FILL_UNIT_WEIGHT,
+            f"a unit weight ≥ 0 and ≤ {MAX_FILL_UNIT_WEIGHT:g} kN/m³ (0: loads include them)",
+        ),
     )
     for key, ok, expected in checks:
         if key in kw and not ok(kw[key]):
