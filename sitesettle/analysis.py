@@ -40,6 +40,11 @@ from sitesettle.site import Footing, Site
 FAILURE_SETTLEMENT_RATIO = 0.10
 #: at most this many distinct load-plane depths are made sublayer boundaries
 MAX_LOAD_PLANES = 32
+#: why a column's integration stopped (Integration.reason)
+STOP_RIGID = "top of a rigid stratum"
+STOP_CAP = "a depth cap of [analysis] (max_depth / max_depth_widths)"
+STOP_DEEPEST = "the deepest integration allowed"
+STOP_BOUND = "the remaining settlement is bounded below the tolerance"
 #: warn when more than this share of a footing's settlement comes from below the
 #: deepest borehole or sounding (the ground there is assumed, not investigated)
 ASSUMED_GROUND_SHARE = 0.10
@@ -364,14 +369,14 @@ def integrate(
     bound = np.where(bottom >= rigid - 1e-9, 0.0, bound)
     reason = np.where(
         bottom >= rigid - 1e-9,
-        "top of a rigid stratum",
+        STOP_RIGID,
         np.where(
             bottom >= user_cap - 1e-9,
-            "a depth cap of [analysis] (max_depth / max_depth_widths)",
+            STOP_CAP,
             np.where(
                 bottom >= colmod.MAX_INTEGRATION_DEPTH - 1e-9,
-                "the deepest integration allowed",
-                "the remaining settlement is bounded below the tolerance",
+                STOP_DEEPEST,
+                STOP_BOUND,
             ),
         ),
     )
@@ -439,6 +444,26 @@ def _stresses(ctx: Context, sub: fld.Sublayers, tol: float) -> None:
         sub.own_sz[owned], sub.own_t[owned] = osz, ot
     ratio = np.divide(ctx.q_sust, ctx.q_full, out=np.zeros(len(ctx.q_full)), where=ctx.q_full > 0)
     sub.own_sust = np.where(sub.owner >= 0, sub.own_sz * ratio[np.maximum(sub.owner, 0)], 0.0)
+
+
+def _histories(ctx, sub, tab, gc, *, own_mask=None, total_mask=None) -> fld.History:
+    """Stage 4 with the site's settings (the one place the engine's histories are asked for)."""
+    st = ctx.site.analysis
+    return fld.histories(
+        sub,
+        tab,
+        gc,
+        ctx.times,
+        end_of_primary=st.end_of_primary,
+        r3=st.bb_r3,
+        r=st.bb_r,
+        investigated_depth=ctx.ground.investigated_depth,
+        own_mask=own_mask,
+        total_mask=total_mask,
+        clay_settlement=str(st.clay_settlement),
+        cohesive_immediate=st.cohesive_immediate,
+        strip=_strip_sublayers(ctx.site, sub),
+    )
 
 
 def _strip_sublayers(site: Site, sub: fld.Sublayers) -> np.ndarray:
@@ -511,20 +536,13 @@ def analyse(
     significant, own_mask, total_mask = depth_masks(sub, n, st.influence_fraction)
     ratio_rule = st.depth_rule == DepthRule.STRESS_RATIO
     say("settlements", 0.7)
-    hist = fld.histories(
+    hist = _histories(
+        ctx,
         sub,
         tab,
         gc,
-        ctx.times,
-        end_of_primary=st.end_of_primary,
-        r3=st.bb_r3,
-        r=st.bb_r,
-        investigated_depth=ctx.ground.investigated_depth,
         own_mask=own_mask if ratio_rule else None,
         total_mask=total_mask if ratio_rule else None,
-        clay_settlement=str(st.clay_settlement),
-        cohesive_immediate=st.cohesive_immediate,
-        strip=_strip_sublayers(site, sub),
     )
     say("assembling", 0.85)
     cols = {
@@ -537,7 +555,7 @@ def analyse(
     cols["tot"] = cols["imm"] + cols["creep"] + cols["con"] + cols["sec"]
     cols["nb"] = cols["tot"] - cols["own"]
     warnings = ctx.warnings
-    _depth_warnings(ctx, pts, gc, sub, hist, run, cols, ratio_rule, warnings)
+    _depth_warnings(ctx, pts, gc, tab, sub, hist, run, cols, ratio_rule, warnings)
     feet = assemble_footings(ctx, pts, cols, run, significant)
     traces = _traces(ctx, pts, gc, sub, hist, run, tab)
     outside = np.asarray(
@@ -726,7 +744,7 @@ def _map_basis(site: Site, ctx: Context) -> str:
     )
 
 
-def _depth_warnings(ctx, pts, gc, sub, hist, run, cols, ratio_rule, warnings) -> None:
+def _depth_warnings(ctx, pts, gc, tab, sub, hist, run, cols, ratio_rule, warnings) -> None:
     """Warn where a cap or the stress-ratio rule leaves compressible ground out, and
     where much of a footing's settlement comes from ground below the investigation."""
     site = ctx.site
@@ -742,7 +760,7 @@ def _depth_warnings(ctx, pts, gc, sub, hist, run, cols, ratio_rule, warnings) ->
 
     # a cap of the user's stops the integration inside compressible ground
     capped = np.flatnonzero(
-        (run.reason == "a depth cap of [analysis] (max_depth / max_depth_widths)")
+        (run.reason == STOP_CAP)
         & (run.bound > st.truncation_tolerance * np.abs(cols["tot"][:, life]))
         & (pts.kind != "map")
     )
@@ -759,7 +777,7 @@ def _depth_warnings(ctx, pts, gc, sub, hist, run, cols, ratio_rule, warnings) ->
             "below it is left out (bound)"
         )
     if ratio_rule:
-        left = _left_out(sub, gc, run, pts, cols, ctx, st)
+        left = _left_out(sub, gc, tab, pts, cols, ctx, st)
         for i, (mm, stratum) in left.items():
             warnings.append(
                 f"footing {site.footings[i].id}: the stress-ratio depth rule "
@@ -806,24 +824,11 @@ def _depth_warnings(ctx, pts, gc, sub, hist, run, cols, ratio_rule, warnings) ->
             )
 
 
-def _left_out(sub, gc, run, pts, cols, ctx, st) -> dict[int, tuple[float, str]]:
+def _left_out(sub, gc, tab, pts, cols, ctx, st) -> dict[int, tuple[float, str]]:
     """Per footing, what the stress-ratio rule leaves out at the design life [mm] and where."""
     site = ctx.site
     life = ctx.life
-    tab = fld.Tables.build(gc, str(st.granular_method))
-    full = fld.histories(
-        sub,
-        tab,
-        gc,
-        ctx.times,
-        end_of_primary=st.end_of_primary,
-        r3=st.bb_r3,
-        r=st.bb_r,
-        investigated_depth=ctx.ground.investigated_depth,
-        clay_settlement=str(st.clay_settlement),
-        cohesive_immediate=st.cohesive_immediate,
-        strip=_strip_sublayers(site, sub),
-    )
+    full = _histories(ctx, sub, tab, gc)
     n = len(pts)
     all_life = per_column(
         sub,

@@ -46,17 +46,8 @@ FIELD_CONE_FACTOR = {"1978": 2.5, "1970": 2.0}
 CREEP_NONE, CREEP_SCHMERTMANN, CREEP_BB = 0, 1, 2
 
 
-def creep_kind(method: str) -> int:
-    """The time-factor family of a granular method."""
-    if method in (GranularMethod.SCHMERTMANN, GranularMethod.SCHMERTMANN_1970):
-        return CREEP_SCHMERTMANN
-    if method == GranularMethod.BURLAND_BURBIDGE:
-        return CREEP_BB
-    return CREEP_NONE
-
-
 def creep_kinds(methods: np.ndarray) -> np.ndarray:
-    """:func:`creep_kind` of an array of method names."""
+    """The time-factor family of each granular method name (none, Schmertmann's C2, B&B ft)."""
     m = np.asarray(methods, dtype=object)
     sch_ = np.isin(m, [GranularMethod.SCHMERTMANN.value, GranularMethod.SCHMERTMANN_1970.value])
     return np.where(sch_, CREEP_SCHMERTMANN, np.where(m == "burland_burbidge", CREEP_BB, 0))
@@ -841,22 +832,19 @@ def consolidating_units(gc: GroundColumns, tab: Tables, investigated_depth: floa
     )
 
 
-#: Poisson's ratio in the Skempton & Bjerrum geometry factor (undrained, ν = 0.5)
-_SB_POISSON = 0.5
-
-
 def _skempton_bjerrum_mu(sub, tab, pi, valid, strip, *, own: bool) -> np.ndarray:
     """μ = A + α(1 − A) per consolidating unit (Skempton & Bjerrum 1957).
 
     α = ∫Δσ3 dz / ∫Δσ1 dz over the unit's sublayers from the elastic stresses
     (ν = 0.5): Δσ3 = ((1 + ν)T − Δσz)/2 on the axis of a compact load, T − Δσz in
     plane strain under a strip (σy = ν(σx + σz)); A is the stratum's
-    ``pore_pressure_coefficient`` (thickness-weighted over the unit).
+    ``pore_pressure_coefficient`` (thickness-weighted over the unit). α is kept within
+    [0, 1], its physical range for downward loads (Δσ3 ≤ Δσ1).
     """
     sz = (sub.own_sz if own else sub.sz)[pi]
     t = (sub.own_t if own else sub.t)[pi]
     plane = np.zeros(pi.shape, dtype=bool) if strip is None else strip[pi]
-    s3 = np.where(plane, t - sz, ((1 + _SB_POISSON) * t - sz) / 2.0)
+    s3 = np.where(plane, t - sz, ((1 + UNDRAINED_POISSON) * t - sz) / 2.0)
     h = np.where(valid, sub.h[pi], 0.0)
     with np.errstate(divide="ignore", invalid="ignore"):
         alpha = np.sum(np.where(valid, s3, 0.0) * h, axis=1) / np.sum(
