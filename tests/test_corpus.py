@@ -28,6 +28,8 @@ FAMILIES = {
     "toml_": "site.toml syntax, keys and values",
     "unit_": "units of the wrong dimension or unknown",
     "suspicious_": "valid values of suspicious magnitude (warnings)",
+    "implausible_": "values outside the plausible range (bad input naming the unit meant)",
+    "override_": "limit overrides without a unit or outside the plausible range",
     "strata_": "[[strata]] parameters",
     "footing_": "the footings CSV file",
     "gis_": "GIS footing files: geometry and coordinate systems",

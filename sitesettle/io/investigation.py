@@ -9,7 +9,7 @@ import numpy as np
 
 from sitesettle.errors import InputError, InputWarning
 from sitesettle.io import geometry
-from sitesettle.io.strata import QUANTITY_KEYS, check_value
+from sitesettle.io.strata import PLAUSIBLE, QUANTITY_KEYS, _num, _probably_meant, check_value
 from sitesettle.io.tables import Table, parse_csv, read_text, suggest, table_from_frame
 from sitesettle.site import Borehole, Interval, Sounding, Stratum
 
@@ -259,6 +259,16 @@ def parse_soundings(data, source: str = "soundings.csv") -> tuple[Sounding, ...]
             depth.append(z)
             qc.append(q)
             fs.append(f)
+        median = float(np.median(qc))
+        lo, hi, source = PLAUSIBLE["cone_resistance"]
+        if not lo <= median <= hi:
+            raise InputError(
+                table.where(rows[0], "qc"),
+                f'the median cone resistance of sounding "{sid}" is {median:g} kPa, outside '
+                f"the plausible {_num(lo)}–{_num(hi)} kPa"
+                + _probably_meant(median, lo, hi, "pressure"),
+                f"cone resistances with their unit in the header, such as qc[MPa] ({source})",
+            )
         fs_arr = np.array(fs) if has_fs and not np.all(np.isnan(fs)) else None
         out.append(Sounding(id=sid, x=x, y=y, depth=np.array(depth), qc=np.array(qc), fs=fs_arr))
     if unusual:

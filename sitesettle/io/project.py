@@ -248,14 +248,29 @@ def parse_analysis(table: dict, where: str = f"{SITE_FILE} [analysis]") -> Analy
     return settings
 
 
-def parse_limit(value: object, where: str, unit: str = "-") -> float:
+#: plausible range of a limit override, core units: measure → (lowest, highest, why)
+LIMIT_PLAUSIBLE: dict[str, tuple[float, float, str]] = {
+    "total": (0.001, 1.0, "1 mm to 1 m"),
+    "differential": (0.001, 0.5, "1 mm to 500 mm"),
+    "angular_distortion": (1e-5, 0.1, "1/100,000 to 1/10"),
+    "angular_distortion_hog": (1e-5, 0.1, "1/100,000 to 1/10"),
+    "tilt": (1e-5, 0.1, "1/100,000 to 1/10 rad"),
+    "building_tilt": (1e-5, 0.1, "1/100,000 to 1/10 rad"),
+    "deflection_ratio": (1e-6, 0.05, "1/1,000,000 to 1/20"),
+    "deflection_ratio_hog": (1e-6, 0.05, "1/1,000,000 to 1/20"),
+}
+
+
+def parse_limit(value: object, where: str, unit: str = "-", measure: str | None = None) -> float:
     """A limit value in the core unit of its measure.
 
     Parameters
     ----------
-    value : str or float
-        ``"25 mm"``, ``"1 in"``, ``0.025`` for a settlement; ``"1/500"``,
-        ``0.002``, ``"0.2 %"`` or an angle (``"0.1 deg"``) for a ratio.
+    value : str
+        ``"25 mm"``, ``"1 in"`` for a settlement; ``"1/500"``, ``"0.2 %"`` or an
+        angle (``"0.1 deg"``) for a ratio or a tilt. A bare number is refused: a
+        limit says its unit or is written as a ratio (``total = 75`` would be read
+        as 75 m).
     where : str
         Place for messages.
     unit : str
@@ -263,6 +278,9 @@ def parse_limit(value: object, where: str, unit: str = "-") -> float:
         for settlements, ``"-"`` for ratios, ``"rad"`` for tilt. An angle given
         for a ratio becomes its tangent (a slope); a ratio given for tilt is
         taken as radians (small angles).
+    measure : str, optional
+        The measure, for its plausible range (:data:`LIMIT_PLAUSIBLE`); outside
+        it is an input error.
 
     Examples
     --------
@@ -272,6 +290,14 @@ def parse_limit(value: object, where: str, unit: str = "-") -> float:
     0.025
     """
     text = str(value).strip()
+    example = '"40 mm"' if unit == "m" else '"1/500"'
+    if isinstance(value, bool) or isinstance(value, (int, float)) or units._NUMBER.match(text):
+        raise InputError(
+            where,
+            f"the limit {text} has no unit",
+            f'a limit with its unit or as a ratio, such as {example}'
+            + (" (a bare number would be read in metres)" if unit == "m" else ""),
+        )
     if unit == "m":
         out = units.parse(value, "length", where)
     elif "/" in text and not any(c.isalpha() for c in text):
@@ -289,6 +315,15 @@ def parse_limit(value: object, where: str, unit: str = "-") -> float:
         out = units.parse(value, "dimensionless", where)
     if not (math.isfinite(out) and out > 0):
         raise InputError(where, f'the limit "{value}" is not positive', "a limit > 0")
+    if measure in LIMIT_PLAUSIBLE:
+        lo, hi, span = LIMIT_PLAUSIBLE[measure]
+        if not lo <= out <= hi:
+            shown = f"{out * 1000:g} mm" if unit == "m" else f"1/{1 / out:,.0f}"
+            raise InputError(
+                where,
+                f'the limit "{value}" ({shown}) is outside the plausible range {span}',
+                f"a limit in {span} (common practice), such as {example}",
+            )
     return out
 
 
@@ -324,7 +359,7 @@ def parse_checks(table: dict, where: str = f"{SITE_FILE} [checks]") -> CheckSett
                     f"one of {', '.join(MEASURES)}",
                 )
         kw["overrides"] = {
-            str(k): parse_limit(v, f"{where}, overrides key {k!r}", MEASURES[k])
+            str(k): parse_limit(v, f"{where}, overrides key {k!r}", MEASURES[k], str(k))
             for k, v in ov.items()
         }
     if "checked_after" in table:
