@@ -629,6 +629,7 @@ def analyse(
             station_xy=feet["station_xy"],
             station_total=feet["station_total"],
             query=None if query is None else (query.ids, query.xy, query.total),
+            on_loading=results.immediate[:, ctx.life],
         )
     say("done", 1.0)
     return Results(**{**results.__dict__, "checks": chk, "warnings": tuple(warnings)})

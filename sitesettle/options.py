@@ -87,3 +87,19 @@ class ShapeInterpolation(Choice):
     LOG = (
         "log"  #: modulus factor 2.5 [1 + 0.4 log10(L/B)] (from memory, Terzaghi, Peck & Mesri 1996)
     )
+
+
+class RigidTilt(Choice):
+    """How the building's rigid-body tilt enters the angular distortion β of a pair."""
+
+    BOTH = "both"  #: β with the tilt kept and with it removed; the larger governs
+    KEPT = "kept"  #: β of the line joining the two footings (tilt kept)
+    REMOVED = "removed"  #: β after the least-squares plane is removed (Burland et al. 1977)
+
+
+class FoundationKind(Choice):
+    """The kind of a foundation, for limits worded for some kinds only."""
+
+    PAD = "pad"  #: an isolated column pad
+    STRIP = "strip"  #: a wall strip (an isolated foundation in EN 1997-1 Annex H's sense)
+    RAFT = "raft"  #: a raft or mat under several columns or a core

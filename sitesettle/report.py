@@ -411,15 +411,40 @@ def _checks(results: Results, units: str) -> str:
         if c.all_passed
         else "<span class='fail'>some checks fail</span>"
     )
-    parts = [f"<p>Criteria: <b>{_e(c.criteria)}</b> — {verdict}.</p>"]
+    parts = []
+    if c.beyond_range:
+        names = ", ".join(_e(ids[i]) for i in c.beyond_range)
+        parts.append(
+            "<p class='fail'><b>Outside the methods' range — bearing failure likely</b> at "
+            f"{names}: the settlement on loading exceeds 0.1 B, where the settlement methods "
+            "no longer apply. Check the bearing resistance and the inputs before reading "
+            "anything else for these footings.</p>"
+        )
+    parts.append(f"<p>Criteria: <b>{_e(c.criteria)}</b> — {verdict}.</p>")
     limits = sorted({(lim, src) for lim, src in zip(c.pairs.limit, c.pairs.limit_source)})
+    kinds = tuple(c.footing_kind) or ("pad",) * len(ids)
+    lim_of = {}
+    if c.footing_limit is not None:
+        for kind, value in zip(kinds, c.footing_limit):
+            lim_of.setdefault(kind, value)
+    else:
+        lim_of = {"pad": c.footing_limit_total}
     rows = [
         [
-            "total settlement of a footing",
-            f"≤ {c.footing_limit_total * S:.4g} {su}",
-            _e(c.footing_limit_source),
+            f"total settlement of a {kind}",
+            f"≤ {value * S:.4g} {su}" if np.isfinite(value) else "none in this set",
+            _e(c.footing_limit_source) if np.isfinite(value) else "",
         ]
+        for kind, value in lim_of.items()
     ]
+    if np.isfinite(c.building_tilt_limit):
+        rows.append(
+            [
+                "tilt of the building",
+                f"≤ 1/{1 / c.building_tilt_limit:.0f}",
+                _e(c.building_tilt_source),
+            ]
+        )
     rows += [["pairs", _e(lim), _e(src)] for lim, src in limits]
     if c.lines is not None:
         rows += [
@@ -429,6 +454,17 @@ def _checks(results: Results, units: str) -> str:
     parts.append(_table(["applies to", "limit", "source"], rows))
     if c.checked_after > 0:
         parts.append(f"<p>Only the movement after {c.checked_after:g} yr is checked for pairs.</p>")
+    basis = {
+        "both": "computed with the building's rigid-body tilt kept and with it removed; "
+        "the larger is checked",
+        "kept": "computed with the building's rigid-body tilt kept",
+        "removed": "computed with the building's rigid-body tilt removed",
+    }[c.rigid_tilt]
+    parts.append(
+        f"<p>Angular distortion β is {basis} (docs/criteria.md §2.2). Structure lines "
+        "are judged by their sagging and hogging zones separately (Burland &amp; Wroth "
+        "1974).</p>"
+    )
     bad_f = [_e(i) for i, p in zip(ids, c.footing_passed) if not p]
     bad_p = [
         f"{_e(results.member_ids[int(a)])} – {_e(results.member_ids[int(b)])}"
@@ -440,7 +476,13 @@ def _checks(results: Results, units: str) -> str:
         f"<dt>failing footings</dt><dd>{', '.join(bad_f) if bad_f else 'none'}</dd>"
         f"<dt>failing pairs</dt><dd>{', '.join(bad_p) if bad_p else 'none'}</dd>"
         f"<dt>building tilt</dt><dd>{_num(c.building_tilt, '{:.3g}')} rad toward "
-        f"{_num(c.building_tilt_direction, '{:.0f}')}° from east</dd>"
+        f"{_num(c.building_tilt_direction, '{:.0f}')}° from east"
+        + (
+            f" ({'pass' if c.building_tilt_passed else 'FAIL'})"
+            if np.isfinite(c.building_tilt_limit)
+            else ""
+        )
+        + "</dd>"
         "</dl>"
     )
     if c.lines is not None and len(c.lines.ids):
@@ -448,14 +490,16 @@ def _checks(results: Results, units: str) -> str:
             [
                 _e(" → ".join(line)),
                 _num(length, "{:.2f}"),
+                _e(zone),
                 _num(ratio, "{:.3g}"),
                 _e(lim),
                 _num(u, "{:.2f}"),
                 "pass" if p else "fail",
             ]
-            for line, length, ratio, lim, u, p in zip(
+            for line, length, zone, ratio, lim, u, p in zip(
                 c.lines.ids,
                 c.lines.length,
+                c.lines.zone or ("",) * len(c.lines.ids),
                 c.lines.deflection_ratio,
                 c.lines.limit,
                 c.lines.utilisation,
@@ -465,9 +509,17 @@ def _checks(results: Results, units: str) -> str:
         parts.append("<h3>Structure lines</h3>")
         parts.append(
             _table(
-                ["footings", "length [m]", "Δ/L", "limit", "utilisation", "status"],
+                [
+                    "footings",
+                    "length [m]",
+                    "governing zone",
+                    "Δ/L",
+                    "limit",
+                    "utilisation",
+                    "status",
+                ],
                 rows,
-                numeric={1, 2, 4},
+                numeric={1, 3, 5},
             )
         )
     parts.append("<p>Sources cited: " + "; ".join(_e(s) for s in c.sources) + ".</p>")

@@ -30,6 +30,39 @@ DEFAULT_FILL_UNIT_WEIGHT = 20.0
 WATER_UNIT_WEIGHT = 9.81
 
 
+#: a rectangle longer than this many widths is a strip (docs/methods.md §1)
+STRIP_RATIO = 4.0
+#: a footing at least this wide (its shorter side), or any polygon outline, is a raft
+#: unless the footings file says otherwise (common practice: column pads are seldom
+#: wider than about 5 m)
+RAFT_WIDTH = 6.0
+
+
+def foundation_kind(footing: Footing) -> str:
+    """The kind of a footing: ``"pad"``, ``"strip"`` or ``"raft"``.
+
+    The ``kind`` the footings file gives; otherwise a rectangle longer than
+    :data:`STRIP_RATIO` widths is a strip, a polygon outline or a footing at least
+    :data:`RAFT_WIDTH` wide is a raft, and anything else a pad.
+
+    Examples
+    --------
+    >>> from dataclasses import replace
+    >>> pad = Footing("F1", np.zeros((4, 2)), "rectangle", 0, 0, 2.0, 2.5, 0, 1, 500)
+    >>> foundation_kind(pad), foundation_kind(replace(pad, length=12.0))
+    ('pad', 'strip')
+    >>> foundation_kind(replace(pad, width=8.0, length=8.0))
+    'raft'
+    """
+    if footing.kind:
+        return footing.kind
+    if footing.shape == "rectangle" and footing.length > STRIP_RATIO * footing.width:
+        return "strip"
+    if footing.shape == "polygon" or footing.width >= RAFT_WIDTH:
+        return "raft"
+    return "pad"
+
+
 @dataclass(frozen=True)
 class Footing:
     """One shallow footing.
@@ -64,6 +97,9 @@ class Footing:
     fill_unit_weight : float
         Average unit weight γ_f of footing and backfill above the base [kN/m³];
         0 means the loads already include them.
+    kind : str
+        ``"pad"``, ``"strip"`` or ``"raft"``; empty: inferred by
+        :func:`foundation_kind`.
     """
 
     id: str
@@ -80,6 +116,7 @@ class Footing:
     sustained_live_fraction: float = 0.0
     rigid: bool = True
     fill_unit_weight: float = DEFAULT_FILL_UNIT_WEIGHT
+    kind: str = ""
 
     @property
     def area(self) -> float:
@@ -249,8 +286,9 @@ class CheckSettings:
     #: user-listed pairs (a, b) and structure lines (ordered ids)
     listed_pairs: tuple[tuple[str, str], ...] = ()
     structure_lines: tuple[tuple[str, ...], ...] = ()
-    #: remove the building's rigid-body tilt before computing angular distortion
-    remove_tilt: bool = False
+    #: the building's rigid-body tilt in β: "both" (the larger of kept and removed
+    #: governs), "kept" or "removed"
+    rigid_tilt: str = "both"
 
 
 @dataclass(frozen=True)

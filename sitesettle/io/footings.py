@@ -17,6 +17,7 @@ from dataclasses import dataclass
 from sitesettle.errors import InputError, InputWarning
 from sitesettle.io import files, geometry
 from sitesettle.io.tables import Row, Table, parse_csv, read_text, table_from_frame
+from sitesettle.options import FoundationKind
 from sitesettle.site import DEFAULT_FILL_UNIT_WEIGHT, Footing
 
 #: attribute columns of a footing and their dimension ("text"/"flag": no unit)
@@ -30,6 +31,7 @@ ATTRIBUTE_COLUMNS: dict[str, str] = {
     "sustained_live_fraction": "dimensionless",
     "rigid": "flag",
     "fill_unit_weight": "unit_weight",
+    "kind": "text",
 }
 #: geometry columns of a CSV footing table
 GEOMETRY_COLUMNS: dict[str, str] = {
@@ -179,6 +181,9 @@ def _attributes(table: Table, row: Row, shape: dict, defaults: FootingDefaults) 
             f"a unit weight ≤ {MAX_FILL_UNIT_WEIGHT:g} kN/m³ (check the unit)",
         )
     rigid = table.flag(row, "rigid", defaults.rigid)
+    kind = ""
+    if table.has(row, "kind"):
+        kind = FoundationKind.parse(table.text(row, "kind"), table.where(row, "kind")).value
     pressure = (dead + live) / area
     if pressure > MAX_PRESSURE:
         raise InputError(
@@ -209,6 +214,7 @@ def _attributes(table: Table, row: Row, shape: dict, defaults: FootingDefaults) 
         sustained_live_fraction=fraction,
         rigid=rigid,
         fill_unit_weight=fill,
+        kind=kind,
     )
 
 

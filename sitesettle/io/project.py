@@ -29,6 +29,7 @@ from sitesettle.options import (
     DepthRule,
     EndOfPrimary,
     GranularMethod,
+    RigidTilt,
     ShapeInterpolation,
 )
 from sitesettle.site import AnalysisSettings, CheckSettings, QueryPoint, Site
@@ -87,6 +88,7 @@ TABLES: dict[str, tuple[str, ...]] = {
         "pairs",
         "pairs_file",
         "structure_lines_file",
+        "rigid_tilt",
         "remove_tilt",
     ),
 }
@@ -369,8 +371,17 @@ def parse_checks(table: dict, where: str = f"{SITE_FILE} [checks]") -> CheckSett
         kw["checked_after"] = t
     if "pairs" in table:
         kw["pairs"] = PairRule.parse(table["pairs"], f"{where}, key 'pairs'").value
-    if "remove_tilt" in table:
-        kw["remove_tilt"] = parse_flag(table["remove_tilt"], f"{where}, key 'remove_tilt'")
+    if "rigid_tilt" in table and "remove_tilt" in table:
+        raise InputError(
+            f"{where}, key 'remove_tilt'",
+            "both rigid_tilt and remove_tilt are given",
+            'rigid_tilt alone ("both", "kept" or "removed")',
+        )
+    if "rigid_tilt" in table:
+        kw["rigid_tilt"] = RigidTilt.parse(table["rigid_tilt"], f"{where}, key 'rigid_tilt'").value
+    if "remove_tilt" in table:  # the earlier flag: true = "removed", false = "kept"
+        flag = parse_flag(table["remove_tilt"], f"{where}, key 'remove_tilt'")
+        kw["rigid_tilt"] = (RigidTilt.REMOVED if flag else RigidTilt.KEPT).value
     return CheckSettings(**kw)
 
 

@@ -8,6 +8,11 @@ from sitesettle.results import Results
 
 #: how many of the worst footings and pairs the summary lists
 SHOWN = 5
+_TILT_BASIS = {
+    "both": "kept and removed (the larger governs)",
+    "kept": "kept",
+    "removed": "removed",
+}
 
 
 def ratio_text(ratio: float) -> str:
@@ -38,6 +43,18 @@ def format_summary(results: Results, summary: dict, units: str = "si") -> str:
                 else ""
             )
         )
+        out.append(f"β checked with the building's rigid-body tilt {_TILT_BASIS[chk.rigid_tilt]}")
+    beyond = chk.beyond_range if chk is not None else ()
+    if beyond:
+        out.append("")
+        out.append(
+            f"OUTSIDE THE METHODS' RANGE — bearing failure likely at {len(beyond)} footing(s) "
+            "(settlement on loading > 0.1 B); the settlements below are not meaningful there:"
+        )
+        for i in beyond[:SHOWN]:
+            out.append(f"  {ids[i]:<12} {chk.footing_reasons[i].split(';')[0]}")
+        if len(beyond) > SHOWN:
+            out.append(f"  … and {len(beyond) - SHOWN} more (footings.csv, status)")
     out.append("")
     out.append(f"Largest total settlements ({unit}):")
     for i in np.argsort(-total, kind="stable")[:SHOWN]:
@@ -67,10 +84,21 @@ def format_summary(results: Results, summary: dict, units: str = "si") -> str:
     else:
         nff = int(np.count_nonzero(~np.asarray(chk.footing_passed, bool)))
         nfp = int(np.count_nonzero(~np.asarray(chk.pairs.passed, bool)))
+        if np.isfinite(chk.building_tilt_limit):
+            out.append(
+                f"building tilt {ratio_text(chk.building_tilt)} against "
+                f"{ratio_text(chk.building_tilt_limit)} ({chk.building_tilt_source}): "
+                + ("pass" if chk.building_tilt_passed else "FAIL")
+            )
         verdict = (
             "PASS — every check passes"
             if chk.all_passed
             else (f"FAIL — {nff} footing(s) and {nfp} pair(s) exceed their limits")
         )
+        if beyond:
+            verdict = (
+                f"OUTSIDE THE METHODS' RANGE at {len(beyond)} footing(s) (bearing failure "
+                f"likely); {verdict}"
+            )
         out.append(verdict)
     return "\n".join(out)
