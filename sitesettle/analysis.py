@@ -97,6 +97,15 @@ def footing_loads(
     return loads, load_of
 
 
+def area_loads(loads) -> stress.Loads:
+    """Stress-engine loads of the site's area loads (uniform polygons, in order)."""
+    return stress.Loads.polygons(
+        [np.asarray(a.outline, float) for a in loads],
+        np.array([a.pressure for a in loads], float),
+        np.array([a.depth for a in loads], float),
+    )
+
+
 def net_pressures(site: Site, ground: Ground) -> tuple[np.ndarray, np.ndarray, list[str]]:
     """Net base pressure of every footing, full service and sustained [kPa].
 
@@ -142,14 +151,16 @@ class Context:
 
     @property
     def total_load(self) -> float:
-        """Σ |q|·A over the footings [kN] (for the depth bound)."""
+        """Σ |q|·A over the footings and area loads [kN] (for the depth bound)."""
         areas = np.array([f.area for f in self.site.footings])
-        return float(np.sum(np.abs(self.q_full) * areas))
+        extra = sum(abs(a.pressure) * a.area for a in self.site.area_loads)
+        return float(np.sum(np.abs(self.q_full) * areas) + extra)
 
     @property
     def load_depth(self) -> float:
         """Depth of the deepest load plane [m]."""
-        return float(max((f.depth for f in self.site.footings), default=0.0))
+        depths = [f.depth for f in self.site.footings] + [a.depth for a in self.site.area_loads]
+        return float(max(depths, default=0.0))
 
 
 def prepare(site: Site) -> Context:
@@ -162,6 +173,10 @@ def prepare(site: Site) -> Context:
     q_full, q_sust, warnings = net_pressures(site, ground)
     loads_full, load_of = footing_loads(site.footings, q_full)
     loads_sust = loads_full.with_pressure(q_sust[np.argsort(load_of)])
+    if site.area_loads:  # after the footings' loads: load_of is unchanged
+        area = area_loads(site.area_loads)
+        loads_full = stress.Loads.concat(loads_full, area)
+        loads_sust = stress.Loads.concat(loads_sust, area)  # permanent: sustained in full
     return Context(
         site, ground, times, life, q_full, q_sust, loads_full, loads_sust, load_of, warnings
     )
@@ -259,7 +274,9 @@ def integrate(
     if math.isfinite(st.max_depth_widths):
         user_cap = np.minimum(user_cap, pts.base + st.max_depth_widths * pts.scale)
     stop = np.minimum(np.minimum(rigid, user_cap), colmod.MAX_INTEGRATION_DEPTH)
-    planes = np.unique([f.depth for f in site.footings])[:MAX_LOAD_PLANES]
+    planes = np.unique(
+        [f.depth for f in site.footings] + [a.depth for a in site.area_loads]
+    )[:MAX_LOAD_PLANES]
     reach = np.maximum(colmod.FIRST_REACH_WIDTHS * pts.scale, colmod.FIRST_REACH_METRES)
     z_from = pts.base.copy()
     z_to = np.minimum(stop, pts.base + reach)

@@ -306,6 +306,41 @@ class QueryPoint:
 
 
 @dataclass(frozen=True)
+class AreaLoad:
+    """A uniform load on a plan area that is not a footing: site fill, a slab, a stockpile.
+
+    It adds stress to every footing, map and query point through the same engine as
+    the footings' loads, is permanent (sustained) and applied at time 0, and is not
+    checked as a footing.
+
+    Attributes
+    ----------
+    name : str
+        Unique name (``"site fill"``).
+    outline : numpy.ndarray
+        (n, 2) plan vertices [m], counter-clockwise, not closed.
+    pressure : float
+        Uniform pressure on the area [kPa] (> 0).
+    depth : float
+        Depth of the loaded plane below ground [m] (0: the ground surface).
+    description : str
+        How the pressure was given (``"1.2 m of fill at 19 kN/m³"``).
+    """
+
+    name: str
+    outline: np.ndarray
+    pressure: float
+    depth: float = 0.0
+    description: str = ""
+
+    @property
+    def area(self) -> float:
+        """Plan area [m²]."""
+        x, y = self.outline[:, 0], self.outline[:, 1]
+        return 0.5 * abs(float(np.dot(x, np.roll(y, -1)) - np.dot(y, np.roll(x, -1))))
+
+
+@dataclass(frozen=True)
 class Site:
     """Everything the analysis needs, in core units."""
 
@@ -328,6 +363,8 @@ class Site:
     points: tuple[QueryPoint, ...] = ()
     #: input files read from outside the project folder (resolved paths)
     outside_files: tuple[str, ...] = ()
+    #: uniform loads on plan areas that are not footings (fill, slabs, stockpiles)
+    area_loads: tuple[AreaLoad, ...] = ()
 
     def stratum(self, name: str) -> Stratum:
         """The stratum called ``name`` (KeyError listing the names otherwise)."""

@@ -240,11 +240,7 @@ def pair_table(results: Results, units: str = "si") -> pd.DataFrame:
     if results.checks is None or len(results.checks.pairs.a) == 0:
         return pd.DataFrame(
             {
-                c: pd.Series(
-                    dtype=float
-                    if c in (span, diff, *ratios, "utilisation")
-                    else object
-                )
+                c: pd.Series(dtype=float if c in (span, diff, *ratios, "utilisation") else object)
                 for c in cols
             }
         )
@@ -419,6 +415,16 @@ def summary_dict(results: Results, units: str = "si") -> dict:
             ),
             "footing_limit_source": checks.footing_limit_source,
             "beyond_range_footings": [ids[i] for i in checks.beyond_range],
+            "area_loads": [
+                {
+                    "name": a.name,
+                    "pressure_kPa": a.pressure,
+                    "depth_m": a.depth,
+                    "area_m2": round(a.area, 3),
+                    "description": a.description,
+                }
+                for a in results.site.area_loads
+            ],
             "rigid_tilt": checks.rigid_tilt,
             "building_tilt_limit": _round(checks.building_tilt_limit, None)
             if np.isfinite(checks.building_tilt_limit)

@@ -13,6 +13,8 @@ import re
 import tomllib
 import warnings
 
+import numpy as np
+
 from sitesettle import units
 from sitesettle.criteria import CRITERIA, MEASURES
 from sitesettle.errors import InputError, InputWarning
@@ -21,7 +23,7 @@ from sitesettle.io.footings import MAX_FILL_UNIT_WEIGHT, FootingDefaults, read_f
 from sitesettle.io.investigation import read_boreholes, read_soundings
 from sitesettle.io.strata import check_requirements, parse_strata
 from sitesettle.io.tables import Table, parse_csv, parse_flag, read_text, suggest
-from sitesettle.io.text import free_text, terminal_line
+from sitesettle.io.text import free_text, identifier, terminal_line
 from sitesettle.options import (
     Behaviour,
     Choice,
@@ -60,6 +62,7 @@ TABLES: dict[str, tuple[str, ...]] = {
     "soundings": ("file",),
     "points": ("file",),
     "strata": (),
+    "area_loads": (),
     "analysis": (
         "granular_method",
         "shape_interpolation",
@@ -160,7 +163,7 @@ def parse_toml(text: str, source: str = SITE_FILE) -> dict:
                 "unknown table or key at the top level" + suggest(name, TABLES),
                 f"one of the tables {', '.join(TABLES)}",
             )
-        if name == "strata":
+        if name in ("strata", "area_loads"):
             continue
         if not isinstance(value, dict):
             raise InputError(
@@ -297,7 +300,7 @@ def parse_limit(value: object, where: str, unit: str = "-", measure: str | None 
         raise InputError(
             where,
             f"the limit {text} has no unit",
-            f'a limit with its unit or as a ratio, such as {example}'
+            f"a limit with its unit or as a ratio, such as {example}"
             + (" (a bare number would be read in metres)" if unit == "m" else ""),
         )
     if unit == "m":
@@ -672,6 +675,7 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
 
     _check_base_depths(footings, boreholes, strata, f"{source} [footings]")
 
+    area = parse_area_loads(config.get("area_loads"), footings, source)
     ids = [f.id for f in footings]
     qpath = _file(folder, config.get("points", {}), "file", f"{source} [points]", required=False)
     points = parse_points(read_text(qpath, "points file"), ids, qpath.name) if qpath else ()
@@ -719,6 +723,7 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
         info=info,
         points=points,
         outside_files=tuple(outside),
+        area_loads=area,
     )
 
 
@@ -813,6 +818,160 @@ def read_site_toml(path: pathlib.Path) -> dict:
     """Read and parse a site.toml file (syntax and key names checked)."""
     path = pathlib.Path(path)
     return parse_toml(read_text(path, "project file"), path.name)
+
+
+#: keys of an [[area_loads]] table
+AREA_LOAD_KEYS = (
+    "name",
+    "pressure",
+    "fill_thickness",
+    "fill_unit_weight",
+    "depth",
+    "polygon",
+    "extent",
+)
+_EXTENT = re.compile(r"^\s*plan\s*(?:\+\s*(?P<margin>.+?))?\s*$", re.I)
+
+
+def parse_area_loads(tables, footings, where: str = SITE_FILE):
+    """The ``[[area_loads]]`` tables as :class:`sitesettle.site.AreaLoad` values.
+
+    Each has a ``name``; a ``pressure``, or a ``fill_thickness`` and
+    ``fill_unit_weight`` (pressure = thickness × unit weight); an optional ``depth``
+    of the loaded plane below ground (default 0); and its area as a ``polygon``
+    (a list of [x, y] in the project's coordinates) or an ``extent`` of
+    ``"plan"`` or ``"plan + 20 m"``: the rectangle around every footing, widened by
+    the margin on every side (a fill over the whole site).
+    """
+    from sitesettle.site import AreaLoad
+
+    if tables is None:
+        return ()
+    if not isinstance(tables, list):
+        raise InputError(
+            f"{where} area_loads", "area loads must be [[area_loads]] tables", "[[area_loads]]"
+        )
+    out, names = [], set()
+    for n, t in enumerate(tables, start=1):
+        place = f"{where} [[area_loads]] {n}"
+        if not isinstance(t, dict):
+            raise InputError(place, "not a table", "[[area_loads]] followed by its keys")
+        for key in t:
+            if key not in AREA_LOAD_KEYS:
+                raise InputError(
+                    f"{place}, key {key!r}",
+                    "unknown key" + suggest(str(key), AREA_LOAD_KEYS),
+                    f"one of {', '.join(AREA_LOAD_KEYS)}",
+                )
+        if not str(t.get("name", "")).strip():
+            raise InputError(place, 'the key "name" is missing', 'name = "site fill"')
+        name = identifier(str(t["name"]).strip(), f"{place}, key 'name'", "area load name")
+        place = f'{where} [[area_loads]] {n} ("{name}")'
+        if name in names:
+            raise InputError(place, f'the name "{name}" is used twice', "a unique name")
+        names.add(name)
+        given_p = "pressure" in t
+        given_f = "fill_thickness" in t or "fill_unit_weight" in t
+        if given_p == given_f:
+            raise InputError(
+                place,
+                "give either a pressure or a fill (thickness and unit weight)",
+                'pressure = "15 kPa", or fill_thickness = "1 m" and fill_unit_weight = "19 kN/m^3"',
+            )
+        if given_p:
+            q = units.parse(t["pressure"], "pressure", f"{place}, key 'pressure'")
+            text = f"{q:g} kPa"
+        else:
+            for key in ("fill_thickness", "fill_unit_weight"):
+                if key not in t:
+                    raise InputError(
+                        f"{place}, key {key!r}", "the key is missing", "both fill keys"
+                    )
+            h = units.parse(t["fill_thickness"], "length", f"{place}, key 'fill_thickness'")
+            g = units.parse(
+                t["fill_unit_weight"], "unit_weight", f"{place}, key 'fill_unit_weight'"
+            )
+            if not (0 < h <= 30):
+                raise InputError(
+                    f"{place}, key 'fill_thickness'", f"{h:g} m", "a thickness in (0, 30] m"
+                )
+            if not (5 <= g <= 30):
+                raise InputError(
+                    f"{place}, key 'fill_unit_weight'",
+                    f"{g:g} kN/m³ is outside the plausible 5–30 kN/m³",
+                    "the unit weight of the fill (common practice: 16–22 kN/m³)",
+                )
+            q = h * g
+            text = f"{h:g} m of fill at {g:g} kN/m³ = {q:g} kPa"
+        if q <= 0:
+            raise InputError(
+                f"{place}, key 'pressure'",
+                f"{q:g} kPa is not a load: unloading (an excavation) is not modelled yet",
+                "a pressure > 0",
+            )
+        if q > MAX_AREA_PRESSURE:
+            raise InputError(
+                f"{place}, key 'pressure'",
+                f"{q:g} kPa is beyond any fill, slab or stockpile",
+                f"a pressure ≤ {MAX_AREA_PRESSURE:g} kPa (check the unit)",
+            )
+        depth = _quantity(t, "depth", "length", f"{place}, key 'depth'", 0.0)
+        if not 0 <= depth <= 30:
+            raise InputError(f"{place}, key 'depth'", f"{depth:g} m", "a depth in [0, 30] m")
+        if ("polygon" in t) == ("extent" in t):
+            raise InputError(
+                place,
+                "give either a polygon or an extent",
+                'polygon = [[x1, y1], [x2, y2], [x3, y3], …], or extent = "plan + 20 m"',
+            )
+        if "extent" in t:
+            m = _EXTENT.match(str(t["extent"]))
+            if m is None:
+                raise InputError(
+                    f"{place}, key 'extent'",
+                    f'cannot read "{t["extent"]}"',
+                    '"plan", or "plan + 20 m" (the footings\' extent widened by a margin)',
+                )
+            margin = 0.0
+            if m.group("margin"):
+                margin = units.parse(m.group("margin"), "length", f"{place}, key 'extent'")
+            if not 0 <= margin <= 1000:
+                raise InputError(f"{place}, key 'extent'", f"margin {margin:g} m", "0–1000 m")
+            allxy = np.concatenate([np.asarray(f.outline, float) for f in footings])
+            (x0, y0), (x1, y1) = allxy.min(axis=0) - margin, allxy.max(axis=0) + margin
+            outline = np.array([[x0, y0], [x1, y0], [x1, y1], [x0, y1]])
+            text += f", over the plan + {margin:g} m"
+        else:
+            outline = _polygon(t["polygon"], f"{place}, key 'polygon'")
+        out.append(AreaLoad(name, outline, float(q), float(depth), text))
+    return tuple(out)
+
+
+#: the largest pressure accepted for an area load [kPa]: about 25 m of fill
+MAX_AREA_PRESSURE = 500.0
+
+
+def _polygon(value, where: str) -> np.ndarray:
+    """A list of [x, y] pairs as a simple polygon (n, 2), not closed."""
+    import shapely
+
+    example = "polygon = [[0, 0], [40, 0], [40, 30], [0, 30]] (metres, project coordinates)"
+    try:
+        xy = np.array(value, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(where, "not a list of [x, y] pairs", example) from None
+    if xy.ndim != 2 or xy.shape[1] != 2 or not np.isfinite(xy).all():
+        raise InputError(where, "not a list of [x, y] pairs", example)
+    if len(xy) > 3 and np.allclose(xy[0], xy[-1]):
+        xy = xy[:-1]
+    if len(xy) < 3:
+        raise InputError(where, f"{len(xy)} vertices", f"at least 3: {example}")
+    for v in xy.ravel():
+        geometry.check_coordinate(float(v), where)
+    poly = shapely.Polygon(xy)
+    if not poly.is_valid or poly.area <= 0:
+        raise InputError(where, "the polygon crosses itself or has no area", example)
+    return xy
 
 
 def load_site(folder) -> Site:

@@ -34,6 +34,8 @@ def format_summary(results: Results, summary: dict, units: str = "si") -> str:
         f"{len(ids)} footings, {summary.get('n_pairs', 0)} neighbour pairs, "
         f"design life {life:g} years",
     ]
+    for a in results.site.area_loads:
+        out.append(f"area load {a.name}: {a.description} (sustained, from time 0)")
     if chk is not None:
         out.append(
             f"criteria: {chk.criteria}"
