@@ -20,7 +20,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -106,8 +106,13 @@ def area_loads(loads) -> stress.Loads:
     )
 
 
-def net_pressures(site: Site, ground: Ground) -> tuple[np.ndarray, np.ndarray, list[str]]:
+def net_pressures(
+    site: Site, ground: Ground, *, dead_only: bool = False
+) -> tuple[np.ndarray, np.ndarray, list[str]]:
     """Net base pressure of every footing, full service and sustained [kPa].
+
+    With ``dead_only`` both are of the dead load alone (the state before the live
+    load arrives).
 
     ``q_net = P/A + γ_f·D − σ_v0(D)`` with σ_v0 the total overburden at base level
     under the footing centre (DESIGN §3; γ_f default 20 kN/m³, common practice).
@@ -119,8 +124,8 @@ def net_pressures(site: Site, ground: Ground) -> tuple[np.ndarray, np.ndarray, l
     for f, col in zip(site.footings, cols):
         s0 = float(col.total_stress(np.array([f.depth]))[0])
         extra = f.fill_unit_weight * f.depth - s0
-        qf = f.service_load / f.area + extra
-        qs = f.sustained_load / f.area + extra
+        qf = (f.dead_load if dead_only else f.service_load) / f.area + extra
+        qs = (f.dead_load if dead_only else f.sustained_load) / f.area + extra
         if qf < 0 or qs < 0:
             warn.append(
                 f"footing {f.id}: net pressure {min(qf, qs):.1f} kPa < 0 taken as 0 "
@@ -148,6 +153,11 @@ class Context:
     loads_sust: stress.Loads
     load_of: np.ndarray
     warnings: list[str]
+    #: time the live load arrives [yr] (0: with the dead load); dead-only pressures
+    #: and loads for the state before it (None when the live load arrives at 0)
+    live_start: float = 0.0
+    q_dead: np.ndarray | None = None
+    loads_dead: stress.Loads | None = None
 
     @property
     def total_load(self) -> float:
@@ -167,19 +177,56 @@ def prepare(site: Site) -> Context:
     """Stage 1: ground, report times, net pressures and the stress-engine loads."""
     st = site.analysis
     ground = Ground(site)
-    times = np.unique(np.array([*st.report_times, st.design_life], dtype=float))
+    live_start = live_load_start(site)
+    times = np.unique(np.array([*st.report_times, st.design_life, live_start], dtype=float))
     times = times[times > 0]
     life = int(np.argmin(np.abs(times - st.design_life)))
     q_full, q_sust, warnings = net_pressures(site, ground)
     loads_full, load_of = footing_loads(site.footings, q_full)
-    loads_sust = loads_full.with_pressure(q_sust[np.argsort(load_of)])
+    order = np.argsort(load_of)
+    loads_sust = loads_full.with_pressure(q_sust[order])
+    q_dead = loads_dead = None
+    if live_start > 0:
+        q_dead = net_pressures(site, ground, dead_only=True)[0]
+        loads_dead = loads_full.with_pressure(q_dead[order])
     if site.area_loads:  # after the footings' loads: load_of is unchanged
         area = area_loads(site.area_loads)
         loads_full = stress.Loads.concat(loads_full, area)
         loads_sust = stress.Loads.concat(loads_sust, area)  # permanent: sustained in full
+        if loads_dead is not None:
+            loads_dead = stress.Loads.concat(loads_dead, area)
     return Context(
-        site, ground, times, life, q_full, q_sust, loads_full, loads_sust, load_of, warnings
+        site,
+        ground,
+        times,
+        life,
+        q_full,
+        q_sust,
+        loads_full,
+        loads_sust,
+        load_of,
+        warnings,
+        live_start,
+        q_dead,
+        loads_dead,
     )
+
+
+def live_load_start(site: Site) -> float:
+    """When the live load arrives [yr]: just after ``[checks] checked_after`` by default.
+
+    The dead load (and every area load) is applied at time 0; the live load — the
+    finishes' occupants, stored goods, the part of the load that comes once the
+    building is in use — arrives when the structure is complete, so the movement
+    checked after ``checked_after`` includes its settlement on loading. 0 when there
+    is no live load, nothing is checked after a time, or ``[analysis] live_load_from
+    = "start"``.
+    """
+    t = float(site.checks.checked_after)
+    has_live = any(f.live_load > 0 for f in site.footings)
+    if site.analysis.live_load_from != "checked_after" or t <= 0 or not has_live:
+        return 0.0
+    return t
 
 
 # --------------------------------------------------------------------------- stage 2
@@ -222,6 +269,8 @@ class Integration:
     bound: np.ndarray  # (n_columns,) bound of what lies below [m]
     own_notes: dict[int, list[str]]
     spt_modulus: dict[str, float]
+    #: (n_sub,) the sublayers of the first pass (where the own-load methods apply)
+    first_pass: np.ndarray | None = None
 
 
 def _boundaries(gc: GroundColumns, c: int, planes: np.ndarray) -> np.ndarray:
@@ -274,9 +323,9 @@ def integrate(
     if math.isfinite(st.max_depth_widths):
         user_cap = np.minimum(user_cap, pts.base + st.max_depth_widths * pts.scale)
     stop = np.minimum(np.minimum(rigid, user_cap), colmod.MAX_INTEGRATION_DEPTH)
-    planes = np.unique(
-        [f.depth for f in site.footings] + [a.depth for a in site.area_loads]
-    )[:MAX_LOAD_PLANES]
+    planes = np.unique([f.depth for f in site.footings] + [a.depth for a in site.area_loads])[
+        :MAX_LOAD_PLANES
+    ]
     reach = np.maximum(colmod.FIRST_REACH_WIDTHS * pts.scale, colmod.FIRST_REACH_METRES)
     z_from = pts.base.copy()
     z_to = np.minimum(stop, pts.base + reach)
@@ -382,6 +431,10 @@ def integrate(
     sub = fld.Sublayers.concat(parts) if parts else _empty_sublayers()
     order = np.lexsort((sub.top, sub.col))
     sub = sub.take(order)
+    first_pass = np.zeros(len(sub), dtype=bool)
+    if parts:
+        first_pass[: len(parts[0])] = True
+        first_pass = first_pass[order]
     bottom = np.where(z_to > pts.base, z_to, pts.base)
     bound = np.where(bottom >= rigid - 1e-9, 0.0, bound)
     reason = np.where(
@@ -397,7 +450,7 @@ def integrate(
             ),
         ),
     )
-    return Integration(sub, bottom, reason, bound, own_notes, spt_modulus)
+    return Integration(sub, bottom, reason, bound, own_notes, spt_modulus, first_pass)
 
 
 def _subset(gc: GroundColumns, cols: np.ndarray) -> GroundColumns:
@@ -463,14 +516,14 @@ def _stresses(ctx: Context, sub: fld.Sublayers, tol: float) -> None:
     sub.own_sust = np.where(sub.owner >= 0, sub.own_sz * ratio[np.maximum(sub.owner, 0)], 0.0)
 
 
-def _histories(ctx, sub, tab, gc, *, own_mask=None, total_mask=None) -> fld.History:
+def _histories(ctx, sub, tab, gc, *, own_mask=None, total_mask=None, times=None) -> fld.History:
     """Stage 4 with the site's settings (the one place the engine's histories are asked for)."""
     st = ctx.site.analysis
     return fld.histories(
         sub,
         tab,
         gc,
-        ctx.times,
+        ctx.times if times is None else times,
         end_of_primary=st.end_of_primary,
         r3=st.bb_r3,
         r=st.bb_r,
@@ -480,6 +533,90 @@ def _histories(ctx, sub, tab, gc, *, own_mask=None, total_mask=None) -> fld.Hist
         clay_settlement=str(st.clay_settlement),
         cohesive_immediate=st.cohesive_immediate,
         strip=_strip_sublayers(ctx.site, sub),
+    )
+
+
+def _dead_state(ctx: Context, run: Integration, tab, gc) -> tuple[Context, fld.Sublayers]:
+    """The sublayers' stresses and strains under the dead load (and area loads) alone.
+
+    The same columns and sublayers as the full run; the own-load methods applied on
+    the first pass's sublayers as :func:`integrate` does, with the dead pressures.
+    """
+    st = ctx.site.analysis
+    dctx = replace(
+        ctx,
+        q_full=ctx.q_dead,
+        q_sust=ctx.q_dead,
+        loads_full=ctx.loads_dead,
+        loads_sust=ctx.loads_dead,
+    )
+    d = run.sub.take(np.arange(len(run.sub)))
+    _stresses(dctx, d, st.stress_tolerance)
+    d.sig0 = run.sub.sig0
+    fld.sublayer_strains(
+        d, tab, ctx.ground, run.spt_modulus, cohesive_immediate=st.cohesive_immediate
+    )
+    first = np.flatnonzero(run.first_pass)
+    rest = np.flatnonzero(~run.first_pass)
+    a = d.take(first)
+    fld.own_load_settlement(
+        a,
+        tab,
+        gc,
+        ctx.ground,
+        ctx.site.footings,
+        ctx.q_dead,
+        shape_interpolation=st.shape_interpolation,
+        bb_reading=str(st.bb_pressure),
+    )
+    stale = np.flatnonzero(np.isnan(a.gran_nb) | np.isnan(a.gran_own))
+    fld.granular_field(
+        a,
+        stale[np.isin(a.method[stale], ["", "elastic"]) | np.isnan(a.gran_nb[stale])],
+        tab,
+        ctx.ground,
+        run.spt_modulus,
+    )
+    b = d.take(rest)
+    fld.own_below_reach(b, tab)
+    both = fld.Sublayers.concat([a, b])
+    return dctx, both.take(np.argsort(np.concatenate([first, rest])))
+
+
+#: the parts of a History that change with time (the others are per sublayer)
+_TIMED = ("imm_own", "imm_nb", "creep_own", "creep_nb", "cons_own", "cons_nb", "sec_own", "sec_nb")
+
+
+def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mask=None):
+    """Histories with the live load arriving at ``ctx.live_start``, by superposition.
+
+    H(t) = H_dead(t) + [H_full(t − t_l) − H_dead(t − t_l)] for t > t_l: the dead
+    state from time 0, and the increment from the dead to the full state (its
+    settlement on loading, creep and consolidation, and the secondary compression
+    that goes with it) starting at t_l, each increment from its own start
+    (superposition of load increments, as for staged loading in Terzaghi's theory;
+    exact where the model is linear, and the usual approximation for e–log clay).
+    """
+    t = ctx.times
+    tl = ctx.live_start
+    tau = t - tl
+    later = tau > 0
+    grid = np.concatenate([t, tau[later]])
+    full = _histories(ctx, run.sub, tab, gc, own_mask=own_mask, total_mask=total_mask, times=grid)
+    dctx, dsub = _dead_state(ctx, run, tab, gc)
+    dead = _histories(dctx, dsub, tab, gc, own_mask=own_mask, total_mask=total_mask, times=grid)
+    nt = len(t)
+    out = {}
+    for name in _TIMED:
+        f, d = getattr(full, name), getattr(dead, name)
+        v = d[:, :nt].copy()
+        v[:, later] += f[:, nt:] - d[:, nt:]
+        out[name] = v
+    return fld.History(
+        **out,
+        degree=full.degree[:, :nt],
+        drainage_path=full.drainage_path,
+        drainage_note=full.drainage_note,
     )
 
 
@@ -553,14 +690,14 @@ def analyse(
     significant, own_mask, total_mask = depth_masks(sub, n, st.influence_fraction)
     ratio_rule = st.depth_rule == DepthRule.STRESS_RATIO
     say("settlements", 0.7)
-    hist = _histories(
-        ctx,
-        sub,
-        tab,
-        gc,
-        own_mask=own_mask if ratio_rule else None,
-        total_mask=total_mask if ratio_rule else None,
-    )
+    masks = {
+        "own_mask": own_mask if ratio_rule else None,
+        "total_mask": total_mask if ratio_rule else None,
+    }
+    if ctx.live_start > 0:
+        hist = staged_histories(ctx, run, tab, gc, **masks)
+    else:
+        hist = _histories(ctx, sub, tab, gc, **masks)
     say("assembling", 0.85)
     cols = {
         "imm": per_column(sub, hist.imm_own + hist.imm_nb, n),
@@ -747,9 +884,21 @@ def _basis(site: Site, ctx: Context) -> tuple[str, ...]:
         f"settlements at the design life, {life:g} yr after loading, unless a time is named",
         "loads: the full service load (dead + live) for settlement on loading and in "
         "granular strata; dead + sustained live for consolidation and creep of clay",
-        "all loads applied at time 0",
+        _load_history(site, ctx),
         f"integration depth: {rule}",
     )
+
+
+def _load_history(site: Site, ctx: Context) -> str:
+    """One line that says when each load arrives."""
+    area = " and the area loads" if site.area_loads else ""
+    if ctx.live_start > 0:
+        return (
+            f"load history: dead load{area} at time 0; live load just after "
+            f"{ctx.live_start:g} yr ([checks] checked_after), so the checked movement "
+            "includes its settlement on loading"
+        )
+    return f"load history: all loads{area} applied at time 0"
 
 
 def _map_basis(site: Site, ctx: Context) -> str:

@@ -103,3 +103,10 @@ class FoundationKind(Choice):
     PAD = "pad"  #: an isolated column pad
     STRIP = "strip"  #: a wall strip (an isolated foundation in EN 1997-1 Annex H's sense)
     RAFT = "raft"  #: a raft or mat under several columns or a core
+
+
+class LiveLoadStart(Choice):
+    """When the live load arrives, for the movement the structure feels."""
+
+    CHECKED_AFTER = "checked_after"  #: just after [checks] checked_after (default)
+    START = "start"  #: at time 0 with the dead load

@@ -271,6 +271,9 @@ class AnalysisSettings:
     cohesive_immediate: bool = True
     #: how undrained and consolidation settlement of clay combine (docs/methods.md §4.4)
     clay_settlement: ClaySettlement = ClaySettlement.OEDOMETER
+    #: when the live load arrives: "checked_after" (just after [checks] checked_after,
+    #: so the checked movement includes its immediate part) or "start" (time 0)
+    live_load_from: str = "checked_after"
 
 
 @dataclass(frozen=True)

@@ -31,6 +31,7 @@ from sitesettle.options import (
     DepthRule,
     EndOfPrimary,
     GranularMethod,
+    LiveLoadStart,
     RigidTilt,
     ShapeInterpolation,
 )
@@ -83,6 +84,7 @@ TABLES: dict[str, tuple[str, ...]] = {
         "cohesive_immediate",
         "clay_settlement",
         "burland_burbidge_pressure",
+        "live_load_from",
     ),
     "checks": (
         "criteria",
@@ -245,6 +247,10 @@ def parse_analysis(table: dict, where: str = f"{SITE_FILE} [analysis]") -> Analy
                 'one of "gross_effective", "net"',
             )
         kw["bb_pressure"] = value
+    if "live_load_from" in table:
+        kw["live_load_from"] = LiveLoadStart.parse(
+            table["live_load_from"], f"{where}, key 'live_load_from'"
+        ).value
     if "cohesive_immediate" in table:
         kw["cohesive_immediate"] = parse_flag(
             table["cohesive_immediate"], f"{where}, key 'cohesive_immediate'"
