@@ -29,10 +29,11 @@ from sitesettle import columns as colmod
 from sitesettle import field as fld
 from sitesettle import stress
 from sitesettle.columns import GroundColumns, Points
+from sitesettle.errors import InputError
 from sitesettle.ground import Ground
 from sitesettle.options import DepthRule
 from sitesettle.results import QueryResults, Results, SettlementMap, Trace
-from sitesettle.site import Footing, Site
+from sitesettle.site import Footing, LoadStage, Site
 
 #: a settlement above this fraction of the footing width is commonly taken as
 #: bearing failure (common practice, e.g. the 0.1 B settlement criterion of plate
@@ -106,34 +107,55 @@ def area_loads(loads) -> stress.Loads:
     )
 
 
-def net_pressures(
-    site: Site, ground: Ground, *, dead_only: bool = False
-) -> tuple[np.ndarray, np.ndarray, list[str]]:
-    """Net base pressure of every footing, full service and sustained [kPa].
+def pressure_parts(site: Site, ground: Ground) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Per footing: the dead part of the net pressure (with the fill and the removed
+    overburden), the live pressure and its sustained part [kPa]."""
+    dead, live, sust = [], [], []
+    cols = ground.columns([f.x for f in site.footings], [f.y for f in site.footings])
+    for f, col in zip(site.footings, cols):
+        s0 = float(col.total_stress(np.array([f.depth]))[0])
+        extra = f.fill_unit_weight * f.depth - s0
+        dead.append(f.dead_load / f.area + extra)
+        live.append(f.live_load / f.area)
+        sust.append(f.sustained_live_fraction * f.live_load / f.area)
+    return np.array(dead), np.array(live), np.array(sust)
 
-    With ``dead_only`` both are of the dead load alone (the state before the live
-    load arrives).
+
+def net_pressures(site: Site, ground: Ground) -> tuple[np.ndarray, np.ndarray, list[str]]:
+    """Net base pressure of every footing, full service and sustained [kPa].
 
     ``q_net = P/A + γ_f·D − σ_v0(D)`` with σ_v0 the total overburden at base level
     under the footing centre (DESIGN §3; γ_f default 20 kN/m³, common practice).
     A negative net pressure (an over-excavated footing) is set to 0 with a
     warning: the methods here do not model heave.
     """
-    full, sust, warn = [], [], []
-    cols = ground.columns([f.x for f in site.footings], [f.y for f in site.footings])
-    for f, col in zip(site.footings, cols):
-        s0 = float(col.total_stress(np.array([f.depth]))[0])
-        extra = f.fill_unit_weight * f.depth - s0
-        qf = (f.dead_load if dead_only else f.service_load) / f.area + extra
-        qs = (f.dead_load if dead_only else f.sustained_load) / f.area + extra
-        if qf < 0 or qs < 0:
-            warn.append(
-                f"footing {f.id}: net pressure {min(qf, qs):.1f} kPa < 0 taken as 0 "
-                "(heave is not modelled)"
-            )
-        full.append(max(qf, 0.0))
-        sust.append(max(qs, 0.0))
-    return np.array(full), np.array(sust), warn
+    dead, live, sust = pressure_parts(site, ground)
+    qf, qs = dead + live, dead + sust
+    warn = [
+        f"footing {f.id}: net pressure {min(a, b):.1f} kPa < 0 taken as 0 (heave is not modelled)"
+        for f, a, b in zip(site.footings, qf, qs)
+        if a < 0 or b < 0
+    ]
+    return np.maximum(qf, 0.0), np.maximum(qs, 0.0), warn
+
+
+def load_stages(site: Site) -> tuple[LoadStage, ...]:
+    """The load history: the site's stages, or the default one.
+
+    By default the dead load and every area load arrive at time 0 and the live load
+    just after ``[checks] checked_after`` (:func:`live_load_start`; at time 0 when it
+    is 0).
+    """
+    if site.stages:
+        return site.stages
+    names = tuple(a.name for a in site.area_loads)
+    tl = live_load_start(site)
+    if tl > 0:
+        return (
+            LoadStage("dead load", 0.0, 0.0, dead=1.0, area_loads=names),
+            LoadStage("live load", tl, 0.0, live=1.0),
+        )
+    return (LoadStage("all loads", 0.0, 0.0, dead=1.0, live=1.0, area_loads=names),)
 
 
 # --------------------------------------------------------------------------- stage 1
@@ -153,11 +175,10 @@ class Context:
     loads_sust: stress.Loads
     load_of: np.ndarray
     warnings: list[str]
-    #: time the live load arrives [yr] (0: with the dead load); dead-only pressures
-    #: and loads for the state before it (None when the live load arrives at 0)
-    live_start: float = 0.0
-    q_dead: np.ndarray | None = None
-    loads_dead: stress.Loads | None = None
+    #: the load history (:func:`load_stages`) and, for each stage but the last, the
+    #: loads applied once it is complete: (q_full, q_sust, loads_full, loads_sust)
+    stages: tuple[LoadStage, ...] = ()
+    states: tuple = ()
 
     @property
     def total_load(self) -> float:
@@ -177,24 +198,43 @@ def prepare(site: Site) -> Context:
     """Stage 1: ground, report times, net pressures and the stress-engine loads."""
     st = site.analysis
     ground = Ground(site)
-    live_start = live_load_start(site)
-    times = np.unique(np.array([*st.report_times, st.design_life, live_start], dtype=float))
+    stages = load_stages(site)
+    check_stages(site, stages)
+    marks = [t for stg in stages for t in (stg.start, stg.end)]
+    times = np.unique(np.array([*st.report_times, st.design_life, *marks], dtype=float))
     times = times[times > 0]
     life = int(np.argmin(np.abs(times - st.design_life)))
     q_full, q_sust, warnings = net_pressures(site, ground)
     loads_full, load_of = footing_loads(site.footings, q_full)
     order = np.argsort(load_of)
     loads_sust = loads_full.with_pressure(q_sust[order])
-    q_dead = loads_dead = None
-    if live_start > 0:
-        q_dead = net_pressures(site, ground, dead_only=True)[0]
-        loads_dead = loads_full.with_pressure(q_dead[order])
+    area_p = np.array([a.pressure for a in site.area_loads], float)
     if site.area_loads:  # after the footings' loads: load_of is unchanged
         area = area_loads(site.area_loads)
         loads_full = stress.Loads.concat(loads_full, area)
         loads_sust = stress.Loads.concat(loads_sust, area)  # permanent: sustained in full
-        if loads_dead is not None:
-            loads_dead = stress.Loads.concat(loads_dead, area)
+    states = []
+    if len(stages) > 1:
+        dead, live, sust = pressure_parts(site, ground)
+        cd = np.cumsum([stg.dead for stg in stages])
+        cl = np.cumsum([stg.live for stg in stages])
+        first = {}
+        for k, stg in enumerate(stages):
+            for name in stg.area_loads:
+                first.setdefault(name, k)
+        area_stage = np.array([first.get(a.name, 0) for a in site.area_loads], dtype=int)
+        for k in range(len(stages) - 1):
+            qf = np.maximum(cd[k] * dead + cl[k] * live, 0.0)
+            qs = np.maximum(cd[k] * dead + cl[k] * sust, 0.0)
+            ap = np.where(area_stage <= k, area_p, 0.0)
+            states.append(
+                (
+                    qf,
+                    qs,
+                    loads_full.with_pressure(np.concatenate([qf[order], ap])),
+                    loads_full.with_pressure(np.concatenate([qs[order], ap])),
+                )
+            )
     return Context(
         site,
         ground,
@@ -206,10 +246,41 @@ def prepare(site: Site) -> Context:
         loads_sust,
         load_of,
         warnings,
-        live_start,
-        q_dead,
-        loads_dead,
+        stages,
+        tuple(states),
     )
+
+
+def check_stages(site: Site, stages) -> None:
+    """The stages apply every load exactly once (InputError naming what is wrong)."""
+    where = "site.toml [[stages]]"
+    for name, total, used in (
+        ("dead", sum(stg.dead for stg in stages), True),
+        ("live", sum(stg.live for stg in stages), any(f.live_load > 0 for f in site.footings)),
+    ):
+        if used and abs(total - 1.0) > 1e-6:
+            raise InputError(
+                where,
+                f"the stages apply {total:g} of the {name} load",
+                f"{name} fractions that add up to 1 over the stages",
+            )
+    known = {a.name for a in site.area_loads}
+    seen: set[str] = set()
+    for stg in stages:
+        for name in stg.area_loads:
+            if name not in known:
+                raise InputError(
+                    f"{where} (\"{stg.name}\"), key 'area_loads'",
+                    f'unknown area load "{name}"',
+                    f"one of the [[area_loads]] names: {', '.join(sorted(known)) or 'none'}",
+                )
+            if name in seen:
+                raise InputError(
+                    f"{where} (\"{stg.name}\"), key 'area_loads'",
+                    f'the area load "{name}" is applied twice',
+                    "each area load in one stage",
+                )
+            seen.add(name)
 
 
 def live_load_start(site: Site) -> float:
@@ -536,22 +607,18 @@ def _histories(ctx, sub, tab, gc, *, own_mask=None, total_mask=None, times=None)
     )
 
 
-def _dead_state(ctx: Context, run: Integration, tab, gc) -> tuple[Context, fld.Sublayers]:
-    """The sublayers' stresses and strains under the dead load (and area loads) alone.
+def _state(ctx: Context, run: Integration, tab, gc, state) -> tuple[Context, fld.Sublayers]:
+    """The sublayers' stresses and strains under the loads of one stage's state.
 
-    The same columns and sublayers as the full run; the own-load methods applied on
-    the first pass's sublayers as :func:`integrate` does, with the dead pressures.
+    ``state`` is (q_full, q_sust, loads_full, loads_sust). The same columns and
+    sublayers as the full run; the own-load methods applied on the first pass's
+    sublayers as :func:`integrate` does, with the state's pressures.
     """
     st = ctx.site.analysis
-    dctx = replace(
-        ctx,
-        q_full=ctx.q_dead,
-        q_sust=ctx.q_dead,
-        loads_full=ctx.loads_dead,
-        loads_sust=ctx.loads_dead,
-    )
+    qf, qs, lf, ls = state
+    sctx = replace(ctx, q_full=qf, q_sust=qs, loads_full=lf, loads_sust=ls)
     d = run.sub.take(np.arange(len(run.sub)))
-    _stresses(dctx, d, st.stress_tolerance)
+    _stresses(sctx, d, st.stress_tolerance)
     d.sig0 = run.sub.sig0
     fld.sublayer_strains(
         d, tab, ctx.ground, run.spt_modulus, cohesive_immediate=st.cohesive_immediate
@@ -565,7 +632,7 @@ def _dead_state(ctx: Context, run: Integration, tab, gc) -> tuple[Context, fld.S
         gc,
         ctx.ground,
         ctx.site.footings,
-        ctx.q_dead,
+        qf,
         shape_interpolation=st.shape_interpolation,
         bb_reading=str(st.bb_pressure),
     )
@@ -580,41 +647,111 @@ def _dead_state(ctx: Context, run: Integration, tab, gc) -> tuple[Context, fld.S
     b = d.take(rest)
     fld.own_below_reach(b, tab)
     both = fld.Sublayers.concat([a, b])
-    return dctx, both.take(np.argsort(np.concatenate([first, rest])))
+    return sctx, both.take(np.argsort(np.concatenate([first, rest])))
 
 
 #: the parts of a History that change with time (the others are per sublayer)
 _TIMED = ("imm_own", "imm_nb", "creep_own", "creep_nb", "cons_own", "cons_nb", "sec_own", "sec_nb")
 
 
-def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mask=None):
-    """Histories with the live load arriving at ``ctx.live_start``, by superposition.
+#: Gauss–Legendre nodes over a ramp (the ramp integral of an instant-load history)
+RAMP_NODES = 24
 
-    H(t) = H_dead(t) + [H_full(t − t_l) − H_dead(t − t_l)] for t > t_l: the dead
-    state from time 0, and the increment from the dead to the full state (its
-    settlement on loading, creep and consolidation, and the secondary compression
-    that goes with it) starting at t_l, each increment from its own start
-    (superposition of load increments, as for staged loading in Terzaghi's theory;
-    exact where the model is linear, and the usual approximation for e–log clay).
+
+def ramp_nodes(tau, duration, n: int = RAMP_NODES):
+    """Quadrature of a load applied linearly over ``duration`` from instant-load histories.
+
+    Parameters
+    ----------
+    tau : array_like
+        (n_t,) time since the start of the loading [yr].
+    duration : float
+        Loading period T_c [yr]; 0: applied at once.
+    n : int
+        Gauss–Legendre nodes over the ramp.
+
+    Returns
+    -------
+    time, weight, index : numpy.ndarray
+        H_ramp(τ_q) = Σ weight · H_inst(time) over the nodes with ``index`` = q.
+
+    Notes
+    -----
+    A linear ramp is the sum of infinitesimal instant increments dq = q ds/T_c, each
+    acting from its own start (Duhamel's superposition, the basis of Olson's 1977
+    ramp-loading solution of Terzaghi's equation):
+
+    .. math:: H_{ramp}(\\tau) = \\frac{1}{T_c}\\int_0^{\\min(\\tau, T_c)}
+              H_{inst}(\\tau - s)\\,ds
+
+    integrated here by Gauss–Legendre quadrature (tested against Olson's closed form).
+
+    Examples
+    --------
+    >>> t, w, q = ramp_nodes([2.0], 0.0)
+    >>> t.tolist(), w.tolist(), q.tolist()
+    ([2.0], [1.0], [0])
+    >>> t, w, q = ramp_nodes([0.5, 2.0], 1.0, n=4)
+    >>> [round(float(w[q == k].sum()), 6) for k in (0, 1)]  # load applied so far
+    [0.5, 1.0]
+    """
+    tau = np.asarray(tau, dtype=float)
+    idx = np.flatnonzero(tau > 0)
+    if duration <= 0:
+        return tau[idx], np.ones(len(idx)), idx
+    x, w = np.polynomial.legendre.leggauss(n)
+    span = np.minimum(tau[idx], duration)  # (m,)
+    s = span[:, None] / 2 * (x[None, :] + 1)  # (m, n) times since the start of loading
+    time = tau[idx, None] - s
+    weight = span[:, None] / 2 * w[None, :] / duration
+    return time.ravel(), weight.ravel(), np.repeat(idx, n)
+
+
+def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mask=None):
+    """Histories of the load stages, each increment from its own start, by superposition.
+
+    With H_k the history of every sublayer under the loads of stages 1…k (the last
+    is the full run), stage k starting at t_k and ramped over T_k,
+
+        H(t) = Σ_k R_k[H_k − H_{k−1}](t − t_k)
+
+    where R_k is the ramp integral of :func:`ramp_nodes` (the identity for a load
+    applied at once; H_0 = 0): each increment's settlement on loading, creep,
+    consolidation and the secondary compression that goes with it, from its own
+    start (superposition of load increments, as for staged loading in Terzaghi's
+    theory; exact where the model is linear, and the usual approximation for e–log
+    clay, which it makes exact once every increment is consolidated).
     """
     t = ctx.times
-    tl = ctx.live_start
-    tau = t - tl
-    later = tau > 0
-    grid = np.concatenate([t, tau[later]])
-    full = _histories(ctx, run.sub, tab, gc, own_mask=own_mask, total_mask=total_mask, times=grid)
-    dctx, dsub = _dead_state(ctx, run, tab, gc)
-    dead = _histories(dctx, dsub, tab, gc, own_mask=own_mask, total_mask=total_mask, times=grid)
+    stages = ctx.stages
+    K = len(stages)
+    nodes = [ramp_nodes(t - stg.start, stg.duration) for stg in stages]
+    subs = [_state(ctx, run, tab, gc, state) for state in ctx.states] + [(ctx, run.sub)]
     nt = len(t)
-    out = {}
-    for name in _TIMED:
-        f, d = getattr(full, name), getattr(dead, name)
-        v = d[:, :nt].copy()
-        v[:, later] += f[:, nt:] - d[:, nt:]
-        out[name] = v
+    out = {name: np.zeros((len(run.sub), nt)) for name in _TIMED}
+    full = None
+    for j, (sctx, ssub) in enumerate(subs):
+        # state j enters increment j (+) and increment j + 1 (−)
+        own_t, own_w, own_q = nodes[j]
+        nxt_t, nxt_w, nxt_q = nodes[j + 1] if j + 1 < K else (np.zeros(0),) * 3
+        grid = np.concatenate([own_t, nxt_t, t if j == K - 1 else np.zeros(0)])
+        if not len(grid):
+            continue
+        h = _histories(sctx, ssub, tab, gc, own_mask=own_mask, total_mask=total_mask, times=grid)
+        if j == K - 1:
+            full = h
+        a, b = len(own_t), len(own_t) + len(nxt_t)
+        for name in _TIMED:
+            v = getattr(h, name)
+            acc = out[name]
+            contrib = np.zeros_like(acc)
+            np.add.at(contrib.T, own_q, (v[:, :a] * own_w).T)
+            if b > a:
+                np.add.at(contrib.T, nxt_q.astype(int), -(v[:, a:b] * nxt_w).T)
+            acc += contrib
     return fld.History(
         **out,
-        degree=full.degree[:, :nt],
+        degree=full.degree[:, -nt:],
         drainage_path=full.drainage_path,
         drainage_note=full.drainage_note,
     )
@@ -694,7 +831,7 @@ def analyse(
         "own_mask": own_mask if ratio_rule else None,
         "total_mask": total_mask if ratio_rule else None,
     }
-    if ctx.live_start > 0:
+    if len(ctx.stages) > 1 or ctx.stages[0].start > 0 or ctx.stages[0].duration > 0:
         hist = staged_histories(ctx, run, tab, gc, **masks)
     else:
         hist = _histories(ctx, sub, tab, gc, **masks)
@@ -891,14 +1028,31 @@ def _basis(site: Site, ctx: Context) -> tuple[str, ...]:
 
 def _load_history(site: Site, ctx: Context) -> str:
     """One line that says when each load arrives."""
-    area = " and the area loads" if site.area_loads else ""
-    if ctx.live_start > 0:
-        return (
-            f"load history: dead load{area} at time 0; live load just after "
-            f"{ctx.live_start:g} yr ([checks] checked_after), so the checked movement "
-            "includes its settlement on loading"
+    return "load history: " + describe_stages(ctx.stages, site)
+
+
+def describe_stages(stages, site: Site) -> str:
+    """The stages in words (for the basis lines, the summary and the report)."""
+    parts = []
+    for stg in stages:
+        what = []
+        if stg.dead:
+            what.append("dead load" if stg.dead == 1 else f"{stg.dead:.0%} of the dead load")
+        if stg.live:
+            what.append("live load" if stg.live == 1 else f"{stg.live:.0%} of the live load")
+        what += list(stg.area_loads)
+        when = (
+            "at time 0"
+            if stg.start == 0 and stg.duration == 0
+            else f"just after {stg.start:g} yr"
+            if stg.duration == 0
+            else f"from {stg.start:g} to {stg.end:g} yr (ramp)"
         )
-    return f"load history: all loads{area} applied at time 0"
+        parts.append(f"{stg.name}: {', '.join(what) or 'nothing'} {when}")
+    text = "; ".join(parts)
+    if not site.stages and len(stages) > 1:
+        text += " ([checks] checked_after: the checked movement includes the live load's)"
+    return text
 
 
 def _map_basis(site: Site, ctx: Context) -> str:

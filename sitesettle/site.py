@@ -344,6 +344,38 @@ class AreaLoad:
 
 
 @dataclass(frozen=True)
+class LoadStage:
+    """A construction or use stage: parts of the loads applied over a period.
+
+    Attributes
+    ----------
+    name : str
+        Unique name (``"frame"``, ``"finishes"``, ``"occupancy"``).
+    start : float
+        When the stage starts [yr from time 0].
+    duration : float
+        How long its loads take to arrive [yr]; 0: at once, else a linear ramp.
+    dead, live : float
+        Fractions of every footing's dead and live load the stage applies (over all
+        stages each sums to 1).
+    area_loads : tuple of str
+        Names of the area loads the stage applies (in full).
+    """
+
+    name: str
+    start: float
+    duration: float = 0.0
+    dead: float = 0.0
+    live: float = 0.0
+    area_loads: tuple[str, ...] = ()
+
+    @property
+    def end(self) -> float:
+        """When the stage's loads are all applied [yr]."""
+        return self.start + self.duration
+
+
+@dataclass(frozen=True)
 class Site:
     """Everything the analysis needs, in core units."""
 
@@ -368,6 +400,9 @@ class Site:
     outside_files: tuple[str, ...] = ()
     #: uniform loads on plan areas that are not footings (fill, slabs, stockpiles)
     area_loads: tuple[AreaLoad, ...] = ()
+    #: the load history; empty: the dead load and area loads at time 0, the live load
+    #: just after [checks] checked_after (see sitesettle.analysis.load_stages)
+    stages: tuple[LoadStage, ...] = ()
 
     def stratum(self, name: str) -> Stratum:
         """The stratum called ``name`` (KeyError listing the names otherwise)."""

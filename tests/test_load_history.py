@@ -10,14 +10,30 @@ order of arrival).
 from __future__ import annotations
 
 import dataclasses
+import math
+import pathlib
+import shutil
 
 import numpy as np
 import pytest
 from _sites import ROCK, rect
+from scipy import integrate
 
 from sitesettle.analysis import analyse, live_load_start
+from sitesettle.errors import InputError
+from sitesettle.io.project import load_site
 from sitesettle.options import Behaviour, GranularMethod
-from sitesettle.site import AnalysisSettings, Borehole, CheckSettings, Interval, Site, Stratum
+from sitesettle.site import (
+    AnalysisSettings,
+    Borehole,
+    CheckSettings,
+    Interval,
+    LoadStage,
+    Site,
+    Stratum,
+)
+
+STARTER = pathlib.Path(__file__).resolve().parents[1] / "sitesettle" / "templates" / "starter"
 
 SAND = Stratum(
     "sand", Behaviour.GRANULAR, 18.0, 20.0, 0.3, youngs_modulus=30000.0,
@@ -107,3 +123,135 @@ def test_no_shift_without_live_load_or_checked_after():
     f2 = rect("F", 0.0, 0.0, 2.0, depth=0.0, load=600.0, live=100.0, fill=0.0)
     assert live_load_start(site_of([f2], [SAND, ROCK], [10.0, 5.0], checked_after=0.0)) == 0.0
     np.testing.assert_equal(live_load_start(site_of([f2], [SAND, ROCK], [10.0, 5.0])), 1.0)
+
+
+# --------------------------------------------------------------------------- stages
+
+
+def olson_ramp_degree(tv: float, tc: float) -> float:
+    """Average degree of consolidation under a load ramped over Tv = tc (Olson 1977, from
+    memory; also Duhamel's integral of Terzaghi's U, checked below)."""
+    m = math.pi / 2 * (2 * np.arange(400) + 1)
+    if tv <= tc:
+        return tv / tc * (1 - 2 / tv * float(np.sum((1 - np.exp(-(m**2) * tv)) / m**4)))
+    decay = np.exp(-(m**2) * (tv - tc)) * (1 - np.exp(-(m**2) * tc))
+    return 1 - 2 / tc * float(np.sum(decay / m**4))
+
+
+def test_olson_closed_form_is_duhamels_integral_of_terzaghi():
+    m = math.pi / 2 * (2 * np.arange(2000) + 1)
+
+    def u(tv):
+        return 1 - float(np.sum(2 / m**2 * np.exp(-(m**2) * tv))) if tv > 0 else 0.0
+
+    for tv, tc in ((0.1, 0.2), (0.2, 0.2), (0.6, 0.2)):
+        duhamel = integrate.quad(lambda s, tv=tv: u(tv - s), 0, min(tv, tc), limit=200)[0] / tc
+        assert olson_ramp_degree(tv, tc) == pytest.approx(duhamel, abs=1e-4)
+
+
+def wide_clay_site(stages=(), checked_after=0.0, **kw):
+    # a 1 m clay at 10–11 m under 10 m of stiff sand, on rock: σ'0 within ±5 % across it,
+    # so its settlement degree is the average degree of consolidation; cv = 1 m²/yr,
+    # drained at the top only (H_dr = 1 m: Tv = t in years)
+    clay = Stratum("clay", Behaviour.COHESIVE, 18.0, 18.0, compression_index=0.3,
+                   recompression_index=0.05, void_ratio=1.0, ocr=1.0,
+                   consolidation_coefficient=1.0, secondary_index=0.0)
+    stiff = Stratum("sand", Behaviour.GRANULAR, 18.0, 20.0, 0.3, youngs_modulus=1e8,
+                    method=GranularMethod.ELASTIC)
+    B = 400.0
+    f = rect("R", 0.0, 0.0, B, depth=0.0, load=20.0 * B * B, live=0.0, fill=0.0)
+    site = site_of([f], [stiff, clay, ROCK], [10.0, 1.0, 5.0], checked_after=checked_after,
+                   cohesive_immediate=False, **kw)
+    return dataclasses.replace(site, stages=tuple(stages))
+
+
+def test_ramp_loading_against_olson():
+    # the load ramped over 0.2 yr (Tc = 0.2): at the end of the ramp and after it the
+    # settlement is U(Tv) of Olson (1977) × the final settlement
+    times = (0.1, 0.2, 0.4, 0.6)
+    ramp = wide_clay_site([LoadStage("fill", 0.0, 0.2, dead=1.0)], report_times=times,
+                          design_life=40.0)
+    r = analyse(ramp, with_map=False, with_checks=False)
+    final = r.at_design_life()[0]
+    for tv in times:
+        k = list(r.times).index(tv)
+        assert r.total[0, k] / final == pytest.approx(olson_ramp_degree(tv, 0.2), abs=0.01)
+    # long after the ramp it tends to the instant-load result
+    inst = analyse(wide_clay_site(report_times=times, design_life=40.0), with_map=False,
+                   with_checks=False)
+    assert final == pytest.approx(inst.at_design_life()[0], rel=1e-3)
+
+
+def test_stages_superpose_linearly_on_elastic_ground():
+    # three stages of 50 %, 30 % and 20 % of the dead load at 0, 0.5 and 1 yr on elastic
+    # ground: the settlement after each is that fraction of the full settlement
+    # (linear elasticity), and checked_after = "after finishes" is the end of that stage
+    f = rect("F", 0.0, 0.0, 2.0, depth=0.0, load=600.0, live=150.0, sustained=1.0, fill=0.0)
+    stages = (LoadStage("frame", 0.0, 0.0, dead=0.5), LoadStage("finishes", 0.5, 0.0, dead=0.3),
+              LoadStage("cladding", 1.0, 0.0, dead=0.2), LoadStage("use", 3.0, 0.0, live=1.0))
+    site = dataclasses.replace(site_of([f], [SAND, ROCK], [10.0, 5.0], checked_after=0.0,
+                                       report_times=(0.25, 0.75, 2.0, 5.0)), stages=stages)
+    r = analyse(site, with_map=False, with_checks=False)
+    t = list(r.times)
+    s = r.total[0]
+    full = s[t.index(5.0)]
+    for when, frac in ((0.25, 0.5 * 600 / 750), (0.75, 0.8 * 600 / 750), (2.0, 600 / 750)):
+        assert s[t.index(when)] == pytest.approx(frac * full, rel=1e-9)
+    for mark in (0.5, 1.0, 3.0):  # stage starts are reported
+        assert mark in t
+
+
+def test_stages_from_site_toml(tmp_path):
+    folder = tmp_path / "p"
+    shutil.copytree(STARTER, folder)
+    toml = folder / "site.toml"
+    text = toml.read_text(encoding="utf-8").replace(
+        'checked_after = "0 yr"', 'checked_after = "after finishes"'
+    )
+    text += (
+        '\n[[area_loads]]\nname = "yard fill"\nfill_thickness = "0.4 m"\n'
+        'fill_unit_weight = "19 kN/m^3"\nextent = "plan + 10 m"\n'
+        '\n[[stages]]\nname = "fill"\nstart = "0 months"\nduration = "1 month"\n'
+        'area_loads = ["yard fill"]\n'
+        '\n[[stages]]\nname = "frame"\nstart = "2 months"\nduration = "3 months"\ndead = 0.8\n'
+        '\n[[stages]]\nname = "finishes"\nstart = "5 months"\nduration = "2 months"\ndead = 0.2\n'
+        '\n[[stages]]\nname = "occupancy"\nstart = "8 months"\nlive = 1\n'
+    )
+    toml.write_text(text, encoding="utf-8")
+    site = load_site(folder)
+    assert [s.name for s in site.stages] == ["fill", "frame", "finishes", "occupancy"]
+    assert site.checks.checked_after == pytest.approx(7 / 12)
+    r = analyse(site, with_map=False)
+    assert np.all(np.isfinite(r.total)) and np.all(np.diff(r.total, axis=1) >= -1e-12)
+    assert any("finishes: 20% of the dead load from" in b for b in r.basis)
+
+
+@pytest.mark.parametrize(
+    "extra, match",
+    [
+        ('[[stages]]\nname = "a"\nstart = "0 yr"\ndead = 0.5\n', "apply 0.5 of the dead load"),
+        ('[[stages]]\nname = "a"\nstart = "0 yr"\ndead = 1\narea_loads = ["nope"]\n',
+         'unknown area load "nope"'),
+        ('[[stages]]\nname = "a"\nstart = "1 yr"\ndead = 0.5\n[[stages]]\nname = "b"\n'
+         'start = "0 yr"\ndead = 0.5\n', "before the stage above it"),
+        ('[[stages]]\nname = "a"\nstart = "0 yr"\ndead = 1.5\n', "a fraction in"),
+        ('[[stages]]\nname = "a"\ndead = 1\n', "key 'start': the key is missing"),
+    ],
+)
+def test_bad_stages_are_refused(tmp_path, extra, match):
+    folder = tmp_path / "p"
+    shutil.copytree(STARTER, folder)
+    toml = folder / "site.toml"
+    toml.write_text(toml.read_text(encoding="utf-8") + "\n" + extra, encoding="utf-8")
+    with pytest.raises(InputError, match=match):
+        analyse(load_site(folder), with_map=False)
+
+
+def test_checked_after_names_an_unknown_stage(tmp_path):
+    folder = tmp_path / "p"
+    shutil.copytree(STARTER, folder)
+    toml = folder / "site.toml"
+    toml.write_text(toml.read_text(encoding="utf-8").replace(
+        'checked_after = "0 yr"', 'checked_after = "after roofing"'), encoding="utf-8")
+    with pytest.raises(InputError, match='no stage called "roofing"'):
+        load_site(folder)

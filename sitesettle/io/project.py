@@ -12,6 +12,7 @@ import pathlib
 import re
 import tomllib
 import warnings
+from dataclasses import replace
 
 import numpy as np
 
@@ -64,6 +65,7 @@ TABLES: dict[str, tuple[str, ...]] = {
     "points": ("file",),
     "strata": (),
     "area_loads": (),
+    "stages": (),
     "analysis": (
         "granular_method",
         "shape_interpolation",
@@ -165,7 +167,7 @@ def parse_toml(text: str, source: str = SITE_FILE) -> dict:
                 "unknown table or key at the top level" + suggest(name, TABLES),
                 f"one of the tables {', '.join(TABLES)}",
             )
-        if name in ("strata", "area_loads"):
+        if name in ("strata", "area_loads", "stages"):
             continue
         if not isinstance(value, dict):
             raise InputError(
@@ -373,7 +375,10 @@ def parse_checks(table: dict, where: str = f"{SITE_FILE} [checks]") -> CheckSett
             str(k): parse_limit(v, f"{where}, overrides key {k!r}", MEASURES[k], str(k))
             for k, v in ov.items()
         }
-    if "checked_after" in table:
+    after = table.get("checked_after")
+    if isinstance(after, str) and after.strip().lower().startswith("after "):
+        pass  # the end of a stage: resolved by load_site once the stages are read
+    elif "checked_after" in table:
         t = units.parse(table["checked_after"], "time", f"{where}, key 'checked_after'")
         if t < 0:
             raise InputError(f"{where}, key 'checked_after'", f"{t:g} yr is negative", "a time ≥ 0")
@@ -682,6 +687,18 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
     _check_base_depths(footings, boreholes, strata, f"{source} [footings]")
 
     area = parse_area_loads(config.get("area_loads"), footings, source)
+    stages = parse_stages(config.get("stages"), [a.name for a in area], source)
+    after = config.get("checks", {}).get("checked_after")
+    if isinstance(after, str):
+        t_stage = stage_time(after, stages, f"{source} [checks], key 'checked_after'")
+        if t_stage is not None:
+            if t_stage >= analysis.design_life:
+                raise InputError(
+                    f"{source} [checks], key 'checked_after'",
+                    f'"{after}" is {t_stage:g} yr, not before the design life',
+                    "a stage that ends before the design life",
+                )
+            checks = replace(checks, checked_after=t_stage)
     ids = [f.id for f in footings]
     qpath = _file(folder, config.get("points", {}), "file", f"{source} [points]", required=False)
     points = parse_points(read_text(qpath, "points file"), ids, qpath.name) if qpath else ()
@@ -730,6 +747,7 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
         points=points,
         outside_files=tuple(outside),
         area_loads=area,
+        stages=stages,
     )
 
 
@@ -951,6 +969,104 @@ def parse_area_loads(tables, footings, where: str = SITE_FILE):
             outline = _polygon(t["polygon"], f"{place}, key 'polygon'")
         out.append(AreaLoad(name, outline, float(q), float(depth), text))
     return tuple(out)
+
+
+#: keys of a [[stages]] table
+STAGE_KEYS = ("name", "start", "duration", "dead", "live", "area_loads")
+
+
+def parse_stages(tables, area_names, where: str = SITE_FILE):
+    """The ``[[stages]]`` tables as :class:`sitesettle.site.LoadStage` values, in order.
+
+    Each has a ``name``, a ``start`` (a time), an optional ``duration`` (a linear
+    ramp; default 0), the fractions ``dead`` and ``live`` of every footing's loads it
+    applies (default 0; over the stages each adds up to 1) and the ``area_loads`` it
+    applies (names). Area loads named by no stage arrive with the first stage.
+    """
+    from sitesettle.site import LoadStage
+
+    if tables is None:
+        return ()
+    if not isinstance(tables, list) or not tables:
+        raise InputError(f"{where} stages", "stages must be [[stages]] tables", "[[stages]]")
+    out, names = [], set()
+    for n, t in enumerate(tables, start=1):
+        place = f"{where} [[stages]] {n}"
+        if not isinstance(t, dict):
+            raise InputError(place, "not a table", "[[stages]] followed by its keys")
+        for key in t:
+            if key not in STAGE_KEYS:
+                raise InputError(
+                    f"{place}, key {key!r}",
+                    "unknown key" + suggest(str(key), STAGE_KEYS),
+                    f"one of {', '.join(STAGE_KEYS)}",
+                )
+        if not str(t.get("name", "")).strip():
+            raise InputError(place, 'the key "name" is missing', 'name = "frame"')
+        name = identifier(str(t["name"]).strip(), f"{place}, key 'name'", "stage name")
+        place = f'{where} [[stages]] {n} ("{name}")'
+        if name in names:
+            raise InputError(place, f'the name "{name}" is used twice', "a unique name")
+        names.add(name)
+        if "start" not in t:
+            raise InputError(f"{place}, key 'start'", "the key is missing", 'start = "4 months"')
+        start = units.parse(t["start"], "time", f"{place}, key 'start'")
+        duration = _quantity(t, "duration", "time", f"{place}, key 'duration'", 0.0)
+        for key, v in (("start", start), ("duration", duration)):
+            if not 0 <= v <= MAX_TIME:
+                raise InputError(f"{place}, key {key!r}", f"{v:g} yr", f"0–{MAX_TIME:g} yr")
+        frac = {}
+        for key in ("dead", "live"):
+            v = units.parse(t.get(key, 0.0), "dimensionless", f"{place}, key {key!r}")
+            if not 0 <= v <= 1:
+                raise InputError(f"{place}, key {key!r}", f"{v:g}", "a fraction in [0, 1]")
+            frac[key] = v
+        areas = t.get("area_loads", [])
+        if isinstance(areas, str):
+            areas = [areas]
+        if not isinstance(areas, list):
+            raise InputError(
+                f"{place}, key 'area_loads'", "not a list of names", 'area_loads = ["site fill"]'
+            )
+        for a in areas:
+            if str(a) not in area_names:
+                raise InputError(
+                    f"{place}, key 'area_loads'",
+                    f'unknown area load "{a}"' + suggest(str(a), area_names),
+                    f"one of the [[area_loads]] names: {', '.join(area_names) or 'none'}",
+                )
+        out.append(
+            LoadStage(name, start, duration, frac["dead"], frac["live"], tuple(map(str, areas)))
+        )
+    for a, b in zip(out[:-1], out[1:]):
+        if b.start < a.start:
+            raise InputError(
+                f"{where} [[stages]] (\"{b.name}\"), key 'start'",
+                f"starts at {b.start:g} yr, before the stage above it ({a.start:g} yr)",
+                "stages in the order they start",
+            )
+    named = {n for stg in out for n in stg.area_loads}
+    rest = tuple(n for n in area_names if n not in named)
+    if rest:
+        out[0] = replace(out[0], area_loads=out[0].area_loads + rest)
+    return tuple(out)
+
+
+def stage_time(value: str, stages, where: str) -> float | None:
+    """The end of the stage that ``value`` names (``"after finishes"``), else None."""
+    text = str(value).strip()
+    low = text.lower()
+    if not low.startswith("after "):
+        return None
+    key = low[len("after ") :].strip()
+    for stg in stages:
+        if stg.name.lower() == key:
+            return stg.end
+    raise InputError(
+        where,
+        f'no stage called "{text[6:].strip()}"',
+        f"a time, or after one of the stages: {', '.join(s.name for s in stages) or 'none'}",
+    )
 
 
 #: the largest pressure accepted for an area load [kPa]: about 25 m of fill
