@@ -1033,6 +1033,15 @@ def _load_history(site: Site, ctx: Context) -> str:
 
 def describe_stages(stages, site: Site) -> str:
     """The stages in words (for the basis lines, the summary and the report)."""
+    if not site.stages:  # the default history
+        area = " and the area loads" if site.area_loads else ""
+        if len(stages) > 1:
+            return (
+                f"dead load{area} at time 0; live load just after {stages[1].start:g} yr "
+                "([checks] checked_after), so the checked movement includes its settlement "
+                "on loading"
+            )
+        return f"all loads{area} at time 0"
     parts = []
     for stg in stages:
         what = []
@@ -1049,10 +1058,7 @@ def describe_stages(stages, site: Site) -> str:
             else f"from {stg.start:g} to {stg.end:g} yr (ramp)"
         )
         parts.append(f"{stg.name}: {', '.join(what) or 'nothing'} {when}")
-    text = "; ".join(parts)
-    if not site.stages and len(stages) > 1:
-        text += " ([checks] checked_after: the checked movement includes the live load's)"
-    return text
+    return "; ".join(parts)
 
 
 def _map_basis(site: Site, ctx: Context) -> str:

@@ -415,6 +415,17 @@ def summary_dict(results: Results, units: str = "si") -> dict:
             ),
             "footing_limit_source": checks.footing_limit_source,
             "beyond_range_footings": [ids[i] for i in checks.beyond_range],
+            "stages": [
+                {
+                    "name": g.name,
+                    "start_yr": g.start,
+                    "duration_yr": g.duration,
+                    "dead_fraction": g.dead,
+                    "live_fraction": g.live,
+                    "area_loads": list(g.area_loads),
+                }
+                for g in results.site.stages
+            ],
             "area_loads": [
                 {
                     "name": a.name,

@@ -35,7 +35,8 @@ def format_summary(results: Results, summary: dict, units: str = "si") -> str:
         f"design life {life:g} years",
     ]
     for a in results.site.area_loads:
-        out.append(f"area load {a.name}: {a.description} (sustained, from time 0)")
+        out.append(f"area load {a.name}: {a.description}")
+    out.extend(b for b in results.basis if b.startswith("load history:"))
     if chk is not None:
         out.append(
             f"criteria: {chk.criteria}"
