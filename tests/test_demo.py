@@ -65,7 +65,7 @@ def test_failing_pairs_are_on_the_edge_of_the_clay_lens(results):
     xy = {f.id: (f.x, f.y) for f in results.site.footings}
     for pair in failing:  # every failing pair is in the north-east, over the lens
         for fid in pair:  # (D5–E5: the hogging zone of the north wall line, west of it)
-            assert xy[fid][0] > E0 + 20.0 and xy[fid][1] > N0 + 10.0, pair
+            assert xy[fid][0] > E0 + 20.0 and xy[fid][1] > N0 + 5.0, pair
     assert np.mean(pc.passed) > 0.9  # most of the plan passes
     # β with and without the building's tilt: the larger is checked (docs/criteria.md
     # §2.2); at G4–G5 removing the tilt increases β
