@@ -126,17 +126,46 @@ def net_pressures(site: Site, ground: Ground) -> tuple[np.ndarray, np.ndarray, l
 
     ``q_net = P/A + γ_f·D − σ_v0(D)`` with σ_v0 the total overburden at base level
     under the footing centre (DESIGN §3; γ_f default 20 kN/m³, common practice).
-    A negative net pressure (an over-excavated footing) is set to 0 with a
-    warning: the methods here do not model heave.
+    A negative net pressure (a footing lighter than the soil it replaces) unloads
+    the ground: granular strata rebound with the unloading modulus and clay swells
+    on Cr (docs/methods.md §4.7), with a warning that names the footing.
     """
     dead, live, sust = pressure_parts(site, ground)
     qf, qs = dead + live, dead + sust
     warn = [
-        f"footing {f.id}: net pressure {min(a, b):.1f} kPa < 0 taken as 0 (heave is not modelled)"
+        f"footing {f.id}: net pressure {min(a, b):.1f} kPa < 0: it unloads the ground, "
+        f"which rebounds (granular strata with {fld.UNLOADING_MODULUS_RATIO:g} × E, clay "
+        "swelling on Cr)"
         for f, a, b in zip(site.footings, qf, qs)
         if a < 0 or b < 0
     ]
-    return np.maximum(qf, 0.0), np.maximum(qs, 0.0), warn
+    return qf, qs, warn
+
+
+def resolve_excavations(site: Site, ground: Ground) -> Site:
+    """Area loads given as excavations get their pressure: minus the overburden removed.
+
+    An excavation to depth d unloads its base by the total vertical stress σv0(d)
+    there (at the centroid of its outline: water and strata as the boreholes give
+    them), applied at depth d as a negative uniform pressure.
+    """
+    if not any(a.excavation_depth > 0 for a in site.area_loads):
+        return site
+    out = []
+    for a in site.area_loads:
+        if a.excavation_depth > 0:
+            cx, cy = np.asarray(a.outline, float).mean(axis=0)
+            col = ground.columns([cx], [cy])[0]
+            s0 = float(col.total_stress(np.array([a.excavation_depth]))[0])
+            a = replace(
+                a,
+                pressure=-s0,
+                depth=a.excavation_depth,
+                description=f"excavation {a.excavation_depth:g} m deep: {-s0:.1f} kPa "
+                "(the overburden removed)",
+            )
+        out.append(a)
+    return replace(site, area_loads=tuple(out))
 
 
 def load_stages(site: Site) -> tuple[LoadStage, ...]:
@@ -198,6 +227,7 @@ def prepare(site: Site) -> Context:
     """Stage 1: ground, report times, net pressures and the stress-engine loads."""
     st = site.analysis
     ground = Ground(site)
+    site = resolve_excavations(site, ground)
     stages = load_stages(site)
     check_stages(site, stages)
     marks = [t for stg in stages for t in (stg.start, stg.end)]
@@ -818,6 +848,7 @@ def analyse(
     st = site.analysis
     say("net pressures", 0.0)
     ctx = prepare(site)
+    site = ctx.site  # excavations resolved to their pressures
     pts, layout = evaluation_points(site, with_map=with_map)
     gc = GroundColumns.build(ctx.ground, pts.xy)
     tab = fld.Tables.build(gc, str(st.granular_method))

@@ -313,8 +313,9 @@ class AreaLoad:
     """A uniform load on a plan area that is not a footing: site fill, a slab, a stockpile.
 
     It adds stress to every footing, map and query point through the same engine as
-    the footings' loads, is permanent (sustained) and applied at time 0, and is not
-    checked as a footing.
+    the footings' loads, is permanent (sustained), arrives with its stage (time 0 by
+    default) and is not checked as a footing. An excavation is an area load with a
+    negative pressure: the overburden it removes.
 
     Attributes
     ----------
@@ -328,6 +329,9 @@ class AreaLoad:
         Depth of the loaded plane below ground [m] (0: the ground surface).
     description : str
         How the pressure was given (``"1.2 m of fill at 19 kN/m³"``).
+    excavation_depth : float
+        > 0 for an excavation to this depth [m]: it unloads the ground by the
+        overburden removed (the analysis sets ``pressure`` and ``depth`` from it).
     """
 
     name: str
@@ -335,6 +339,7 @@ class AreaLoad:
     pressure: float
     depth: float = 0.0
     description: str = ""
+    excavation_depth: float = 0.0
 
     @property
     def area(self) -> float:

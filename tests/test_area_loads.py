@@ -229,3 +229,80 @@ def test_area_load_from_site_toml_end_to_end(tmp_path):
     assert np.all(filled.at_design_life() > base.at_design_life() + 0.001)
     assert np.all(filled.at_design_life("neighbours") > base.at_design_life("neighbours"))
     assert dataclasses.replace(site, area_loads=()).area_loads == ()
+
+
+# --------------------------------------------------------------------------- unloading
+
+
+def test_excavation_rebound_is_the_negative_of_loading_with_the_unloading_modulus():
+    # elastic sand: at the base of an excavation 2 m deep (40 m square) the rebound equals
+    # minus the settlement under the same pressure as a load, with E_ur = 3 E (linear
+    # elasticity; UNLOADING_MODULUS_RATIO, common practice)
+    from sitesettle.field import UNLOADING_MODULUS_RATIO
+    from sitesettle.site import QueryPoint
+
+    far = rect("F", 500.0, 0.0, 1.0, depth=0.0, load=1.0, fill=0.0)
+    dig = AreaLoad("pit", square(0.0, 0.0, 40.0), math.nan, 0.0, excavation_depth=2.0)
+    p = [QueryPoint("P", 0.0, 0.0, 2.0)]
+    r_dig = analyse(site_of([far], [SAND, ROCK], [30.0, 5.0], area=[dig], points=p),
+                    with_map=False, with_checks=False)
+    (resolved,) = r_dig.site.area_loads
+    # the overburden removed: 2 m of saturated sand at 20 kN/m³ (water at the surface)
+    assert resolved.pressure == pytest.approx(-40.0, rel=1e-9) and resolved.depth == 2.0
+    load = AreaLoad("heap", square(0.0, 0.0, 40.0), 40.0, 2.0)
+    r_load = analyse(site_of([far], [SAND, ROCK], [30.0, 5.0], area=[load], points=p),
+                     with_map=False, with_checks=False)
+    up = r_dig.points.total[0, -1]
+    down = r_load.points.total[0, -1]
+    assert down > 0.01
+    assert up == pytest.approx(-down / UNLOADING_MODULUS_RATIO, rel=1e-6)
+
+
+def test_clay_under_a_wide_excavation_swells_on_cr():
+    # a 1 m excavation (18 kPa removed) over 2 km × 2 km; stiff sand 0–3 m, clay 3–7 m on
+    # rock, water at the surface. After consolidation the clay swells by
+    # ∫ Cr/(1 + e0) log10((σ'0 − 18)/σ'0) dz (e–log swelling line; scipy quad)
+    from sitesettle.site import QueryPoint
+
+    cr, e0 = 0.06, 1.0
+    clay = Stratum("clay", Behaviour.COHESIVE, 18.0, 18.0, compression_index=0.3,
+                   recompression_index=cr, void_ratio=e0, ocr=2.0,
+                   consolidation_coefficient=5.0, secondary_index=0.01)
+    stiff = Stratum("sand", Behaviour.GRANULAR, 18.0, 18.0, 0.3, youngs_modulus=1e9,
+                    method=GranularMethod.ELASTIC)
+    far = rect("F", 3000.0, 0.0, 1.0, depth=0.0, load=1.0, fill=0.0)
+    dig = AreaLoad("basement", square(0.0, 0.0, 2000.0), math.nan, 0.0, excavation_depth=1.0)
+    site = site_of([far], [stiff, clay, ROCK], [3.0, 4.0, 5.0], area=[dig],
+                   points=[QueryPoint("P", 0.0, 0.0, 1.0)], design_life=200.0,
+                   cohesive_immediate=False)
+    r = analyse(site, with_map=False, with_checks=False)
+    gw = 18.0 - GW
+
+    def swell(z):
+        s0 = gw * z
+        return cr / (1 + e0) * math.log10((s0 - 18.0) / s0)
+
+    ref, _ = integrate.quad(swell, 3.0, 7.0)
+    got = r.points.total[0, r.design_life_index]
+    assert ref < -0.003
+    assert got == pytest.approx(ref, rel=0.01)  # no secondary compression on unloading
+
+
+def test_footing_lighter_than_the_soil_it_replaces_rebounds():
+    # a 2 m pad 2 m down with fill_unit_weight 0 and 10 kN: q_net = 10/4 − 2 × 20 = −37.5 kPa
+    # (water at the surface, γsat 20): it rebounds by 1/3 of what +37.5 kPa settles
+    # (E_ur = 3 E, common practice), with a warning that names it
+    from sitesettle.field import UNLOADING_MODULUS_RATIO
+
+    light = rect("L", 0.0, 0.0, 2.0, depth=2.0, load=10.0, fill=0.0)
+    heavy = rect("L", 0.0, 0.0, 2.0, depth=2.0, load=(37.5 + 40.0) * 4.0, fill=0.0)
+    r_l = analyse(site_of([light], [SAND, ROCK], [30.0, 5.0]), with_map=False,
+                  with_checks=False)
+    r_h = analyse(site_of([heavy], [SAND, ROCK], [30.0, 5.0]), with_map=False,
+                  with_checks=False)
+    assert r_l.net_pressure[0] == pytest.approx(-37.5)
+    assert r_l.at_design_life()[0] == pytest.approx(
+        -r_h.at_design_life()[0] / UNLOADING_MODULUS_RATIO, rel=1e-6
+    )
+    assert any("footing L: net pressure -37.5 kPa < 0: it unloads the ground" in w
+               for w in r_l.warnings)

@@ -853,6 +853,7 @@ AREA_LOAD_KEYS = (
     "depth",
     "polygon",
     "extent",
+    "excavation",
 )
 _EXTENT = re.compile(r"^\s*plan\s*(?:\+\s*(?P<margin>.+?))?\s*$", re.I)
 
@@ -896,13 +897,28 @@ def parse_area_loads(tables, footings, where: str = SITE_FILE):
         names.add(name)
         given_p = "pressure" in t
         given_f = "fill_thickness" in t or "fill_unit_weight" in t
-        if given_p == given_f:
+        dig = 0.0
+        if "excavation" in t:
+            dig = units.parse(t["excavation"], "length", f"{place}, key 'excavation'")
+            if not 0 < dig <= 30:
+                raise InputError(
+                    f"{place}, key 'excavation'", f"{dig:g} m", "an excavation depth in (0, 30] m"
+                )
+            if given_p or given_f or "depth" in t:
+                raise InputError(
+                    place,
+                    "an excavation takes no pressure, fill or depth",
+                    'excavation = "3 m" alone (it unloads the overburden it removes)',
+                )
+        elif given_p == given_f:
             raise InputError(
                 place,
                 "give either a pressure or a fill (thickness and unit weight)",
                 'pressure = "15 kPa", or fill_thickness = "1 m" and fill_unit_weight = "19 kN/m^3"',
             )
-        if given_p:
+        if dig > 0:
+            q, text = math.nan, f"excavation {dig:g} m deep"
+        elif given_p:
             q = units.parse(t["pressure"], "pressure", f"{place}, key 'pressure'")
             text = f"{q:g} kPa"
         else:
@@ -930,10 +946,10 @@ def parse_area_loads(tables, footings, where: str = SITE_FILE):
         if q <= 0:
             raise InputError(
                 f"{place}, key 'pressure'",
-                f"{q:g} kPa is not a load: unloading (an excavation) is not modelled yet",
-                "a pressure > 0",
+                f"{q:g} kPa is not a load",
+                'a pressure > 0 (for unloading, an excavation: excavation = "3 m")',
             )
-        if q > MAX_AREA_PRESSURE:
+        if dig == 0 and q > MAX_AREA_PRESSURE:
             raise InputError(
                 f"{place}, key 'pressure'",
                 f"{q:g} kPa is beyond any fill, slab or stockpile",
@@ -967,7 +983,7 @@ def parse_area_loads(tables, footings, where: str = SITE_FILE):
             text += f", over the plan + {margin:g} m"
         else:
             outline = _polygon(t["polygon"], f"{place}, key 'polygon'")
-        out.append(AreaLoad(name, outline, float(q), float(depth), text))
+        out.append(AreaLoad(name, outline, float(q), float(depth), text, float(dig)))
     return tuple(out)
 
 
