@@ -181,8 +181,9 @@ def read_dxf_footings(path: pathlib.Path, layer: str | None) -> list[dict]:
     drawing = _open(path)
     layer = layer or "FOOTINGS"
     msp = drawing.modelspace()
-    names = {lay.dxf.name.lower() for lay in drawing.layers}
-    if layer.lower() not in names:
+    # a layer may be used by entities without an entry in the layer table
+    names = {lay.dxf.name for lay in drawing.layers} | {e.dxf.layer for e in msp}
+    if layer.lower() not in {n.lower() for n in names}:
         raise InputError(
             f"{path.name}, layer {layer!r}",
             "the drawing has no such layer",
