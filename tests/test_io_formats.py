@@ -425,7 +425,7 @@ def test_a_gis_point_with_a_diameter_is_a_circle(tmp_path):
     assert got.shape == "circle" and got.width == 6.0 and (got.x, got.y) == (5.0, 7.0)
     frame = frame.drop(columns=["diameter"])
     frame.to_file(tmp_path / "bare.geojson", driver="GeoJSON")
-    with pytest.raises(InputError, match="point without a diameter"):
+    with pytest.raises(InputError, match="Point without a diameter"):
         read_footings(tmp_path / "bare.geojson")
 
 
@@ -446,11 +446,33 @@ def test_a_buffered_point_is_a_circle_and_a_square_is_not(tmp_path):
 
 
 # ------------------------------------------------------------ whole project
-def test_alternative_demo_loads_from_ags_gef_and_xlsx():
-    folder = DEMO / "alt"
+def _load(folder):
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", InputWarning)
-        site = sitesettle.load_site(folder)
-    csv_site_boreholes = {b.id for b in site.boreholes}
-    assert csv_site_boreholes and site.soundings and site.footings
-    assert {p.suffix for p in folder.iterdir()} >= {".ags", ".gef", ".xlsx", ".toml"}
+        return sitesettle.load_site(folder)
+
+
+def test_alternative_demo_reads_to_the_csv_demo():
+    """demo_site/alt (AGS4, GEF, .xlsx, DXF) holds the CSV demo's data: the same site.
+
+    BH3 was logged in feet; the AGS4 file holds its depths in metres to 2 decimals
+    (AGS4 type 2DP), hence the 5 mm tolerance on depths.
+    """
+    alt, csv = _load(DEMO / "alt"), _load(DEMO)
+    assert {p.suffix for p in (DEMO / "alt").iterdir()} >= {".ags", ".gef", ".xlsx", ".dxf"}
+    _same_footings(
+        sorted(alt.footings, key=lambda f: f.id), sorted(csv.footings, key=lambda f: f.id)
+    )
+    assert [b.id for b in alt.boreholes] == [b.id for b in csv.boreholes]
+    for p, q in zip(alt.boreholes, csv.boreholes):
+        assert (p.x, p.y) == (q.x, q.y)
+        assert p.water_depth == pytest.approx(q.water_depth, abs=5e-3)
+        assert [i.stratum for i in p.intervals] == [i.stratum for i in q.intervals]
+        for i, j in zip(p.intervals, q.intervals):
+            assert (i.top, i.bottom) == pytest.approx((j.top, j.bottom), abs=5e-3)
+            assert i.overrides == j.overrides  # SPT means equal the CSV's N
+    alt_s = {s.id: s for s in alt.soundings}
+    assert set(alt_s) == {s.id for s in csv.soundings}
+    for s in csv.soundings:
+        np.testing.assert_allclose(alt_s[s.id].qc, s.qc, rtol=1e-3)
+        np.testing.assert_allclose(alt_s[s.id].depth, s.depth)

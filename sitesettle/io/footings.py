@@ -347,7 +347,7 @@ def _gis_shape(table: Table, row: Row, geom) -> dict:
         if not table.has(row, "width"):
             raise InputError(
                 where,
-                "the geometry is a point without a diameter",
+                "the geometry is a Point without a diameter",
                 'a polygon outlining the footing, or a point with a "diameter" property '
                 "(a circular footing)",
             )
