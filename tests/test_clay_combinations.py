@@ -40,21 +40,11 @@ def clay(name="clay", **kw):
 
 
 SAND = Stratum(
-    "sand",
-    Behaviour.GRANULAR,
-    18.0,
-    20.0,
-    0.3,
-    youngs_modulus=50000.0,
+    "sand", Behaviour.GRANULAR, 18.0, 20.0, 0.3, youngs_modulus=50000.0,
     method=GranularMethod.ELASTIC,
 )
 GRAVEL = Stratum(
-    "gravel",
-    Behaviour.GRANULAR,
-    20.0,
-    21.0,
-    0.25,
-    youngs_modulus=1e9,
+    "gravel", Behaviour.GRANULAR, 20.0, 21.0, 0.25, youngs_modulus=1e9,
     method=GranularMethod.ELASTIC,
 )
 
@@ -67,50 +57,21 @@ def site_of(footings, strata, thicknesses, **settings):
     bh = Borehole("BH", 0.0, 0.0, tuple(intervals), 0.0)
     base = dict(report_times=(1.0,), design_life=1000.0, stress_tolerance=0.0)
     base.update(settings)
-    return Site(
-        "t",
-        tuple(footings),
-        tuple(strata),
-        (bh,),
-        water_depth=0.0,
-        analysis=AnalysisSettings(**base),
-    )
+    return Site("t", tuple(footings), tuple(strata), (bh,), water_depth=0.0,
+                analysis=AnalysisSettings(**base))
 
 
 def circle(fid, diameter, q):
     a = np.linspace(0, 2 * np.pi, 64, endpoint=False)
     outline = np.column_stack([diameter / 2 * np.cos(a), diameter / 2 * np.sin(a)])
     area = math.pi * diameter**2 / 4
-    return Footing(
-        fid,
-        outline,
-        "circle",
-        0.0,
-        0.0,
-        diameter,
-        diameter,
-        0.0,
-        0.0,
-        q * area,
-        0.0,
-        0.0,
-        False,
-        0.0,
-    )
+    return Footing(fid, outline, "circle", 0.0, 0.0, diameter, diameter, 0.0, 0.0,
+                   q * area, 0.0, 0.0, False, 0.0)
 
 
 def strip(fid, width, q):
-    return rect(
-        fid,
-        0.0,
-        0.0,
-        width,
-        60.0 * width,
-        depth=0.0,
-        load=q * width * 60 * width,
-        rigid=False,
-        fill=0.0,
-    )
+    return rect(fid, 0.0, 0.0, width, 60.0 * width, depth=0.0, load=q * width * 60 * width,
+                rigid=False, fill=0.0)
 
 
 # --------------------------------------------------------------------------- μ
@@ -127,14 +88,9 @@ def test_skempton_bjerrum_mu_against_the_chart(shape, alpha_ref, A):
     base = site_of([f], [cl, ROCK], [B, 5.0], sublayer_fraction=0.02)
     oed = analyse(base, with_map=False, with_checks=False)
     sb = analyse(
-        dataclasses.replace(
-            base,
-            analysis=dataclasses.replace(
-                base.analysis, clay_settlement=ClaySettlement.SKEMPTON_BJERRUM
-            ),
-        ),
-        with_map=False,
-        with_checks=False,
+        dataclasses.replace(base, analysis=dataclasses.replace(
+            base.analysis, clay_settlement=ClaySettlement.SKEMPTON_BJERRUM)),
+        with_map=False, with_checks=False,
     )
     mu = sb.consolidation[0, -1] / oed.consolidation[0, -1]
     assert mu == pytest.approx(A + alpha_ref * (1 - A), abs=0.012)
@@ -181,7 +137,8 @@ def test_secondary_in_recompression_uses_calpha_cr_over_cc():
     q, B, H = 20.0, 400.0, 2.0
     f = rect("R", 0, 0, B, B, depth=0.0, load=q * B * B, fill=0.0)
     cl = clay(ocr=3.0, secondary_index=0.01, drainage="both")
-    site = site_of([f], [SAND, cl, GRAVEL], [10.0, H, 10.0], report_times=(1.0,), design_life=100.0)
+    site = site_of([f], [SAND, cl, GRAVEL], [10.0, H, 10.0], report_times=(1.0,),
+                   design_life=100.0)
     r = analyse(site, with_map=False, with_checks=False)
     tp = 1.129 * (H / 2) ** 2 / 2.0  # U = 95 %, Tv = 1.129 (METHODS §5.3)
     e0, cc, cr, ca = 1.0, 0.3, 0.05, 0.01
@@ -210,13 +167,8 @@ def test_two_clays_in_contact_consolidate_as_one_layer():
     q, B = 50.0, 400.0
     f = rect("R", 0, 0, B, B, depth=0.0, load=q * B * B, fill=0.0)
     t50 = 0.1967 * 2.0**2 / 2.0
-    site = site_of(
-        [f],
-        [SAND, clay("upper"), clay("lower"), GRAVEL],
-        [2.0, 2.0, 2.0, 10.0],
-        report_times=(t50,),
-        design_life=t50,
-    )
+    site = site_of([f], [SAND, clay("upper"), clay("lower"), GRAVEL], [2.0, 2.0, 2.0, 10.0],
+                   report_times=(t50,), design_life=t50)
     r = analyse(site, with_map=False, with_checks=False)
     assert _mean_degree(r, "R") == pytest.approx(0.5, abs=0.005)
     notes = " ".join(r.traces["R"][0].notes)
@@ -228,19 +180,14 @@ def test_a_rigid_base_is_impermeable_unless_the_stratum_says_otherwise():
     q, B = 50.0, 400.0
     f = rect("R", 0, 0, B, B, depth=0.0, load=q * B * B, fill=0.0)
     t50 = 0.1967 * 4.0**2 / 2.0
-    site = site_of([f], [SAND, clay(), ROCK], [2.0, 4.0, 5.0], report_times=(t50,), design_life=t50)
+    site = site_of([f], [SAND, clay(), ROCK], [2.0, 4.0, 5.0], report_times=(t50,),
+                   design_life=t50)
     r = analyse(site, with_map=False, with_checks=False)
     assert _mean_degree(r, "R") == pytest.approx(0.5, abs=0.005)
     assert "impermeable on the rigid stratum below" in " ".join(r.traces["R"][0].notes)
-    both = site_of(
-        [f],
-        [SAND, clay(drainage="both"), ROCK],
-        [2.0, 4.0, 5.0],
-        report_times=(t50,),
-        design_life=t50,
-    )
+    both = site_of([f], [SAND, clay(drainage="both"), ROCK], [2.0, 4.0, 5.0],
+                   report_times=(t50,), design_life=t50)
     r2 = analyse(both, with_map=False, with_checks=False)
     tv = 0.1967 * 4.0  # H_dr = 2 m: Tv four times larger
-    assert _mean_degree(r2, "R") == pytest.approx(
-        float(cons.degree_of_consolidation(tv)), abs=0.005
-    )
+    assert _mean_degree(r2, "R") == pytest.approx(float(cons.degree_of_consolidation(tv)),
+                                                   abs=0.005)

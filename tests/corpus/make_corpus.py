@@ -1149,7 +1149,7 @@ def _(d):
 )
 def _(d):
     (d / "raft.geojson").write_text(
-        '<OGRVRTDataSource><OGRVRTLayer name="raft">'
+        "<OGRVRTDataSource><OGRVRTLayer name=\"raft\">"
         "<SrcDataSource>/vsicurl/http://127.0.0.1:9/raft.geojson</SrcDataSource>"
         "</OGRVRTLayer></OGRVRTDataSource>\n",
         encoding="utf-8",
