@@ -178,15 +178,70 @@ def _(d):
 
 @case(
     "suspicious_modulus",
-    "a bare modulus of 25 (kPa): valid but very soft, check the unit",
+    "a modulus of 300 kPa: plausible (peat) but very soft for sand, check the unit",
     "youngs_modulus",
-    r"25",
+    r"300 kPa is outside the usual range",
     "",
     warning=True,
 )
 def _(d):
-    toml_sub(d, 'youngs_modulus = "8 MPa"', "youngs_modulus = 25")
+    toml_sub(d, 'youngs_modulus = "8 MPa"', 'youngs_modulus = "300 kPa"')
     toml_sub(d, 'map_spacing = "0 m"', 'map_spacing = "3 m"')  # a coarse map: a quick run
+
+
+@case(
+    "implausible_modulus",
+    "a bare modulus of 25 (read as kPa): below any soil, the unit was MPa",
+    "youngs_modulus",
+    r"25 kPa is outside the plausible range .* if the number is in MPa",
+    r"100–5,000,000 kPa",
+)
+def _(d):
+    toml_sub(d, 'youngs_modulus = "8 MPa"', "youngs_modulus = 25")
+
+
+@case(
+    "implausible_unit_weight",
+    "a unit weight of 1800 (a density in kg/m³ written without its unit)",
+    "unit_weight",
+    r"1800 kN/m³ is outside the plausible range .* if the number is in kg/m³",
+    r"8–28 kN/m³",
+)
+def _(d):
+    toml_sub(d, 'unit_weight = "17 kN/m^3"', "unit_weight = 1800")
+
+
+@case(
+    "implausible_qc",
+    "cone resistances in MPa under a header that says kPa",
+    "soundings.csv",
+    r"median cone resistance of sounding \"CPT1\" is .* kPa, outside the plausible",
+    r"qc\[MPa\]",
+)
+def _(d):
+    sub(d, "soundings.csv", "qc [MPa]", "qc [kPa]")
+
+
+@case(
+    "override_bare_number",
+    "a total-settlement override of 75 with no unit (75 m: every footing would pass)",
+    "overrides key 'total'",
+    r"the limit 75 has no unit",
+    r'"40 mm"',
+)
+def _(d):
+    toml_sub(d, '# total = "40 mm"', "total = 75")
+
+
+@case(
+    "override_implausible",
+    "an angular-distortion override of 1/5 (a slope, not a damage limit)",
+    "overrides key 'angular_distortion'",
+    r'the limit "1/5" \(1/5\) is outside the plausible range',
+    r"1/100,000 to 1/10",
+)
+def _(d):
+    toml_sub(d, '# angular_distortion = "1/500"', 'angular_distortion = "1/5"')
 
 
 @case(
@@ -913,7 +968,7 @@ def _(d):
     "≥ 1",
 )
 def _(d):
-    toml_sub(d, "max_depth_widths = 10 ", "max_depth_widths = 0.001 ")
+    toml_sub(d, 'depth_rule = "complete" ', 'depth_rule = "complete"\nmax_depth_widths = 0.001 ')
 
 
 @case(
