@@ -274,6 +274,23 @@ def test_site_dxf_has_one_layer_per_kind(drawing):
     assert doc.header["$INSUNITS"] == 6  # metres (DXF reference: 6 = metres)
 
 
+def test_site_dxf_passes_the_ezdxf_audit_and_us_units_are_feet(drawing, tmp_path):
+    import ezdxf
+    from ezdxf import recover
+
+    results, path, _ = drawing
+    _, auditor = recover.readfile(path)
+    assert not auditor.has_errors and not auditor.has_fixes
+    cad.write_dxf(results, tmp_path / "us.dxf", "us")
+    doc = ezdxf.readfile(tmp_path / "us.dxf")
+    assert doc.header["$INSUNITS"] == 2  # feet (DXF reference: 2 = feet)
+    f = results.site.footings[0]
+    ring = np.array(
+        list(doc.modelspace().query("LWPOLYLINE[layer=='FOOTINGS']")[0].get_points("xy"))
+    )
+    np.testing.assert_allclose(ring, np.asarray(f.outline) / 0.3048)  # NIST SP 811: ft = 0.3048 m
+
+
 def test_site_dxf_pairs_coloured_by_status(drawing):
     results, _, doc = drawing
     pt = output.pair_table(results)

@@ -117,29 +117,32 @@ def write_dxf(results, path: pathlib.Path, units: str = "si") -> None:
 
 
 # ------------------------------------------------------------------- reading
-def check_dxf_content(path: pathlib.Path, what: str = "footings file") -> None:
-    """Raise InputError unless ``path`` is a regular file holding a DXF drawing."""
+def read_dxf_bytes(path: pathlib.Path, what: str = "footings file") -> bytes:
+    """The bytes of a DXF file, read through :func:`sitesettle.io.files.read_bytes` (a
+    regular file, at most 200 MB), checked to be a DXF drawing (text: group code 0 and
+    ``SECTION`` first; or the binary DXF sentinel)."""
     path = pathlib.Path(path)
-    files.check_input_file(path, what)
-    with open(path, "rb") as fh:  # a regular file (checked above)
-        head = fh.read(64)
-    text = head.decode("latin-1").lstrip("\ufeff \t\r\n")
-    if not (head.startswith(_BINARY_DXF) or text.split()[:2] == ["0", "SECTION"]):
+    data = files.read_bytes(path, what)
+    text = data[:64].decode("latin-1").lstrip("\ufeff\xef\xbb\xbf \t\r\n")
+    if not (data.startswith(_BINARY_DXF) or text.split()[:2] == ["0", "SECTION"]):
         raise InputError(
             path.name,
-            "the file is not a DXF drawing (its content does not match its suffix)",
+            f"the {what} is not a DXF drawing (its content does not match its suffix)",
             'a DXF file saved by a CAD program (a text DXF starts with "0 SECTION")',
         )
+    return data
 
 
 def _open(path: pathlib.Path):
+    import io
+
     import ezdxf
     from ezdxf import recover
 
-    check_dxf_content(path)
+    data = read_dxf_bytes(path)
     try:
-        drawing, auditor = recover.readfile(path)
-    except (OSError, ezdxf.DXFStructureError) as exc:
+        drawing, auditor = recover.read(io.BytesIO(data))
+    except (OSError, ezdxf.DXFError, UnicodeDecodeError, ValueError) as exc:
         raise InputError(
             path.name, f"cannot read the file as a DXF drawing ({exc})", "a DXF file"
         ) from None
