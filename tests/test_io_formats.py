@@ -446,6 +446,26 @@ def test_a_gis_point_with_a_diameter_is_a_circle(tmp_path):
         read_footings(tmp_path / "bare.geojson")
 
 
+def test_a_polygon_with_a_diameter_property_is_that_circle(tmp_path):
+    import geopandas as gpd
+    import shapely
+
+    coarse = shapely.Point(2.0, 3.0).buffer(2.0, quad_segs=4)  # a 16-gon, area 3 % short
+    frame = gpd.GeoDataFrame(
+        {"id": ["T1"], "diameter": [4.0], "dead_load": [900.0], "depth": [1.0]},
+        geometry=[coarse],
+        crs="EPSG:32633",
+    )
+    frame.to_file(tmp_path / "t.geojson", driver="GeoJSON")
+    (got,), _ = read_footings(tmp_path / "t.geojson")
+    assert got.shape == "circle" and got.width == 4.0
+    assert (got.x, got.y) == pytest.approx((2.0, 3.0), abs=1e-9)
+    frame.geometry = [shapely.box(0, 1, 4, 5)]  # a 4 m square is 27 % larger than the circle
+    frame.to_file(tmp_path / "sq.geojson", driver="GeoJSON")
+    with pytest.raises(InputError, match="not that of a circle"):
+        read_footings(tmp_path / "sq.geojson")
+
+
 def test_a_buffered_point_is_a_circle_and_a_square_is_not(tmp_path):
     import geopandas as gpd
     import shapely

@@ -47,7 +47,7 @@ _NOT_FAULTS = ("FYI", "Summary of data", "Metadata", "General", "Warning")
 def _unit(text: str) -> str | None:
     """An AGS unit as pint reads it (``kN/m2`` → ``kN/m^2``); None when blank or ``-``."""
     text = str(text or "").strip()
-    if not text or text in ("-", "blows", "N"):
+    if not text or text in ("-", "blows"):
         return None
     return re.sub(r"([A-Za-z])(\d)", r"\1^\2", text)
 
@@ -292,11 +292,11 @@ def boreholes_table(tables: dict, source: str, legend: dict, description: dict) 
             InputWarning,
             stacklevel=3,
         )
-    without = sorted(set(water) - set(runs))
+    without = sorted((set(water) | set(spt)) - set(runs))
     if without:
         warnings.warn(
-            f"{source}: water strikes of location(s) without a GEOL log left out: "
-            + ", ".join(without[:5]),
+            f"{source}: water strikes or SPT tests of location(s) without a GEOL log left "
+            "out: " + ", ".join(without[:5]),
             InputWarning,
             stacklevel=3,
         )

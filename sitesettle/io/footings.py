@@ -337,12 +337,42 @@ def _circle_shape(x: float, y: float, diameter: float) -> dict:
     }
 
 
-def _gis_shape(table: Table, row: Row, geom) -> dict:
+#: a polygon that carries a diameter property must have the area of that circle to
+#: this fraction (a buffered point of 8 segments per quarter is within 0.7 %; a square
+#: with the circle's "diameter" as its side is 27 % larger)
+DIAMETER_AREA_TOLERANCE = 0.1
+
+
+def _gis_shape(table: Table, row: Row, geom, *, diameter: bool = False) -> dict:
     """The shape of a GIS feature: a polygon's footprint, or a true circle from a point
-    with a diameter or a polygon that is a drawn circle (a buffered point)."""
-    from shapely.geometry import Point
+    with a diameter, a polygon with a diameter property, or a polygon that is a drawn
+    circle (a buffered point)."""
+    from shapely.geometry import MultiPolygon, Point, Polygon
 
     where = table.where(row)
+    if (
+        diameter
+        and isinstance(geom, Polygon | MultiPolygon)
+        and not geom.is_empty
+        and table.has(row, "width")
+    ):
+        d = table.quantity(row, "width", "length")
+        if not d > 0:
+            raise InputError(
+                table.where(row, "width"), f"the diameter {d:g} m is not positive", "a diameter > 0"
+            )
+        area = math.pi * d * d / 4.0
+        if not abs(geom.area / area - 1.0) <= DIAMETER_AREA_TOLERANCE:
+            raise InputError(
+                table.where(row, "width"),
+                f"the polygon's area {geom.area:.4g} m² is not that of a circle of diameter "
+                f"{d:g} m ({area:.4g} m²)",
+                f"a round outline within {DIAMETER_AREA_TOLERANCE:.0%} of the circle's area, or "
+                "no diameter property for a footing that is not round",
+            )
+        c = geom.centroid
+        geometry.check_coordinate(max(abs(c.x), abs(c.y)), where)
+        return _circle_shape(float(c.x), float(c.y), d)
     if isinstance(geom, Point) and not geom.is_empty:
         if not table.has(row, "width"):
             raise InputError(
@@ -418,6 +448,7 @@ def parse_footings_frame(
     geoms = list(frame.geometry)
     attrs = frame.drop(columns=[frame.geometry.name])
     table = table_from_frame(attrs, source)
+    diameter = "diameter" in table.columns  # a property saying "this is a circle"
     table.rename(ALIASES)
     ignored = {k: "ignored" for k in GEOMETRY_COLUMNS}  # the geometry decides the shape
     table.check_columns({**ATTRIBUTE_COLUMNS, **ignored, "fid": "ignored"}, strict=False)
@@ -427,7 +458,7 @@ def parse_footings_frame(
         table.require(["depth"])
     footings, labels = [], []
     for row, geom in zip(table.rows, geoms):
-        shape = _gis_shape(table, row, geom)
+        shape = _gis_shape(table, row, geom, diameter=diameter)
         footings.append(_attributes(table, row, shape, defaults))
         labels.append(row.label)
     crs = geometry.crs_text(frame.crs) if frame.crs is not None else None
