@@ -203,6 +203,22 @@ def test_xlsx_messages_give_the_row_the_spreadsheet_shows(tmp_path):
     assert e.value.where.startswith(f'f.xlsx sheet "Sheet1" row {data_at + 1}, column "width')
 
 
+def test_xlsx_rows_keep_their_numbers_after_empty_rows_and_columns(tmp_path):
+    import openpyxl
+
+    book = openpyxl.Workbook()
+    ws = book.active
+    header = ["id", "x [m]", "y [m]", "width [m]", "depth [m]", "dead_load [kN]"]
+    for j, h in enumerate(header):
+        ws.cell(row=4, column=2 + j, value=h)  # header in B4: rows 1-3 and column A empty
+    for j, v in enumerate(["P1", 0.0, 0.0, -1.0, 1.0, 500.0]):
+        ws.cell(row=5, column=2 + j, value=v)
+    book.save(tmp_path / "f.xlsx")
+    with pytest.raises(InputError) as e:
+        read_footings(tmp_path / "f.xlsx", FootingDefaults())
+    assert e.value.where == 'f.xlsx sheet "Sheet" row 5, column "width [m]"'
+
+
 def test_a_merged_header_is_refused_clearly(tmp_path):
     text = (STARTER / "footings.csv").read_text(encoding="utf-8")
     path = csv_to_xlsx(text, tmp_path / "f.xlsx")

@@ -129,7 +129,11 @@ def read_sheet(path: pathlib.Path, sheet: str | None, what: str = "file") -> Tab
 
     table: Table | None = None
     header_row = 0
-    for r, cells in enumerate(values_ws.iter_rows(), start=1):
+    lead = 0  # empty columns left of the table
+    # from A1, so that rows and columns are numbered as the spreadsheet shows them even
+    # when the first rows or columns are empty
+    for cells in values_ws.iter_rows(min_row=1, min_col=1):
+        r = cells[0].row
         vals = []
         for c in cells:
             v = c.value
@@ -150,7 +154,16 @@ def read_sheet(path: pathlib.Path, sheet: str | None, what: str = "file") -> Tab
             vals.append(_cell_value(v))
         if not any(v is not None and v != "" for v in vals):
             continue
-        first = vals[0]
+        if table is None:  # the table may start right of column A
+            lead = next(i for i, v in enumerate(vals) if v is not None and v != "")
+        elif any(v is not None and v != "" for v in vals[:lead]):
+            raise InputError(
+                f"{source} row {r}",
+                "a value left of the header's first column",
+                "the table's cells under its header",
+            )
+        vals = vals[lead:]
+        first = vals[0] if vals else None
         if isinstance(first, str) and first.startswith("#"):
             continue
         if table is None:
@@ -164,7 +177,7 @@ def read_sheet(path: pathlib.Path, sheet: str | None, what: str = "file") -> Tab
                         "one header cell per column (unmerge the cells; put a unit in "
                         'brackets, such as "width [m]")',
                     )
-            blank = [i for i, v in enumerate(vals, start=1) if v is None or v == ""]
+            blank = [i for i, v in enumerate(vals, start=lead + 1) if v is None or v == ""]
             if blank:
                 raise InputError(
                     f"{source} row {r}, column {blank[0]}",
