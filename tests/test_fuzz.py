@@ -337,11 +337,13 @@ def _xlsx_bytes(text: str, merge: str | None) -> bytes:
     import io
 
     import openpyxl
+    from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
 
     book = openpyxl.Workbook()
     ws = book.active
     ws.title = "Footings"
-    for line in text.splitlines():
+    # a workbook cannot hold control characters (openpyxl refuses them): left out
+    for line in ILLEGAL_CHARACTERS_RE.sub("", text).splitlines():
         row = []
         for c in line.split(","):
             c = c.strip()
