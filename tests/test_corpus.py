@@ -38,6 +38,10 @@ FAMILIES = {
     "out_": "the results folder",
     "text_": "ids and names: invisible, control and formula characters, length",
     "file_": "input files that are not what they claim (folders, GDAL virtual files)",
+    "ags_": "AGS4 investigation files: the format's checker, the strata mapping",
+    "gef_": "GEF cone-sounding files",
+    "xlsx_": ".xlsx schedules: merged cells, sheets, cells",
+    "dxf_": "DXF footing plans: open outlines, missing ids",
 }
 
 

@@ -70,6 +70,7 @@ OUTPUT_FILES = (
     "points.csv",
     "summary.json",
     "site.gpkg",
+    "site.dxf",
     "plan.png",
     "contours.png",
     "settlement_time.png",
@@ -874,6 +875,10 @@ def _write_all(
     _write_json(summary_dict(results, units), folder / "summary.json")
     progress("site.gpkg")
     write_geopackage(results, folder / "site.gpkg", units)
+    progress("site.dxf")
+    from sitesettle.io.cad import write_dxf
+
+    write_dxf(results, folder / "site.dxf", units)
     progress("figures")
     figures = make_figures(results, units=units, section=section)
     for name, png in figures.items():

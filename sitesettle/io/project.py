@@ -59,9 +59,17 @@ class PairRule(Choice):
 TABLES: dict[str, tuple[str, ...]] = {
     "project": ("name", "client", "job_number", "engineer", "notes", "output_units", "crs"),
     "groundwater": ("depth",),
-    "footings": ("file", "layer", "depth", "sustained_live_fraction", "rigid", "fill_unit_weight"),
-    "boreholes": ("file",),
-    "soundings": ("file",),
+    "footings": (
+        "file",
+        "layer",
+        "sheet",
+        "depth",
+        "sustained_live_fraction",
+        "rigid",
+        "fill_unit_weight",
+    ),
+    "boreholes": ("file", "sheet", "legend", "description"),
+    "soundings": ("file", "sheet"),
     "points": ("file",),
     "strata": (),
     "area_loads": (),
@@ -531,7 +539,12 @@ def _read_footing_files(folder: pathlib.Path, ftable: dict, where: str, crs, sou
     origin: dict[str, str] = {}
     for name in names:
         fpath = _file(folder, {"file": name}, "file", where, required=True)
-        found, file_crs = read_footings(fpath, defaults, layer=ftable.get("layer"))
+        found, file_crs = read_footings(
+            fpath,
+            defaults,
+            layer=_text_key(ftable, "layer", where),
+            sheet=_text_key(ftable, "sheet", where),
+        )
         if file_crs is not None:
             geometry.check_metric_crs(file_crs, fpath.name)
             if crs is not None and not geometry.same_crs(crs, file_crs):
@@ -563,6 +576,59 @@ def _read_footing_files(folder: pathlib.Path, ftable: dict, where: str, crs, sou
                     )
         everything.extend(found)
     return tuple(everything), crs
+
+
+def _text_key(table: dict, key: str, where: str) -> str | None:
+    """An optional key holding text (a sheet or layer name), or InputError."""
+    if key not in table:
+        return None
+    if not isinstance(table[key], str) or not table[key].strip():
+        raise InputError(
+            f"{where}, key {key!r}", f"{table[key]!r} is not a name", f'{key} = "name" in quotes'
+        )
+    return table[key].strip()
+
+
+def _stratum_map(table: dict, key: str, strata, where: str) -> dict[str, str]:
+    """The ``legend`` or ``description`` table of [boreholes]: text → stratum name."""
+    value = table.get(key, {})
+    names = [s.name for s in strata]
+    if not isinstance(value, dict):
+        raise InputError(
+            f"{where}, key {key!r}",
+            "expected a table of text → stratum",
+            f'{key} = {{ "CODE" = "{names[0] if names else "stratum"}" }}',
+        )
+    out = {}
+    for text, name in value.items():
+        if not isinstance(name, str) or name not in names:
+            raise InputError(
+                f"{where}, key {key!r}, entry {text!r}",
+                f"{name!r} is not a stratum"
+                + (suggest(name, names) if isinstance(name, str) else ""),
+                f"one of the [[strata]] names: {', '.join(names)}",
+            )
+        if not str(text).strip():
+            raise InputError(f"{where}, key {key!r}", "an empty code or text", "a code or words")
+        out[str(text).strip()] = name
+    return out
+
+
+def _soundings_files(folder: pathlib.Path, table: dict, where: str) -> list[pathlib.Path]:
+    """The soundings file or files (a GEF file holds one sounding: a list is allowed)."""
+    names = table.get("file")
+    if names is None:
+        return []
+    if isinstance(names, list):
+        if not names or not all(isinstance(n, str) for n in names):
+            raise InputError(
+                f"{where}, key 'file'",
+                "an empty or malformed list of files",
+                'file = "soundings.csv" or file = ["CPT1.gef", "CPT2.gef"]',
+            )
+    else:
+        names = [names]
+    return [_file(folder, {"file": str(n)}, "file", where, required=True) for n in names]
 
 
 def _footing_defaults(table: dict, where: str) -> FootingDefaults:
@@ -660,14 +726,33 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
     ftable = config.get("footings", {})
     footings, crs = _read_footing_files(folder, ftable, f"{source} [footings]", crs, source)
 
-    bpath = _file(
-        folder, config.get("boreholes", {}), "file", f"{source} [boreholes]", required=True
+    btable = config.get("boreholes", {})
+    bwhere = f"{source} [boreholes]"
+    bpath = _file(folder, btable, "file", bwhere, required=True)
+    boreholes = read_boreholes(
+        bpath,
+        strata,
+        sheet=_text_key(btable, "sheet", bwhere),
+        legend=_stratum_map(btable, "legend", strata, bwhere),
+        description=_stratum_map(btable, "description", strata, bwhere),
     )
-    boreholes = read_boreholes(bpath, strata)
-    spath = _file(
-        folder, config.get("soundings", {}), "file", f"{source} [soundings]", required=False
-    )
-    soundings = read_soundings(spath) if spath is not None else ()
+    stable = config.get("soundings", {})
+    swhere = f"{source} [soundings]"
+    spaths = _soundings_files(folder, stable, swhere)
+    ssheet = _text_key(stable, "sheet", swhere)
+    soundings: tuple = ()
+    seen_soundings: dict[str, str] = {}
+    for spath in spaths:
+        found_s = read_soundings(spath, sheet=ssheet)
+        for snd in found_s:
+            if snd.id in seen_soundings:
+                raise InputError(
+                    spath.name,
+                    f'the sounding id "{snd.id}" is also used in {seen_soundings[snd.id]}',
+                    "a unique id for each sounding across the soundings files",
+                )
+            seen_soundings[snd.id] = spath.name
+        soundings += tuple(found_s)
 
     measured: dict[str, set[str]] = {}
     for b in boreholes:
@@ -722,7 +807,7 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
 
     names = ftable.get("file")
     read = [folder / str(n) for n in (names if isinstance(names, list) else [names])]
-    read += [p for p in (bpath, spath, qpath, ppath, lpath) if p is not None]
+    read += [p for p in (bpath, *spaths, qpath, ppath, lpath) if p is not None]
     outside = outside_files(folder, read)
     if outside:
         warnings.warn(
