@@ -737,6 +737,20 @@ def ramp_nodes(tau, duration, n: int = RAMP_NODES):
     return time.ravel(), weight.ravel(), np.repeat(idx, n)
 
 
+def _add_nodes(acc, values, weight, index, sign: float) -> None:
+    """acc[:, q] += sign · Σ weight · values over the nodes of report time q (in place).
+
+    :func:`ramp_nodes` gives every report time the same number of consecutive nodes,
+    so the sum is a reshape, not a scatter.
+    """
+    if not len(index):
+        return
+    q = np.unique(index)
+    k = len(index) // len(q)
+    part = (values * weight).reshape(values.shape[0], len(q), k).sum(axis=2)
+    acc[:, q] += sign * part
+
+
 def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mask=None):
     """Histories of the load stages, each increment from its own start, by superposition.
 
@@ -774,11 +788,9 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
         for name in _TIMED:
             v = getattr(h, name)
             acc = out[name]
-            contrib = np.zeros_like(acc)
-            np.add.at(contrib.T, own_q, (v[:, :a] * own_w).T)
+            _add_nodes(acc, v[:, :a], own_w, own_q, 1.0)
             if b > a:
-                np.add.at(contrib.T, nxt_q.astype(int), -(v[:, a:b] * nxt_w).T)
-            acc += contrib
+                _add_nodes(acc, v[:, a:b], nxt_w, nxt_q, -1.0)
     return fld.History(
         **out,
         degree=full.degree[:, -nt:],
