@@ -770,11 +770,11 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
     stages = ctx.stages
     K = len(stages)
     nodes = [ramp_nodes(t - stg.start, stg.duration) for stg in stages]
-    subs = [_state(ctx, run, tab, gc, state) for state in ctx.states] + [(ctx, run.sub)]
     nt = len(t)
     out = {name: np.zeros((len(run.sub), nt)) for name in _TIMED}
     full = None
-    for j, (sctx, ssub) in enumerate(subs):
+    for j in range(K):  # one state at a time: memory of two histories, not K
+        sctx, ssub = _state(ctx, run, tab, gc, ctx.states[j]) if j < K - 1 else (ctx, run.sub)
         # state j enters increment j (+) and increment j + 1 (−)
         own_t, own_w, own_q = nodes[j]
         nxt_t, nxt_w, nxt_q = nodes[j + 1] if j + 1 < K else (np.zeros(0),) * 3
@@ -782,8 +782,9 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
         if not len(grid):
             continue
         h = _histories(sctx, ssub, tab, gc, own_mask=own_mask, total_mask=total_mask, times=grid)
+        del ssub
         if j == K - 1:
-            full = h
+            full = (h.degree[:, -nt:].copy(), h.drainage_path, h.drainage_note)
         a, b = len(own_t), len(own_t) + len(nxt_t)
         for name in _TIMED:
             v = getattr(h, name)
@@ -791,12 +792,8 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
             _add_nodes(acc, v[:, :a], own_w, own_q, 1.0)
             if b > a:
                 _add_nodes(acc, v[:, a:b], nxt_w, nxt_q, -1.0)
-    return fld.History(
-        **out,
-        degree=full.degree[:, -nt:],
-        drainage_path=full.drainage_path,
-        drainage_note=full.drainage_note,
-    )
+        del h
+    return fld.History(**out, degree=full[0], drainage_path=full[1], drainage_note=full[2])
 
 
 def _strip_sublayers(site: Site, sub: fld.Sublayers) -> np.ndarray:
