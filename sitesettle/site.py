@@ -8,11 +8,14 @@ level ground surface, positive down.
 
 from __future__ import annotations
 
+import dataclasses
 import math
+import warnings
 from dataclasses import dataclass, field
 
 import numpy as np
 
+from sitesettle.errors import InputError, InputWarning
 from sitesettle.options import (
     Behaviour,
     ClaySettlement,
@@ -61,6 +64,78 @@ def foundation_kind(footing: Footing) -> str:
     if footing.shape == "polygon" or footing.width >= RAFT_WIDTH:
         return "raft"
     return "pad"
+
+
+#: number of vertices of the drawing outline of a circular footing
+CIRCLE_VERTICES = 64
+#: two footings overlap when their common area exceeds this fraction of the
+#: smaller one (smaller overlaps are slivers from rounded coordinates)
+OVERLAP_TOLERANCE = 1e-3
+
+
+def normalise_sides(width: float, length: float, rotation: float) -> tuple[float, float, float]:
+    """Return (B, L, rotation) with B ≤ L and the rotation of L in [0, 180) degrees.
+
+    Examples
+    --------
+    >>> normalise_sides(3.0, 2.0, 10.0)
+    (2.0, 3.0, 100.0)
+    >>> normalise_sides(2.0, 2.0, 135.0)
+    (2.0, 2.0, 45.0)
+    """
+    if width > length:
+        width, length, rotation = length, width, rotation + 90.0
+    period = 90.0 if math.isclose(width, length, rel_tol=1e-9) else 180.0
+    rotation = float(rotation % period)
+    if math.isclose(rotation, period, abs_tol=1e-9):
+        rotation = 0.0
+    return float(width), float(length), rotation
+
+
+def rectangle_outline(
+    x: float, y: float, width: float, length: float, rotation: float
+) -> np.ndarray:
+    """The 4 corners of a rectangle, counter-clockwise, from its centre, sides and rotation.
+
+    ``length`` runs along the direction ``rotation`` (degrees CCW from east).
+
+    Examples
+    --------
+    >>> rectangle_outline(0, 0, 2, 4, 0).tolist()
+    [[-2.0, -1.0], [2.0, -1.0], [2.0, 1.0], [-2.0, 1.0]]
+    """
+    a = math.radians(rotation)
+    u = np.array([math.cos(a), math.sin(a)]) * (length / 2.0)
+    v = np.array([-math.sin(a), math.cos(a)]) * (width / 2.0)
+    c = np.array([x, y], dtype=float)
+    return np.array([c - u - v, c + u - v, c + u + v, c - u + v])
+
+
+def circle_outline(x: float, y: float, diameter: float, n: int = CIRCLE_VERTICES) -> np.ndarray:
+    """A regular n-gon inscribed in the circle, counter-clockwise (for drawing only)."""
+    t = np.linspace(0.0, 2.0 * math.pi, n, endpoint=False)
+    r = diameter / 2.0
+    return np.column_stack([x + r * np.cos(t), y + r * np.sin(t)])
+
+
+def find_overlaps(outlines, tolerance: float = OVERLAP_TOLERANCE) -> list[tuple[int, int, float]]:
+    """Pairs (i, j, common area) of outlines that overlap by more than ``tolerance``.
+
+    ``tolerance`` is a fraction of the smaller outline's area, so that footings
+    that only touch (combined footings drawn edge to edge) pass.
+    """
+    import shapely
+
+    polys = np.array([shapely.Polygon(np.asarray(o, dtype=float)) for o in outlines], dtype=object)
+    tree = shapely.STRtree(polys)
+    left, right = tree.query(polys, predicate="intersects")
+    keep = left < right
+    out = []
+    for i, j in zip(left[keep], right[keep]):
+        common = shapely.area(shapely.intersection(polys[i], polys[j]))
+        if common > tolerance * min(polys[i].area, polys[j].area):
+            out.append((int(i), int(j), float(common)))
+    return out
 
 
 @dataclass(frozen=True)
@@ -416,9 +491,210 @@ class Site:
                 return s
         raise KeyError(f"no stratum {name!r}; strata are {[s.name for s in self.strata]}")
 
+    def with_footing(self, fid: str, **changes) -> Site:
+        """A copy of the site with footing ``fid`` changed: for a what-if re-analysis.
+
+        The site itself is not changed (it is frozen); re-run
+        :func:`sitesettle.analyse` on the copy.
+
+        Parameters
+        ----------
+        fid : str
+            Id of the footing to change.
+        **changes
+            New values of :class:`Footing` fields, in core units: ``width``,
+            ``length`` [m] (B and L of a rectangle; ``width`` is the diameter of a
+            circle), ``rotation`` [deg from east], ``x``, ``y`` [m] (moves the
+            footing), ``depth`` [m], ``dead_load``, ``live_load`` [kN],
+            ``sustained_live_fraction`` [-], ``rigid``, ``fill_unit_weight``
+            [kN/m³], ``kind`` (``"pad"``, ``"strip"``, ``"raft"``, or ``""`` to
+            infer it from the shape). The outline is rebuilt from the new centre, sides and rotation.
+            Loads are forces and stay as they are: a wider footing carries the same
+            load on a lower pressure. A rectangle given ``width`` > ``length`` is
+            turned so that B ≤ L, as a footings CSV row is (its sides keep their
+            directions: ``width=3.0`` on a 2.5 m square pad makes it 2.5 m × 3.0 m;
+            give ``length`` too for a 3.0 m square). A polygon can be moved, or its
+            loads and depth changed, but not resized.
+
+        Returns
+        -------
+        Site
+            The new site; every other footing, stratum and setting is the same object.
+
+        Raises
+        ------
+        InputError
+            ``fid`` is not a footing of the site, a name is not a field that can be
+            changed, a size is not a positive finite number, or the changed footing
+            overlaps another one.
+
+        Examples
+        --------
+        >>> site = Site("s", (Footing("F1", rectangle_outline(0, 0, 2, 2, 0), "rectangle",
+        ...     0.0, 0.0, 2.0, 2.0, 0.0, 1.0, 500.0),), (), ())
+        >>> wider = site.with_footing("F1", width=3.0, length=3.0)
+        >>> wider.footing("F1").area, site.footing("F1").area
+        (9.0, 4.0)
+        """
+        where = f"with_footing({fid!r})"
+        try:
+            index = [f.id for f in self.footings].index(fid)
+        except ValueError:
+            ids = [f.id for f in self.footings]
+            raise InputError(
+                where,
+                f"no footing {fid!r}",
+                f"the id of a footing of the site, such as {', '.join(ids[:8])}",
+            ) from None
+        old = self.footings[index]
+        unknown = sorted(set(changes) - _FOOTING_CHANGES)
+        if unknown:
+            raise InputError(
+                where,
+                f"{', '.join(unknown)} cannot be changed",
+                f"some of {', '.join(sorted(_FOOTING_CHANGES))}",
+            )
+        for key, value in changes.items():
+            if key == "kind":
+                if value not in ("", "pad", "strip", "raft"):
+                    raise InputError(where, f"kind = {value!r}", '"pad", "strip", "raft" or ""')
+                continue
+            if key == "rigid":
+                continue
+            if not isinstance(value, int | float) or not math.isfinite(value):
+                raise InputError(where, f"{key} = {value!r} is not a finite number", "a number")
+            if key in ("width", "length") and not value > 0:
+                raise InputError(where, f"{key} = {value!r} is not positive", f"a {key} > 0 m")
+            if key in ("depth", "dead_load", "live_load", "fill_unit_weight") and value < 0:
+                raise InputError(where, f"{key} = {value!r} is negative", f"a {key} ≥ 0")
+        if "sustained_live_fraction" in changes and not (
+            0.0 <= changes["sustained_live_fraction"] <= 1.0
+        ):
+            raise InputError(where, "sustained_live_fraction is outside 0–1", "a fraction 0–1")
+        geometric = {"width", "length", "rotation"} & set(changes)
+        x, y = float(changes.get("x", old.x)), float(changes.get("y", old.y))
+        new = dict(changes)
+        if old.shape == "polygon":
+            if geometric:
+                raise InputError(
+                    where,
+                    f"the polygon footing {fid!r} cannot be resized with "
+                    f"{', '.join(sorted(geometric))}",
+                    "a changed polygon in the footings file (it may be moved with x and y)",
+                )
+            shift = np.array([x - old.x, y - old.y])
+            new["outline"] = np.asarray(old.outline, float) + shift
+        elif old.shape == "circle":
+            if "length" in changes or "rotation" in changes:
+                raise InputError(
+                    where, "a circle has no length or rotation", "width (the diameter)"
+                )
+            d = float(changes.get("width", old.width))
+            new.update(width=d, length=d, outline=circle_outline(x, y, d))
+        else:
+            b, l, rot = normalise_sides(
+                float(changes.get("width", old.width)),
+                float(changes.get("length", old.length)),
+                float(changes.get("rotation", old.rotation)),
+            )
+            new.update(width=b, length=l, rotation=rot, outline=rectangle_outline(x, y, b, l, rot))
+        footing = dataclasses.replace(old, **new)
+        footings = self.footings[:index] + (footing,) + self.footings[index + 1 :]
+        if {"x", "y", "width", "length", "rotation"} & set(changes):
+            for i, j, common in find_overlaps([f.outline for f in footings]):
+                if index in (i, j):
+                    other = footings[j if i == index else i].id
+                    raise InputError(
+                        where,
+                        f"the changed footing overlaps footing {other!r} by {common:.3g} m²",
+                        "footings that do not overlap (merge a combined footing into one)",
+                    )
+        return dataclasses.replace(self, footings=footings)
+
+    def with_stratum(self, name: str, **changes) -> Site:
+        """A copy of the site with stratum ``name`` changed: for a what-if re-analysis.
+
+        Parameters
+        ----------
+        name : str
+            Name of the stratum to change.
+        **changes
+            New values of :class:`Stratum` fields, in core units: for instance
+            ``compression_index`` [-], ``consolidation_coefficient`` [m²/yr],
+            ``youngs_modulus`` [kPa], ``unit_weight`` [kN/m³], ``drainage``.
+            A value measured in a borehole interval (``Interval.overrides``)
+            still replaces the stratum's there: a warning names those boreholes.
+
+        Returns
+        -------
+        Site
+            The new site (the site itself is frozen and unchanged).
+
+        Raises
+        ------
+        InputError
+            ``name`` is not a stratum of the site, or a key is not a field of
+            :class:`Stratum` (or is its ``name``).
+
+        Examples
+        --------
+        >>> site = Site("s", (), (Stratum("clay", Behaviour.COHESIVE, compression_index=0.4),), ())
+        >>> site.with_stratum("clay", compression_index=0.3).stratum("clay").compression_index
+        0.3
+        """
+        where = f"with_stratum({name!r})"
+        names = [s.name for s in self.strata]
+        if name not in names:
+            raise InputError(where, f"no stratum {name!r}", f"one of {', '.join(names)}")
+        fields = {f.name for f in dataclasses.fields(Stratum)} - {"name"}
+        unknown = sorted(set(changes) - fields)
+        if unknown:
+            raise InputError(
+                where,
+                f"{', '.join(unknown)} is not a stratum parameter",
+                f"some of {', '.join(sorted(fields))}",
+            )
+        measured = sorted(
+            {
+                b.id
+                for b in self.boreholes
+                for iv in b.intervals
+                if iv.stratum == name and set(iv.overrides) & set(changes)
+            }
+        )
+        if measured:
+            warnings.warn(
+                f"{where}: boreholes {', '.join(measured)} give their own measured "
+                f"{', '.join(sorted(set(changes)))} for {name!r}, which still apply there",
+                InputWarning,
+                stacklevel=2,
+            )
+        i = names.index(name)
+        stratum = dataclasses.replace(self.strata[i], **changes)
+        return dataclasses.replace(self, strata=self.strata[:i] + (stratum,) + self.strata[i + 1 :])
+
     def footing(self, fid: str) -> Footing:
         """The footing called ``fid`` (KeyError listing a few ids otherwise)."""
         for f in self.footings:
             if f.id == fid:
                 return f
         raise KeyError(f"no footing {fid!r}; footings include {[f.id for f in self.footings[:8]]}")
+
+
+#: the footing fields that :meth:`Site.with_footing` may change
+_FOOTING_CHANGES = frozenset(
+    {
+        "width",
+        "length",
+        "rotation",
+        "x",
+        "y",
+        "depth",
+        "dead_load",
+        "live_load",
+        "sustained_live_fraction",
+        "rigid",
+        "fill_unit_weight",
+        "kind",
+    }
+)

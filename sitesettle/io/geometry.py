@@ -14,12 +14,15 @@ import math
 import numpy as np
 
 from sitesettle.errors import InputError
+from sitesettle.site import (  # noqa: F401  (the shapes' conventions live with Footing)
+    CIRCLE_VERTICES,
+    OVERLAP_TOLERANCE,
+    circle_outline,
+    find_overlaps,
+    normalise_sides,
+    rectangle_outline,
+)
 
-#: number of vertices of the drawing outline of a circular footing
-CIRCLE_VERTICES = 64
-#: two footings overlap when their common area exceeds this fraction of the
-#: smaller one (smaller overlaps are slivers from rounded coordinates)
-OVERLAP_TOLERANCE = 1e-3
 #: a polygon is taken as a rectangle when it has 4 corners and fills its minimum
 #: rotated rectangle to this relative tolerance (rounding of GIS coordinates)
 RECTANGLE_TOLERANCE = 1e-6
@@ -43,51 +46,6 @@ def check_coordinate(value: float, where: str) -> float:
             "plan coordinates in metres of a projected system (check the unit and the column)",
         )
     return value
-
-
-def normalise_sides(width: float, length: float, rotation: float) -> tuple[float, float, float]:
-    """Return (B, L, rotation) with B ≤ L and the rotation of L in [0, 180) degrees.
-
-    Examples
-    --------
-    >>> normalise_sides(3.0, 2.0, 10.0)
-    (2.0, 3.0, 100.0)
-    >>> normalise_sides(2.0, 2.0, 135.0)
-    (2.0, 2.0, 45.0)
-    """
-    if width > length:
-        width, length, rotation = length, width, rotation + 90.0
-    period = 90.0 if math.isclose(width, length, rel_tol=1e-9) else 180.0
-    rotation = float(rotation % period)
-    if math.isclose(rotation, period, abs_tol=1e-9):
-        rotation = 0.0
-    return float(width), float(length), rotation
-
-
-def rectangle_outline(
-    x: float, y: float, width: float, length: float, rotation: float
-) -> np.ndarray:
-    """The 4 corners of a rectangle, counter-clockwise, from its centre, sides and rotation.
-
-    ``length`` runs along the direction ``rotation`` (degrees CCW from east).
-
-    Examples
-    --------
-    >>> rectangle_outline(0, 0, 2, 4, 0).tolist()
-    [[-2.0, -1.0], [2.0, -1.0], [2.0, 1.0], [-2.0, 1.0]]
-    """
-    a = math.radians(rotation)
-    u = np.array([math.cos(a), math.sin(a)]) * (length / 2.0)
-    v = np.array([-math.sin(a), math.cos(a)]) * (width / 2.0)
-    c = np.array([x, y], dtype=float)
-    return np.array([c - u - v, c + u - v, c + u + v, c - u + v])
-
-
-def circle_outline(x: float, y: float, diameter: float, n: int = CIRCLE_VERTICES) -> np.ndarray:
-    """A regular n-gon inscribed in the circle, counter-clockwise (for drawing only)."""
-    t = np.linspace(0.0, 2.0 * math.pi, n, endpoint=False)
-    r = diameter / 2.0
-    return np.column_stack([x + r * np.cos(t), y + r * np.sin(t)])
 
 
 #: a polygon is taken as a drawn circle (a buffered point, a circle exported as a
@@ -215,26 +173,6 @@ def polygon_footprint(geom, where: str) -> dict:
         "length": length,
         "rotation": rotation,
     }
-
-
-def find_overlaps(outlines, tolerance: float = OVERLAP_TOLERANCE) -> list[tuple[int, int, float]]:
-    """Pairs (i, j, common area) of outlines that overlap by more than ``tolerance``.
-
-    ``tolerance`` is a fraction of the smaller outline's area, so that footings
-    that only touch (combined footings drawn edge to edge) pass.
-    """
-    import shapely
-
-    polys = np.array([shapely.Polygon(np.asarray(o, dtype=float)) for o in outlines], dtype=object)
-    tree = shapely.STRtree(polys)
-    left, right = tree.query(polys, predicate="intersects")
-    keep = left < right
-    out = []
-    for i, j in zip(left[keep], right[keep]):
-        common = shapely.area(shapely.intersection(polys[i], polys[j]))
-        if common > tolerance * min(polys[i].area, polys[j].area):
-            out.append((int(i), int(j), float(common)))
-    return out
 
 
 def crs_text(crs) -> str | None:

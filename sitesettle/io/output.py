@@ -62,12 +62,14 @@ KIP = 4.4482216152605  # kN (1000 lbf)
 KSF = KIP / FOOT**2  # kPa (kip per square foot)
 
 #: every file that write_results makes (section.png only when a section is given,
-#: points.csv only when the site has query points)
+#: points.csv only when the site has query points, lines.csv only when structure
+#: lines or strips were checked)
 OUTPUT_FILES = (
     "footings.csv",
     "pairs.csv",
     "settlement_time.csv",
     "points.csv",
+    "lines.csv",
     "summary.json",
     "site.gpkg",
     "site.dxf",
@@ -107,6 +109,7 @@ RATIO_COLUMNS = (
     "angular_distortion",
     "angular_distortion_tilt_removed",
     "angular_distortion_checked",
+    "deflection_ratio",
     "utilisation",
 )
 
@@ -860,17 +863,24 @@ def write_results(
 def _write_all(
     results: Results, folder: Path, units: str, progress: Callable[[str], None], section
 ) -> None:
+    from sitesettle.io import frames
     from sitesettle.report import render_report
 
+    # the CSV files are the DataFrames of sitesettle.io.frames (the Results methods),
+    # with their index as the first columns
     progress("footings.csv")
-    _write_csv(footing_table(results, units), folder / "footings.csv")
+    _write_csv(frames.footings(results, units).reset_index(), folder / "footings.csv")
     progress("pairs.csv")
-    _write_csv(pair_table(results, units), folder / "pairs.csv")
+    _write_csv(frames.pairs(results, units).reset_index(), folder / "pairs.csv")
     progress("settlement_time.csv")
-    _write_csv(time_table(results, units), folder / "settlement_time.csv")
+    _write_csv(frames.history(results, units).reset_index(), folder / "settlement_time.csv")
     if results.points is not None:
         progress("points.csv")
-        _write_csv(point_table(results, units), folder / "points.csv")
+        _write_csv(frames.query_points(results, units).reset_index(), folder / "points.csv")
+    lines = frames.lines(results, units)
+    if len(lines):
+        progress("lines.csv")
+        _write_csv(lines.reset_index(), folder / "lines.csv")
     progress("summary.json")
     _write_json(summary_dict(results, units), folder / "summary.json")
     progress("site.gpkg")
