@@ -36,6 +36,20 @@ class Results(_results.Results):
     ksf, kip). They are :mod:`sitesettle.io.frames`; the CSV files of
     :func:`write_results` are written from the same calls.
 
+    Attributes
+    ----------
+    total, immediate, creep, consolidation, secondary, own, neighbours : ndarray
+        (n_footings, n_times) settlement [m], positive downward.
+    times : ndarray
+        Report times [yr]; ``times[design_life_index]`` is the design life.
+    tilt : ndarray
+        (n_footings,) tilt at the design life [rad].
+    net_pressure : ndarray
+        (n_footings,) net service pressure on the base [kPa].
+    checks : Checks or None
+        Pairs, lines and footings against the criteria (differential [m], angular
+        distortion [-]).
+
     Examples
     --------
     ``results.pairs().nlargest(5, "utilisation")`` is the table of the five most
@@ -58,7 +72,8 @@ class Results(_results.Results):
         Returns
         -------
         Results
-            ``results`` itself when it is already a :class:`Results`.
+            ``results`` itself when it is already a :class:`Results` (the arrays
+            keep their core units, m and kPa).
         """
         if isinstance(results, cls):
             return results
@@ -148,8 +163,8 @@ class Results(_results.Results):
         Returns
         -------
         pandas.DataFrame
-            The columns of points.csv; empty when the site has no query points
-            (``results.points`` is then None).
+            The columns of points.csv (``x_m``, ``depth_m``, ``total_mm`` …); empty
+            when the site has no query points (``results.points`` is then None).
         """
         from sitesettle.io import frames
 
@@ -196,9 +211,7 @@ def analyse(
     """
     from sitesettle.analysis import analyse as _analyse
 
-    return Results.of(
-        _analyse(site, progress=progress, with_map=with_map, with_checks=with_checks)
-    )
+    return Results.of(_analyse(site, progress=progress, with_map=with_map, with_checks=with_checks))
 
 
 def write_results(
@@ -234,7 +247,8 @@ def write_results(
     Returns
     -------
     pathlib.Path
-        The results folder (absolute).
+        The results folder (absolute). Its files are listed in docs/outputs.md; their
+        columns carry their units (``total_mm``, ``span_m`` or ``total_in``, ``span_ft``).
 
     Raises
     ------

@@ -241,6 +241,23 @@ class Stratum:
     ``consolidation_coefficient`` cv [m²/yr], ``secondary_index`` Cα,
     ``drainage``, optional ``undrained_modulus`` [kPa] for immediate settlement,
     optional ``end_of_primary`` [yr] when the settings ask for a given time.
+
+    Attributes
+    ----------
+    name : str
+        The stratum's name, as the boreholes give it.
+    behaviour : Behaviour
+        ``granular``, ``cohesive`` or ``rigid``.
+    unit_weight, saturated_unit_weight : float
+        Above and below the water table [kN/m³].
+    youngs_modulus, cone_resistance : float or None
+        Granular E and qc [kPa].
+    compression_index, recompression_index, void_ratio, ocr, secondary_index : float
+        Cohesive Cc, Cr, e0, OCR and Cα [-].
+    preconsolidation : float or None
+        σ'p [kPa].
+    consolidation_coefficient : float or None
+        cv [m²/yr].
     """
 
     name: str
@@ -457,7 +474,33 @@ class LoadStage:
 
 @dataclass(frozen=True)
 class Site:
-    """Everything the analysis needs, in core units."""
+    """Everything the analysis needs, in core units (m, kN, kPa, kN/m³, m²/yr, yr).
+
+    Built by :func:`sitesettle.load_site` from a project folder, or directly; it
+    is frozen: :meth:`with_footing` and :meth:`with_stratum` return changed copies
+    for a what-if re-analysis.
+
+    Attributes
+    ----------
+    name : str
+        Project name.
+    footings : tuple of Footing
+        The footings (sizes [m], loads [kN]).
+    strata : tuple of Stratum
+        The strata, top down (unit weights [kN/m³], moduli [kPa], cv [m²/yr]).
+    boreholes, soundings : tuple
+        The investigation (positions and depths [m], cone resistance [kPa]).
+    water_depth : float
+        Site-wide depth of the water table [m] (inf: none; boreholes may give their own).
+    analysis, checks : AnalysisSettings, CheckSettings
+        How settlements are computed (times [yr]) and checked (limits in core units).
+    crs : str or None
+        Coordinate reference system of the input (plan coordinates in metres).
+    units : str
+        Output units of the project, ``"si"`` or ``"us"``.
+    points : tuple of QueryPoint
+        Query points (x, y, depth [m]).
+    """
 
     name: str
     footings: tuple[Footing, ...]
@@ -485,7 +528,19 @@ class Site:
     stages: tuple[LoadStage, ...] = ()
 
     def stratum(self, name: str) -> Stratum:
-        """The stratum called ``name`` (KeyError listing the names otherwise)."""
+        """The stratum called ``name``.
+
+        Parameters
+        ----------
+        name : str
+            The stratum's name.
+
+        Returns
+        -------
+        Stratum
+            Its parameters in core units (kPa, kN/m³, m²/yr); KeyError listing the
+            names when there is none of that name.
+        """
         for s in self.strata:
             if s.name == name:
                 return s
@@ -674,7 +729,19 @@ class Site:
         return dataclasses.replace(self, strata=self.strata[:i] + (stratum,) + self.strata[i + 1 :])
 
     def footing(self, fid: str) -> Footing:
-        """The footing called ``fid`` (KeyError listing a few ids otherwise)."""
+        """The footing called ``fid``.
+
+        Parameters
+        ----------
+        fid : str
+            The footing's id.
+
+        Returns
+        -------
+        Footing
+            Its geometry [m] and loads [kN]; KeyError listing a few ids when there
+            is none of that id.
+        """
         for f in self.footings:
             if f.id == fid:
                 return f

@@ -1269,16 +1269,58 @@ def stress_sums(loads: Loads, points, *, tolerance: float = 1e-3) -> tuple[np.nd
 
 
 def vertical_stress(loads: Loads, points, *, tolerance: float = 1e-3) -> np.ndarray:
-    """Superposed vertical stress increment σz [kPa] at (N, 3) points (see :func:`stress_sums`)."""
+    """Superposed vertical stress increment σz [kPa] at (N, 3) points.
+
+    Parameters
+    ----------
+    loads : Loads
+        The loaded areas (pressures [kPa], plan sizes and depths [m]).
+    points : array_like
+        (N, 3) points x, y [m] and depth below ground z [m].
+    tolerance : float, optional
+        Allowed error as a fraction of the largest load pressure [-] (0: exact
+        sum); see :func:`stress_sums` for the bound.
+
+    Returns
+    -------
+    ndarray
+        (N,) σz [kPa], compression positive.
+
+    Examples
+    --------
+    Under the centre of a 2 m × 2 m square carrying 100 kPa, 1 m below it,
+    σz = 4 · 100 kPa · I(1, 1) = 70.1 kPa (Newmark 1935 corner factor
+    I(m = 1, n = 1) = 0.1752, from memory):
+
+    >>> loads = Loads.rectangles(0.0, 0.0, 2.0, 2.0, 0.0, 100.0, 0.0)
+    >>> round(float(vertical_stress(loads, [[0.0, 0.0, 1.0]], tolerance=0)[0]), 1)
+    70.1
+    """
     return stress_sums(loads, points, tolerance=tolerance)[0]
 
 
 def horizontal_stress_sum(loads: Loads, points, poisson, *, tolerance: float = 1e-3) -> np.ndarray:
-    """σx + σy = (1 + ν)·T − σz [kPa] at (N, 3) points; ``poisson`` scalar or (N,).
+    """σx + σy = (1 + ν)·T − σz [kPa] at (N, 3) points.
 
     From the first stress invariant Θ = (1 + ν) q Ω/π of a uniform load
     (METHODS.md §1.2, §1.8). The error bound of :func:`stress_sums` becomes
     (2 + ν)·tolerance·max|q|.
+
+    Parameters
+    ----------
+    loads : Loads
+        The loaded areas (pressures [kPa], plan sizes and depths [m]).
+    points : array_like
+        (N, 3) points x, y [m] and depth below ground z [m].
+    poisson : float or array_like
+        Poisson's ratio ν [-], a scalar or one per point (N,).
+    tolerance : float, optional
+        Allowed error of σz and T as a fraction of the largest pressure [-].
+
+    Returns
+    -------
+    ndarray
+        (N,) σx + σy [kPa].
     """
     sz, tt = stress_sums(loads, points, tolerance=tolerance)
     return (1.0 + np.asarray(poisson, dtype=float)) * tt - sz

@@ -58,7 +58,8 @@ def written(tmp_path_factory):
 def test_every_file_is_written(written):
     _, out = written
     names = {p.name for p in out.iterdir()}
-    assert names == set(output.OUTPUT_FILES) - {"points.csv"}  # no query points here
+    # no query points, no structure lines or strips here
+    assert names == set(output.OUTPUT_FILES) - {"points.csv", "lines.csv"}
     assert all((out / n).stat().st_size > 0 for n in names)
     for png in ("plan.png", "contours.png", "settlement_time.png", "section.png"):
         assert (out / png).read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"

@@ -137,9 +137,7 @@ def query_points(results: Results, units: str = "si") -> pd.DataFrame:
 def line_table(results: Results, units: str = "si") -> pd.DataFrame:
     """Structure lines and strips as the flat table of lines.csv (see :func:`lines`)."""
     u = _units(units)
-    length, delta = column("length", "length", u), column(
-        "relative_deflection", "settlement", u
-    )
+    length, delta = column("length", "length", u), column("relative_deflection", "settlement", u)
     cols = {
         "line": object,
         "kind": object,

@@ -1205,6 +1205,12 @@ def load_site(folder) -> Site:
     folder : str or path-like
         The project folder holding ``site.toml``, or the path of the TOML file.
 
+    Returns
+    -------
+    Site
+        The project in core units: m, kN, kPa, kN/m³, m²/yr and years (values given
+        with other units in the files are converted with pint).
+
     Raises
     ------
     InputError
