@@ -342,3 +342,32 @@ def test_the_docstring_check_can_fail():
         test_every_public_name_has_a_numpydoc_docstring_with_units("f", undocumented)
     with pytest.raises(AssertionError, match="states no unit"):
         test_every_public_name_has_a_numpydoc_docstring_with_units("f", no_units)
+
+
+# ------------------------------------------------------------------ the docs
+
+DOCS = pathlib.Path(__file__).resolve().parents[1] / "docs"
+
+
+def test_the_first_gallery_example_is_ten_lines_from_demo_site_to_a_what_if():
+    # the "done when": demo_site() to worst pairs, a plan and a what-if in
+    # ten lines (the docs build runs it; here its length and its calls)
+    text = (DOCS / "examples" / "plot_01_ten_lines.py").read_text(encoding="utf-8")
+    first = text.split("# %%")[1]
+    code = [
+        ln
+        for ln in first.splitlines()
+        if ln.strip() and not ln.startswith(("import ", "from ", "#"))
+    ]
+    assert len(code) <= 10, code
+    joined = "\n".join(code)
+    for call in ("demo_site()", ".pairs()", "nlargest", "PolyCollection", "with_footing"):
+        assert call in joined, call
+
+
+def test_every_page_of_docs_is_in_the_site():
+    index = (DOCS / "index.md").read_text(encoding="utf-8")
+    for page in DOCS.glob("*.md"):
+        if page.stem != "index":
+            assert f"\n{page.stem}\n" in index, f"{page.name} is not in the toctree"
+    assert "auto_examples/index" in index and "\napi\n" in index
