@@ -108,7 +108,9 @@ def _escape_bars(lines: list[str]) -> list[str]:
             flush()
             math_indent = _indent(line)
             out.append(line)
-        elif stripped.startswith(("|", "+-", "+=")):  # a reST table or line block
+        elif stripped.startswith(("+-", "+=")) or (  # a row of a reST grid table
+            stripped.startswith("|") and stripped.rstrip().endswith("|") and "  " in stripped
+        ):
             flush()
             out.append(line)
         else:

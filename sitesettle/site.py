@@ -557,19 +557,19 @@ class Site:
         fid : str
             Id of the footing to change.
         **changes
-            New values of :class:`Footing` fields, in core units: ``width``,
-            ``length`` [m] (B and L of a rectangle; ``width`` is the diameter of a
-            circle), ``rotation`` [deg from east], ``x``, ``y`` [m] (moves the
-            footing), ``depth`` [m], ``dead_load``, ``live_load`` [kN],
-            ``sustained_live_fraction`` [-], ``rigid``, ``fill_unit_weight``
-            [kN/m³], ``kind`` (``"pad"``, ``"strip"``, ``"raft"``, or ``""`` to
-            infer it from the shape). The outline is rebuilt from the new centre, sides and rotation.
-            Loads are forces and stay as they are: a wider footing carries the same
-            load on a lower pressure. A rectangle given ``width`` > ``length`` is
-            turned so that B ≤ L, as a footings CSV row is (its sides keep their
-            directions: ``width=3.0`` on a 2.5 m square pad makes it 2.5 m × 3.0 m;
-            give ``length`` too for a 3.0 m square). A polygon can be moved, or its
-            loads and depth changed, but not resized.
+            New values of :class:`Footing` fields, in core units: ``width``, ``length``
+            [m] (B and L of a rectangle; ``width`` is the diameter of a circle),
+            ``rotation`` [deg from east], ``x``, ``y`` [m] (moves the footing),
+            ``depth`` [m], ``dead_load``, ``live_load`` [kN],
+            ``sustained_live_fraction`` [-], ``rigid``, ``fill_unit_weight`` [kN/m³],
+            ``kind`` (``"pad"``, ``"strip"``, ``"raft"``, or ``""`` to infer it from the
+            shape). The outline is rebuilt from the new centre, sides and rotation.
+            Loads are forces and stay as they are: a wider footing carries the same load
+            on a lower pressure. A rectangle given ``width`` > ``length`` is turned so
+            that B ≤ L, as a footings CSV row is (its sides keep their directions:
+            ``width=3.0`` on a 2.5 m square pad makes it 2.5 m × 3.0 m; give ``length``
+            too for a 3.0 m square). A polygon can be moved, or its loads and depth
+            changed, but not resized.
 
         Returns
         -------

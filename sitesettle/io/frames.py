@@ -138,6 +138,7 @@ def line_table(results: Results, units: str = "si") -> pd.DataFrame:
     """Structure lines and strips as the flat table of lines.csv (see :func:`lines`)."""
     u = _units(units)
     length, delta = column("length", "length", u), column("relative_deflection", "settlement", u)
+    zone_length = column("zone_length", "length", u)
     cols = {
         "line": object,
         "kind": object,
@@ -145,6 +146,11 @@ def line_table(results: Results, units: str = "si") -> pd.DataFrame:
         length: float,
         delta: float,
         "deflection_ratio": float,
+        "zone": object,
+        zone_length: float,
+        "sagging_ratio": float,
+        "hogging_ratio": float,
+        "angular_strain": float,
         "angular_distortion": float,
         "limit": object,
         "limit_source": object,
@@ -155,9 +161,11 @@ def line_table(results: Results, units: str = "si") -> pd.DataFrame:
     if lc is None or len(lc.ids) == 0:
         return pd.DataFrame({c: pd.Series(dtype=t) for c, t in cols.items()})
     n = len(lc.ids)
-    rotation = (
-        np.full(n, np.nan) if lc.angular_distortion is None else np.asarray(lc.angular_distortion)
-    )
+
+    def optional(values) -> np.ndarray:
+        return np.full(n, np.nan) if values is None else np.asarray(values, float)
+
+    zones = tuple(lc.zone) if len(lc.zone) == n else ("",) * n
     return pd.DataFrame(
         {
             "line": [LINE_SEPARATOR.join(ids) for ids in lc.ids],
@@ -166,7 +174,12 @@ def line_table(results: Results, units: str = "si") -> pd.DataFrame:
             length: np.asarray(lc.length, float) * _factor("length", u),
             delta: np.asarray(lc.relative_deflection, float) * _factor("settlement", u),
             "deflection_ratio": np.asarray(lc.deflection_ratio, float),
-            "angular_distortion": rotation.astype(float),
+            "zone": list(zones),
+            zone_length: optional(lc.zone_length) * _factor("length", u),
+            "sagging_ratio": optional(lc.sagging_ratio),
+            "hogging_ratio": optional(lc.hogging_ratio),
+            "angular_strain": optional(lc.angular_strain),
+            "angular_distortion": optional(lc.angular_distortion),
             "limit": list(lc.limit),
             "limit_source": list(lc.limit_source),
             "utilisation": np.asarray(lc.utilisation, float),
@@ -192,8 +205,11 @@ def lines(results: Results, units: str = "si") -> pd.DataFrame:
     -------
     pandas.DataFrame
         ``kind`` (``structure line`` or ``strip``), ``footings`` (how many),
-        ``length_m`` [m], ``relative_deflection_mm`` [mm] (+ sagging, − hogging),
-        ``deflection_ratio`` Δ/L [-], ``angular_distortion`` [-] (a strip's largest
+        ``length_m`` [m], ``relative_deflection_mm`` [mm] (+ sagging, − hogging) and
+        ``deflection_ratio`` Δ/L [-] of the governing zone, ``zone`` (its kind and
+        ends) and ``zone_length_m`` [m], ``sagging_ratio`` and ``hogging_ratio`` [-]
+        (the largest of each kind, NaN when there is none), ``angular_strain`` α
+        [-] (EN 1997-1:2004 Fig. H.1; + sagging), ``angular_distortion`` [-] (a strip's largest
         relative rotation between stations; NaN for a structure line, whose
         consecutive footings are checked as pairs), ``limit``, ``limit_source``,
         ``utilisation`` [-] and ``status``: the columns of lines.csv. Empty, with

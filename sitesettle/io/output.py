@@ -110,6 +110,9 @@ RATIO_COLUMNS = (
     "angular_distortion_tilt_removed",
     "angular_distortion_checked",
     "deflection_ratio",
+    "sagging_ratio",
+    "hogging_ratio",
+    "angular_strain",
     "utilisation",
 )
 
