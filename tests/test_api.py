@@ -373,3 +373,20 @@ def test_every_page_of_docs_is_in_the_site():
         if page.stem != "index":
             assert f"\n{page.stem}\n" in index, f"{page.name} is not in the toctree"
     assert "auto_examples/index" in index and "\napi\n" in index
+
+
+def test_tables_without_query_points_lines_or_checks_are_empty_with_their_columns():
+    import dataclasses
+
+    from _factories import make_results
+
+    core = make_results()  # synthetic: no query points, no structure lines
+    r = sitesettle.Results.of(core)
+    assert sitesettle.Results.of(r) is r and r.immediate is core.immediate  # nothing copied
+    assert r.query_points().empty and list(r.query_points().index.names) == ["id", "time_yr"]
+    lines = r.lines()
+    assert lines.empty and lines.index.name == "line" and "deflection_ratio" in lines.columns
+    bare = dataclasses.replace(r, checks=None)
+    assert isinstance(bare, sitesettle.Results)  # replace keeps the API class
+    assert bare.pairs().empty and "utilisation" in bare.pairs().columns
+    assert set(bare.footings()["status"]) == {"unchecked"}
