@@ -3,7 +3,7 @@
 Build (CI does, with warnings as errors; about a minute):
 
     pip install ".[docs]"
-    python -m sphinx -W --keep-going -b html docs docs/_build/html
+    sphinx-build -W --keep-going -b html docs docs/_build/html
 
 The pages are the Markdown files of this folder (myst-parser); the API reference
 is generated from the numpydoc docstrings (autodoc with napoleon); the gallery
