@@ -21,6 +21,7 @@ from __future__ import annotations
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
+from dataclasses import field as dc_field
 
 import numpy as np
 
@@ -207,6 +208,7 @@ class Integration:
     bound: np.ndarray  # (n_columns,) bound of what lies below [m]
     own_notes: dict[int, list[str]]
     spt_modulus: dict[str, float]
+    own_params: dict[int, dict[str, float]] = dc_field(default_factory=dict)
 
 
 def _boundaries(gc: GroundColumns, c: int, planes: np.ndarray) -> np.ndarray:
@@ -272,6 +274,7 @@ def integrate(
     bound = np.full(n, np.inf)
     spt_modulus: dict[str, float] = {}
     own_notes: dict[int, list[str]] = {}
+    own_params: dict[int, dict[str, float]] = {}
     first = True
     passes = 0
     while active.any():
@@ -327,6 +330,7 @@ def integrate(
                 bb_reading=str(st.bb_pressure),
             )
             own_notes = own.notes
+            own_params = own.params
             spt_modulus = {k: float(np.median(v)) for k, v in own.spt_modulus.items()}
             stale = np.flatnonzero(np.isnan(sub.gran_nb) | np.isnan(sub.gran_own))
             fld.granular_field(
@@ -380,7 +384,7 @@ def integrate(
             ),
         ),
     )
-    return Integration(sub, bottom, reason, bound, own_notes, spt_modulus)
+    return Integration(sub, bottom, reason, bound, own_notes, spt_modulus, own_params)
 
 
 def _subset(gc: GroundColumns, cols: np.ndarray) -> GroundColumns:
@@ -616,6 +620,7 @@ def analyse(
             "of the settlement methods (a settlement of 0.1 B is commonly taken as bearing "
             "failure); check the moduli, the loads and their units"
         )
+    _far_warnings(site, warnings, with_checks)
     chk = None
     if with_checks:
         chk = checks_mod.check_movements(
@@ -632,6 +637,41 @@ def analyse(
         )
     say("done", 1.0)
     return Results(**{**results.__dict__, "checks": chk, "warnings": tuple(warnings)})
+
+
+def _far_warnings(site, warnings: list[str], with_checks: bool) -> None:
+    """Footings and boreholes far from the plan (likely coordinate typos), and the
+    automatic pairs not formed because their footings are too far apart."""
+    fs = site.footings
+    far = checks_mod.far_footings(fs)
+    for i, dist, spacing in far:
+        warnings.append(
+            f"footing {fs[i].id} is {dist:.0f} m from the nearest other footing (the plan's "
+            f"typical spacing is {spacing:.1f} m): check its coordinates"
+        )
+    spacing, _ = checks_mod.plan_spacing(fs)
+    if fs and math.isfinite(spacing):
+        xy = np.array([[f.x, f.y] for f in fs], dtype=float)
+        extent = float(np.hypot(*(xy.max(axis=0) - xy.min(axis=0))))
+        reach = max(checks_mod.FAR_FACTOR * spacing, extent)
+        for holes, kind in ((site.boreholes, "borehole"), (site.soundings, "sounding")):
+            for b in holes:
+                d = float(np.min(np.hypot(xy[:, 0] - b.x, xy[:, 1] - b.y)))
+                if d > reach:
+                    warnings.append(
+                        f"{kind} {b.id} is {d:.0f} m from the nearest footing (the plan spans "
+                        f"{extent:.0f} m): check its coordinates"
+                    )
+    if with_checks and str(getattr(site.checks, "pairs", "auto")).lower().endswith("auto"):
+        pairs = checks_mod.footing_pairs(fs)
+        long = checks_mod.long_span_pairs(fs, pairs)
+        for a, b in pairs[long]:
+            d = float(np.hypot(fs[a].x - fs[b].x, fs[a].y - fs[b].y))
+            warnings.append(
+                f"footing {fs[a].id} and footing {fs[b].id} are not paired: {d:.0f} m apart, "
+                f"far beyond the plan's spacing ({spacing:.1f} m); list the pair in [checks] "
+                "to check it"
+            )
 
 
 def assemble_footings(ctx: Context, pts: Points, cols: dict, run: Integration, significant):
@@ -904,6 +944,74 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
         "primary strain": np.where(coh, sub.eps_tot, np.nan),
         "U(t)": hist.degree[:, life],
         "drainage path (m)": hist.drainage_path,
+    }
+    # what a checker needs to redo a sublayer by hand
+    n_sub = len(sub)
+    st = site.analysis
+    c2 = (
+        fld.creep_factors(np.array([ctx.times[life]]), st.bb_r3, st.bb_r)[sub.creep, 0]
+        if n_sub
+        else np.zeros(0)
+    )
+    gran = ~coh & (sub.method != "none") if n_sub else np.zeros(0, bool)
+    is_sch = np.isin(sub.method, ["schmertmann", "schmertmann_1970"]) if n_sub else gran
+    dp = np.full(n_sub, np.nan)
+    c1 = np.full(n_sub, np.nan)
+    factor = np.full(n_sub, np.nan)
+    for col_, prm in run.own_params.items():
+        rows_ = slice(int(starts[col_]), int(ends[col_]))
+        dp[rows_] = prm["dp"]
+        c1[rows_] = prm["c1"]
+        factor[rows_] = prm["factor"]
+    dp = np.where(is_sch, dp, np.nan)
+    c1 = np.where(is_sch, c1, np.nan)
+    e_given = tab.youngs[sub.col, sub.stratum] if n_sub else np.zeros(0)
+    sounded = tab.sound[sub.col, sub.stratum] if n_sub else np.zeros(0, bool)
+    qc_given = tab.qc[sub.col, sub.stratum] if n_sub else np.zeros(0)
+    field_factor = np.where(
+        sub.method == "schmertmann_1970",
+        fld.FIELD_CONE_FACTOR["1970"],
+        fld.FIELD_CONE_FACTOR["1978"],
+    )
+    f_used = np.where(is_sch & np.isfinite(factor), factor, field_factor)
+    source = (
+        np.where(
+            coh,
+            np.where(np.isfinite(sub.modulus), "undrained E given", ""),
+            np.where(
+                np.isfinite(e_given),
+                "given",
+                np.where(
+                    sounded,
+                    np.char.add(np.char.add("", np.char.mod("%.2f", f_used)), "·qc from soundings"),
+                    np.where(
+                        np.isfinite(qc_given),
+                        np.char.add(np.char.mod("%.2f", f_used), "·qc given"),
+                        "from SPT (Burland & Burbidge)",
+                    ),
+                ),
+            ),
+        )
+        if n_sub
+        else np.zeros(0, dtype=object)
+    )
+    qc_used = (
+        np.where(
+            ~coh & np.isnan(e_given) & (sounded | np.isfinite(qc_given)),
+            sub.modulus / f_used,
+            np.nan,
+        )
+        if n_sub
+        else np.zeros(0)
+    )
+    parts = {
+        "thickness h (m)": h,
+        "Δp (kPa)": dp,
+        "C1": c1,
+        "C2": np.where(gran, c2, np.nan),
+        "qc (kPa)": qc_used,
+        "E source": source,
+        **parts,
     }
     for c in np.flatnonzero(pts.kind == "footing"):
         m = slice(int(starts[c]), int(ends[c]))
