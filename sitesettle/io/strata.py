@@ -134,6 +134,14 @@ def parse_stratum(table: dict, where: str) -> Stratum:
     where : str
         Place for messages (``'site.toml [[strata]] 2 ("clay")'``).
     """
+    if "behavior" in table:  # the US spelling is accepted
+        if "behaviour" in table:
+            raise InputError(
+                f"{where}, key 'behavior'",
+                'both "behaviour" and "behavior" are given',
+                "one of the two spellings",
+            )
+        table = {("behaviour" if k == "behavior" else k): v for k, v in table.items()}
     for key in table:
         if key not in QUANTITY_KEYS and key not in OTHER_KEYS:
             raise InputError(
