@@ -594,12 +594,17 @@ def make_figures(results: Results, *, units: str = "si", section=None) -> dict[s
     from sitesettle import plots
 
     figs = {
-        "plan": _figure_bytes(plots.plan_figure(results, units=units)),
-        "contours": _figure_bytes(plots.contour_figure(results, units=units)),
-        "settlement_time": _figure_bytes(plots.time_figure(results, units=units)),
+        "plan": _figure_bytes(plots.plan(results, units=units).figure),
+        "contours": _figure_bytes(plots.contours(results, units=units).figure),
     }
+    ax1, ax2 = plots.history_axes()
+    figs["settlement_time"] = _figure_bytes(
+        plots.history(results, ax=ax1, units=units, pair_ax=ax2).figure
+    )
     if section is not None:
-        figs["section"] = _figure_bytes(plots.section_figure(section, units=units))
+        figs["section"] = _figure_bytes(
+            plots.section(section, units=units, site=results.site).figure
+        )
     return figs
 
 

@@ -8,7 +8,6 @@ can feed text: ``parse_*`` functions take text or parsed tables, ``read_*`` and
 from __future__ import annotations
 
 import datetime as _dt
-
 import math
 import pathlib
 import re
