@@ -534,8 +534,9 @@ def _verdict(results: Results, units: str) -> str:
     )
     parts.append(
         "<p class='note'>Utilisation is the movement divided by its limit; above 1.00 it "
-        "fails. Settlements are given to 0.1 mm (0.01 in), ratios as 1/N to three "
-        "significant figures (docs/outputs.md).</p>"
+        f"fails. Settlements are given to {'0.01 in' if q.us else '0.1 mm'}, ratios as 1/N "
+        "to three significant figures, below 1/10,000 as &lt; 1/10,000 (docs/outputs.md); "
+        "the CSV files keep full precision.</p>"
     )
     bad = [i for i, ok in enumerate(c.footing_passed) if not ok]
     parts.append("<h3>Failing footings</h3>")

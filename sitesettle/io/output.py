@@ -883,5 +883,6 @@ def _write_all(
     for name, png in figures.items():
         (folder / f"{name}.png").write_bytes(png)
     progress("report.html")
-    html = render_report(results, figures, units=units)
+    # US units print on Letter, SI on A4 (either prints on both: the page rule is a default)
+    html = render_report(results, figures, units=units, page="letter" if units == "us" else "A4")
     (folder / "report.html").write_text(html, encoding="utf-8")
