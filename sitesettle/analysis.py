@@ -1035,7 +1035,7 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
         for text, stratum in sorted(
             {(t, names[k]) for t, k in zip(hist.drainage_note[m], sub.stratum[m]) if t}
         ):
-            notes.append(f"{stratum}: {text}")
+            notes.append(text if str(text).startswith(f"{stratum}:") else f"{stratum}: {text}")
         notes.append(
             f"integrated to {run.bottom[c]:.2f} m below ground: {run.reason[c]}"
             + (
