@@ -122,9 +122,16 @@ def test_report_echoes_every_input_value_of_the_demo(demo_si):
     for row in rows[1:]:
         assert row[0] in text, row[0]
     for f in site.footings:
-        for value in (f"{f.x:.2f}", f"{f.y:.2f}", f"{f.depth:.2f}", f"{f.dead_load:.0f}",
-                      f"{f.live_load:.0f}", f"{f.sustained_live_fraction:.2f}",
-                      f"{f.sustained_load:.0f}", f"{f.fill_unit_weight:.1f}"):
+        for value in (
+            f"{f.x:.2f}",
+            f"{f.y:.2f}",
+            f"{f.depth:.2f}",
+            f"{f.dead_load:.0f}",
+            f"{f.live_load:.0f}",
+            f"{f.sustained_live_fraction:.2f}",
+            f"{f.sustained_load:.0f}",
+            f"{f.fill_unit_weight:.1f}",
+        ):
             assert value in text, (f.id, value)
     assert "rigid" in text
     # every stratum parameter of site.toml, as written there
@@ -134,7 +141,7 @@ def test_report_echoes_every_input_value_of_the_demo(demo_si):
         for key in ("compression_index", "recompression_index", "void_ratio", "poisson_ratio"):
             if key in st:
                 assert f"{st[key]:.3g}" in text or f"{st[key]:.2f}" in text, (st["name"], key)
-        for key, unit in (("unit_weight", "kN/m^3"), ("saturated_unit_weight", "kN/m^3")):
+        for key in ("unit_weight", "saturated_unit_weight"):  # "17 kN/m^3" in site.toml
             v = float(st[key].split()[0])
             assert f"{v:.1f}" in text, (st["name"], key)
         if "youngs_modulus" in st:
@@ -153,8 +160,15 @@ def test_report_echoes_every_input_value_of_the_demo(demo_si):
         for z, qc in zip(s.depth, s.qc):
             assert f"{z:.2f}: {qc / 1000:.2f}" in text, (s.id, z)
     assert f"Site water table: {site.water_depth:.2f} m" in text
-    for name in ("granular_method", "design_life", "sublayer_fraction", "end_of_primary",
-                 "truncation_tolerance", "map_spacing", "clay_settlement"):
+    for name in (
+        "granular_method",
+        "design_life",
+        "sublayer_fraction",
+        "end_of_primary",
+        "truncation_tolerance",
+        "map_spacing",
+        "clay_settlement",
+    ):
         assert name in text
     assert "EN 1997-1:2004 Annex H" in text and "angular distortion ≤ 1/500" in text
     assert "after 0.5 yr" in text
@@ -173,8 +187,15 @@ def test_report_order_governing_table_before_the_first_figure_and_sign_off(demo_
     assert text.index("Footing schedule") < page.first_figure  # inputs before figures too
     # the sign-off block, filled from [project]
     sign = text[text.index("Sign-off") :]
-    for word in ("prepared by", "checked by", "approved by", "P1", "2026-03-02",
-                 "A. Example (invented)", "DEMO-2026-014"):
+    for word in (
+        "prepared by",
+        "checked by",
+        "approved by",
+        "P1",
+        "2026-03-02",
+        "A. Example (invented)",
+        "DEMO-2026-014",
+    ):
         assert word in sign, word
 
 
@@ -185,8 +206,21 @@ def test_report_traces_every_failing_footing_and_the_worst_passing_one(demo_si):
     for fid in summary["failing_footings"]:
         assert f"Calculation trace of footing {fid} (fails)" in text
     assert "(the worst passing footing)" in text
-    for word in ("Δp [kPa]", "C1", "C2", "Iz", "E source", "σ'p [kPa]", "final σ' [kPa]",
-                 "branch", "primary strain", "U(t)", "drainage path [m]", "Izp", "σ'vp"):
+    for word in (
+        "Δp [kPa]",
+        "C1",
+        "C2",
+        "Iz",
+        "E source",
+        "σ'p [kPa]",
+        "final σ' [kPa]",
+        "branch",
+        "primary strain",
+        "U(t)",
+        "drainage path [m]",
+        "Izp",
+        "σ'vp",
+    ):
         assert word in text, word
 
 
@@ -268,8 +302,10 @@ def test_far_footing_is_warned_with_its_distance_and_not_paired(tmp_path):
 def test_repeated_warnings_are_grouped():
     from sitesettle.io.summary import group_warnings
 
-    warnings = [f"footing A{i} lies outside the boreholes' hull: its ground is extrapolated"
-                for i in range(31)]
+    warnings = [
+        f"footing A{i} lies outside the boreholes' hull: its ground is extrapolated"
+        for i in range(31)
+    ]
     lines = group_warnings(warnings)
     assert len(lines) <= 2
     assert lines[0].startswith("warning: 31 footings: lies outside the boreholes' hull")
@@ -300,9 +336,7 @@ def test_a_checker_can_redo_one_schmertmann_and_one_clay_sublayer(demo_si):
     sch = df[(df.method == "schmertmann") & (df.Iz > 0.3)].iloc[0]
     own = sch.C1 * sch.C2 * sch["Δp (kPa)"] * sch.Iz * sch["h (m)"] / (sch["E (MPa)"] * 1000)
     assert own * 1000 == pytest.approx(sch["own (mm)"], rel=0.005)
-    assert sch["creep (mm)"] == pytest.approx(
-        (sch.C2 - 1) * sch["on loading (mm)"], rel=0.005
-    )
+    assert sch["creep (mm)"] == pytest.approx((sch.C2 - 1) * sch["on loading (mm)"], rel=0.005)
     # clay, e–log σ' (Terzaghi; Holtz & Kovacs 1981 eq. 9-6) with Cc, Cr, e0 of site.toml
     clay_cfg = next(
         s for s in tomllib.loads((DEMO / "site.toml").read_text())["strata"] if s["name"] == "clay"
@@ -416,11 +450,22 @@ def test_printed_report_page_count_and_no_heading_at_a_page_foot(demo_si, tmp_pa
     html_path.write_text(src, encoding="utf-8")
     pdf = tmp_path / "report.pdf"
     run_ = subprocess.run(
-        [exe, "--headless", "--no-sandbox", "--disable-gpu", "--no-first-run",
-         "--disable-dev-shm-usage", "--disable-background-networking",
-         f"--user-data-dir={tmp_path / 'profile'}", "--no-pdf-header-footer",
-         f"--print-to-pdf={pdf}", html_path.as_uri()],
-        capture_output=True, text=True, timeout=600,
+        [
+            exe,
+            "--headless",
+            "--no-sandbox",
+            "--disable-gpu",
+            "--no-first-run",
+            "--disable-dev-shm-usage",
+            "--disable-background-networking",
+            f"--user-data-dir={tmp_path / 'profile'}",
+            "--no-pdf-header-footer",
+            f"--print-to-pdf={pdf}",
+            html_path.as_uri(),
+        ],
+        capture_output=True,
+        text=True,
+        timeout=600,
     )
     assert run_.returncode == 0 and pdf.exists(), run_.stderr[-2000:]
     reader = pypdf.PdfReader(str(pdf))
@@ -437,3 +482,60 @@ def test_printed_report_page_count_and_no_heading_at_a_page_foot(demo_si, tmp_pa
         assert lines, k
         assert lines[-1] not in headings, (k + 1, lines[-1])
     assert html.escape("Sign-off") in src
+
+
+#: measured in the page by a script added to a test copy only (the report has none)
+_PROBE = """<script>
+window.addEventListener('load', function () {
+  var out = {width: window.innerWidth, page: document.scrollingElement.scrollWidth};
+  var wide = null, boxes = document.querySelectorAll('div.scroll');
+  for (var i = 0; i < boxes.length; i++) {
+    if (boxes[i].scrollWidth > boxes[i].clientWidth + 20) { wide = boxes[i]; break; }
+  }
+  if (wide) {
+    var cell = wide.querySelector('tbody td');
+    var before = cell.getBoundingClientRect().left;
+    wide.scrollLeft = 300;
+    out.scrolled = wide.scrollLeft;
+    out.idShift = Math.abs(cell.getBoundingClientRect().left - before);
+    out.position = getComputedStyle(cell).position;
+  }
+  document.title = 'PROBE' + JSON.stringify(out);
+});
+</script>"""
+
+
+@pytest.mark.browser
+def test_at_400_px_tables_scroll_sideways_with_the_id_column_fixed(demo_si, tmp_path):
+    exe = _chromium()
+    if exe is None:
+        pytest.skip("no chromium binary on this machine (apt-get install chromium)")
+    out, *_ = demo_si
+    src = (out / "report.html").read_text(encoding="utf-8").replace("</body>", _PROBE + "</body>")
+    page = tmp_path / "narrow.html"
+    page.write_text(src, encoding="utf-8")
+    run_ = subprocess.run(
+        [
+            exe,
+            "--headless",
+            "--no-sandbox",
+            "--disable-gpu",
+            "--no-first-run",
+            "--disable-dev-shm-usage",
+            f"--user-data-dir={tmp_path / 'profile'}",
+            "--window-size=400,900",
+            "--virtual-time-budget=20000",
+            "--dump-dom",
+            page.as_uri(),
+        ],
+        capture_output=True,
+        text=True,
+        timeout=600,
+    )
+    assert run_.returncode == 0, run_.stderr[-2000:]
+    m = re.search(r"<title>PROBE(\{.*?\})</title>", run_.stdout)
+    assert m, run_.stdout[:500]
+    probe = json.loads(html.unescape(m.group(1)))
+    assert probe["page"] <= probe["width"] + 1, probe  # the page itself does not overflow
+    assert probe.get("scrolled", 0) > 0, probe  # a wide table scrolls inside its box
+    assert probe["position"] == "sticky" and probe["idShift"] < 1, probe  # id column stays
