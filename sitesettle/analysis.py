@@ -20,7 +20,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from dataclasses import field as dc_field
 
 import numpy as np
@@ -30,10 +30,11 @@ from sitesettle import columns as colmod
 from sitesettle import field as fld
 from sitesettle import stress
 from sitesettle.columns import GroundColumns, Points
+from sitesettle.errors import InputError
 from sitesettle.ground import Ground
 from sitesettle.options import DepthRule
 from sitesettle.results import QueryResults, Results, SettlementMap, Trace
-from sitesettle.site import Footing, Site
+from sitesettle.site import Footing, LoadStage, Site
 
 #: a settlement above this fraction of the footing width is commonly taken as
 #: bearing failure (common practice, e.g. the 0.1 B settlement criterion of plate
@@ -98,29 +99,93 @@ def footing_loads(
     return loads, load_of
 
 
+def area_loads(loads) -> stress.Loads:
+    """Stress-engine loads of the site's area loads (uniform polygons, in order)."""
+    return stress.Loads.polygons(
+        [np.asarray(a.outline, float) for a in loads],
+        np.array([a.pressure for a in loads], float),
+        np.array([a.depth for a in loads], float),
+    )
+
+
+def pressure_parts(site: Site, ground: Ground) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Per footing: the dead part of the net pressure (with the fill and the removed
+    overburden), the live pressure and its sustained part [kPa]."""
+    dead, live, sust = [], [], []
+    cols = ground.columns([f.x for f in site.footings], [f.y for f in site.footings])
+    for f, col in zip(site.footings, cols):
+        s0 = float(col.total_stress(np.array([f.depth]))[0])
+        extra = f.fill_unit_weight * f.depth - s0
+        dead.append(f.dead_load / f.area + extra)
+        live.append(f.live_load / f.area)
+        sust.append(f.sustained_live_fraction * f.live_load / f.area)
+    return np.array(dead), np.array(live), np.array(sust)
+
+
 def net_pressures(site: Site, ground: Ground) -> tuple[np.ndarray, np.ndarray, list[str]]:
     """Net base pressure of every footing, full service and sustained [kPa].
 
     ``q_net = P/A + γ_f·D − σ_v0(D)`` with σ_v0 the total overburden at base level
     under the footing centre (DESIGN §3; γ_f default 20 kN/m³, common practice).
-    A negative net pressure (an over-excavated footing) is set to 0 with a
-    warning: the methods here do not model heave.
+    A negative net pressure (a footing lighter than the soil it replaces) unloads
+    the ground: granular strata rebound with the unloading modulus and clay swells
+    on Cr (docs/methods.md §4.7), with a warning that names the footing.
     """
-    full, sust, warn = [], [], []
-    cols = ground.columns([f.x for f in site.footings], [f.y for f in site.footings])
-    for f, col in zip(site.footings, cols):
-        s0 = float(col.total_stress(np.array([f.depth]))[0])
-        extra = f.fill_unit_weight * f.depth - s0
-        qf = f.service_load / f.area + extra
-        qs = f.sustained_load / f.area + extra
-        if qf < 0 or qs < 0:
-            warn.append(
-                f"footing {f.id}: net pressure {min(qf, qs):.1f} kPa < 0 taken as 0 "
-                "(heave is not modelled)"
+    dead, live, sust = pressure_parts(site, ground)
+    qf, qs = dead + live, dead + sust
+    warn = [
+        f"footing {f.id}: net pressure {min(a, b):.1f} kPa < 0: it unloads the ground, "
+        f"which rebounds (granular strata with {fld.UNLOADING_MODULUS_RATIO:g} × E, clay "
+        "swelling on Cr)"
+        for f, a, b in zip(site.footings, qf, qs)
+        if a < 0 or b < 0
+    ]
+    return qf, qs, warn
+
+
+def resolve_excavations(site: Site, ground: Ground) -> Site:
+    """Area loads given as excavations get their pressure: minus the overburden removed.
+
+    An excavation to depth d unloads its base by the total vertical stress σv0(d)
+    there (at the centroid of its outline: water and strata as the boreholes give
+    them), applied at depth d as a negative uniform pressure.
+    """
+    if not any(a.excavation_depth > 0 for a in site.area_loads):
+        return site
+    out = []
+    for a in site.area_loads:
+        if a.excavation_depth > 0:
+            cx, cy = np.asarray(a.outline, float).mean(axis=0)
+            col = ground.columns([cx], [cy])[0]
+            s0 = float(col.total_stress(np.array([a.excavation_depth]))[0])
+            a = replace(
+                a,
+                pressure=-s0,
+                depth=a.excavation_depth,
+                description=f"excavation {a.excavation_depth:g} m deep: {-s0:.1f} kPa "
+                "(the overburden removed)",
             )
-        full.append(max(qf, 0.0))
-        sust.append(max(qs, 0.0))
-    return np.array(full), np.array(sust), warn
+        out.append(a)
+    return replace(site, area_loads=tuple(out))
+
+
+def load_stages(site: Site) -> tuple[LoadStage, ...]:
+    """The load history: the site's stages, or the default one.
+
+    By default the dead load and every area load arrive at time 0 and the live load
+    just after ``[checks] checked_after`` (:func:`live_load_start`; at time 0 when it
+    is 0).
+    """
+    if site.stages:
+        return site.stages
+    names = tuple(a.name for a in site.area_loads)
+    tl = live_load_start(site)
+    if tl > 0:
+        return (
+            LoadStage("dead load", 0.0, 0.0, dead=1.0, area_loads=names),
+            LoadStage("live load", tl, 0.0, live=1.0),
+        )
+    return (LoadStage("all loads", 0.0, 0.0, dead=1.0, live=1.0, area_loads=names),)
 
 
 # --------------------------------------------------------------------------- stage 1
@@ -140,32 +205,130 @@ class Context:
     loads_sust: stress.Loads
     load_of: np.ndarray
     warnings: list[str]
+    #: the load history (:func:`load_stages`) and, for each stage but the last, the
+    #: loads applied once it is complete: (q_full, q_sust, loads_full, loads_sust)
+    stages: tuple[LoadStage, ...] = ()
+    states: tuple = ()
 
     @property
     def total_load(self) -> float:
-        """Σ |q|·A over the footings [kN] (for the depth bound)."""
+        """Σ |q|·A over the footings and area loads [kN] (for the depth bound)."""
         areas = np.array([f.area for f in self.site.footings])
-        return float(np.sum(np.abs(self.q_full) * areas))
+        extra = sum(abs(a.pressure) * a.area for a in self.site.area_loads)
+        return float(np.sum(np.abs(self.q_full) * areas) + extra)
 
     @property
     def load_depth(self) -> float:
         """Depth of the deepest load plane [m]."""
-        return float(max((f.depth for f in self.site.footings), default=0.0))
+        depths = [f.depth for f in self.site.footings] + [a.depth for a in self.site.area_loads]
+        return float(max(depths, default=0.0))
 
 
 def prepare(site: Site) -> Context:
     """Stage 1: ground, report times, net pressures and the stress-engine loads."""
     st = site.analysis
     ground = Ground(site)
-    times = np.unique(np.array([*st.report_times, st.design_life], dtype=float))
+    site = resolve_excavations(site, ground)
+    stages = load_stages(site)
+    check_stages(site, stages)
+    marks = [t for stg in stages for t in (stg.start, stg.end)]
+    times = np.unique(np.array([*st.report_times, st.design_life, *marks], dtype=float))
     times = times[times > 0]
     life = int(np.argmin(np.abs(times - st.design_life)))
     q_full, q_sust, warnings = net_pressures(site, ground)
     loads_full, load_of = footing_loads(site.footings, q_full)
-    loads_sust = loads_full.with_pressure(q_sust[np.argsort(load_of)])
+    order = np.argsort(load_of)
+    loads_sust = loads_full.with_pressure(q_sust[order])
+    area_p = np.array([a.pressure for a in site.area_loads], float)
+    if site.area_loads:  # after the footings' loads: load_of is unchanged
+        area = area_loads(site.area_loads)
+        loads_full = stress.Loads.concat(loads_full, area)
+        loads_sust = stress.Loads.concat(loads_sust, area)  # permanent: sustained in full
+    states = []
+    if len(stages) > 1:
+        dead, live, sust = pressure_parts(site, ground)
+        cd = np.cumsum([stg.dead for stg in stages])
+        cl = np.cumsum([stg.live for stg in stages])
+        first = {}
+        for k, stg in enumerate(stages):
+            for name in stg.area_loads:
+                first.setdefault(name, k)
+        area_stage = np.array([first.get(a.name, 0) for a in site.area_loads], dtype=int)
+        for k in range(len(stages) - 1):
+            qf = np.maximum(cd[k] * dead + cl[k] * live, 0.0)
+            qs = np.maximum(cd[k] * dead + cl[k] * sust, 0.0)
+            ap = np.where(area_stage <= k, area_p, 0.0)
+            states.append(
+                (
+                    qf,
+                    qs,
+                    loads_full.with_pressure(np.concatenate([qf[order], ap])),
+                    loads_full.with_pressure(np.concatenate([qs[order], ap])),
+                )
+            )
     return Context(
-        site, ground, times, life, q_full, q_sust, loads_full, loads_sust, load_of, warnings
+        site,
+        ground,
+        times,
+        life,
+        q_full,
+        q_sust,
+        loads_full,
+        loads_sust,
+        load_of,
+        warnings,
+        stages,
+        tuple(states),
     )
+
+
+def check_stages(site: Site, stages) -> None:
+    """The stages apply every load exactly once (InputError naming what is wrong)."""
+    where = "site.toml [[stages]]"
+    for name, total, used in (
+        ("dead", sum(stg.dead for stg in stages), True),
+        ("live", sum(stg.live for stg in stages), any(f.live_load > 0 for f in site.footings)),
+    ):
+        if used and abs(total - 1.0) > 1e-6:
+            raise InputError(
+                where,
+                f"the stages apply {total:g} of the {name} load",
+                f"{name} fractions that add up to 1 over the stages",
+            )
+    known = {a.name for a in site.area_loads}
+    seen: set[str] = set()
+    for stg in stages:
+        for name in stg.area_loads:
+            if name not in known:
+                raise InputError(
+                    f"{where} (\"{stg.name}\"), key 'area_loads'",
+                    f'unknown area load "{name}"',
+                    f"one of the [[area_loads]] names: {', '.join(sorted(known)) or 'none'}",
+                )
+            if name in seen:
+                raise InputError(
+                    f"{where} (\"{stg.name}\"), key 'area_loads'",
+                    f'the area load "{name}" is applied twice',
+                    "each area load in one stage",
+                )
+            seen.add(name)
+
+
+def live_load_start(site: Site) -> float:
+    """When the live load arrives [yr]: just after ``[checks] checked_after`` by default.
+
+    The dead load (and every area load) is applied at time 0; the live load — the
+    finishes' occupants, stored goods, the part of the load that comes once the
+    building is in use — arrives when the structure is complete, so the movement
+    checked after ``checked_after`` includes its settlement on loading. 0 when there
+    is no live load, nothing is checked after a time, or ``[analysis] live_load_from
+    = "start"``.
+    """
+    t = float(site.checks.checked_after)
+    has_live = any(f.live_load > 0 for f in site.footings)
+    if site.analysis.live_load_from != "checked_after" or t <= 0 or not has_live:
+        return 0.0
+    return t
 
 
 # --------------------------------------------------------------------------- stage 2
@@ -208,6 +371,8 @@ class Integration:
     bound: np.ndarray  # (n_columns,) bound of what lies below [m]
     own_notes: dict[int, list[str]]
     spt_modulus: dict[str, float]
+    #: (n_sub,) the sublayers of the first pass (where the own-load methods apply)
+    first_pass: np.ndarray | None = None
     own_params: dict[int, dict[str, float]] = dc_field(default_factory=dict)
 
 
@@ -261,7 +426,9 @@ def integrate(
     if math.isfinite(st.max_depth_widths):
         user_cap = np.minimum(user_cap, pts.base + st.max_depth_widths * pts.scale)
     stop = np.minimum(np.minimum(rigid, user_cap), colmod.MAX_INTEGRATION_DEPTH)
-    planes = np.unique([f.depth for f in site.footings])[:MAX_LOAD_PLANES]
+    planes = np.unique([f.depth for f in site.footings] + [a.depth for a in site.area_loads])[
+        :MAX_LOAD_PLANES
+    ]
     reach = np.maximum(colmod.FIRST_REACH_WIDTHS * pts.scale, colmod.FIRST_REACH_METRES)
     z_from = pts.base.copy()
     z_to = np.minimum(stop, pts.base + reach)
@@ -369,6 +536,10 @@ def integrate(
     sub = fld.Sublayers.concat(parts) if parts else _empty_sublayers()
     order = np.lexsort((sub.top, sub.col))
     sub = sub.take(order)
+    first_pass = np.zeros(len(sub), dtype=bool)
+    if parts:
+        first_pass[: len(parts[0])] = True
+        first_pass = first_pass[order]
     bottom = np.where(z_to > pts.base, z_to, pts.base)
     bound = np.where(bottom >= rigid - 1e-9, 0.0, bound)
     reason = np.where(
@@ -384,7 +555,7 @@ def integrate(
             ),
         ),
     )
-    return Integration(sub, bottom, reason, bound, own_notes, spt_modulus, own_params)
+    return Integration(sub, bottom, reason, bound, own_notes, spt_modulus, first_pass, own_params)
 
 
 def _subset(gc: GroundColumns, cols: np.ndarray) -> GroundColumns:
@@ -450,14 +621,14 @@ def _stresses(ctx: Context, sub: fld.Sublayers, tol: float) -> None:
     sub.own_sust = np.where(sub.owner >= 0, sub.own_sz * ratio[np.maximum(sub.owner, 0)], 0.0)
 
 
-def _histories(ctx, sub, tab, gc, *, own_mask=None, total_mask=None) -> fld.History:
+def _histories(ctx, sub, tab, gc, *, own_mask=None, total_mask=None, times=None) -> fld.History:
     """Stage 4 with the site's settings (the one place the engine's histories are asked for)."""
     st = ctx.site.analysis
     return fld.histories(
         sub,
         tab,
         gc,
-        ctx.times,
+        ctx.times if times is None else times,
         end_of_primary=st.end_of_primary,
         r3=st.bb_r3,
         r=st.bb_r,
@@ -468,6 +639,165 @@ def _histories(ctx, sub, tab, gc, *, own_mask=None, total_mask=None) -> fld.Hist
         cohesive_immediate=st.cohesive_immediate,
         strip=_strip_sublayers(ctx.site, sub),
     )
+
+
+def _state(ctx: Context, run: Integration, tab, gc, state) -> tuple[Context, fld.Sublayers]:
+    """The sublayers' stresses and strains under the loads of one stage's state.
+
+    ``state`` is (q_full, q_sust, loads_full, loads_sust). The same columns and
+    sublayers as the full run; the own-load methods applied on the first pass's
+    sublayers as :func:`integrate` does, with the state's pressures.
+    """
+    st = ctx.site.analysis
+    qf, qs, lf, ls = state
+    sctx = replace(ctx, q_full=qf, q_sust=qs, loads_full=lf, loads_sust=ls)
+    d = run.sub.take(np.arange(len(run.sub)))
+    _stresses(sctx, d, st.stress_tolerance)
+    d.sig0 = run.sub.sig0
+    fld.sublayer_strains(
+        d, tab, ctx.ground, run.spt_modulus, cohesive_immediate=st.cohesive_immediate
+    )
+    first = np.flatnonzero(run.first_pass)
+    rest = np.flatnonzero(~run.first_pass)
+    a = d.take(first)
+    fld.own_load_settlement(
+        a,
+        tab,
+        gc,
+        ctx.ground,
+        ctx.site.footings,
+        qf,
+        shape_interpolation=st.shape_interpolation,
+        bb_reading=str(st.bb_pressure),
+    )
+    stale = np.flatnonzero(np.isnan(a.gran_nb) | np.isnan(a.gran_own))
+    fld.granular_field(
+        a,
+        stale[np.isin(a.method[stale], ["", "elastic"]) | np.isnan(a.gran_nb[stale])],
+        tab,
+        ctx.ground,
+        run.spt_modulus,
+    )
+    b = d.take(rest)
+    fld.own_below_reach(b, tab)
+    both = fld.Sublayers.concat([a, b])
+    return sctx, both.take(np.argsort(np.concatenate([first, rest])))
+
+
+#: the parts of a History that change with time (the others are per sublayer)
+_TIMED = ("imm_own", "imm_nb", "creep_own", "creep_nb", "cons_own", "cons_nb", "sec_own", "sec_nb")
+
+
+#: Gauss–Legendre nodes over a ramp (the ramp integral of an instant-load history)
+RAMP_NODES = 24
+
+
+def ramp_nodes(tau, duration, n: int = RAMP_NODES):
+    """Quadrature of a load applied linearly over ``duration`` from instant-load histories.
+
+    Parameters
+    ----------
+    tau : array_like
+        (n_t,) time since the start of the loading [yr].
+    duration : float
+        Loading period T_c [yr]; 0: applied at once.
+    n : int
+        Gauss–Legendre nodes over the ramp.
+
+    Returns
+    -------
+    time, weight, index : numpy.ndarray
+        H_ramp(τ_q) = Σ weight · H_inst(time) over the nodes with ``index`` = q.
+
+    Notes
+    -----
+    A linear ramp is the sum of infinitesimal instant increments dq = q ds/T_c, each
+    acting from its own start (Duhamel's superposition, the basis of Olson's 1977
+    ramp-loading solution of Terzaghi's equation):
+
+    .. math:: H_{ramp}(\\tau) = \\frac{1}{T_c}\\int_0^{\\min(\\tau, T_c)}
+              H_{inst}(\\tau - s)\\,ds
+
+    integrated here by Gauss–Legendre quadrature (tested against Olson's closed form).
+
+    Examples
+    --------
+    >>> t, w, q = ramp_nodes([2.0], 0.0)
+    >>> t.tolist(), w.tolist(), q.tolist()
+    ([2.0], [1.0], [0])
+    >>> t, w, q = ramp_nodes([0.5, 2.0], 1.0, n=4)
+    >>> [round(float(w[q == k].sum()), 6) for k in (0, 1)]  # load applied so far
+    [0.5, 1.0]
+    """
+    tau = np.asarray(tau, dtype=float)
+    idx = np.flatnonzero(tau > 0)
+    if duration <= 0:
+        return tau[idx], np.ones(len(idx)), idx
+    x, w = np.polynomial.legendre.leggauss(n)
+    span = np.minimum(tau[idx], duration)  # (m,)
+    s = span[:, None] / 2 * (x[None, :] + 1)  # (m, n) times since the start of loading
+    time = tau[idx, None] - s
+    weight = span[:, None] / 2 * w[None, :] / duration
+    return time.ravel(), weight.ravel(), np.repeat(idx, n)
+
+
+def _add_nodes(acc, values, weight, index, sign: float) -> None:
+    """acc[:, q] += sign · Σ weight · values over the nodes of report time q (in place).
+
+    :func:`ramp_nodes` gives every report time the same number of consecutive nodes,
+    so the sum is a reshape, not a scatter.
+    """
+    if not len(index):
+        return
+    q = np.unique(index)
+    k = len(index) // len(q)
+    part = (values * weight).reshape(values.shape[0], len(q), k).sum(axis=2)
+    acc[:, q] += sign * part
+
+
+def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mask=None):
+    """Histories of the load stages, each increment from its own start, by superposition.
+
+    With H_k the history of every sublayer under the loads of stages 1…k (the last
+    is the full run), stage k starting at t_k and ramped over T_k,
+
+        H(t) = Σ_k R_k[H_k − H_{k−1}](t − t_k)
+
+    where R_k is the ramp integral of :func:`ramp_nodes` (the identity for a load
+    applied at once; H_0 = 0): each increment's settlement on loading, creep,
+    consolidation and the secondary compression that goes with it, from its own
+    start (superposition of load increments, as for staged loading in Terzaghi's
+    theory; exact where the model is linear, and the usual approximation for e–log
+    clay, which it makes exact once every increment is consolidated).
+    """
+    t = ctx.times
+    stages = ctx.stages
+    K = len(stages)
+    nodes = [ramp_nodes(t - stg.start, stg.duration) for stg in stages]
+    nt = len(t)
+    out = {name: np.zeros((len(run.sub), nt)) for name in _TIMED}
+    full = None
+    for j in range(K):  # one state at a time: memory of two histories, not K
+        sctx, ssub = _state(ctx, run, tab, gc, ctx.states[j]) if j < K - 1 else (ctx, run.sub)
+        # state j enters increment j (+) and increment j + 1 (−)
+        own_t, own_w, own_q = nodes[j]
+        nxt_t, nxt_w, nxt_q = nodes[j + 1] if j + 1 < K else (np.zeros(0),) * 3
+        grid = np.concatenate([own_t, nxt_t, t if j == K - 1 else np.zeros(0)])
+        if not len(grid):
+            continue
+        h = _histories(sctx, ssub, tab, gc, own_mask=own_mask, total_mask=total_mask, times=grid)
+        del ssub
+        if j == K - 1:
+            full = (h.degree[:, -nt:].copy(), h.drainage_path, h.drainage_note)
+        a, b = len(own_t), len(own_t) + len(nxt_t)
+        for name in _TIMED:
+            v = getattr(h, name)
+            acc = out[name]
+            _add_nodes(acc, v[:, :a], own_w, own_q, 1.0)
+            if b > a:
+                _add_nodes(acc, v[:, a:b], nxt_w, nxt_q, -1.0)
+        del h
+    return fld.History(**out, degree=full[0], drainage_path=full[1], drainage_note=full[2])
 
 
 def _strip_sublayers(site: Site, sub: fld.Sublayers) -> np.ndarray:
@@ -531,6 +861,7 @@ def analyse(
     st = site.analysis
     say("net pressures", 0.0)
     ctx = prepare(site)
+    site = ctx.site  # excavations resolved to their pressures
     pts, layout = evaluation_points(site, with_map=with_map)
     gc = GroundColumns.build(ctx.ground, pts.xy)
     tab = fld.Tables.build(gc, str(st.granular_method))
@@ -540,14 +871,14 @@ def analyse(
     significant, own_mask, total_mask = depth_masks(sub, n, st.influence_fraction)
     ratio_rule = st.depth_rule == DepthRule.STRESS_RATIO
     say("settlements", 0.7)
-    hist = _histories(
-        ctx,
-        sub,
-        tab,
-        gc,
-        own_mask=own_mask if ratio_rule else None,
-        total_mask=total_mask if ratio_rule else None,
-    )
+    masks = {
+        "own_mask": own_mask if ratio_rule else None,
+        "total_mask": total_mask if ratio_rule else None,
+    }
+    if len(ctx.stages) > 1 or ctx.stages[0].start > 0 or ctx.stages[0].duration > 0:
+        hist = staged_histories(ctx, run, tab, gc, **masks)
+    else:
+        hist = _histories(ctx, sub, tab, gc, **masks)
     say("assembling", 0.85)
     cols = {
         "imm": per_column(sub, hist.imm_own + hist.imm_nb, n),
@@ -634,6 +965,7 @@ def analyse(
             station_xy=feet["station_xy"],
             station_total=feet["station_total"],
             query=None if query is None else (query.ids, query.xy, query.total),
+            on_loading=results.immediate[:, ctx.life],
         )
     say("done", 1.0)
     return Results(**{**results.__dict__, "checks": chk, "warnings": tuple(warnings)})
@@ -769,9 +1101,44 @@ def _basis(site: Site, ctx: Context) -> tuple[str, ...]:
         f"settlements at the design life, {life:g} yr after loading, unless a time is named",
         "loads: the full service load (dead + live) for settlement on loading and in "
         "granular strata; dead + sustained live for consolidation and creep of clay",
-        "all loads applied at time 0",
+        _load_history(site, ctx),
         f"integration depth: {rule}",
     )
+
+
+def _load_history(site: Site, ctx: Context) -> str:
+    """One line that says when each load arrives."""
+    return "load history: " + describe_stages(ctx.stages, site)
+
+
+def describe_stages(stages, site: Site) -> str:
+    """The stages in words (for the basis lines, the summary and the report)."""
+    if not site.stages:  # the default history
+        area = " and the area loads" if site.area_loads else ""
+        if len(stages) > 1:
+            return (
+                f"dead load{area} at time 0; live load just after {stages[1].start:g} yr "
+                "([checks] checked_after), so the checked movement includes its settlement "
+                "on loading"
+            )
+        return f"all loads{area} at time 0"
+    parts = []
+    for stg in stages:
+        what = []
+        if stg.dead:
+            what.append("dead load" if stg.dead == 1 else f"{stg.dead:.0%} of the dead load")
+        if stg.live:
+            what.append("live load" if stg.live == 1 else f"{stg.live:.0%} of the live load")
+        what += list(stg.area_loads)
+        when = (
+            "at time 0"
+            if stg.start == 0 and stg.duration == 0
+            else f"just after {stg.start:g} yr"
+            if stg.duration == 0
+            else f"from {stg.start:g} to {stg.end:g} yr (ramp)"
+        )
+        parts.append(f"{stg.name}: {', '.join(what) or 'nothing'} {when}")
+    return "; ".join(parts)
 
 
 def _map_basis(site: Site, ctx: Context) -> str:

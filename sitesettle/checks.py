@@ -17,9 +17,9 @@ from scipy.spatial import cKDTree
 
 from sitesettle.criteria import MEASURES, CriteriaSet, Limit, format_value, get_criteria
 from sitesettle.errors import InputError
-from sitesettle.options import Choice
+from sitesettle.options import Choice, RigidTilt
 from sitesettle.results import Checks, LineChecks, PairChecks
-from sitesettle.site import CheckSettings, Footing
+from sitesettle.site import CheckSettings, Footing, foundation_kind
 
 #: relative tolerance of the neighbour rule: a footing c blocks the pair ab only when
 #: max(d(a,c), d(b,c)) < (1 − tol)·d(a,b), so that exact ties (equilateral triangles,
@@ -30,6 +30,11 @@ NEIGHBOUR_TOLERANCE = 1e-9
 ELONGATED_RATIO = 2.0
 #: at most this many centre-line points per elongated footing
 MAX_LINE_SAMPLES = 200
+#: a footing whose settlement on loading exceeds this fraction of its width is outside
+#: the range of the settlement methods: bearing failure is likely (a common proxy for
+#: the ultimate state of a footing: failure load at a settlement of 10 % of B, e.g.
+#: Vesić 1975, Briaud 2007; common practice)
+BEARING_PROXY = 0.1
 #: nearest points queried per footing before the exhaustive fallback
 _K_NEAREST = 32
 
@@ -526,6 +531,105 @@ def relative_deflection(xy, s) -> tuple[np.ndarray, np.ndarray]:
     return delta, length
 
 
+def angular_strain(xy, s) -> np.ndarray:
+    """Angular strain α at each interior point of a line (EN 1997-1:2004 Fig. H.1).
+
+    Parameters
+    ----------
+    xy : array_like
+        (n, 2) points in order along the line [m].
+    s : array_like
+        (n,) their settlements [m] (downward positive).
+
+    Returns
+    -------
+    numpy.ndarray
+        (n − 2,) α_i = (s_i − s_{i−1})/L_{i−1,i} − (s_{i+1} − s_i)/L_{i,i+1} [-]:
+        the change of slope at point i, positive where the line sags (the point
+        settles more than the line joining its neighbours).
+
+    Examples
+    --------
+    >>> angular_strain([[0, 0], [5, 0], [10, 0]], [0.0, 0.01, 0.0]).round(6).tolist()
+    [0.004]
+    """
+    xy = np.asarray(xy, dtype=float).reshape(-1, 2)
+    s = np.asarray(s, dtype=float)
+    d = np.hypot(*np.diff(xy, axis=0).T)
+    slope = np.diff(s) / d
+    return slope[:-1] - slope[1:]
+
+
+def deflection_zones(xy, s) -> list[tuple[int, int, float, float, str]]:
+    """Sagging and hogging zones of a line and the relative deflection of each.
+
+    Parameters
+    ----------
+    xy : array_like
+        (n, 2) points in order along the line [m] (n ≥ 2).
+    s : array_like
+        (n,) their settlements [m] (downward positive).
+
+    Returns
+    -------
+    list of (first, last, delta, length, kind)
+        Point indices of the zone's ends, its relative deflection Δ [m] from its own
+        chord (+ sagging, − hogging), its length along the line [m] and
+        ``"sagging"`` or ``"hogging"``, in order along the line.
+
+    Notes
+    -----
+    Burland & Wroth (1974) and Burland, Broms & de Mello (1977) judge a wall by
+    the deflection ratio Δ/L of each sagging and each hogging zone, measured from
+    the chord of the zone over its own length, since the two modes crack walls at
+    different ratios. On discrete points the zones are the runs of interior points
+    whose angular strain (:func:`angular_strain`) has one sign (points with α = 0
+    join the run before them); a run of interior points p…q makes the zone from
+    point p − 1 to point q + 1, so zones either side of an inflection share one
+    segment (or meet at a point where α = 0); the first zone starts at the line's
+    first point and the last ends at its last point. A line of one curvature is one
+    zone: the whole line and its chord, as :func:`relative_deflection`.
+
+    Examples
+    --------
+    >>> xy = [[0, 0], [5, 0], [10, 0], [15, 0], [20, 0]]
+    >>> [(a, b, round(d, 4), L, k) for a, b, d, L, k in
+    ...  deflection_zones(xy, [0.0, 0.01, 0.0, -0.01, 0.0])]
+    [(0, 2, 0.01, 10.0, 'sagging'), (2, 4, -0.01, 10.0, 'hogging')]
+    """
+    xy = np.asarray(xy, dtype=float).reshape(-1, 2)
+    s = np.asarray(s, dtype=float)
+    n = len(s)
+    chain = np.concatenate([[0.0], np.cumsum(np.hypot(*np.diff(xy, axis=0).T))])
+    if n < 3:
+        return [(0, n - 1, 0.0, float(chain[-1]), "sagging")]
+    alpha = angular_strain(xy, s)
+    scale = max(float(np.nanmax(np.abs(alpha))), 1e-300) if np.isfinite(alpha).any() else 1.0
+    sign = np.where(np.abs(alpha) <= 1e-9 * scale, 0, np.sign(alpha)).astype(int)
+    nonzero = np.flatnonzero(sign)
+    if not len(nonzero):  # straight: one zone, Δ = 0
+        nonzero, sign = np.array([0]), np.ones_like(sign)
+    runs = []  # (first interior, last interior, sign); zeros between equal signs merge
+    for k in nonzero:
+        if runs and runs[-1][2] == sign[k]:
+            runs[-1][1] = int(k)
+        else:
+            runs.append([int(k), int(k), int(sign[k])])
+    runs[0][0] = 0
+    runs[-1][1] = len(sign) - 1
+    zones = []
+    for p, q, sg in runs:
+        a, b = p, q + 2  # interior index k is point k + 1
+        length = float(chain[b] - chain[a])
+        chord = s[a] + (s[b] - s[a]) * (chain[a : b + 1] - chain[a]) / length
+        d = s[a : b + 1] - chord
+        delta = float(np.nanmax(d)) if sg > 0 else float(np.nanmin(d))
+        if np.isnan(d).any():
+            delta = math.nan
+        zones.append((a, b, delta, length, "sagging" if sg > 0 else "hogging"))
+    return zones
+
+
 def movement_after(times, s, t_after: float) -> np.ndarray:
     """The part of the settlement that happens after ``t_after``.
 
@@ -638,60 +742,96 @@ def relative_rotation_along(xy, s) -> float:
     return float(np.max(np.abs(np.diff(s) / d - chord)))
 
 
-def _strip_lines(footings, st_xy, st_moved, cset, line_checks):
+def _zone_label(ids, a: int, b: int, kind: str) -> str:
+    if ids is None:
+        return kind
+    return f"{kind} {ids[a]}–{ids[b]}"
+
+
+def _line_row(ids, label_ids, xy, s, cset: CriteriaSet, rotation=math.nan, suffix=""):
+    """Check one line (a structure line or a strip) by its sagging and hogging zones.
+
+    Returns the row of :class:`LineChecks` as a dict, and the hogging zones as
+    (first, last) point indices.
+    """
+    sag = cset.limit("deflection_ratio")
+    hog = cset.limit("deflection_ratio_hog") or sag
+    zones = deflection_zones(xy, s)
+    best = None
+    sag_ratio, hog_ratio = math.nan, math.nan
+    for a, b, delta, length, kind in zones:
+        ratio = delta / length if length > 0 else math.nan
+        if kind == "sagging":
+            sag_ratio = ratio if math.isnan(sag_ratio) else max(sag_ratio, ratio)
+        else:
+            hog_ratio = ratio if math.isnan(hog_ratio) else min(hog_ratio, ratio)
+        lim = sag if kind == "sagging" else hog
+        util = abs(ratio) / lim.value if lim is not None else -math.inf
+        key = math.inf if math.isnan(util) else util
+        if best is None or key > best[0] or (key == best[0] and abs(ratio) > abs(best[4])):
+            best = (key, util, lim, (a, b, delta, length, kind), ratio)
+    _, util, lim, (a, b, delta, length, kind), ratio = best
+    alpha = angular_strain(xy, s) if len(s) >= 3 else np.zeros(0)
+    a_max = float(alpha[np.nanargmax(np.abs(alpha))]) if np.isfinite(alpha).any() else math.nan
+    chain = float(np.sum(np.hypot(*np.diff(np.asarray(xy, float), axis=0).T)))
+    if lim is None:
+        text, util, passed = f"no deflection-ratio limit in {cset.name}", math.nan, True
+    else:
+        text = lim.describe() + suffix
+        passed = bool(np.isfinite(util) and util <= 1.0)
+    row = {
+        "ids": tuple(ids),
+        "length": chain,
+        "relative_deflection": delta,
+        "deflection_ratio": ratio,
+        "limit": text,
+        "limit_value": lim.value if lim else math.nan,
+        "limit_source": lim.source if lim else "",
+        "utilisation": util,
+        "passed": passed,
+        "angular_distortion": rotation,
+        "zone": _zone_label(label_ids, a, b, kind),
+        "zone_length": length,
+        "sagging_ratio": sag_ratio,
+        "hogging_ratio": hog_ratio,
+        "angular_strain": a_max,
+    }
+    hog_zones = [(z[0], z[1]) for z in zones if z[4] == "hogging"]
+    return row, hog_zones
+
+
+def _line_checks(rows: list[dict]) -> LineChecks | None:
+    if not rows:
+        return None
+    fields = LineChecks.__dataclass_fields__
+    out = {}
+    for k in fields:
+        values = [r[k] for r in rows]
+        out[k] = (
+            tuple(values)
+            if k in ("ids", "limit", "limit_source", "zone")
+            else np.array(values, dtype=bool if k == "passed" else float)
+        )
+    return LineChecks(**out)
+
+
+def _strip_rows(footings, st_xy, st_moved, cset) -> list[dict]:
     """Deflection ratio along every footing with several stations (a strip), checked like
-    a structure line; the largest relative rotation between its stations is reported
-    with it, not checked: stations one width apart see the local end effect of a
-    flexible strip, which the wall it carries bridges (the deflection ratio is the
+    a structure line (by zones); the largest relative rotation between its stations is
+    reported with it, not checked: stations one width apart see the local end effect of
+    a flexible strip, which the wall it carries bridges (the deflection ratio is the
     measure for a wall; Burland & Wroth 1974)."""
     rows = []
     for i, f in enumerate(footings):
         ok = np.isfinite(st_xy[i, :, 0])
         if ok.sum() < 3:
             continue
-        d, length = relative_deflection(st_xy[i, ok], st_moved[i, ok])
         rot = relative_rotation_along(st_xy[i, ok], st_moved[i, ok])
-        rows.append(((f.id,), float(length), float(d), rot))
-    if not rows:
-        return line_checks
-    sag = cset.limit("deflection_ratio")
-    hog = cset.limit("deflection_ratio_hog") or sag
-    deltas = np.array([r[2] for r in rows])
-    lengths = np.array([r[1] for r in rows])
-    rotation = np.array([r[3] for r in rows])
-    ratio = deltas / lengths
-    lims = [hog if d < 0 else sag for d in deltas]
-    util, gov, passed = _govern([ratio], [lims], len(rows))
-    new = LineChecks(
-        ids=tuple(r[0] for r in rows),
-        length=lengths,
-        relative_deflection=deltas,
-        deflection_ratio=ratio,
-        limit=tuple(
-            (g.describe() + " along the strip")
-            if g
-            else f"no deflection-ratio limit in {cset.name}"
-            for g in gov
-        ),
-        limit_value=np.array([g.value if g else np.nan for g in gov]),
-        limit_source=tuple(g.source if g else "" for g in gov),
-        utilisation=util,
-        passed=passed.astype(bool),
-        angular_distortion=rotation,
-    )
-    if line_checks is None:
-        return new
-    old = line_checks
-    if old.angular_distortion is None:
-        old = LineChecks(**{**old.__dict__, "angular_distortion": np.full(len(old.ids), np.nan)})
-    return LineChecks(
-        *(
-            (tuple(getattr(old, k)) + tuple(getattr(new, k)))
-            if isinstance(getattr(new, k), tuple)
-            else np.concatenate([getattr(old, k), getattr(new, k)])
-            for k in LineChecks.__dataclass_fields__
+        row, _ = _line_row(
+            (f.id,), None, st_xy[i, ok], st_moved[i, ok], cset, rot, " along the strip"
         )
-    )
+        rows.append(row)
+    return rows
 
 
 def _utilisation(value: np.ndarray, limit: Limit) -> np.ndarray:
@@ -780,6 +920,7 @@ def check_movements(
     station_xy: np.ndarray | None = None,
     station_total: np.ndarray | None = None,
     query: tuple | None = None,
+    on_loading: np.ndarray | None = None,
 ) -> Checks:
     """Check every footing, neighbour pair and structure line against a criteria set.
 
@@ -797,7 +938,7 @@ def check_movements(
         (n_f, n_p, n_t) their total settlement [m].
     settings : CheckSettings
         Criteria set and overrides, ``checked_after``, pair rule, listed pairs and
-        structure lines, ``remove_tilt``.
+        structure lines, ``rigid_tilt``.
     design_life_index : int
         Column of the design life in the time axis.
     station_xy, station_total : numpy.ndarray, optional
@@ -807,6 +948,9 @@ def check_movements(
     query : (ids, xy, total), optional
         Query points (ids, (n_q, 2) [m], (n_q, n_t) [m]) that listed pairs and
         structure lines may name; they are not footings and have no total limit.
+    on_loading : numpy.ndarray, optional
+        (n_f,) settlement on loading [m], for the bearing-failure proxy: above
+        :data:`BEARING_PROXY` × B a footing's status is ``"beyond_range"``.
 
     Returns
     -------
@@ -820,12 +964,16 @@ def check_movements(
     * A pair is taken between the nearest stations of its two members: for pads
       (one station) the centroids and the footing-level settlements; a strip
       gives the settlement of its station nearest the other footing, and the span
-      to it. Differential = |s_a − s_b|; β = differential / span, of the
-      settlements with the building's plane removed when ``settings.remove_tilt``.
-    * A strip's stations make a line of their own: its deflection ratio is checked
-      like a structure line's.
-    * A pair on a structure line that hogs (Δ < 0) is held to the set's hogging
-      angular-distortion limit when it has one.
+      to it. Differential = |s_a − s_b|; β = differential / span, computed with the
+      building's rigid-body tilt kept and with it removed (least-squares plane);
+      ``settings.rigid_tilt`` says which is checked: ``"both"`` (default) the
+      larger, or ``"kept"`` or ``"removed"``. Removing the tilt can increase |β|.
+    * Totals are held to the set's limit for the footing's kind
+      (:func:`sitesettle.site.foundation_kind`); the building's tilt to the set's
+      ``building_tilt`` limit when it has one.
+    * Structure lines and strips are split into sagging and hogging zones
+      (:func:`deflection_zones`), each held to its own deflection-ratio limit;
+      pairs within a hogging zone are held to the hogging angular-distortion limit.
     * A movement that cannot be computed (NaN) fails; a movement the set has no
       limit for passes and is reported.
     """
@@ -884,49 +1032,27 @@ def check_movements(
     # building tilt from the checked movement (footings only)
     _, gx, gy = plane_fit(xy, moved) if n_f else (np.nan, np.nan, np.nan)
     b_tilt, b_dir = tilt_from_gradient(gx, gy)
-    if settings.remove_tilt and n_f:
+    rigid_tilt = RigidTilt.parse(settings.rigid_tilt, "[checks] rigid_tilt")
+    st_removed = st_moved
+    if n_f:
         centre = xy.mean(axis=0)
         plane = gx * (st_xy[..., 0] - centre[0]) + gy * (st_xy[..., 1] - centre[1])
-        st_beta = st_moved - plane
-    else:
-        st_beta = st_moved
+        st_removed = st_moved - plane
 
-    # structure lines
+    # structure lines, by sagging and hogging zones
     pair_origin, lines = _pair_list(footings, settings, q_ids)
     hog_pairs: set[tuple[int, int]] = set()
-    line_checks = None
-    if lines:
-        deltas, lengths = [], []
-        for idx in lines:
-            d, length = relative_deflection(m_xy[idx], m_moved[idx])
-            deltas.append(float(d))
-            lengths.append(length)
-            if d < 0:
-                hog_pairs.update(
-                    (int(min(a, b)), int(max(a, b))) for a, b in zip(idx[:-1], idx[1:])
-                )
-        deltas_a = np.array(deltas)
-        lengths_a = np.array(lengths)
-        ratio = deltas_a / lengths_a
-        sag = cset.limit("deflection_ratio")
-        hog = cset.limit("deflection_ratio_hog") or sag
-        lims = [hog if d < 0 else sag for d in deltas]
-        util, gov, passed = _govern([ratio], [lims], len(lines))
-        line_checks = LineChecks(
-            ids=tuple(tuple(member_ids[i] for i in idx) for idx in lines),
-            length=lengths_a,
-            relative_deflection=deltas_a,
-            deflection_ratio=ratio,
-            limit=tuple(
-                g.describe() if g else f"no deflection-ratio limit in {cset.name}" for g in gov
-            ),
-            limit_value=np.array([g.value if g else np.nan for g in gov]),
-            limit_source=tuple(g.source if g else "" for g in gov),
-            utilisation=util,
-            passed=passed.astype(bool),
-        )
-
-    line_checks = _strip_lines(footings, st_xy[:n_f], st_moved[:n_f], cset, line_checks)
+    rows = []
+    for idx in lines:
+        names = [member_ids[i] for i in idx]
+        row, hog_zones = _line_row(names, names, m_xy[idx], m_moved[idx], cset)
+        rows.append(row)
+        for z0, z1 in hog_zones:
+            hog_pairs.update(
+                (int(min(a, b)), int(max(a, b))) for a, b in zip(idx[z0:z1], idx[z0 + 1 : z1 + 1])
+            )
+    rows += _strip_rows(footings, st_xy[:n_f], st_moved[:n_f], cset)
+    line_checks = _line_checks(rows)
 
     # pairs, between the nearest stations of the two members
     keys = sorted(pair_origin)
@@ -936,7 +1062,17 @@ def check_movements(
     sa, sb = _nearest_stations(st_xy, a, b)
     span = np.hypot(*(st_xy[a, sa] - st_xy[b, sb]).T) if n_p else np.zeros(0)
     differential = np.abs(st_moved[a, sa] - st_moved[b, sb])
-    beta = angular_distortion(st_beta[a, sa], st_beta[b, sb], span)
+    beta_kept = angular_distortion(st_moved[a, sa], st_moved[b, sb], span)
+    beta_removed = angular_distortion(st_removed[a, sa], st_removed[b, sb], span)
+    if rigid_tilt == RigidTilt.KEPT:
+        removed_governs = np.zeros(n_p, dtype=bool)
+    elif rigid_tilt == RigidTilt.REMOVED:
+        removed_governs = np.ones(n_p, dtype=bool)
+    else:
+        removed_governs = np.nan_to_num(beta_removed, nan=np.inf) > np.nan_to_num(
+            beta_kept, nan=np.inf
+        )
+    beta = np.where(removed_governs, beta_removed, beta_kept)
     beta_sag = cset.limit("angular_distortion")
     beta_hog = cset.limit("angular_distortion_hog") or beta_sag
     beta_lims = [beta_hog if key in hog_pairs else beta_sag for key in keys]
@@ -955,17 +1091,33 @@ def check_movements(
         utilisation=util,
         passed=passed.astype(bool),
         origin=tuple(pair_origin[key] for key in keys),
+        angular_distortion_tilt_kept=beta_kept,
+        angular_distortion_tilt_removed=beta_removed,
+        beta_basis=tuple("tilt removed" if r else "tilt kept" for r in removed_governs),
     )
 
-    # footings: total (all of it) and tilt (of the checked movement)
-    tot_lim = cset.limit("total")
-    tilt_lim = cset.limit("tilt")
+    # footings: total (all of it) against the limit for their kind, tilt (of the
+    # checked movement), and the bearing-failure proxy (settlement on loading > 0.1 B)
+    kinds = tuple(foundation_kind(f) for f in footings)
     tilt, _ = footing_tilt(point_xy, point_moved)
+    widths = np.array([f.width for f in footings], dtype=float)
+    loading = np.full(n_f, np.nan) if on_loading is None else np.asarray(on_loading, float)
     ok = np.ones(n_f, dtype=bool)
-    reasons = []
+    status, reasons = [], []
+    limits_total = np.full(n_f, np.nan)
     for i in range(n_f):
         why = []
-        for measure, value, lim in (("total", s_total[i], tot_lim), ("tilt", tilt[i], tilt_lim)):
+        beyond = bool(np.isfinite(loading[i]) and loading[i] > BEARING_PROXY * widths[i])
+        if beyond:
+            why.append(
+                f"outside the methods' range — bearing failure likely: "
+                f"{loading[i] * 1000:.0f} mm on loading > {BEARING_PROXY:g} B = "
+                f"{BEARING_PROXY * widths[i] * 1000:.0f} mm"
+            )
+        tot_i = cset.limit("total", kinds[i])
+        tilt_i = cset.limit("tilt", kinds[i])
+        limits_total[i] = tot_i.value if tot_i else np.nan
+        for measure, value, lim in (("total", s_total[i], tot_i), ("tilt", tilt[i], tilt_i)):
             if lim is None:
                 continue
             if not np.isfinite(value):
@@ -976,7 +1128,14 @@ def check_movements(
                     f"{format_value(measure, lim.value, exact=True)} ({lim.source})"
                 )
         ok[i] = not why
+        status.append("beyond_range" if beyond else ("pass" if ok[i] else "fail"))
         reasons.append("; ".join(why))
+
+    b_lim = cset.limit("building_tilt")
+    b_ok = True
+    if b_lim is not None and n_f:
+        b_ok = bool(np.isfinite(b_tilt) and float(b_tilt) <= b_lim.value)
+    pad_lim = cset.limit("total", "pad")
 
     return Checks(
         criteria=cset.name,
@@ -985,22 +1144,32 @@ def check_movements(
         lines=line_checks,
         footing_passed=ok,
         footing_reasons=tuple(reasons),
-        footing_limit_total=tot_lim.value if tot_lim else math.nan,
-        footing_limit_source=tot_lim.source if tot_lim else "",
+        footing_limit_total=pad_lim.value if pad_lim else math.nan,
+        footing_limit_source=pad_lim.source if pad_lim else "",
         building_tilt=float(b_tilt),
         building_tilt_direction=float(b_dir),
         checked_after=t_after,
+        footing_status=tuple(status),
+        footing_kind=kinds,
+        footing_limit=limits_total,
+        building_tilt_limit=b_lim.value if b_lim else math.nan,
+        building_tilt_source=b_lim.source if b_lim else "",
+        building_tilt_passed=b_ok,
+        rigid_tilt=rigid_tilt.value,
     )
 
 
 __all__ = [
+    "BEARING_PROXY",
     "ELONGATED_RATIO",
     "MEASURES",
     "NEIGHBOUR_TOLERANCE",
     "PairRule",
     "angular_distortion",
+    "angular_strain",
     "centre_line_points",
     "check_movements",
+    "deflection_zones",
     "far_footings",
     "footing_pairs",
     "long_span_pairs",

@@ -25,13 +25,13 @@ import numpy as np
 
 from sitesettle.methods import elastic
 from sitesettle.options import Behaviour
-from sitesettle.site import WATER_UNIT_WEIGHT, Footing
+from sitesettle.site import STRIP_RATIO, WATER_UNIT_WEIGHT, Footing
 
 #: a rectangle longer than this many widths is a strip: rigid (if rigid) across
 #: its width, flexible along its length, evaluated at stations along its length
 #: (a tool choice: a concrete pad stays stiff over a few widths, a wall footing does
 #: not; docs/methods.md §4)
-LONG_FOOTING_RATIO = 4.0
+LONG_FOOTING_RATIO = STRIP_RATIO
 #: stations along a strip: about one per width, at least 3 and at most this many
 MAX_STATIONS = 41
 #: the thinnest sublayer [m] and, relative to the sublayer scale, the thinnest

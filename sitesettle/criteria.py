@@ -16,10 +16,15 @@ differential             m     |s_a − s_b| of a pair of neighbouring footings
 angular_distortion       \\-    β = |s_a − s_b| / span of a pair (relative rotation)
 angular_distortion_hog   \\-    β limit for pairs on a structure line that hogs
 tilt                     rad   rigid-body rotation of one footing
+building_tilt            rad   rigid-body rotation of the whole building (plane fit)
 deflection_ratio         \\-    Δ/L of a structure line (sagging; hogging too unless
                                deflection_ratio_hog is given)
 deflection_ratio_hog     \\-    Δ/L limit of a hogging structure line
 ======================== ===== ==========================================================
+
+A limit may apply to some kinds of foundation only (:attr:`Limit.applies_to`:
+``"pad"``, ``"strip"``, ``"raft"``; see :func:`sitesettle.site.foundation_kind`):
+Annex H's 50 mm total is worded for isolated foundations, not rafts.
 
 Provenance follows the project's methods sheet: Eurocode 7 Annex H was checked
 against the text [verified]; Bjerrum's scale is very widely reproduced; the
@@ -41,6 +46,7 @@ MEASURES: dict[str, str] = {
     "angular_distortion": "-",
     "angular_distortion_hog": "-",
     "tilt": "rad",
+    "building_tilt": "rad",
     "deflection_ratio": "-",
     "deflection_ratio_hog": "-",
 }
@@ -51,6 +57,7 @@ _LABELS = {
     "angular_distortion": "angular distortion",
     "angular_distortion_hog": "angular distortion (hogging)",
     "tilt": "tilt",
+    "building_tilt": "tilt of the building",
     "deflection_ratio": "deflection ratio",
     "deflection_ratio_hog": "deflection ratio (hogging)",
 }
@@ -85,6 +92,10 @@ class Limit:
         Who says so (author, year, table or clause).
     note : str
         Context: the structure type it applies to, how sure we are of the figure.
+    applies_to : tuple of str
+        The kinds of foundation the limit is for (``"pad"``, ``"strip"``,
+        ``"raft"``); empty: every kind. Only the ``total`` and ``tilt`` limits of
+        single footings use it.
     """
 
     measure: str
@@ -92,6 +103,11 @@ class Limit:
     unit: str
     source: str
     note: str = ""
+    applies_to: tuple[str, ...] = ()
+
+    def applies(self, kind: str) -> bool:
+        """True when the limit is for foundations of ``kind``."""
+        return not self.applies_to or kind in self.applies_to
 
     def describe(self) -> str:
         """Readable statement of the limit.
@@ -166,10 +182,10 @@ class CriteriaSet:
     limits: tuple[Limit, ...]
     description: str = ""
 
-    def limit(self, measure: str) -> Limit | None:
-        """The limit on ``measure``, or None when the set has none."""
+    def limit(self, measure: str, kind: str | None = None) -> Limit | None:
+        """The limit on ``measure`` (for foundations of ``kind`` when given), or None."""
         for lim in self.limits:
-            if lim.measure == measure:
+            if lim.measure == measure and (kind is None or lim.applies(kind)):
                 return lim
         return None
 
@@ -253,11 +269,32 @@ def bjerrum_level(beta: float) -> str:
 # --- the built-in sets ------------------------------------------------------------------
 
 
-def _lim(measure: str, value: float, source: str, note: str = "") -> Limit:
-    return Limit(measure, value, MEASURES[measure], source, note)
+def _lim(
+    measure: str, value: float, source: str, note: str = "", applies_to: tuple[str, ...] = ()
+) -> Limit:
+    return Limit(measure, value, MEASURES[measure], source, note, applies_to)
+
+
+#: isolated (spread) foundations in the sense of EN 1997-1 Annex H: pads and strips
+ISOLATED = ("pad", "strip")
 
 
 def _bjerrum_set(level: BjerrumLevel) -> CriteriaSet:
+    if level.key == "tall_buildings":
+        # Bjerrum's 1/250 is the tilt at which a tall rigid building's lean becomes
+        # visible: a limit on rigid-body tilt, not on distortion.
+        return CriteriaSet(
+            name=f"bjerrum_{level.key}",
+            title=f"Bjerrum (1963): tilt ≤ 1/{1 / level.value:.0f}",
+            limits=(
+                _lim("building_tilt", level.value, BJERRUM, level.description),
+                _lim("tilt", level.value, BJERRUM, level.description + " (a tower on one raft)"),
+            ),
+            description=(
+                "Tilt only (the building's plane and each footing), at the level: "
+                f"{level.description}."
+            ),
+        )
     return CriteriaSet(
         name=f"bjerrum_{level.key}",
         title=f"Bjerrum (1963): β ≤ 1/{1 / level.value:.0f}",
@@ -397,7 +434,9 @@ _SETS: list[CriteriaSet] = [
                 EC7,
                 "total settlement often acceptable for normal structures with isolated "
                 "foundations; more may be acceptable if relative rotations, services and "
-                "tilt allow",
+                "tilt allow (Annex H gives no figure for rafts: they are judged by their "
+                "relative rotation)",
+                ISOLATED,
             ),
             _lim(
                 "angular_distortion",
@@ -440,6 +479,7 @@ _SETS: list[CriteriaSet] = [
                 0.025,
                 TERZAGHI_PECK,
                 "design the largest footing for 1 in (25 mm); keeps differential within 3/4 in",
+                ISOLATED,
             ),
             _lim(
                 "differential",
@@ -460,6 +500,7 @@ _SETS: list[CriteriaSet] = [
                 0.050,
                 TERZAGHI_PECK,
                 f"rafts on sand, twice the 25 mm for footings; {FROM_MEMORY}",
+                ("raft",),
             ),
         ),
         "Rafts on sand; common practice (from memory), not a code limit.",

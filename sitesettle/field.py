@@ -282,6 +282,12 @@ def sublayer_strains(
             sub.modulus[m] = eu
 
 
+#: unloading-reloading modulus of granular soil as a multiple of its loading modulus,
+#: for rebound under an excavation or a footing lighter than the soil it replaces
+#: (common practice: E_ur ≈ 3 E50, e.g. Schanz, Vermeer & Bonnier 1999, from memory)
+UNLOADING_MODULUS_RATIO = 3.0
+
+
 def granular_field(sub: Sublayers, m: np.ndarray, tab: Tables, ground, spt_modulus) -> None:
     """Elastic strain of the own and the other loads on granular sublayers ``m`` (in place).
 
@@ -298,10 +304,13 @@ def granular_field(sub: Sublayers, m: np.ndarray, tab: Tables, ground, spt_modul
     nb_t = sub.t[m] - sub.own_t[m]
     hs_own = (1 + nu) * sub.own_t[m] - sub.own_sz[m]
     hs_nb = (1 + nu) * nb_t - nb_sz
-    own = elastic.vertical_strain(sub.own_sz[m], hs_own, E, nu) * sub.h[m]
+    # unloading (Δσz < 0) rebounds with the unloading modulus, UNLOADING_MODULUS_RATIO × E
+    e_own = np.where(sub.own_sz[m] < 0, UNLOADING_MODULUS_RATIO * E, E)
+    e_nb = np.where(nb_sz < 0, UNLOADING_MODULUS_RATIO * E, E)
+    own = elastic.vertical_strain(sub.own_sz[m], hs_own, e_own, nu) * sub.h[m]
     keep = np.isfinite(sub.gran_own[m]) & (sub.method[m] != "") & (sub.method[m] != "elastic")
     sub.gran_own[m] = np.where(keep, sub.gran_own[m], own)
-    sub.gran_nb[m] = elastic.vertical_strain(nb_sz, hs_nb, E, nu) * sub.h[m]
+    sub.gran_nb[m] = elastic.vertical_strain(nb_sz, hs_nb, e_nb, nu) * sub.h[m]
     sub.modulus[m] = np.where(keep & np.isfinite(sub.modulus[m]), sub.modulus[m], E)
     sub.creep[m] = creep_kinds(tab.method[c, k])
     sub.method[m] = np.where(keep, sub.method[m], "elastic")
@@ -361,6 +370,13 @@ def own_load_settlement(
     )
     is_el = gran & (meth == GranularMethod.ELASTIC.value)
     is_bb = gran & (meth == GranularMethod.BURLAND_BURBIDGE.value)
+    # a footing whose net pressure is not positive (it unloads the ground) rebounds
+    # elastically with the unloading modulus: the loading methods do not apply
+    loaded = np.zeros(len(sub), dtype=bool)
+    owned = sub.owner >= 0
+    loaded[owned] = np.asarray(q_full, float)[sub.owner[owned]] > 0
+    is_sch &= loaded
+    is_bb &= loaded
     sub.method[is_el] = "elastic"
     fw = np.array([f.width for f in footings])
     fd = np.array([f.depth for f in footings])
@@ -647,7 +663,8 @@ def histories(
         und_tot_all = sub.und_own + sub.und_nb
         for kind in ("tot", "own"):
             load = sub.sz_sust if kind == "tot" else sub.own_sust
-            u0 = np.where(valid, np.clip(load[pi], 0.0, None), 0.0)
+            # the profile of the excess pore pressure (its size for unloading: swelling)
+            u0 = np.where(valid, np.abs(load[pi]), 0.0)
             U = cons.sublayer_degree_of_consolidation(zt, zb, u0, thick, cv, times, drain)
             eps = sub.eps_tot if kind == "tot" else sub.eps_own
             und = und_tot_all if kind == "tot" else sub.und_own

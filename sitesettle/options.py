@@ -87,3 +87,26 @@ class ShapeInterpolation(Choice):
     LOG = (
         "log"  #: modulus factor 2.5 [1 + 0.4 log10(L/B)] (from memory, Terzaghi, Peck & Mesri 1996)
     )
+
+
+class RigidTilt(Choice):
+    """How the building's rigid-body tilt enters the angular distortion β of a pair."""
+
+    BOTH = "both"  #: β with the tilt kept and with it removed; the larger governs
+    KEPT = "kept"  #: β of the line joining the two footings (tilt kept)
+    REMOVED = "removed"  #: β after the least-squares plane is removed (Burland et al. 1977)
+
+
+class FoundationKind(Choice):
+    """The kind of a foundation, for limits worded for some kinds only."""
+
+    PAD = "pad"  #: an isolated column pad
+    STRIP = "strip"  #: a wall strip (an isolated foundation in EN 1997-1 Annex H's sense)
+    RAFT = "raft"  #: a raft or mat under several columns or a core
+
+
+class LiveLoadStart(Choice):
+    """When the live load arrives, for the movement the structure feels."""
+
+    CHECKED_AFTER = "checked_after"  #: just after [checks] checked_after (default)
+    START = "start"  #: at time 0 with the dead load

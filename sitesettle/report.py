@@ -435,8 +435,16 @@ def _verdict(results: Results, units: str) -> str:
     parts = [
         f"<div class='verdict'>{verdict} (criteria <b>{_e(c.criteria)}</b>; settlements at "
         f"the design life, {life:g} yr; pairs on the movement {_e(basis)}).</div>",
-        "<h3>Governing results</h3>",
     ]
+    if getattr(c, "beyond_range", ()):
+        names = ", ".join(_e(ids[i]) for i in c.beyond_range)
+        parts.append(
+            "<p class='fail'><b>Outside the methods' range — bearing failure likely</b> at "
+            f"{names}: the settlement on loading exceeds 0.1 B, where the settlement methods "
+            "no longer apply. Check the bearing resistance and the inputs before reading "
+            "anything else for these footings.</p>"
+        )
+    parts.append("<h3>Governing results</h3>")
     rows = []
     if len(ids) and np.isfinite(total).any():
         i = int(np.nanargmax(total))
@@ -1037,15 +1045,16 @@ def _results_tables(results: Results, units: str) -> str:
             [
                 _e(" → ".join(line)),
                 q.v(length, "length"),
+                _e(zone),
                 ratio_text(abs(ratio)),
-                "sagging" if ratio >= 0 else "hogging",
                 _text(lim, units),
                 _num(u, "{:.2f}"),
                 "pass" if p else "<span class='fail'>fail</span>",
             ]
-            for line, length, ratio, lim, u, p in zip(
+            for line, length, zone, ratio, lim, u, p in zip(
                 c.lines.ids,
                 c.lines.length,
+                c.lines.zone or ("",) * len(c.lines.ids),
                 c.lines.deflection_ratio,
                 c.lines.limit,
                 c.lines.utilisation,
@@ -1058,14 +1067,14 @@ def _results_tables(results: Results, units: str) -> str:
                 [
                     "footings",
                     q.h("length", "length"),
+                    "governing zone",
                     "Δ/L",
-                    "mode",
                     "limit",
                     "utilisation",
                     "status",
                 ],
                 rows,
-                numeric={1, 2, 5},
+                numeric={1, 3, 5},
             )
         )
     if getattr(results, "points", None) is not None:

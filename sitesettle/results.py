@@ -132,6 +132,11 @@ class PairChecks:
     utilisation: np.ndarray
     passed: np.ndarray
     origin: tuple[str, ...] = ()  # "auto", "listed" or "line"
+    #: β with the building's rigid-body tilt kept and removed; ``angular_distortion``
+    #: is the one checked (the larger of the two by default), ``beta_basis`` says which
+    angular_distortion_tilt_kept: np.ndarray | None = None
+    angular_distortion_tilt_removed: np.ndarray | None = None
+    beta_basis: tuple[str, ...] = ()  # "tilt kept" or "tilt removed"
 
 
 @dataclass(frozen=True)
@@ -141,6 +146,14 @@ class LineChecks:
     A strip's line has its own id only; ``angular_distortion`` is then the largest
     relative rotation between its stations (segment slope less the chord's), NaN
     for user lines (whose consecutive footings are checked as pairs).
+
+    A line is split into sagging and hogging zones at its inflections (Burland &
+    Wroth 1974); each zone's Δ/L is measured from its own chord over its own length.
+    ``relative_deflection`` and ``deflection_ratio`` are of the governing zone
+    (``zone``: its kind and ends; ``zone_length`` its length), ``sagging_ratio`` the
+    largest sagging Δ/L and ``hogging_ratio`` the largest hogging one (negative; NaN
+    when the line has no zone of that kind); ``angular_strain`` the largest angular
+    strain α (EN 1997-1:2004 Fig. H.1; + sagging).
     """
 
     ids: tuple[tuple[str, ...], ...]
@@ -153,6 +166,11 @@ class LineChecks:
     utilisation: np.ndarray
     passed: np.ndarray
     angular_distortion: np.ndarray | None = None
+    zone: tuple[str, ...] = ()
+    zone_length: np.ndarray | None = None
+    sagging_ratio: np.ndarray | None = None
+    hogging_ratio: np.ndarray | None = None
+    angular_strain: np.ndarray | None = None
 
 
 @dataclass(frozen=True)
@@ -177,11 +195,30 @@ class Checks:
     building_tilt: float
     building_tilt_direction: float
     checked_after: float = 0.0
+    #: per footing: "pass", "fail", or "beyond_range" (settlement on loading over
+    #: 0.1 B: outside the methods' range, bearing failure likely)
+    footing_status: tuple[str, ...] = ()
+    #: per footing: "pad", "strip" or "raft" (:func:`sitesettle.site.foundation_kind`)
+    footing_kind: tuple[str, ...] = ()
+    #: per footing: its total-settlement limit [m] (NaN: none for its kind)
+    footing_limit: np.ndarray | None = None
+    #: the set's limit on the building's tilt [rad] (NaN: none), its source, the outcome
+    building_tilt_limit: float = float("nan")
+    building_tilt_source: str = ""
+    building_tilt_passed: bool = True
+    #: how the building's rigid-body tilt entered β ("both", "kept", "removed")
+    rigid_tilt: str = "kept"
+
+    @property
+    def beyond_range(self) -> tuple[int, ...]:
+        """Indices of footings outside the methods' range (bearing failure likely)."""
+        return tuple(i for i, st in enumerate(self.footing_status) if st == "beyond_range")
 
     @property
     def all_passed(self) -> bool:
-        """True when every footing, pair and structure line passes."""
+        """True when every footing, pair, structure line and the building's tilt pass."""
         ok = bool(np.all(self.footing_passed)) and bool(np.all(self.pairs.passed))
+        ok = ok and bool(self.building_tilt_passed)
         if self.lines is not None:
             ok = ok and bool(np.all(self.lines.passed))
         return ok

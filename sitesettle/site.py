@@ -30,6 +30,39 @@ DEFAULT_FILL_UNIT_WEIGHT = 20.0
 WATER_UNIT_WEIGHT = 9.81
 
 
+#: a rectangle longer than this many widths is a strip (docs/methods.md §1)
+STRIP_RATIO = 4.0
+#: a footing at least this wide (its shorter side), or any polygon outline, is a raft
+#: unless the footings file says otherwise (common practice: column pads are seldom
+#: wider than about 5 m)
+RAFT_WIDTH = 6.0
+
+
+def foundation_kind(footing: Footing) -> str:
+    """The kind of a footing: ``"pad"``, ``"strip"`` or ``"raft"``.
+
+    The ``kind`` the footings file gives; otherwise a rectangle longer than
+    :data:`STRIP_RATIO` widths is a strip, a polygon outline or a footing at least
+    :data:`RAFT_WIDTH` wide is a raft, and anything else a pad.
+
+    Examples
+    --------
+    >>> from dataclasses import replace
+    >>> pad = Footing("F1", np.zeros((4, 2)), "rectangle", 0, 0, 2.0, 2.5, 0, 1, 500)
+    >>> foundation_kind(pad), foundation_kind(replace(pad, length=12.0))
+    ('pad', 'strip')
+    >>> foundation_kind(replace(pad, width=8.0, length=8.0))
+    'raft'
+    """
+    if footing.kind:
+        return footing.kind
+    if footing.shape == "rectangle" and footing.length > STRIP_RATIO * footing.width:
+        return "strip"
+    if footing.shape == "polygon" or footing.width >= RAFT_WIDTH:
+        return "raft"
+    return "pad"
+
+
 @dataclass(frozen=True)
 class Footing:
     """One shallow footing.
@@ -64,6 +97,9 @@ class Footing:
     fill_unit_weight : float
         Average unit weight γ_f of footing and backfill above the base [kN/m³];
         0 means the loads already include them.
+    kind : str
+        ``"pad"``, ``"strip"`` or ``"raft"``; empty: inferred by
+        :func:`foundation_kind`.
     """
 
     id: str
@@ -80,6 +116,7 @@ class Footing:
     sustained_live_fraction: float = 0.0
     rigid: bool = True
     fill_unit_weight: float = DEFAULT_FILL_UNIT_WEIGHT
+    kind: str = ""
 
     @property
     def area(self) -> float:
@@ -234,6 +271,9 @@ class AnalysisSettings:
     cohesive_immediate: bool = True
     #: how undrained and consolidation settlement of clay combine (docs/methods.md §4.4)
     clay_settlement: ClaySettlement = ClaySettlement.OEDOMETER
+    #: when the live load arrives: "checked_after" (just after [checks] checked_after,
+    #: so the checked movement includes its immediate part) or "start" (time 0)
+    live_load_from: str = "checked_after"
 
 
 @dataclass(frozen=True)
@@ -249,8 +289,9 @@ class CheckSettings:
     #: user-listed pairs (a, b) and structure lines (ordered ids)
     listed_pairs: tuple[tuple[str, str], ...] = ()
     structure_lines: tuple[tuple[str, ...], ...] = ()
-    #: remove the building's rigid-body tilt before computing angular distortion
-    remove_tilt: bool = False
+    #: the building's rigid-body tilt in β: "both" (the larger of kept and removed
+    #: governs), "kept" or "removed"
+    rigid_tilt: str = "both"
 
 
 @dataclass(frozen=True)
@@ -265,6 +306,78 @@ class QueryPoint:
     x: float
     y: float
     depth: float = 0.0
+
+
+@dataclass(frozen=True)
+class AreaLoad:
+    """A uniform load on a plan area that is not a footing: site fill, a slab, a stockpile.
+
+    It adds stress to every footing, map and query point through the same engine as
+    the footings' loads, is permanent (sustained), arrives with its stage (time 0 by
+    default) and is not checked as a footing. An excavation is an area load with a
+    negative pressure: the overburden it removes.
+
+    Attributes
+    ----------
+    name : str
+        Unique name (``"site fill"``).
+    outline : numpy.ndarray
+        (n, 2) plan vertices [m], counter-clockwise, not closed.
+    pressure : float
+        Uniform pressure on the area [kPa] (> 0).
+    depth : float
+        Depth of the loaded plane below ground [m] (0: the ground surface).
+    description : str
+        How the pressure was given (``"1.2 m of fill at 19 kN/m³"``).
+    excavation_depth : float
+        > 0 for an excavation to this depth [m]: it unloads the ground by the
+        overburden removed (the analysis sets ``pressure`` and ``depth`` from it).
+    """
+
+    name: str
+    outline: np.ndarray
+    pressure: float
+    depth: float = 0.0
+    description: str = ""
+    excavation_depth: float = 0.0
+
+    @property
+    def area(self) -> float:
+        """Plan area [m²]."""
+        x, y = self.outline[:, 0], self.outline[:, 1]
+        return 0.5 * abs(float(np.dot(x, np.roll(y, -1)) - np.dot(y, np.roll(x, -1))))
+
+
+@dataclass(frozen=True)
+class LoadStage:
+    """A construction or use stage: parts of the loads applied over a period.
+
+    Attributes
+    ----------
+    name : str
+        Unique name (``"frame"``, ``"finishes"``, ``"occupancy"``).
+    start : float
+        When the stage starts [yr from time 0].
+    duration : float
+        How long its loads take to arrive [yr]; 0: at once, else a linear ramp.
+    dead, live : float
+        Fractions of every footing's dead and live load the stage applies (over all
+        stages each sums to 1).
+    area_loads : tuple of str
+        Names of the area loads the stage applies (in full).
+    """
+
+    name: str
+    start: float
+    duration: float = 0.0
+    dead: float = 0.0
+    live: float = 0.0
+    area_loads: tuple[str, ...] = ()
+
+    @property
+    def end(self) -> float:
+        """When the stage's loads are all applied [yr]."""
+        return self.start + self.duration
 
 
 @dataclass(frozen=True)
@@ -290,6 +403,11 @@ class Site:
     points: tuple[QueryPoint, ...] = ()
     #: input files read from outside the project folder (resolved paths)
     outside_files: tuple[str, ...] = ()
+    #: uniform loads on plan areas that are not footings (fill, slabs, stockpiles)
+    area_loads: tuple[AreaLoad, ...] = ()
+    #: the load history; empty: the dead load and area loads at time 0, the live load
+    #: just after [checks] checked_after (see sitesettle.analysis.load_stages)
+    stages: tuple[LoadStage, ...] = ()
 
     def stratum(self, name: str) -> Stratum:
         """The stratum called ``name`` (KeyError listing the names otherwise)."""

@@ -14,6 +14,7 @@ Sources of the check values:
 
 from __future__ import annotations
 
+import dataclasses
 import math
 
 import numpy as np
@@ -28,6 +29,7 @@ from sitesettle.checks import (
     angular_distortion,
     centre_line_points,
     check_movements,
+    deflection_zones,
     footing_pairs,
     footing_tilt,
     movement_after,
@@ -38,7 +40,7 @@ from sitesettle.checks import (
     tilt_from_gradient,
 )
 from sitesettle.errors import InputError
-from sitesettle.site import CheckSettings, Footing
+from sitesettle.site import CheckSettings, Footing, foundation_kind
 
 # --- helpers ---------------------------------------------------------------------------
 
@@ -611,14 +613,129 @@ def test_building_tilt_and_its_removal():
         return 0.020 + 0.0005 * x + 0.0 * y * t
 
     times, total, pxy, pt = plan_arrays(footings, tilted)
-    raw = check_movements(footings, times, total, pxy, pt, CheckSettings())
+    raw = check_movements(footings, times, total, pxy, pt, CheckSettings(rigid_tilt="kept"))
     assert raw.building_tilt == pytest.approx(math.atan(0.0005))
     assert raw.building_tilt_direction == pytest.approx(0.0, abs=1e-9)  # east
     beta_ew = raw.pairs.angular_distortion.max()
     assert beta_ew == pytest.approx(0.0005)  # 3 mm over 6 m
-    flat = check_movements(footings, times, total, pxy, pt, CheckSettings(remove_tilt=True))
+    flat = check_movements(footings, times, total, pxy, pt, CheckSettings(rigid_tilt="removed"))
     assert np.allclose(flat.pairs.angular_distortion, 0.0, atol=1e-15)
     assert np.allclose(flat.pairs.differential, raw.pairs.differential)  # still reported
+    assert set(flat.pairs.beta_basis) == {"tilt removed"}
+    # the default checks both: a pure rigid-body tilt leaves β of the kept tilt
+    both = check_movements(footings, times, total, pxy, pt, CheckSettings())
+    assert both.rigid_tilt == "both"
+    np.testing.assert_allclose(both.pairs.angular_distortion, raw.pairs.angular_distortion)
+
+
+def test_removing_the_tilt_can_increase_beta():
+    # Three pads on a line at x = 0, 6, 12 m settling 0, 0, 12 mm. By hand: the
+    # least-squares plane has slope Σ(x−6)(s−4)/Σ(x−6)² = 72/72 = 1 mm/m; removed, the
+    # settlements are 6, 0, 6 mm. Pair A–B: kept 0, removed 6 mm / 6 m = 1/1000 (larger);
+    # pair B–C: kept 12 mm / 6 m = 1/500, removed 1/1000. (Burland, Broms & de Mello 1977
+    # define β after the rigid-body tilt; removing a fitted plane can raise it.)
+    footings = [pad("A", 0.0, 0.0), pad("B", 6.0, 0.0), pad("C", 12.0, 0.0)]
+    times, total, pxy, pt = plan_arrays(footings, lambda x, y, t: np.where(x > 9, 0.012, 0.0))
+    c = check_movements(footings, times, total, pxy, pt, CheckSettings())
+    pairs = {
+        (footings[a].id, footings[b].id): k for k, (a, b) in enumerate(zip(c.pairs.a, c.pairs.b))
+    }
+    ab, bc = pairs[("A", "B")], pairs[("B", "C")]
+    np.testing.assert_allclose(
+        c.pairs.angular_distortion_tilt_kept[[ab, bc]], [0.0, 1 / 500], atol=1e-15
+    )
+    np.testing.assert_allclose(
+        c.pairs.angular_distortion_tilt_removed[[ab, bc]], [1 / 1000, 1 / 1000]
+    )
+    np.testing.assert_allclose(c.pairs.angular_distortion[[ab, bc]], [1 / 1000, 1 / 500])
+    assert (c.pairs.beta_basis[ab], c.pairs.beta_basis[bc]) == ("tilt removed", "tilt kept")
+
+
+def test_line_split_into_sagging_and_hogging_zones():
+    # A wall on five pads 5 m apart settling 20, 30, 20, 10, 20 mm: sags over the first
+    # 10 m (Δ = +10 mm from its chord) and hogs over the last 10 m (Δ = −10 mm), by hand.
+    # One chord over the whole 20 m would give Δ/L = 10/20000 = 5e-4 and miss the hog.
+    # Burland & Wroth (1974), L/H = 1, from memory: 0.4e-3 sagging, 0.2e-3 hogging.
+    footings = [pad(f"W{i}", 5.0 * i, 0.0) for i in range(5)]
+    sett = {0: 0.020, 5: 0.030, 10: 0.020, 15: 0.010, 20: 0.020}
+
+    def profile(x, y, t):
+        return np.select([np.abs(x - k) < 2 for k in sett], list(sett.values()))
+
+    times, total, pxy, pt = plan_arrays(footings, profile)
+    settings_ = CheckSettings(
+        criteria="burland_wroth_masonry", structure_lines=(tuple(f.id for f in footings),)
+    )
+    lines = check_movements(footings, times, total, pxy, pt, settings_).lines
+    assert lines.sagging_ratio[0] == pytest.approx(0.010 / 10.0)
+    assert lines.hogging_ratio[0] == pytest.approx(-0.010 / 10.0)
+    # hogging governs: 1e-3 / 0.2e-3 = 5 against sagging 1e-3 / 0.4e-3 = 2.5
+    assert lines.zone[0] == "hogging W2–W4" and lines.zone_length[0] == pytest.approx(10.0)
+    assert lines.utilisation[0] == pytest.approx(5.0)
+    assert lines.relative_deflection[0] == pytest.approx(-0.010)
+    # angular strain α at W1: (30−20)/5 − (20−30)/5 mm/m = 4e-3 (EN 1997-1 Fig. H.1)
+    assert abs(lines.angular_strain[0]) == pytest.approx(0.004)
+
+
+def test_one_curvature_line_is_one_zone():
+    # a line that only sags is one zone over its whole length: the chord of Burland &
+    # Wroth (1974), as relative_deflection gives it
+    xy = [[0, 0], [5, 0], [10, 0], [15, 0]]
+    s = [0.0, 0.008, 0.010, 0.004]
+    (zone,) = deflection_zones(xy, s)
+    d, length = relative_deflection(xy, s)
+    assert zone[:2] == (0, 3) and zone[4] == "sagging"
+    assert zone[2] == pytest.approx(float(d)) and zone[3] == length
+
+
+def test_total_limit_by_foundation_kind():
+    # EN 1997-1:2004 Annex H: "up to 50 mm" often acceptable for isolated foundations;
+    # no figure for rafts. A pad and a strip at 60 mm fail; a raft at 60 mm is not judged
+    # on its total.
+    raft = pad("R1", 0.0, 0.0, width=10.0, length=12.0)
+    strip = pad("S1", 20.0, 0.0, width=0.6, length=8.0)
+    pad_ = pad("P1", 30.0, 0.0)
+    footings = [raft, strip, pad_]
+    assert [foundation_kind(f) for f in footings] == ["raft", "strip", "pad"]
+    times, total, pxy, pt = plan_arrays(footings, lambda x, y, t: 0.060 + 0 * x)
+    c = check_movements(footings, times, total, pxy, pt, CheckSettings())
+    assert c.footing_kind == ("raft", "strip", "pad")
+    assert list(c.footing_passed) == [True, False, False]
+    assert np.isnan(c.footing_limit[0]) and c.footing_limit[2] == pytest.approx(0.050)
+    # a footings file may say otherwise: a 12 m × 10 m "pad" is held to 50 mm
+    forced = [dataclasses.replace(raft, kind="pad"), strip, pad_]
+    c = check_movements(forced, times, total, pxy, pt, CheckSettings())
+    assert not c.footing_passed[0]
+
+
+def test_bjerrum_tall_building_limit_is_on_tilt():
+    # Bjerrum (1963): 1/250 is where the tilt of tall rigid buildings may become visible,
+    # a limit on rigid-body tilt; a pure tilt of 1/200 fails it, a β of 1/200 between
+    # two pads of an untilted building does not.
+    footings = column_grid()
+    times, total, pxy, pt = plan_arrays(footings, lambda x, y, t: 0.02 + 0.005 * x)
+    c = check_movements(
+        footings, times, total, pxy, pt, CheckSettings(criteria="bjerrum_tall_buildings")
+    )
+    assert c.building_tilt == pytest.approx(math.atan(0.005))
+    assert c.building_tilt_limit == pytest.approx(1 / 250) and not c.building_tilt_passed
+    assert not c.all_passed
+    assert c.pairs.passed.all()  # no distortion limit in the set
+
+
+def test_bearing_failure_proxy_has_its_own_status():
+    # settlement on loading over 0.1 B: outside the methods' range (common practice proxy
+    # for a bearing failure, e.g. Vesić 1975). A 2 m pad 0.25 m down on loading.
+    footings = [pad("P1", 0.0, 0.0), pad("P2", 6.0, 0.0)]
+    times, total, pxy, pt = plan_arrays(footings, lambda x, y, t: np.where(x < 3, 0.25, 0.01))
+    c = check_movements(
+        footings, times, total, pxy, pt, CheckSettings(), on_loading=np.array([0.25, 0.01])
+    )
+    assert c.footing_status == ("beyond_range", "pass")
+    assert c.beyond_range == (0,)
+    assert c.footing_reasons[0].startswith(
+        "outside the methods' range — bearing failure likely: 250 mm on loading > 0.1 B = 200 mm"
+    )
 
 
 def test_footing_tilt_limit_when_the_set_has_one():

@@ -28,6 +28,8 @@ FAMILIES = {
     "toml_": "site.toml syntax, keys and values",
     "unit_": "units of the wrong dimension or unknown",
     "suspicious_": "valid values of suspicious magnitude (warnings)",
+    "implausible_": "values outside the plausible range (bad input naming the unit meant)",
+    "override_": "limit overrides without a unit or outside the plausible range",
     "strata_": "[[strata]] parameters",
     "footing_": "the footings CSV file",
     "gis_": "GIS footing files: geometry and coordinate systems",
@@ -36,6 +38,10 @@ FAMILIES = {
     "out_": "the results folder",
     "text_": "ids and names: invisible, control and formula characters, length",
     "file_": "input files that are not what they claim (folders, GDAL virtual files)",
+    "ags_": "AGS4 investigation files: the format's checker, the strata mapping",
+    "gef_": "GEF cone-sounding files",
+    "xlsx_": ".xlsx schedules: merged cells, sheets, cells",
+    "dxf_": "DXF footing plans: open outlines, missing ids",
 }
 
 

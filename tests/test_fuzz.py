@@ -299,3 +299,158 @@ def test_command_exits_0_1_or_2_with_one_message(files, tmp_path, capsys):
     else:
         assert out.strip().splitlines()[-1] in ("PASS", "FAIL")
         assert (folder / "results" / "summary.json").is_file()
+
+
+# --------------------------------------------- delivered formats (AGS4, GEF, xlsx, DXF)
+# The starter project with its boreholes as an AGS4 file (written by python-ags4), its
+# first sounding as a GEF file, its footing schedule as an .xlsx workbook and a raft as a
+# DXF plan. Each example edits the text of the AGS4 or GEF file (a field of a line
+# replaced, a line dropped or repeated), a cell of the schedule before it becomes a
+# workbook (sometimes with merged cells), or a vertex or label of the drawing.
+def _formats_base() -> dict:
+    import sys
+    import tempfile
+
+    sys.path.insert(0, str(pathlib.Path(__file__).resolve().parent / "corpus"))
+    try:
+        import make_corpus
+    finally:
+        sys.path.pop(0)
+    with tempfile.TemporaryDirectory() as tmp:
+        folder = pathlib.Path(tmp)
+        for name, text in BASE.items():
+            (folder / name).write_text(text, encoding="utf-8")
+        make_corpus.starter_ags(folder)
+        make_corpus.starter_gef(folder)
+        (folder / "boreholes.csv").unlink()
+        (folder / "soundings.csv").unlink()
+        # bytes decoded as they are: AGS4 lines end in CR LF (AGS4 rule 2a)
+        return {p.name: p.read_bytes().decode("utf-8") for p in folder.iterdir()}
+
+
+FORMATS_BASE = _formats_base()
+#: the raft of the DXF plan: outline vertices and the label's position and text
+RAFT = {"outline": [[30.0, 0.0], [36.0, 0.0], [36.0, 6.0], [30.0, 6.0]], "label": [33.0, 3.0]}
+
+
+def _xlsx_bytes(text: str, merge: str | None) -> bytes:
+    import io
+
+    import openpyxl
+    from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
+
+    book = openpyxl.Workbook()
+    ws = book.active
+    ws.title = "Footings"
+    # a workbook cannot hold control characters (openpyxl refuses them): left out
+    for line in ILLEGAL_CHARACTERS_RE.sub("", text).splitlines():
+        row = []
+        for c in line.split(","):
+            c = c.strip()
+            try:
+                row.append(float(c) if c else None)
+            except ValueError:
+                row.append(c)
+        ws.append(row)
+    if merge:
+        ws.merge_cells(merge)
+    out = io.BytesIO()
+    book.save(out)
+    return out.getvalue()
+
+
+def _dxf_bytes(raft: dict, text: str) -> bytes:
+    import io
+
+    import ezdxf
+
+    doc = ezdxf.new("R2013")
+    msp = doc.modelspace()
+    msp.add_lwpolyline(
+        [tuple(p) for p in raft["outline"]], close=raft.get("closed", True),
+        dxfattribs={"layer": "FOOTINGS"},
+    )  # fmt: skip
+    blk = doc.blocks.new("TAG")
+    for tag in ("ID", "DEAD_LOAD", "DEPTH"):
+        blk.add_attdef(tag, (0, 0))
+    ref = msp.add_blockref("TAG", tuple(raft["label"]), dxfattribs={"layer": "FOOTINGS"})
+    ref.add_auto_attribs({"ID": text, "DEAD_LOAD": raft.get("load", "2400 kN"), "DEPTH": "1 m"})
+    out = io.StringIO()
+    doc.write(out)
+    return out.getvalue().encode("utf-8")
+
+
+@st.composite
+def text_file_edit(draw, files: dict, name: str, prefix: str, sep: str) -> None:
+    end = "\r\n" if "\r\n" in files[name] else "\n"
+    lines = _lines(files[name])
+    rows = [i for i, ln in enumerate(lines) if ln.startswith(prefix)]
+    i = draw(st.sampled_from(rows))
+    kind = draw(st.sampled_from(["field", "field", "field", "drop", "duplicate"]))
+    if kind == "drop":
+        del lines[i]
+    elif kind == "duplicate":
+        lines.insert(draw(st.sampled_from(rows)), lines[i])
+    else:
+        cells = lines[i].split(sep)
+        j = draw(st.integers(0, len(cells) - 1))
+        value = draw(cell).replace("\n", " ").replace("\r", " ").replace(sep, " ")
+        cells[j] = f'"{value}"' if sep == "," else value
+        lines[i] = sep.join(cells)
+    files[name] = end.join(lines) + end
+
+
+@st.composite
+def formats_project(draw) -> dict:
+    files = dict(FORMATS_BASE)
+    schedule = files.pop("footings.csv")
+    raft = json.loads(json.dumps(RAFT))
+    label = "R1"
+    merge = None
+    for _ in range(draw(st.integers(1, 3))):
+        kind = draw(st.sampled_from(["ags", "ags", "gef", "xlsx", "dxf", "toml"]))
+        if kind == "ags":
+            draw(text_file_edit(files, "investigation.ags", '"DATA"', ","))
+        elif kind == "gef":
+            draw(text_file_edit(files, "CPT1.gef", "", " "))
+        elif kind == "xlsx":
+            holder = {"footings.csv": schedule}
+            draw(csv_edit(holder))
+            schedule = holder["footings.csv"]
+            if draw(st.integers(0, 5)) == 0:
+                merge = draw(st.sampled_from(["A3:B3", "C5:C6", "E4:F4"]))
+        elif kind == "dxf":
+            what = draw(st.sampled_from(["vertex", "label", "text", "open", "load"]))
+            if what == "vertex":
+                k = draw(st.integers(0, 3))
+                raft["outline"][k] = [v + draw(st.floats(-8, 8)) for v in raft["outline"][k]]
+            elif what == "label":
+                raft["label"] = [draw(st.floats(-1e3, 1e3)), draw(st.floats(-1e3, 1e3))]
+            elif what == "text":
+                label = draw(cell).replace("\n", " ").replace("\r", " ").replace("\x00", "")
+            elif what == "open":
+                raft["closed"] = False
+            else:
+                raft["load"] = draw(cell).replace("\x00", "")
+        else:
+            draw(toml_edit(files))
+    files["footings.xlsx"] = _xlsx_bytes(schedule, merge)
+    files["raft.dxf"] = _dxf_bytes(raft, label)
+    files["site.toml"] = files["site.toml"].replace(
+        'file = "footings.csv"', 'file = ["footings.xlsx", "raft.dxf"]', 1
+    )
+    return files
+
+
+@settings(FUZZ, max_examples=60)
+@given(files=formats_project())
+def test_new_readers_return_a_site_or_raise_input_error(files, tmp_path):
+    folder = _write(files, tmp_path / "p")
+    try:
+        site = _load(folder)
+    except InputError as exc:
+        event("InputError")
+        assert exc.where and exc.problem
+        return
+    event("loaded")
+    assert site.footings and all(math.isfinite(f.width) and f.width > 0 for f in site.footings)

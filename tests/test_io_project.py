@@ -452,8 +452,21 @@ def test_borehole_missing_column_and_unknown_column():
 
 
 def test_borehole_interval_values_are_checked():
+    # 250 kPa: inside the plausible range (100 kPa–5 GPa, common practice), outside the
+    # usual one (0.5 MPa–2 GPa): a warning
     with pytest.warns(
-        InputWarning, match=r'row 2, column "youngs_modulus": 25 kPa is outside the usual range'
+        InputWarning, match=r'row 2, column "youngs_modulus": 250 kPa is outside the usual range'
+    ):
+        parse_boreholes(
+            "borehole,x,y,stratum,top,bottom,youngs_modulus\nB1,0,0,fill,0,1,250\n", STRATA
+        )
+    # 25 with no unit is 25 kPa, below any soil (peat is about 200 kPa, common practice):
+    # bad input that names the unit probably meant
+    with pytest.raises(
+        InputError,
+        match=r'row 2, column "youngs_modulus": 25 kPa is outside the plausible range '
+        r'100–5,000,000 kPa; if the number is in MPa it is 25,000 kPa: write the unit, '
+        r'e.g. "25 MPa"',
     ):
         parse_boreholes(
             "borehole,x,y,stratum,top,bottom,youngs_modulus\nB1,0,0,fill,0,1,25\n", STRATA
@@ -493,8 +506,23 @@ def test_sounding_rules(rows, match):
 
 
 def test_suspicious_qc_warns_once():
-    # qc = 5 kPa (a bare number is kPa) is far below any soil (common practice ≥ 0.1 MPa)
+    # a few readings of 60 kPa (soft clay, or the top of a pre-bored hole) in a sounding of
+    # MPa readings: outside the usual 0.1–100 MPa (common practice), a warning once
     with pytest.warns(InputWarning, match=r"row 2, column \"qc\": 2 cone reading\(s\) outside"):
+        parse_soundings(
+            "sounding,x,y,depth,qc\nC1,0,0,1,60\nC1,0,0,2,70\nC1,0,0,3,5 MPa\nC1,0,0,4,8 MPa\n"
+            "C1,0,0,5,9 MPa\n"
+        )
+
+
+def test_sounding_in_wrong_unit_refused():
+    # qc = 5 and 6 with no unit: 5–6 kPa, far below any soil (very soft clay is about
+    # 0.1 MPa, common practice): bad input naming the unit probably meant
+    with pytest.raises(
+        InputError,
+        match=r'row 2, column "qc": the median cone resistance of sounding "C1" is 5.5 kPa, '
+        r'outside the plausible 50–100,000 kPa; if the number is in MPa it is 5500 kPa',
+    ):
         parse_soundings("sounding,x,y,depth,qc\nC1,0,0,1,5\nC1,0,0,2,6\n")
 
 

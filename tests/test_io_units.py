@@ -120,8 +120,6 @@ def test_nan_and_infinity_are_refused(value):
         ("1/500", "-", 0.002),
         ("25 mm", "m", 0.025),
         ("1 in", "m", 0.0254),  # 1 in = 25.4 mm exactly (NIST SP 811)
-        (0.03, "m", 0.03),
-        ("0.002", "-", 0.002),
         ("0.2 %", "-", 0.002),
         # an angle limit on a ratio becomes its slope: tan(1°) = 0.017455 (trigonometry)
         ("1 deg", "-", math.tan(math.radians(1.0))),
@@ -147,24 +145,92 @@ def test_limits_of_the_wrong_kind(text, unit, match):
         parse_limit(text, "x", unit)
 
 
+@pytest.mark.parametrize(
+    "value, unit, measure",
+    [
+        (75, "m", "total"),  # would be a 75 m limit: every footing passes
+        ("75", "m", "total"),
+        (0.002, "-", "angular_distortion"),
+        ("0.002", "-", "angular_distortion"),
+        (0.004, "rad", "tilt"),
+    ],
+)
+def test_bare_number_limit_refused(value, unit, measure):
+    with pytest.raises(InputError, match="has no unit; expected a limit with its unit or as a"):
+        parse_limit(value, "x", unit, measure)
+
+
+@pytest.mark.parametrize(
+    "value, unit, measure",
+    [
+        ("75 m", "m", "total"),  # a 75 m settlement limit is a unit slip (mm meant)
+        ("0.1 mm", "m", "differential"),
+        ("1/2", "-", "angular_distortion"),  # a slope of 1 in 2 is a collapse, not a limit
+        ("1/1000000", "-", "angular_distortion"),
+    ],
+)
+def test_implausible_limit_refused(value, unit, measure):
+    # plausible ranges of limits: common practice (the published limits lie well inside)
+    with pytest.raises(InputError, match="outside the plausible range"):
+        parse_limit(value, "x", unit, measure)
+
+
 def test_suspicious_modulus_warns_but_loads():
-    # 25 kPa is two orders below any soil modulus (common practice: ≥ 1 MPa); likely MPa meant
-    with pytest.warns(InputWarning, match="youngs_modulus.*25 kPa is outside the usual range"):
+    # 300 kPa: plausible (peat, very soft clay about 0.2–1 MPa) but outside the usual
+    # 0.5 MPa–2 GPa (common practice): loads with a warning
+    with pytest.warns(InputWarning, match="youngs_modulus.*300 kPa is outside the usual range"):
         s = parse_stratum(
-            {"name": "sand", "behaviour": "granular", "youngs_modulus": "25 kPa"}, "site.toml"
+            {"name": "sand", "behaviour": "granular", "youngs_modulus": "300 kPa"}, "site.toml"
         )
-    assert s.youngs_modulus == 25.0
+    assert s.youngs_modulus == 300.0
+
+
+@pytest.mark.parametrize(
+    "key, value, meant",
+    [
+        # 25 kPa is two orders below any soil modulus (common practice): MPa meant
+        ("youngs_modulus", 25, '"25 MPa"'),
+        # 1800 as a unit weight is a density in kg/m³ (1800 × 9.80665 / 1000 = 17.65 kN/m³)
+        ("unit_weight", 1800, '"1800 kg/m³"'),
+        # cv 3e-8 m²/yr is nothing; 3e-8 m²/s = 0.95 m²/yr (365.25 d/yr)
+        ("consolidation_coefficient", 3e-8, '"3e-08 m²/s"'),
+        # Cα = 2 is a percentage: 0.02
+        ("secondary_index", 2, '"2 %"'),
+        # qc 8 kPa: MPa meant (common practice, cone readings are MPa)
+        ("cone_resistance", 8, '"8 MPa"'),
+    ],
+)
+def test_implausible_soil_parameter_refused(key, value, meant):
+    # plausible ranges: docs/input.md, the source beside each (common practice)
+    with pytest.raises(InputError, match="outside the plausible range") as err:
+        parse_stratum({"name": "s", "behaviour": "granular", key: value}, "site.toml")
+    assert meant in str(err.value)
+    assert f"key {key!r}" in str(err.value)
+
+
+def test_recompression_index_above_compression_index_refused():
+    # Cr is a fraction of Cc (about 1/10–1/5, common practice); Cr > Cc is a swapped pair
+    with pytest.raises(InputError, match="Cr = 0.3 is larger than Cc = 0.05"):
+        parse_stratum(
+            {
+                "name": "c",
+                "behaviour": "cohesive",
+                "compression_index": 0.05,
+                "recompression_index": 0.3,
+            },
+            "site.toml",
+        )
 
 
 def test_suspicious_unit_weight_warns():
-    # 200 kN/m³ is ten times any soil (common practice: 12–25 kN/m³); likely a N/m³ or pcf slip
+    # 11 kN/m³: plausible (peat, common practice) but outside the usual 12–25 kN/m³
     with pytest.warns(InputWarning, match="unit_weight.*outside the usual range"):
         parse_stratum(
             {
                 "name": "sand",
                 "behaviour": "granular",
-                "unit_weight": 200,
-                "saturated_unit_weight": 210,
+                "unit_weight": 11,
+                "saturated_unit_weight": 12,
                 "youngs_modulus": "20 MPa",
             },
             "site.toml",

@@ -42,7 +42,10 @@ def test_overconsolidated_layer_crossing_preconsolidation_by_hand():
     "stress_increase, preconsolidation, expected",
     [
         (0.0, 80.0, 0.0),  # no load, no settlement
-        (-20.0, 80.0, 0.0),  # documented: unloading gives 0 (no heave model)
+        # unloading swells on Cr: Cr/(1 + e0) log10(40/60) (e.g. Craig's Soil Mechanics §7)
+        (-20.0, 80.0, CR / 2 * np.log10(40 / 60)),
+        # unloading past zero effective stress: kept at 5 % of σ'0 (documented floor)
+        (-100.0, 80.0, CR / 2 * np.log10(0.05)),
         (40.0, 30.0, cn.primary_strain(S0, 40.0, S0, CC, CR, E0)),  # σ'p < σ'0 → σ'p = σ'0
         (20.0, 80.0, CR / 2 * np.log10(80 / 60)),  # reaching σ'p exactly: recompression only
     ],

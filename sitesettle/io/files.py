@@ -168,7 +168,7 @@ def check_gis_content(path: pathlib.Path, what: str = "footings file") -> None:
         raise InputError(
             path.name,
             f'the {what} has the suffix "{suffix}"',
-            "a .csv, .gpkg, .geojson, .json, .shp, .fgb, .gml, .kml or .zip file",
+            "a .csv, .xlsx, .dxf, .gpkg, .geojson, .json, .shp, .fgb, .gml, .kml or .zip file",
         )
     with open(path, "rb") as fh:  # a regular file (checked above)
         head = fh.read(4096)

@@ -16,7 +16,9 @@ from dataclasses import dataclass
 
 from sitesettle.errors import InputError, InputWarning
 from sitesettle.io import files, geometry
+from sitesettle.io.sheets import SHEET_SUFFIXES, read_sheet
 from sitesettle.io.tables import Row, Table, parse_csv, read_text, table_from_frame
+from sitesettle.options import FoundationKind
 from sitesettle.site import DEFAULT_FILL_UNIT_WEIGHT, Footing
 
 #: attribute columns of a footing and their dimension ("text"/"flag": no unit)
@@ -30,6 +32,7 @@ ATTRIBUTE_COLUMNS: dict[str, str] = {
     "sustained_live_fraction": "dimensionless",
     "rigid": "flag",
     "fill_unit_weight": "unit_weight",
+    "kind": "text",
 }
 #: geometry columns of a CSV footing table
 GEOMETRY_COLUMNS: dict[str, str] = {
@@ -179,6 +182,9 @@ def _attributes(table: Table, row: Row, shape: dict, defaults: FootingDefaults) 
             f"a unit weight ≤ {MAX_FILL_UNIT_WEIGHT:g} kN/m³ (check the unit)",
         )
     rigid = table.flag(row, "rigid", defaults.rigid)
+    kind = ""
+    if table.has(row, "kind"):
+        kind = FoundationKind.parse(table.text(row, "kind"), table.where(row, "kind")).value
     pressure = (dead + live) / area
     if pressure > MAX_PRESSURE:
         raise InputError(
@@ -209,6 +215,7 @@ def _attributes(table: Table, row: Row, shape: dict, defaults: FootingDefaults) 
         sustained_live_fraction=fraction,
         rigid=rigid,
         fill_unit_weight=fill,
+        kind=kind,
     )
 
 
@@ -318,6 +325,119 @@ def parse_footings_csv(
     return parse_footings_table(parse_csv(text, source), defaults)
 
 
+def _circle_shape(x: float, y: float, diameter: float) -> dict:
+    return {
+        "shape": "circle",
+        "outline": geometry.circle_outline(x, y, diameter),
+        "x": x,
+        "y": y,
+        "width": diameter,
+        "length": diameter,
+        "rotation": 0.0,
+    }
+
+
+#: a polygon that carries a diameter property must have the area of that circle to
+#: this fraction (a buffered point of 8 segments per quarter is within 0.7 %; a square
+#: with the circle's "diameter" as its side is 27 % larger)
+DIAMETER_AREA_TOLERANCE = 0.1
+
+
+def _gis_shape(table: Table, row: Row, geom, *, diameter: bool = False) -> dict:
+    """The shape of a GIS feature: a polygon's footprint, or a true circle from a point
+    with a diameter, a polygon with a diameter property, or a polygon that is a drawn
+    circle (a buffered point)."""
+    from shapely.geometry import MultiPolygon, Point, Polygon
+
+    where = table.where(row)
+    if (
+        diameter
+        and isinstance(geom, Polygon | MultiPolygon)
+        and not geom.is_empty
+        and table.has(row, "width")
+    ):
+        d = table.quantity(row, "width", "length")
+        if not d > 0:
+            raise InputError(
+                table.where(row, "width"), f"the diameter {d:g} m is not positive", "a diameter > 0"
+            )
+        area = math.pi * d * d / 4.0
+        if not abs(geom.area / area - 1.0) <= DIAMETER_AREA_TOLERANCE:
+            raise InputError(
+                table.where(row, "width"),
+                f"the polygon's area {geom.area:.4g} m² is not that of a circle of diameter "
+                f"{d:g} m ({area:.4g} m²)",
+                f"a round outline within {DIAMETER_AREA_TOLERANCE:.0%} of the circle's area, or "
+                "no diameter property for a footing that is not round",
+            )
+        c = geom.centroid
+        geometry.check_coordinate(max(abs(c.x), abs(c.y)), where)
+        return _circle_shape(float(c.x), float(c.y), d)
+    if isinstance(geom, Point) and not geom.is_empty:
+        if not table.has(row, "width"):
+            raise InputError(
+                where,
+                "the geometry is a Point without a diameter",
+                'a polygon outlining the footing, or a point with a "diameter" property '
+                "(a circular footing)",
+            )
+        x = geometry.check_coordinate(float(geom.x), where)
+        y = geometry.check_coordinate(float(geom.y), where)
+        d = table.quantity(row, "width", "length")
+        if not d > 0:
+            raise InputError(
+                table.where(row, "width"), f"the diameter {d:g} m is not positive", "a diameter > 0"
+            )
+        return _circle_shape(x, y, d)
+    circle = geometry.circle_of_polygon(geom) if geom is not None else None
+    if circle is not None and geom.is_valid:
+        x, y, d = circle
+        geometry.check_coordinate(max(abs(x), abs(y)), where)
+        return _circle_shape(x, y, d)
+    return geometry.polygon_footprint(geom, where)
+
+
+def parse_footings_dxf(
+    path: pathlib.Path,
+    defaults: FootingDefaults = FootingDefaults(),
+    *,
+    layer: str | None = None,
+) -> tuple[Footing, ...]:
+    """Footings from the closed polylines and circles of a DXF layer (docs/input.md).
+
+    Each outline's attributes (at least ``id``) come from the nearest text or block
+    (:func:`sitesettle.io.cad.read_dxf_footings`); the rest from ``defaults``.
+    """
+    from sitesettle.io import cad
+    from sitesettle.io.tables import _new_table
+
+    path = pathlib.Path(path)
+    outlines = cad.read_dxf_footings(path, layer)
+    names: list[str] = []
+    for o in outlines:
+        for k in o["cells"]:
+            if k not in names:
+                names.append(k)
+    table = _new_table(path.name, names, header_label="block attributes")
+    for o in outlines:
+        table.rows.append(Row(o["label"], {n: o["cells"].get(n) for n in table.columns}))
+    table.rename(ALIASES)
+    ignored = {k: "ignored" for k in GEOMETRY_COLUMNS}
+    table.check_columns({**ATTRIBUTE_COLUMNS, **ignored}, strict=False)
+    _missing_dead(table)
+    if defaults.depth is None:
+        table.require(["depth"])
+    footings, labels = [], []
+    for row, o in zip(table.rows, outlines):
+        if o["circle"] is not None:
+            shape = _circle_shape(*o["circle"])
+        else:
+            shape = _gis_shape(table, row, o["shape"])
+        footings.append(_attributes(table, row, shape, defaults))
+        labels.append(row.label)
+    return _check_plan(footings, labels, path.name)
+
+
 def parse_footings_frame(
     frame, source: str = "footings", defaults: FootingDefaults = FootingDefaults()
 ) -> tuple[tuple[Footing, ...], str | None]:
@@ -328,6 +448,7 @@ def parse_footings_frame(
     geoms = list(frame.geometry)
     attrs = frame.drop(columns=[frame.geometry.name])
     table = table_from_frame(attrs, source)
+    diameter = "diameter" in table.columns  # a property saying "this is a circle"
     table.rename(ALIASES)
     ignored = {k: "ignored" for k in GEOMETRY_COLUMNS}  # the geometry decides the shape
     table.check_columns({**ATTRIBUTE_COLUMNS, **ignored, "fid": "ignored"}, strict=False)
@@ -337,7 +458,7 @@ def parse_footings_frame(
         table.require(["depth"])
     footings, labels = [], []
     for row, geom in zip(table.rows, geoms):
-        shape = geometry.polygon_footprint(geom, table.where(row))
+        shape = _gis_shape(table, row, geom, diameter=diameter)
         footings.append(_attributes(table, row, shape, defaults))
         labels.append(row.label)
     crs = geometry.crs_text(frame.crs) if frame.crs is not None else None
@@ -391,12 +512,24 @@ def _check_gis_file(path: pathlib.Path) -> None:
 
 
 def read_footings(
-    path: pathlib.Path, defaults: FootingDefaults = FootingDefaults(), *, layer: str | None = None
+    path: pathlib.Path,
+    defaults: FootingDefaults = FootingDefaults(),
+    *,
+    layer: str | None = None,
+    sheet: str | None = None,
 ) -> tuple[tuple[Footing, ...], str | None]:
-    """Read footings from a CSV or GIS file; return them and the file's CRS (None for CSV)."""
+    """Read footings from a CSV, .xlsx, DXF or GIS file; return them and the file's CRS
+    (None for CSV, spreadsheets and DXF).
+
+    ``layer`` names the GIS or DXF layer, ``sheet`` the spreadsheet's sheet.
+    """
     path = pathlib.Path(path)
     if path.suffix.lower() in (".csv", ".txt", ".tsv"):
         return parse_footings_csv(read_text(path, "footings file"), path.name, defaults), None
+    if path.suffix.lower() == ".dxf":
+        return parse_footings_dxf(path, defaults, layer=layer), None
+    if path.suffix.lower() in SHEET_SUFFIXES:
+        return parse_footings_table(read_sheet(path, sheet, "footings file"), defaults), None
     _check_gis_file(path)
     import geopandas
 

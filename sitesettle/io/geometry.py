@@ -90,6 +90,50 @@ def circle_outline(x: float, y: float, diameter: float, n: int = CIRCLE_VERTICES
     return np.column_stack([x + r * np.cos(t), y + r * np.sin(t)])
 
 
+#: a polygon is taken as a drawn circle (a buffered point, a circle exported as a
+#: polygon) when it has at least this many vertices, all at the same distance from
+#: its centroid to CIRCLE_TOLERANCE and evenly spaced in angle to the same tolerance
+CIRCLE_MIN_VERTICES = 16
+CIRCLE_TOLERANCE = 1e-6
+
+
+def circle_of_polygon(geom) -> tuple[float, float, float] | None:
+    """(x, y, diameter) when a polygon is a regular n-gon standing for a circle, else None.
+
+    A circle exported as polygon (``Point.buffer``, site.gpkg's 64-gon) has all its
+    vertices on the circle; the diameter returned is that circle's, so that a
+    circle written and read back keeps its size.
+
+    Examples
+    --------
+    >>> import shapely
+    >>> x, y, d = circle_of_polygon(shapely.Point(3.0, 4.0).buffer(1.5))
+    >>> round(x, 9), round(y, 9), round(d, 9)
+    (3.0, 4.0, 3.0)
+    >>> circle_of_polygon(shapely.box(0, 0, 2, 1)) is None
+    True
+    """
+    from shapely.geometry import MultiPolygon, Polygon
+
+    if isinstance(geom, MultiPolygon) and len(geom.geoms) == 1:
+        geom = geom.geoms[0]
+    if not isinstance(geom, Polygon) or geom.is_empty or len(geom.interiors):
+        return None
+    ring = np.asarray(geom.exterior.coords, dtype=float)[:-1, :2]
+    if len(ring) < CIRCLE_MIN_VERTICES or not np.all(np.isfinite(ring)):
+        return None
+    c = ring.mean(axis=0)
+    d = ring - c
+    r = np.hypot(d[:, 0], d[:, 1])
+    if not r.mean() > 0 or np.ptp(r) > CIRCLE_TOLERANCE * r.mean():
+        return None
+    angles = np.sort(np.mod(np.arctan2(d[:, 1], d[:, 0]), 2 * math.pi))
+    steps = np.diff(np.append(angles, angles[0] + 2 * math.pi))
+    if np.ptp(steps) > CIRCLE_TOLERANCE * 2 * math.pi:
+        return None
+    return float(c[0]), float(c[1]), float(2.0 * r.mean())
+
+
 def _signed_area(xy: np.ndarray) -> float:
     x, y = xy[:, 0], xy[:, 1]
     return 0.5 * float(np.dot(x, np.roll(y, -1)) - np.dot(y, np.roll(x, -1)))

@@ -8,8 +8,9 @@ import warnings
 import numpy as np
 
 from sitesettle.errors import InputError, InputWarning
-from sitesettle.io import geometry
-from sitesettle.io.strata import QUANTITY_KEYS, check_value
+from sitesettle.io import ags, gef, geometry
+from sitesettle.io.sheets import SHEET_SUFFIXES, read_sheet
+from sitesettle.io.strata import PLAUSIBLE, QUANTITY_KEYS, _num, _probably_meant, check_value
 from sitesettle.io.tables import Table, parse_csv, read_text, suggest, table_from_frame
 from sitesettle.site import Borehole, Interval, Sounding, Stratum
 
@@ -193,9 +194,27 @@ def parse_boreholes(
     return tuple(boreholes)
 
 
-def read_boreholes(path: pathlib.Path, strata: tuple[Stratum, ...]) -> tuple[Borehole, ...]:
-    """Read the boreholes CSV file at ``path``."""
+def read_boreholes(
+    path: pathlib.Path,
+    strata: tuple[Stratum, ...],
+    *,
+    sheet: str | None = None,
+    legend: dict | None = None,
+    description: dict | None = None,
+) -> tuple[Borehole, ...]:
+    """Read the boreholes file at ``path``: CSV, an .xlsx sheet, or AGS4.
+
+    ``legend`` and ``description`` map an AGS4 file's GEOL codes and descriptions
+    onto the strata (:func:`sitesettle.io.ags.boreholes_table`).
+    """
     path = pathlib.Path(path)
+    suffix = path.suffix.lower()
+    if suffix in SHEET_SUFFIXES:
+        return parse_boreholes(read_sheet(path, sheet, "boreholes file"), strata, path.name)
+    if suffix in ags.AGS_SUFFIXES:
+        tables = ags.read_ags(path, "boreholes file")
+        table = ags.boreholes_table(tables, path.name, legend or {}, description or {})
+        return parse_boreholes(table, strata, path.name)
     return parse_boreholes(read_text(path, "boreholes file"), strata, path.name)
 
 
@@ -259,6 +278,16 @@ def parse_soundings(data, source: str = "soundings.csv") -> tuple[Sounding, ...]
             depth.append(z)
             qc.append(q)
             fs.append(f)
+        median = float(np.median(qc))
+        lo, hi, source = PLAUSIBLE["cone_resistance"]
+        if not lo <= median <= hi:
+            raise InputError(
+                table.where(rows[0], "qc"),
+                f'the median cone resistance of sounding "{sid}" is {median:g} kPa, outside '
+                f"the plausible {_num(lo)}–{_num(hi)} kPa"
+                + _probably_meant(median, lo, hi, "pressure"),
+                f"cone resistances with their unit in the header, such as qc[MPa] ({source})",
+            )
         fs_arr = np.array(fs) if has_fs and not np.all(np.isnan(fs)) else None
         out.append(Sounding(id=sid, x=x, y=y, depth=np.array(depth), qc=np.array(qc), fs=fs_arr))
     if unusual:
@@ -271,7 +300,15 @@ def parse_soundings(data, source: str = "soundings.csv") -> tuple[Sounding, ...]
     return tuple(out)
 
 
-def read_soundings(path: pathlib.Path) -> tuple[Sounding, ...]:
-    """Read the soundings CSV file at ``path``."""
+def read_soundings(path: pathlib.Path, *, sheet: str | None = None) -> tuple[Sounding, ...]:
+    """Read the soundings file at ``path``: CSV, an .xlsx sheet, AGS4 (SCPT) or GEF."""
     path = pathlib.Path(path)
+    suffix = path.suffix.lower()
+    if suffix in SHEET_SUFFIXES:
+        return parse_soundings(read_sheet(path, sheet, "soundings file"), path.name)
+    if suffix in ags.AGS_SUFFIXES:
+        tables = ags.read_ags(path, "soundings file")
+        return parse_soundings(ags.soundings_table(tables, path.name), path.name)
+    if suffix in gef.GEF_SUFFIXES:
+        return parse_soundings(gef.soundings_table(path), path.name)
     return parse_soundings(read_text(path, "soundings file"), path.name)

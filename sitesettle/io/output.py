@@ -54,6 +54,7 @@ from sitesettle.errors import OutputError
 from sitesettle.io.text import FORBIDDEN_CATEGORIES, spreadsheet_text, terminal_line
 from sitesettle.io.unit_text import in_units
 from sitesettle.results import Results
+from sitesettle.site import foundation_kind
 
 #: exact conversion factors, NIST SP 811 (2008) Appendix B.8 / B.9
 FOOT = 0.3048  # m
@@ -70,6 +71,7 @@ OUTPUT_FILES = (
     "points.csv",
     "summary.json",
     "site.gpkg",
+    "site.dxf",
     "plan.png",
     "contours.png",
     "settlement_time.png",
@@ -101,7 +103,13 @@ UNITS: dict[str, dict[str, _Unit]] = {
 FIXED_DECIMALS = {"tilt_direction_deg": 2, "time_yr": 4}
 #: ratios (tilt, angular distortion, utilisation) are written to 6 significant figures
 RATIO_FORMAT = "{:.6g}"
-RATIO_COLUMNS = ("tilt", "angular_distortion", "utilisation")
+RATIO_COLUMNS = (
+    "tilt",
+    "angular_distortion",
+    "angular_distortion_tilt_removed",
+    "angular_distortion_checked",
+    "utilisation",
+)
 
 
 def _units(units: str) -> str:
@@ -150,6 +158,13 @@ def footing_table(results: Results, units: str = "si") -> pd.DataFrame:
     n = len(fs)
     passed = [None] * n if checks is None else [bool(p) for p in checks.footing_passed]
     reasons = [""] * n if checks is None else [in_units(r, u) for r in checks.footing_reasons]
+    status = [_status(p) for p in passed]
+    if checks is not None and len(checks.footing_status) == n:  # "beyond range" first
+        status = [st.replace("_", " ") for st in checks.footing_status]
+    kinds = [foundation_kind(f) for f in fs]
+    limit = np.full(n, np.nan)
+    if checks is not None and checks.footing_limit is not None:
+        limit = np.asarray(checks.footing_limit, float)
     return pd.DataFrame(
         {
             "id": [f.id for f in fs],
@@ -175,7 +190,9 @@ def footing_table(results: Results, units: str = "si") -> pd.DataFrame:
             column("significant_depth", "length", u): _significant(results) * L,
             "method": list(results.methods),
             "outside_boreholes": [bool(v) for v in results.outside_hull],
-            "status": [_status(p) for p in passed],
+            "kind": kinds,
+            column("total_limit", "settlement", u): limit * S,
+            "status": status,
             "reasons": reasons,
         }
     )
@@ -237,10 +254,17 @@ def total_differential(results: Results) -> np.ndarray:
     return np.abs(st_tot[a, sa] - st_tot[b, sb])
 
 
+def _opt(values, fallback, n: int = 0) -> np.ndarray:
+    """An optional result array, or the fallback (NaN of length n when None)."""
+    if values is not None:
+        return np.asarray(values, float)
+    return np.full(n, np.nan) if fallback is None else np.asarray(fallback, float)
+
+
 def pair_table(results: Results, units: str = "si") -> pd.DataFrame:
     """One row per checked pair (empty, with the columns, when there are no checks).
 
-    ``differential`` and ``angular_distortion`` are of the checked movement; the
+    ``differential`` and the angular distortions are of the checked movement; the
     ``basis`` column says which ("after 0.5 yr" or "total"). When the checks look
     at the movement after a time, ``differential_total`` and
     ``angular_distortion_total`` give the total difference beside it.
@@ -250,18 +274,22 @@ def pair_table(results: Results, units: str = "si") -> pd.DataFrame:
     diff_tot = column("differential_total", "settlement", u)
     words, _ = pair_basis(results)
     after = words != "total"
-    cols = ["a", "b", span, diff, "angular_distortion", "basis"]
+    cols = [
+        "a",
+        "b",
+        span,
+        diff,
+        "angular_distortion",
+        "angular_distortion_tilt_removed",
+        "angular_distortion_checked",
+        "beta_basis",
+        "basis",
+    ]
     if after:
         cols += [diff_tot, "angular_distortion_total"]
     cols += ["limit", "limit_source", "utilisation", "status", "origin"]
-    numeric = {
-        span,
-        diff,
-        diff_tot,
-        "angular_distortion",
-        "angular_distortion_total",
-        "utilisation",
-    }
+    ratios = ("angular_distortion", "angular_distortion_tilt_removed", "angular_distortion_checked")
+    numeric = {span, diff, diff_tot, *ratios, "angular_distortion_total", "utilisation"}
     if results.checks is None or len(results.checks.pairs.a) == 0:
         return pd.DataFrame({c: pd.Series(dtype=float if c in numeric else object) for c in cols})
     pc = results.checks.pairs
@@ -273,7 +301,12 @@ def pair_table(results: Results, units: str = "si") -> pd.DataFrame:
         "b": [ids[int(j)] for j in pc.b],
         span: np.asarray(pc.span, float) * _scale("length", u),
         diff: np.asarray(pc.differential, float) * _scale("settlement", u),
-        "angular_distortion": np.asarray(pc.angular_distortion, float),
+        # β = differential / span (the rigid-body tilt kept), β with the building's
+        # plane removed, and the one checked (docs/criteria.md §2.2)
+        "angular_distortion": _opt(pc.angular_distortion_tilt_kept, pc.angular_distortion),
+        "angular_distortion_tilt_removed": _opt(pc.angular_distortion_tilt_removed, None, k),
+        "angular_distortion_checked": np.asarray(pc.angular_distortion, float),
+        "beta_basis": list(pc.beta_basis) if len(pc.beta_basis) == k else [""] * k,
         "basis": [words] * k,
     }
     if after:
@@ -440,6 +473,33 @@ def summary_dict(results: Results, units: str = "si") -> dict:
                 checks.footing_limit_total * S, sd
             ),
             "footing_limit_source": checks.footing_limit_source,
+            "beyond_range_footings": [ids[i] for i in checks.beyond_range],
+            "stages": [
+                {
+                    "name": g.name,
+                    "start_yr": g.start,
+                    "duration_yr": g.duration,
+                    "dead_fraction": g.dead,
+                    "live_fraction": g.live,
+                    "area_loads": list(g.area_loads),
+                }
+                for g in results.site.stages
+            ],
+            "area_loads": [
+                {
+                    "name": a.name,
+                    "pressure_kPa": a.pressure,
+                    "depth_m": a.depth,
+                    "area_m2": round(a.area, 3),
+                    "description": a.description,
+                }
+                for a in results.site.area_loads
+            ],
+            "rigid_tilt": checks.rigid_tilt,
+            "building_tilt_limit": _round(checks.building_tilt_limit, None)
+            if np.isfinite(checks.building_tilt_limit)
+            else None,
+            "building_tilt_passed": bool(checks.building_tilt_passed),
             "all_passed": bool(checks.all_passed),
             "n_lines": 0 if checks.lines is None else len(checks.lines.ids),
             "failing_lines": []
@@ -878,6 +938,10 @@ def _write_all(
     _write_json(summary_dict(results, units), folder / "summary.json")
     progress("site.gpkg")
     write_geopackage(results, folder / "site.gpkg", units)
+    progress("site.dxf")
+    from sitesettle.io.cad import write_dxf
+
+    write_dxf(results, folder / "site.dxf", units)
     progress("figures")
     figures = make_figures(results, units=units, section=section)
     for name, png in figures.items():

@@ -13,6 +13,9 @@ import pathlib
 import re
 import tomllib
 import warnings
+from dataclasses import replace
+
+import numpy as np
 
 from sitesettle import units
 from sitesettle.criteria import CRITERIA, MEASURES
@@ -22,7 +25,7 @@ from sitesettle.io.footings import MAX_FILL_UNIT_WEIGHT, FootingDefaults, read_f
 from sitesettle.io.investigation import read_boreholes, read_soundings
 from sitesettle.io.strata import check_requirements, parse_strata
 from sitesettle.io.tables import Table, parse_csv, parse_flag, read_text, suggest
-from sitesettle.io.text import free_text, terminal_line
+from sitesettle.io.text import free_text, identifier, terminal_line
 from sitesettle.options import (
     Behaviour,
     Choice,
@@ -30,6 +33,8 @@ from sitesettle.options import (
     DepthRule,
     EndOfPrimary,
     GranularMethod,
+    LiveLoadStart,
+    RigidTilt,
     ShapeInterpolation,
 )
 from sitesettle.site import AnalysisSettings, CheckSettings, QueryPoint, Site
@@ -67,11 +72,21 @@ TABLES: dict[str, tuple[str, ...]] = {
         *SIGN_OFF_KEYS,
     ),
     "groundwater": ("depth",),
-    "footings": ("file", "layer", "depth", "sustained_live_fraction", "rigid", "fill_unit_weight"),
-    "boreholes": ("file",),
-    "soundings": ("file",),
+    "footings": (
+        "file",
+        "layer",
+        "sheet",
+        "depth",
+        "sustained_live_fraction",
+        "rigid",
+        "fill_unit_weight",
+    ),
+    "boreholes": ("file", "sheet", "legend", "description"),
+    "soundings": ("file", "sheet"),
     "points": ("file",),
     "strata": (),
+    "area_loads": (),
+    "stages": (),
     "analysis": (
         "granular_method",
         "shape_interpolation",
@@ -92,6 +107,7 @@ TABLES: dict[str, tuple[str, ...]] = {
         "cohesive_immediate",
         "clay_settlement",
         "burland_burbidge_pressure",
+        "live_load_from",
     ),
     "checks": (
         "criteria",
@@ -100,6 +116,7 @@ TABLES: dict[str, tuple[str, ...]] = {
         "pairs",
         "pairs_file",
         "structure_lines_file",
+        "rigid_tilt",
         "remove_tilt",
     ),
 }
@@ -171,7 +188,7 @@ def parse_toml(text: str, source: str = SITE_FILE) -> dict:
                 "unknown table or key at the top level" + suggest(name, TABLES),
                 f"one of the tables {', '.join(TABLES)}",
             )
-        if name == "strata":
+        if name in ("strata", "area_loads", "stages"):
             continue
         if not isinstance(value, dict):
             raise InputError(
@@ -253,6 +270,10 @@ def parse_analysis(table: dict, where: str = f"{SITE_FILE} [analysis]") -> Analy
                 'one of "gross_effective", "net"',
             )
         kw["bb_pressure"] = value
+    if "live_load_from" in table:
+        kw["live_load_from"] = LiveLoadStart.parse(
+            table["live_load_from"], f"{where}, key 'live_load_from'"
+        ).value
     if "cohesive_immediate" in table:
         kw["cohesive_immediate"] = parse_flag(
             table["cohesive_immediate"], f"{where}, key 'cohesive_immediate'"
@@ -261,14 +282,29 @@ def parse_analysis(table: dict, where: str = f"{SITE_FILE} [analysis]") -> Analy
     return settings
 
 
-def parse_limit(value: object, where: str, unit: str = "-") -> float:
+#: plausible range of a limit override, core units: measure → (lowest, highest, why)
+LIMIT_PLAUSIBLE: dict[str, tuple[float, float, str]] = {
+    "total": (0.001, 1.0, "1 mm to 1 m"),
+    "differential": (0.001, 0.5, "1 mm to 500 mm"),
+    "angular_distortion": (1e-5, 0.1, "1/100,000 to 1/10"),
+    "angular_distortion_hog": (1e-5, 0.1, "1/100,000 to 1/10"),
+    "tilt": (1e-5, 0.1, "1/100,000 to 1/10 rad"),
+    "building_tilt": (1e-5, 0.1, "1/100,000 to 1/10 rad"),
+    "deflection_ratio": (1e-6, 0.05, "1/1,000,000 to 1/20"),
+    "deflection_ratio_hog": (1e-6, 0.05, "1/1,000,000 to 1/20"),
+}
+
+
+def parse_limit(value: object, where: str, unit: str = "-", measure: str | None = None) -> float:
     """A limit value in the core unit of its measure.
 
     Parameters
     ----------
-    value : str or float
-        ``"25 mm"``, ``"1 in"``, ``0.025`` for a settlement; ``"1/500"``,
-        ``0.002``, ``"0.2 %"`` or an angle (``"0.1 deg"``) for a ratio.
+    value : str
+        ``"25 mm"``, ``"1 in"`` for a settlement; ``"1/500"``, ``"0.2 %"`` or an
+        angle (``"0.1 deg"``) for a ratio or a tilt. A bare number is refused: a
+        limit says its unit or is written as a ratio (``total = 75`` would be read
+        as 75 m).
     where : str
         Place for messages.
     unit : str
@@ -276,6 +312,9 @@ def parse_limit(value: object, where: str, unit: str = "-") -> float:
         for settlements, ``"-"`` for ratios, ``"rad"`` for tilt. An angle given
         for a ratio becomes its tangent (a slope); a ratio given for tilt is
         taken as radians (small angles).
+    measure : str, optional
+        The measure, for its plausible range (:data:`LIMIT_PLAUSIBLE`); outside
+        it is an input error.
 
     Examples
     --------
@@ -285,6 +324,14 @@ def parse_limit(value: object, where: str, unit: str = "-") -> float:
     0.025
     """
     text = str(value).strip()
+    example = '"40 mm"' if unit == "m" else '"1/500"'
+    if isinstance(value, bool) or isinstance(value, (int, float)) or units._NUMBER.match(text):
+        raise InputError(
+            where,
+            f"the limit {text} has no unit",
+            f"a limit with its unit or as a ratio, such as {example}"
+            + (" (a bare number would be read in metres)" if unit == "m" else ""),
+        )
     if unit == "m":
         out = units.parse(value, "length", where)
     elif "/" in text and not any(c.isalpha() for c in text):
@@ -302,6 +349,15 @@ def parse_limit(value: object, where: str, unit: str = "-") -> float:
         out = units.parse(value, "dimensionless", where)
     if not (math.isfinite(out) and out > 0):
         raise InputError(where, f'the limit "{value}" is not positive', "a limit > 0")
+    if measure in LIMIT_PLAUSIBLE:
+        lo, hi, span = LIMIT_PLAUSIBLE[measure]
+        if not lo <= out <= hi:
+            shown = f"{out * 1000:g} mm" if unit == "m" else f"1/{1 / out:,.0f}"
+            raise InputError(
+                where,
+                f'the limit "{value}" ({shown}) is outside the plausible range {span}',
+                f"a limit in {span} (common practice), such as {example}",
+            )
     return out
 
 
@@ -337,18 +393,30 @@ def parse_checks(table: dict, where: str = f"{SITE_FILE} [checks]") -> CheckSett
                     f"one of {', '.join(MEASURES)}",
                 )
         kw["overrides"] = {
-            str(k): parse_limit(v, f"{where}, overrides key {k!r}", MEASURES[k])
+            str(k): parse_limit(v, f"{where}, overrides key {k!r}", MEASURES[k], str(k))
             for k, v in ov.items()
         }
-    if "checked_after" in table:
+    after = table.get("checked_after")
+    if isinstance(after, str) and after.strip().lower().startswith("after "):
+        pass  # the end of a stage: resolved by load_site once the stages are read
+    elif "checked_after" in table:
         t = units.parse(table["checked_after"], "time", f"{where}, key 'checked_after'")
         if t < 0:
             raise InputError(f"{where}, key 'checked_after'", f"{t:g} yr is negative", "a time ≥ 0")
         kw["checked_after"] = t
     if "pairs" in table:
         kw["pairs"] = PairRule.parse(table["pairs"], f"{where}, key 'pairs'").value
-    if "remove_tilt" in table:
-        kw["remove_tilt"] = parse_flag(table["remove_tilt"], f"{where}, key 'remove_tilt'")
+    if "rigid_tilt" in table and "remove_tilt" in table:
+        raise InputError(
+            f"{where}, key 'remove_tilt'",
+            "both rigid_tilt and remove_tilt are given",
+            'rigid_tilt alone ("both", "kept" or "removed")',
+        )
+    if "rigid_tilt" in table:
+        kw["rigid_tilt"] = RigidTilt.parse(table["rigid_tilt"], f"{where}, key 'rigid_tilt'").value
+    if "remove_tilt" in table:  # the earlier flag: true = "removed", false = "kept"
+        flag = parse_flag(table["remove_tilt"], f"{where}, key 'remove_tilt'")
+        kw["rigid_tilt"] = (RigidTilt.REMOVED if flag else RigidTilt.KEPT).value
     return CheckSettings(**kw)
 
 
@@ -484,7 +552,12 @@ def _read_footing_files(folder: pathlib.Path, ftable: dict, where: str, crs, sou
     origin: dict[str, str] = {}
     for name in names:
         fpath = _file(folder, {"file": name}, "file", where, required=True)
-        found, file_crs = read_footings(fpath, defaults, layer=ftable.get("layer"))
+        found, file_crs = read_footings(
+            fpath,
+            defaults,
+            layer=_text_key(ftable, "layer", where),
+            sheet=_text_key(ftable, "sheet", where),
+        )
         if file_crs is not None:
             geometry.check_metric_crs(file_crs, fpath.name)
             if crs is not None and not geometry.same_crs(crs, file_crs):
@@ -516,6 +589,59 @@ def _read_footing_files(folder: pathlib.Path, ftable: dict, where: str, crs, sou
                     )
         everything.extend(found)
     return tuple(everything), crs
+
+
+def _text_key(table: dict, key: str, where: str) -> str | None:
+    """An optional key holding text (a sheet or layer name), or InputError."""
+    if key not in table:
+        return None
+    if not isinstance(table[key], str) or not table[key].strip():
+        raise InputError(
+            f"{where}, key {key!r}", f"{table[key]!r} is not a name", f'{key} = "name" in quotes'
+        )
+    return table[key].strip()
+
+
+def _stratum_map(table: dict, key: str, strata, where: str) -> dict[str, str]:
+    """The ``legend`` or ``description`` table of [boreholes]: text → stratum name."""
+    value = table.get(key, {})
+    names = [s.name for s in strata]
+    if not isinstance(value, dict):
+        raise InputError(
+            f"{where}, key {key!r}",
+            "expected a table of text → stratum",
+            f'{key} = {{ "CODE" = "{names[0] if names else "stratum"}" }}',
+        )
+    out = {}
+    for text, name in value.items():
+        if not isinstance(name, str) or name not in names:
+            raise InputError(
+                f"{where}, key {key!r}, entry {text!r}",
+                f"{name!r} is not a stratum"
+                + (suggest(name, names) if isinstance(name, str) else ""),
+                f"one of the [[strata]] names: {', '.join(names)}",
+            )
+        if not str(text).strip():
+            raise InputError(f"{where}, key {key!r}", "an empty code or text", "a code or words")
+        out[str(text).strip()] = name
+    return out
+
+
+def _soundings_files(folder: pathlib.Path, table: dict, where: str) -> list[pathlib.Path]:
+    """The soundings file or files (a GEF file holds one sounding: a list is allowed)."""
+    names = table.get("file")
+    if names is None:
+        return []
+    if isinstance(names, list):
+        if not names or not all(isinstance(n, str) for n in names):
+            raise InputError(
+                f"{where}, key 'file'",
+                "an empty or malformed list of files",
+                'file = "soundings.csv" or file = ["CPT1.gef", "CPT2.gef"]',
+            )
+    else:
+        names = [names]
+    return [_file(folder, {"file": str(n)}, "file", where, required=True) for n in names]
 
 
 def _footing_defaults(table: dict, where: str) -> FootingDefaults:
@@ -615,14 +741,33 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
     ftable = config.get("footings", {})
     footings, crs = _read_footing_files(folder, ftable, f"{source} [footings]", crs, source)
 
-    bpath = _file(
-        folder, config.get("boreholes", {}), "file", f"{source} [boreholes]", required=True
+    btable = config.get("boreholes", {})
+    bwhere = f"{source} [boreholes]"
+    bpath = _file(folder, btable, "file", bwhere, required=True)
+    boreholes = read_boreholes(
+        bpath,
+        strata,
+        sheet=_text_key(btable, "sheet", bwhere),
+        legend=_stratum_map(btable, "legend", strata, bwhere),
+        description=_stratum_map(btable, "description", strata, bwhere),
     )
-    boreholes = read_boreholes(bpath, strata)
-    spath = _file(
-        folder, config.get("soundings", {}), "file", f"{source} [soundings]", required=False
-    )
-    soundings = read_soundings(spath) if spath is not None else ()
+    stable = config.get("soundings", {})
+    swhere = f"{source} [soundings]"
+    spaths = _soundings_files(folder, stable, swhere)
+    ssheet = _text_key(stable, "sheet", swhere)
+    soundings: tuple = ()
+    seen_soundings: dict[str, str] = {}
+    for spath in spaths:
+        found_s = read_soundings(spath, sheet=ssheet)
+        for snd in found_s:
+            if snd.id in seen_soundings:
+                raise InputError(
+                    spath.name,
+                    f'the sounding id "{snd.id}" is also used in {seen_soundings[snd.id]}',
+                    "a unique id for each sounding across the soundings files",
+                )
+            seen_soundings[snd.id] = spath.name
+        soundings += tuple(found_s)
 
     measured: dict[str, set[str]] = {}
     for b in boreholes:
@@ -641,6 +786,19 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
 
     _check_base_depths(footings, boreholes, strata, f"{source} [footings]")
 
+    area = parse_area_loads(config.get("area_loads"), footings, source)
+    stages = parse_stages(config.get("stages"), [a.name for a in area], source)
+    after = config.get("checks", {}).get("checked_after")
+    if isinstance(after, str):
+        t_stage = stage_time(after, stages, f"{source} [checks], key 'checked_after'")
+        if t_stage is not None:
+            if t_stage >= analysis.design_life:
+                raise InputError(
+                    f"{source} [checks], key 'checked_after'",
+                    f'"{after}" is {t_stage:g} yr, not before the design life',
+                    "a stage that ends before the design life",
+                )
+            checks = replace(checks, checked_after=t_stage)
     ids = [f.id for f in footings]
     qpath = _file(folder, config.get("points", {}), "file", f"{source} [points]", required=False)
     points = parse_points(read_text(qpath, "points file"), ids, qpath.name) if qpath else ()
@@ -664,7 +822,7 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
 
     names = ftable.get("file")
     read = [folder / str(n) for n in (names if isinstance(names, list) else [names])]
-    read += [p for p in (bpath, spath, qpath, ppath, lpath) if p is not None]
+    read += [p for p in (bpath, *spaths, qpath, ppath, lpath) if p is not None]
     outside = outside_files(folder, read)
     if outside:
         warnings.warn(
@@ -688,6 +846,8 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
         info=info,
         points=points,
         outside_files=tuple(outside),
+        area_loads=area,
+        stages=stages,
     )
 
 
@@ -782,6 +942,274 @@ def read_site_toml(path: pathlib.Path) -> dict:
     """Read and parse a site.toml file (syntax and key names checked)."""
     path = pathlib.Path(path)
     return parse_toml(read_text(path, "project file"), path.name)
+
+
+#: keys of an [[area_loads]] table
+AREA_LOAD_KEYS = (
+    "name",
+    "pressure",
+    "fill_thickness",
+    "fill_unit_weight",
+    "depth",
+    "polygon",
+    "extent",
+    "excavation",
+)
+_EXTENT = re.compile(r"^\s*plan\s*(?:\+\s*(?P<margin>.+?))?\s*$", re.I)
+
+
+def parse_area_loads(tables, footings, where: str = SITE_FILE):
+    """The ``[[area_loads]]`` tables as :class:`sitesettle.site.AreaLoad` values.
+
+    Each has a ``name``; a ``pressure``, or a ``fill_thickness`` and
+    ``fill_unit_weight`` (pressure = thickness × unit weight); an optional ``depth``
+    of the loaded plane below ground (default 0); and its area as a ``polygon``
+    (a list of [x, y] in the project's coordinates) or an ``extent`` of
+    ``"plan"`` or ``"plan + 20 m"``: the rectangle around every footing, widened by
+    the margin on every side (a fill over the whole site).
+    """
+    from sitesettle.site import AreaLoad
+
+    if tables is None:
+        return ()
+    if not isinstance(tables, list):
+        raise InputError(
+            f"{where} area_loads", "area loads must be [[area_loads]] tables", "[[area_loads]]"
+        )
+    out, names = [], set()
+    for n, t in enumerate(tables, start=1):
+        place = f"{where} [[area_loads]] {n}"
+        if not isinstance(t, dict):
+            raise InputError(place, "not a table", "[[area_loads]] followed by its keys")
+        for key in t:
+            if key not in AREA_LOAD_KEYS:
+                raise InputError(
+                    f"{place}, key {key!r}",
+                    "unknown key" + suggest(str(key), AREA_LOAD_KEYS),
+                    f"one of {', '.join(AREA_LOAD_KEYS)}",
+                )
+        if not str(t.get("name", "")).strip():
+            raise InputError(place, 'the key "name" is missing', 'name = "site fill"')
+        name = identifier(str(t["name"]).strip(), f"{place}, key 'name'", "area load name")
+        place = f'{where} [[area_loads]] {n} ("{name}")'
+        if name in names:
+            raise InputError(place, f'the name "{name}" is used twice', "a unique name")
+        names.add(name)
+        given_p = "pressure" in t
+        given_f = "fill_thickness" in t or "fill_unit_weight" in t
+        dig = 0.0
+        if "excavation" in t:
+            dig = units.parse(t["excavation"], "length", f"{place}, key 'excavation'")
+            if not 0 < dig <= 30:
+                raise InputError(
+                    f"{place}, key 'excavation'", f"{dig:g} m", "an excavation depth in (0, 30] m"
+                )
+            if given_p or given_f or "depth" in t:
+                raise InputError(
+                    place,
+                    "an excavation takes no pressure, fill or depth",
+                    'excavation = "3 m" alone (it unloads the overburden it removes)',
+                )
+        elif given_p == given_f:
+            raise InputError(
+                place,
+                "give either a pressure or a fill (thickness and unit weight)",
+                'pressure = "15 kPa", or fill_thickness = "1 m" and fill_unit_weight = "19 kN/m^3"',
+            )
+        if dig > 0:
+            q, text = math.nan, f"excavation {dig:g} m deep"
+        elif given_p:
+            q = units.parse(t["pressure"], "pressure", f"{place}, key 'pressure'")
+            text = f"{q:g} kPa"
+        else:
+            for key in ("fill_thickness", "fill_unit_weight"):
+                if key not in t:
+                    raise InputError(
+                        f"{place}, key {key!r}", "the key is missing", "both fill keys"
+                    )
+            h = units.parse(t["fill_thickness"], "length", f"{place}, key 'fill_thickness'")
+            g = units.parse(
+                t["fill_unit_weight"], "unit_weight", f"{place}, key 'fill_unit_weight'"
+            )
+            if not (0 < h <= 30):
+                raise InputError(
+                    f"{place}, key 'fill_thickness'", f"{h:g} m", "a thickness in (0, 30] m"
+                )
+            if not (5 <= g <= 30):
+                raise InputError(
+                    f"{place}, key 'fill_unit_weight'",
+                    f"{g:g} kN/m³ is outside the plausible 5–30 kN/m³",
+                    "the unit weight of the fill (common practice: 16–22 kN/m³)",
+                )
+            q = h * g
+            text = f"{h:g} m of fill at {g:g} kN/m³ = {q:g} kPa"
+        if q <= 0:
+            raise InputError(
+                f"{place}, key 'pressure'",
+                f"{q:g} kPa is not a load",
+                'a pressure > 0 (for unloading, an excavation: excavation = "3 m")',
+            )
+        if dig == 0 and q > MAX_AREA_PRESSURE:
+            raise InputError(
+                f"{place}, key 'pressure'",
+                f"{q:g} kPa is beyond any fill, slab or stockpile",
+                f"a pressure ≤ {MAX_AREA_PRESSURE:g} kPa (check the unit)",
+            )
+        depth = _quantity(t, "depth", "length", f"{place}, key 'depth'", 0.0)
+        if not 0 <= depth <= 30:
+            raise InputError(f"{place}, key 'depth'", f"{depth:g} m", "a depth in [0, 30] m")
+        if ("polygon" in t) == ("extent" in t):
+            raise InputError(
+                place,
+                "give either a polygon or an extent",
+                'polygon = [[x1, y1], [x2, y2], [x3, y3], …], or extent = "plan + 20 m"',
+            )
+        if "extent" in t:
+            m = _EXTENT.match(str(t["extent"]))
+            if m is None:
+                raise InputError(
+                    f"{place}, key 'extent'",
+                    f'cannot read "{t["extent"]}"',
+                    '"plan", or "plan + 20 m" (the footings\' extent widened by a margin)',
+                )
+            margin = 0.0
+            if m.group("margin"):
+                margin = units.parse(m.group("margin"), "length", f"{place}, key 'extent'")
+            if not 0 <= margin <= 1000:
+                raise InputError(f"{place}, key 'extent'", f"margin {margin:g} m", "0–1000 m")
+            allxy = np.concatenate([np.asarray(f.outline, float) for f in footings])
+            (x0, y0), (x1, y1) = allxy.min(axis=0) - margin, allxy.max(axis=0) + margin
+            outline = np.array([[x0, y0], [x1, y0], [x1, y1], [x0, y1]])
+            text += f", over the plan + {margin:g} m"
+        else:
+            outline = _polygon(t["polygon"], f"{place}, key 'polygon'")
+        out.append(AreaLoad(name, outline, float(q), float(depth), text, float(dig)))
+    return tuple(out)
+
+
+#: keys of a [[stages]] table
+STAGE_KEYS = ("name", "start", "duration", "dead", "live", "area_loads")
+
+
+def parse_stages(tables, area_names, where: str = SITE_FILE):
+    """The ``[[stages]]`` tables as :class:`sitesettle.site.LoadStage` values, in order.
+
+    Each has a ``name``, a ``start`` (a time), an optional ``duration`` (a linear
+    ramp; default 0), the fractions ``dead`` and ``live`` of every footing's loads it
+    applies (default 0; over the stages each adds up to 1) and the ``area_loads`` it
+    applies (names). Area loads named by no stage arrive with the first stage.
+    """
+    from sitesettle.site import LoadStage
+
+    if tables is None:
+        return ()
+    if not isinstance(tables, list) or not tables:
+        raise InputError(f"{where} stages", "stages must be [[stages]] tables", "[[stages]]")
+    out, names = [], set()
+    for n, t in enumerate(tables, start=1):
+        place = f"{where} [[stages]] {n}"
+        if not isinstance(t, dict):
+            raise InputError(place, "not a table", "[[stages]] followed by its keys")
+        for key in t:
+            if key not in STAGE_KEYS:
+                raise InputError(
+                    f"{place}, key {key!r}",
+                    "unknown key" + suggest(str(key), STAGE_KEYS),
+                    f"one of {', '.join(STAGE_KEYS)}",
+                )
+        if not str(t.get("name", "")).strip():
+            raise InputError(place, 'the key "name" is missing', 'name = "frame"')
+        name = identifier(str(t["name"]).strip(), f"{place}, key 'name'", "stage name")
+        place = f'{where} [[stages]] {n} ("{name}")'
+        if name in names:
+            raise InputError(place, f'the name "{name}" is used twice', "a unique name")
+        names.add(name)
+        if "start" not in t:
+            raise InputError(f"{place}, key 'start'", "the key is missing", 'start = "4 months"')
+        start = units.parse(t["start"], "time", f"{place}, key 'start'")
+        duration = _quantity(t, "duration", "time", f"{place}, key 'duration'", 0.0)
+        for key, v in (("start", start), ("duration", duration)):
+            if not 0 <= v <= MAX_TIME:
+                raise InputError(f"{place}, key {key!r}", f"{v:g} yr", f"0–{MAX_TIME:g} yr")
+        frac = {}
+        for key in ("dead", "live"):
+            v = units.parse(t.get(key, 0.0), "dimensionless", f"{place}, key {key!r}")
+            if not 0 <= v <= 1:
+                raise InputError(f"{place}, key {key!r}", f"{v:g}", "a fraction in [0, 1]")
+            frac[key] = v
+        areas = t.get("area_loads", [])
+        if isinstance(areas, str):
+            areas = [areas]
+        if not isinstance(areas, list):
+            raise InputError(
+                f"{place}, key 'area_loads'", "not a list of names", 'area_loads = ["site fill"]'
+            )
+        for a in areas:
+            if str(a) not in area_names:
+                raise InputError(
+                    f"{place}, key 'area_loads'",
+                    f'unknown area load "{a}"' + suggest(str(a), area_names),
+                    f"one of the [[area_loads]] names: {', '.join(area_names) or 'none'}",
+                )
+        out.append(
+            LoadStage(name, start, duration, frac["dead"], frac["live"], tuple(map(str, areas)))
+        )
+    for a, b in zip(out[:-1], out[1:]):
+        if b.start < a.start:
+            raise InputError(
+                f"{where} [[stages]] (\"{b.name}\"), key 'start'",
+                f"starts at {b.start:g} yr, before the stage above it ({a.start:g} yr)",
+                "stages in the order they start",
+            )
+    named = {n for stg in out for n in stg.area_loads}
+    rest = tuple(n for n in area_names if n not in named)
+    if rest:
+        out[0] = replace(out[0], area_loads=out[0].area_loads + rest)
+    return tuple(out)
+
+
+def stage_time(value: str, stages, where: str) -> float | None:
+    """The end of the stage that ``value`` names (``"after finishes"``), else None."""
+    text = str(value).strip()
+    low = text.lower()
+    if not low.startswith("after "):
+        return None
+    key = low[len("after ") :].strip()
+    for stg in stages:
+        if stg.name.lower() == key:
+            return stg.end
+    raise InputError(
+        where,
+        f'no stage called "{text[6:].strip()}"',
+        f"a time, or after one of the stages: {', '.join(s.name for s in stages) or 'none'}",
+    )
+
+
+#: the largest pressure accepted for an area load [kPa]: about 25 m of fill
+MAX_AREA_PRESSURE = 500.0
+
+
+def _polygon(value, where: str) -> np.ndarray:
+    """A list of [x, y] pairs as a simple polygon (n, 2), not closed."""
+    import shapely
+
+    example = "polygon = [[0, 0], [40, 0], [40, 30], [0, 30]] (metres, project coordinates)"
+    try:
+        xy = np.array(value, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(where, "not a list of [x, y] pairs", example) from None
+    if xy.ndim != 2 or xy.shape[1] != 2 or not np.isfinite(xy).all():
+        raise InputError(where, "not a list of [x, y] pairs", example)
+    if len(xy) > 3 and np.allclose(xy[0], xy[-1]):
+        xy = xy[:-1]
+    if len(xy) < 3:
+        raise InputError(where, f"{len(xy)} vertices", f"at least 3: {example}")
+    for v in xy.ravel():
+        geometry.check_coordinate(float(v), where)
+    poly = shapely.Polygon(xy)
+    if not poly.is_valid or poly.area <= 0:
+        raise InputError(where, "the polygon crosses itself or has no area", example)
+    return xy
 
 
 def load_site(folder) -> Site:

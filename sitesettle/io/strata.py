@@ -81,7 +81,35 @@ VALID: dict[str, tuple[float, bool, float, bool]] = {
     # (Skempton 1954; Skempton & Bjerrum 1957)
     "pore_pressure_coefficient": (-0.5, True, 1.5, True),
 }
-#: usual ranges (warnings outside), core units; common practice for soils
+#: plausible ranges (bad input outside), core units: a value outside is almost
+#: certainly a typing or unit error, not a soil. Wide on purpose; the source of each
+#: bound is beside it. field → (lowest, highest, source)
+PLAUSIBLE: dict[str, tuple[float, float, str]] = {
+    # peat about 10 kN/m³, dense gravel and weak rock about 23 (common practice)
+    "unit_weight": (8.0, 28.0, "common practice: peat about 10, dense gravel about 23 kN/m³"),
+    "saturated_unit_weight": (9.0, 28.0, "common practice: peat about 10.5, dense gravel 23"),
+    # very soft clay and peat about 0.2–1 MPa; very dense gravel about 200 MPa; weak
+    # rock a few GPa (common practice; Bowles 1996, Table 5-6, from memory)
+    "youngs_modulus": (100.0, 5.0e6, "common practice: peat about 0.2 MPa, weak rock a few GPa"),
+    # a standard cone's capacity is about 50–100 MPa; very soft clay about 0.1 MPa
+    "cone_resistance": (50.0, 100.0e3, "common practice: very soft clay 0.1 MPa, cone capacity"),
+    # refusal is 50 blows per test drive; extrapolated values seldom beyond 200
+    "spt_n": (0.0, 300.0, "common practice: refusal at 50 blows, extrapolated N rarely > 200"),
+    # sands about 0.005, clays 0.1–1, peats up to about 10 (common practice)
+    "compression_index": (0.002, 10.0, "common practice: sand 0.005, clay 0.1–1, peat up to 10"),
+    "recompression_index": (0.0, 2.0, "common practice: Cr about 1/5–1/10 of Cc"),
+    "void_ratio": (0.1, 15.0, "common practice: dense gravel 0.3, clay 0.5–3, peat up to 12"),
+    "preconsolidation": (1.0, 20.0e3, "common practice: 1 kPa to 20 MPa"),
+    "ocr": (1.0, 100.0, "common practice: heavily overconsolidated clays reach 20–50"),
+    # clays 0.1–100 m²/yr, silts up to about 1000 (common practice; Holtz & Kovacs 1981)
+    "consolidation_coefficient": (1.0e-3, 1.0e4, "common practice: clay 0.1–100, silt 1000 m²/yr"),
+    # Cα about 0.001–0.05 for clays, up to about 0.1–0.3 for peats (Mesri 1973)
+    "secondary_index": (0.0, 0.5, "Mesri (1973): clays 0.001–0.05, peats up to about 0.3"),
+    "undrained_modulus": (100.0, 2.0e6, "common practice: Eu about 150–1500 × su"),
+    "end_of_primary": (1.0e-3, 1000.0, "a time between about 9 hours and 1000 years"),
+}
+#: usual ranges (warnings outside, inside the plausible range), core units; common
+#: practice for soils
 USUAL: dict[str, tuple[float, float]] = {
     "unit_weight": (12.0, 25.0),
     "saturated_unit_weight": (14.0, 25.0),
@@ -101,10 +129,62 @@ _UNITS = {
     "time": "yr",
     "dimensionless": "",
 }
+#: units a number written without one may have been meant in: dimension →
+#: [(unit as the user would write it, core value of one such unit)]
+_MEANT: dict[str, tuple[tuple[str, float], ...]] = {
+    "pressure": (
+        ("MPa", 1e3),
+        ("GPa", 1e6),
+        ("Pa", 1e-3),
+        ("bar", 100.0),
+        ("psi", 6.894757),
+        ("ksf", 47.88026),
+        ("psf", 0.04788026),
+        ("tsf", 95.76052),
+    ),
+    # a density in kg/m³ written as a unit weight: ρ·g
+    "unit_weight": (("kg/m³ (a density)", 9.80665e-3), ("pcf", 0.1570875), ("N/m³", 1e-3)),
+    "diffusivity": (
+        ("m²/s", 3.15576e7),
+        ("cm²/s", 3.15576e3),
+        ("m²/day", 365.25),
+        ("m²/month", 12.0),
+        ("ft²/day", 33.93),
+    ),
+    "time": (("days", 1 / 365.25), ("months", 1 / 12), ("hours", 1 / 8766.0)),
+    "dimensionless": (("%", 0.01),),
+}
+
+
+def _num(x: float) -> str:
+    """A number for messages: no exponent for the sizes soil parameters have.
+
+    >>> _num(5e6), _num(0.002), _num(25.0)
+    ('5,000,000', '0.002', '25')
+    >>> _num(25000.0)
+    '25,000'
+    """
+    return f"{x:,.0f}" if abs(x) >= 1e4 else f"{x:.4g}"
+
+
+def _probably_meant(value: float, lo: float, hi: float, dimension: str) -> str:
+    """Name a unit in which the number, read again, falls inside [lo, hi]."""
+    for unit, factor in _MEANT.get(dimension, ()):
+        if lo <= value * factor <= hi:
+            core = _UNITS.get(dimension, "")
+            shown = f"{_num(value * factor)}{' ' + core if core else ''}"
+            written = f"{value:g} {unit.split(' (')[0]}"
+            return f'; if the number is in {unit} it is {shown}: write the unit, e.g. "{written}"'
+    return "; check the value and write its unit"
 
 
 def check_value(field: str, value: float, where: str, dimension: str) -> float:
-    """Raise InputError outside the hard limits of ``field``; warn outside its usual range."""
+    """Check a soil parameter in core units against its limits and ranges.
+
+    Raises InputError outside the hard limits of ``field`` (:data:`VALID`) or its
+    plausible range (:data:`PLAUSIBLE`, naming the unit the number was probably
+    meant in); warns outside its usual range (:data:`USUAL`).
+    """
     unit = _UNITS.get(dimension, "")
     shown = f"{value:g}{' ' + unit if unit else ''}"
     lo, lo_ok, hi, hi_ok = VALID.get(field, (-math.inf, True, math.inf, True))
@@ -112,6 +192,15 @@ def check_value(field: str, value: float, where: str, dimension: str) -> float:
         low = f"{'≥' if lo_ok else '>'} {lo:g}"
         high = f" and {'≤' if hi_ok else '<'} {hi:g}" if math.isfinite(hi) else ""
         raise InputError(where, f"{shown} is out of range", f"a value {low}{high}")
+    if field in PLAUSIBLE:
+        a, b, source = PLAUSIBLE[field]
+        if not a <= value <= b:
+            raise InputError(
+                where,
+                f"{shown} is outside the plausible range {_num(a)}–{_num(b)}"
+                f"{' ' + unit if unit else ''}" + _probably_meant(value, a, b, dimension),
+                f"a value in {_num(a)}–{_num(b)}{' ' + unit if unit else ''} ({source})",
+            )
     if field in USUAL:
         a, b = USUAL[field]
         if not a <= value <= b:
@@ -195,6 +284,17 @@ def parse_stratum(table: dict, where: str) -> Stratum:
             f"{where}, key 'method'",
             f"a granular method on a {s.behaviour} stratum",
             "no method key (it applies to granular strata)",
+        )
+    if (
+        s.recompression_index is not None
+        and s.compression_index is not None
+        and s.recompression_index > s.compression_index
+    ):
+        raise InputError(
+            f"{where}, key 'recompression_index'",
+            f"Cr = {s.recompression_index:g} is larger than Cc = {s.compression_index:g}",
+            "a recompression index below the compression index (Cr is usually Cc/10 to Cc/5, "
+            "common practice)",
         )
     if s.ocr is not None and s.preconsolidation is not None:
         raise InputError(

@@ -25,6 +25,11 @@ WIDTH = 100
 GROUP_IDS = 8
 #: what "use" means, printed once
 UTILISATION = "use = utilisation: the movement divided by its limit; above 1.00 fails"
+_TILT_BASIS = {
+    "both": "kept and removed (the larger governs)",
+    "kept": "kept",
+    "removed": "removed",
+}
 
 
 def ratio_text(ratio: float) -> str:
@@ -129,9 +134,26 @@ def format_summary(results: Results, summary: dict, units: str = "si") -> str:
         f"{len(ids)} footings, {summary.get('n_pairs', 0)} neighbour pairs, "
         f"design life {life:g} years",
     ]
+    for a in results.site.area_loads:
+        out.append(f"area load {a.name}: {a.description}")
+    out.extend(b for b in results.basis if b.startswith("load history:"))
     if chk is not None:
         lim = in_units(f"{chk.footing_limit_total * 1000:.4g} mm", units)
         out.append(f"criteria: {chk.criteria}; a footing's total settlement ≤ {lim}")
+        out.append(f"β checked with the building's rigid-body tilt {_TILT_BASIS[chk.rigid_tilt]}")
+    beyond = chk.beyond_range if chk is not None else ()
+    if beyond:
+        out.append("")
+        out.append(
+            f"OUTSIDE THE METHODS' RANGE — bearing failure likely at {len(beyond)} footing(s) "
+            "(settlement on loading > 0.1 B); the settlements below are not meaningful there:"
+        )
+        for i in beyond[:SHOWN]:
+            out.append(
+                f"  {_short(ids[i], 12):<12} {_reason(chk.footing_reasons[i].split(';')[0], units)}"
+            )
+        if len(beyond) > SHOWN:
+            out.append(f"  … and {len(beyond) - SHOWN} more (footings.csv, status)")
     out.append("")
     out.append(f"Largest total settlements at {life:g} years ({unit}):")
     w = 6 if us else 7
@@ -185,11 +207,22 @@ def format_summary(results: Results, summary: dict, units: str = "si") -> str:
     else:
         nff = int(np.count_nonzero(~np.asarray(chk.footing_passed, bool)))
         nfp = int(np.count_nonzero(~np.asarray(chk.pairs.passed, bool)))
+        if np.isfinite(chk.building_tilt_limit):
+            out.append(
+                f"building tilt {ratio_text(chk.building_tilt)} against "
+                f"{ratio_text(chk.building_tilt_limit)} ({chk.building_tilt_source}): "
+                + ("pass" if chk.building_tilt_passed else "FAIL")
+            )
         verdict = (
             "PASS — every check passes"
             if chk.all_passed
             else (f"FAIL — {nff} footing(s) and {nfp} pair(s) exceed their limits")
         )
+        if beyond:
+            verdict = (
+                f"OUTSIDE THE METHODS' RANGE at {len(beyond)} footing(s) (bearing failure "
+                f"likely); {verdict}"
+            )
         out.append(verdict)
     return "\n".join(fit(out))
 

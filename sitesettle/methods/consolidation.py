@@ -71,6 +71,11 @@ SERIES_TERMS = 30
 NEWTON_ITERATIONS = 30
 
 
+#: unloading keeps at least this fraction of the initial effective stress (a clay
+#: unloaded to zero effective stress would swell without bound in the e–log model)
+MIN_UNLOADED_STRESS = 0.05
+
+
 def primary_strain(
     sigma_v0: ArrayLike,
     stress_increase: ArrayLike,
@@ -88,7 +93,9 @@ def primary_strain(
         (NaN otherwise).
     stress_increase : array_like
         Increase of vertical stress Δσ (superposed Boussinesq Δσz). [kPa]
-        Δσ ≤ 0 gives 0: unloading (heave) is not modelled.
+        Δσ < 0 (unloading: an excavation, a footing lighter than the soil it
+        replaces) swells the clay on the recompression (swelling) line, Cr; the
+        final effective stress is kept at least :data:`MIN_UNLOADED_STRESS` × σ'0.
     preconsolidation : array_like
         Preconsolidation pressure σ'p. [kPa] Values below σ'0 are taken as σ'0
         (normally consolidated): a clay cannot be under-consolidated in this model.
@@ -102,12 +109,15 @@ def primary_strain(
     Returns
     -------
     numpy.ndarray
-        Vertical strain ε = Δe/(1 + e0); sublayer settlement = ε H. [-]
+        Vertical strain ε = Δe/(1 + e0); sublayer settlement = ε H; negative for
+        swelling. [-]
 
     Notes
     -----
     With σ'f = σ'0 + Δσ and σ'p ≥ σ'0 this one expression covers the three
-    textbook cases (NC: σ'p = σ'0; OC with σ'f ≤ σ'p; OC crossing σ'p):
+    textbook cases (NC: σ'p = σ'0; OC with σ'f ≤ σ'p; OC crossing σ'p), and
+    unloading (σ'f < σ'0: the first term is negative, the second 0), swelling on Cr
+    (e.g. Craig's Soil Mechanics §7; Terzaghi & Peck 1967):
 
     .. math::
 
@@ -126,9 +136,14 @@ def primary_strain(
 
     >>> round(float(primary_strain(60.0, 40.0, 60.0, 0.3, 0.05, 1.0)) * 4.0 * 1000, 1)
     133.1
+
+    Unloading by 30 kPa swells on Cr: 0.05/2 × log10(30/60) × 4 m = −30.1 mm
+
+    >>> round(float(primary_strain(60.0, -30.0, 60.0, 0.3, 0.05, 1.0)) * 4.0 * 1000, 1)
+    -30.1
     """
     s0 = np.asarray(sigma_v0, dtype=float)
-    sf = s0 + np.maximum(np.asarray(stress_increase, dtype=float), 0.0)
+    sf = np.maximum(s0 + np.asarray(stress_increase, dtype=float), MIN_UNLOADED_STRESS * s0)
     sp = np.maximum(np.asarray(preconsolidation, dtype=float), s0)
     cc = np.asarray(compression_index, dtype=float)
     cr = np.asarray(recompression_index, dtype=float)

@@ -178,15 +178,70 @@ def _(d):
 
 @case(
     "suspicious_modulus",
-    "a bare modulus of 25 (kPa): valid but very soft, check the unit",
+    "a modulus of 300 kPa: plausible (peat) but very soft for sand, check the unit",
     "youngs_modulus",
-    r"25",
+    r"300 kPa is outside the usual range",
     "",
     warning=True,
 )
 def _(d):
-    toml_sub(d, 'youngs_modulus = "8 MPa"', "youngs_modulus = 25")
+    toml_sub(d, 'youngs_modulus = "8 MPa"', 'youngs_modulus = "300 kPa"')
     toml_sub(d, 'map_spacing = "0 m"', 'map_spacing = "3 m"')  # a coarse map: a quick run
+
+
+@case(
+    "implausible_modulus",
+    "a bare modulus of 25 (read as kPa): below any soil, the unit was MPa",
+    "youngs_modulus",
+    r"25 kPa is outside the plausible range .* if the number is in MPa",
+    r"100–5,000,000 kPa",
+)
+def _(d):
+    toml_sub(d, 'youngs_modulus = "8 MPa"', "youngs_modulus = 25")
+
+
+@case(
+    "implausible_unit_weight",
+    "a unit weight of 1800 (a density in kg/m³ written without its unit)",
+    "unit_weight",
+    r"1800 kN/m³ is outside the plausible range .* if the number is in kg/m³",
+    r"8–28 kN/m³",
+)
+def _(d):
+    toml_sub(d, 'unit_weight = "17 kN/m^3"', "unit_weight = 1800")
+
+
+@case(
+    "implausible_qc",
+    "cone resistances in MPa under a header that says kPa",
+    "soundings.csv",
+    r"median cone resistance of sounding \"CPT1\" is .* kPa, outside the plausible",
+    r"qc\[MPa\]",
+)
+def _(d):
+    sub(d, "soundings.csv", "qc [MPa]", "qc [kPa]")
+
+
+@case(
+    "override_bare_number",
+    "a total-settlement override of 75 with no unit (75 m: every footing would pass)",
+    "overrides key 'total'",
+    r"the limit 75 has no unit",
+    r'"40 mm"',
+)
+def _(d):
+    toml_sub(d, '# total = "40 mm"', "total = 75")
+
+
+@case(
+    "override_implausible",
+    "an angular-distortion override of 1/5 (a slope, not a damage limit)",
+    "overrides key 'angular_distortion'",
+    r'the limit "1/5" \(1/5\) is outside the plausible range',
+    r"1/100,000 to 1/10",
+)
+def _(d):
+    toml_sub(d, '# angular_distortion = "1/500"', 'angular_distortion = "1/5"')
 
 
 @case(
@@ -913,7 +968,7 @@ def _(d):
     "≥ 1",
 )
 def _(d):
-    toml_sub(d, "max_depth_widths = 10 ", "max_depth_widths = 0.001 ")
+    toml_sub(d, 'depth_rule = "complete" ', 'depth_rule = "complete"\nmax_depth_widths = 0.001 ')
 
 
 @case(
@@ -1139,6 +1194,277 @@ def _(d):
     with zipfile.ZipFile(d / "raft.zip", "w") as zf:
         zf.writestr("raft.vrt", "<OGRVRTDataSource/>")
     toml_sub(d, 'file = "footings.csv"', 'file = ["footings.csv", "raft.zip"]')
+
+
+# ------------------------------------------- delivered formats (AGS4, GEF, xlsx, DXF)
+def _formats():
+    import sys
+
+    sys.path.insert(0, str(HERE.parent))
+    try:
+        import _formats
+    finally:
+        sys.path.remove(str(HERE.parent))
+    return _formats
+
+
+#: GEOL legend codes of the starter's strata
+STARTER_CODES = {"made ground": "MG", "sand": "SA", "clay": "CL", "mudstone": "MS"}
+
+
+def starter_ags(folder, **kw):
+    """The starter's boreholes as investigation.ags (python-ags4), named in site.toml."""
+    import csv
+
+    rows = [
+        r
+        for r in csv.reader((folder / "boreholes.csv").read_text(encoding="utf-8").splitlines())
+        if r and not r[0].startswith("#")
+    ][1:]
+    locations, seen, geol = [], set(), []
+    for r in rows:
+        if r[0] not in seen:
+            seen.add(r[0])
+            locations.append((r[0], "CP", float(r[1]), float(r[2])))
+        geol.append((r[0], float(r[4]), float(r[5]), f"{r[3]} as logged", STARTER_CODES[r[3]]))
+    _formats().write_ags(folder / "investigation.ags", locations, geol, **kw)
+    legend = ", ".join(f'{c} = "{n}"' for n, c in STARTER_CODES.items())
+    toml_sub(
+        folder,
+        'file = "boreholes.csv"',
+        f'file = "investigation.ags"\nlegend = {{ {legend} }}',
+    )
+
+
+@case(
+    "ags_missing_unit_line",
+    "an AGS4 file whose GEOL group has no UNIT line",
+    "investigation.ags line",
+    r"AGS4 checker finds: AGS Format Rule .*UNIT",
+    "passes the AGS4 checker",
+)
+def _(d):
+    starter_ags(d, drop_unit="GEOL")
+
+
+@case(
+    "ags_unknown_heading",
+    "an AGS4 file with a heading that is not in the AGS4 dictionary",
+    "group GEOL",
+    r"AGS4 checker finds: .*GEOL_WOBBLE",
+    "passes the AGS4 checker",
+)
+def _(d):
+    starter_ags(d, extra_heading="GEOL_WOBBLE")
+
+
+@case(
+    "ags_unmapped_stratum",
+    "a GEOL legend code that the [boreholes] legend does not map",
+    'investigation.ags group GEOL line 27, column "GEOL_DESC"',
+    r"no stratum for legend code 'CL'",
+    "legend or description table",
+)
+def _(d):
+    starter_ags(d)
+    toml_sub(d, ', CL = "clay"', "")
+
+
+@case(
+    "ags_legend_unknown_stratum",
+    "the [boreholes] legend maps a code onto a stratum that does not exist",
+    "site.toml [boreholes], key 'legend', entry 'CL'",
+    r"'peat' is not a stratum",
+    r"one of the \[\[strata\]\] names",
+)
+def _(d):
+    starter_ags(d)
+    toml_sub(d, 'CL = "clay"', 'CL = "peat"')
+
+
+@case(
+    "ags_csv_renamed",
+    "a CSV file named .ags",
+    "boreholes.ags",
+    r"not an AGS4 file",
+    '"GROUP" line',
+)
+def _(d):
+    (d / "boreholes.csv").rename(d / "boreholes.ags")
+    toml_sub(d, 'file = "boreholes.csv"', 'file = "boreholes.ags"')
+
+
+def starter_gef(folder, name="CPT1.gef"):
+    import csv
+
+    rows = [
+        r
+        for r in csv.reader((folder / "soundings.csv").read_text(encoding="utf-8").splitlines())
+        if r and not r[0].startswith("#")
+    ][1:]
+    cpt = [r for r in rows if r[0] == "CPT1"]
+    _formats().write_gef(
+        folder / name,
+        "CPT1",
+        float(cpt[0][1]),
+        float(cpt[0][2]),
+        [(float(r[3]), float(r[4]), float(r[5])) for r in cpt],
+    )
+    toml_sub(folder, 'file = "soundings.csv"', f'file = "{name}"')
+    return folder / name
+
+
+@case(
+    "gef_no_cone_resistance",
+    "a GEF file without a column of cone resistance (quantity 2)",
+    "CPT1.gef",
+    r"no column of cone resistance",
+    "#COLUMNINFO lines for quantities 1 and 2",
+)
+def _(d):
+    path = starter_gef(d)
+    sub(d, path.name, "2, MPa, cone resistance, 2", "2, MPa, cone resistance, 9")
+
+
+@case(
+    "gef_negative_qc",
+    "a GEF reading with a negative cone resistance",
+    "CPT1.gef reading 3",
+    r"cone resistance .* is not positive",
+    "qc > 0",
+)
+def _(d):
+    path = starter_gef(d)
+    lines = path.read_text(encoding="ascii").splitlines()
+    k = lines.index("#EOH=") + 3
+    z, q, f = lines[k].split()
+    lines[k] = f"{z} -{q} {f}"
+    path.write_text("\n".join(lines) + "\n", encoding="ascii")
+
+
+@case(
+    "gef_csv_renamed",
+    "a CSV file named .gef",
+    "soundings.gef",
+    r"not a GEF file",
+    "#GEFID",
+)
+def _(d):
+    (d / "soundings.csv").rename(d / "soundings.gef")
+    toml_sub(d, 'file = "soundings.csv"', 'file = "soundings.gef"')
+
+
+def starter_xlsx(folder, sheet="Footings"):
+    text = (folder / "footings.csv").read_text(encoding="utf-8")
+    (folder / "footings.csv").unlink()
+    path = _formats().csv_to_xlsx(text, folder / "footings.xlsx", sheet=sheet)
+    toml_sub(folder, 'file = "footings.csv"', f'file = "footings.xlsx"\nsheet = "{sheet}"')
+    return path
+
+
+@case(
+    "xlsx_merged_header",
+    "an .xlsx schedule whose header cells are merged",
+    'footings.xlsx sheet "Footings" row 3',
+    r"header cells E3:F3 are merged",
+    "one header cell per column",
+)
+def _(d):
+    import openpyxl
+
+    path = starter_xlsx(d)
+    book = openpyxl.load_workbook(path)
+    book["Footings"].merge_cells("E3:F3")
+    book.save(path)
+
+
+@case(
+    "xlsx_text_in_number",
+    "a word in a number cell of an .xlsx schedule",
+    'footings.xlsx sheet "Footings" row 5, column "width [m]"',
+    r"wide",
+)
+def _(d):
+    import openpyxl
+
+    path = starter_xlsx(d)
+    book = openpyxl.load_workbook(path)
+    book["Footings"]["E5"] = "wide"
+    book.save(path)
+
+
+@case(
+    "xlsx_unknown_sheet",
+    "site.toml names a sheet the workbook does not have",
+    "footings.xlsx",
+    r"no sheet 'Loads'",
+    "one of its sheets: 'Footings'",
+)
+def _(d):
+    starter_xlsx(d)
+    toml_sub(d, 'sheet = "Footings"', 'sheet = "Loads"')
+
+
+@case(
+    "xlsx_csv_renamed",
+    "a CSV file named .xlsx",
+    "footings.xlsx",
+    r"not an \.xlsx workbook",
+    "saved as .xlsx",
+)
+def _(d):
+    (d / "footings.csv").rename(d / "footings.xlsx")
+    toml_sub(d, 'file = "footings.csv"', 'file = "footings.xlsx"')
+
+
+def plan_dxf(folder, polylines, texts):
+    """A DXF plan: closed polylines (or open, given as (points, False)) and id texts."""
+    import ezdxf
+
+    doc = ezdxf.new("R2013")
+    msp = doc.modelspace()
+    for pts, closed in polylines:
+        msp.add_lwpolyline(pts, close=closed, dxfattribs={"layer": "FOOTINGS"})
+    for text, xy in texts:
+        msp.add_text(text, dxfattribs={"layer": "FOOTINGS", "insert": xy})
+    doc.saveas(folder / "raft.dxf")
+    toml_sub(folder, 'file = "footings.csv"', 'file = ["footings.csv", "raft.dxf"]')
+
+
+@case(
+    "dxf_open_polyline",
+    "an open polyline on the footings layer of a DXF plan",
+    "raft.dxf polyline #",
+    r"the polyline is open",
+    "closed polylines and circles",
+)
+def _(d):
+    plan_dxf(d, [([(30, 0), (36, 0), (36, 5)], False)], [("R1", (33, 2))])
+
+
+@case(
+    "dxf_outline_without_id",
+    "a DXF outline with no id text nearest to it",
+    "raft.dxf polyline #",
+    r"no text or block .* nearer to this outline",
+    "one id text or block",
+)
+def _(d):
+    square = [(30, 0), (36, 0), (36, 6), (30, 6)]
+    other = [(40, 0), (46, 0), (46, 6), (40, 6)]
+    plan_dxf(d, [(square, True), (other, True)], [("R1", (33, 3))])
+
+
+@case(
+    "dxf_csv_renamed",
+    "a CSV file named .dxf",
+    "plan.dxf",
+    r"not a DXF drawing",
+    "a DXF file",
+)
+def _(d):
+    (d / "plan.dxf").write_text("id,x,y\nR1,1,2\n", encoding="utf-8")
+    toml_sub(d, 'file = "footings.csv"', 'file = ["footings.csv", "plan.dxf"]')
 
 
 def materialise(names=None) -> list[pathlib.Path]:
