@@ -959,7 +959,7 @@ def _inputs(results: Results, units: str) -> str:
         + (", ".join(f"{_e(a)} – {_e(b)}" for a, b in ck.listed_pairs) or "none")
         + "</dd><dt>structure lines</dt><dd>"
         + ("; ".join(_e(" → ".join(line)) for line in ck.structure_lines) or "none")
-        + f"</dd><dt>building tilt removed</dt><dd>{'yes' if ck.remove_tilt else 'no'}</dd>"
+        + f"</dd><dt>rigid-body tilt in β</dt><dd>{_e(getattr(ck, 'rigid_tilt', ''))}</dd>"
         + "</dl>"
     )
     outside = getattr(site, "outside_files", ())
