@@ -224,7 +224,8 @@ def format_summary(results: Results, summary: dict, units: str = "si") -> str:
                 f"likely); {verdict}"
             )
         out.append(verdict)
-    return "\n".join(fit(out))
+    # the title keeps the project's name whole (a name is shown as written, never cut)
+    return "\n".join([out[0], *fit(out[1:])])
 
 
 def format_caution(text: str, width: int = WIDTH) -> str:
