@@ -76,14 +76,17 @@ def _parser() -> argparse.ArgumentParser:
     )
     sub = p.add_subparsers(dest="command", required=True)
     c = sub.add_parser("check", help="analyse a project, check it and write the results folder")
-    c.add_argument("project", help="project folder with a site.toml")
+    c.add_argument("project", help="project folder with a site.toml (or the site.toml itself)")
     c.add_argument("--out", help="results folder (default: PROJECT/results)")
     c.add_argument("--units", choices=["si", "us"], help="output units (default: the project's)")
     c.add_argument("--quiet", action="store_true", help="print only errors and the verdict")
     e = sub.add_parser("explain", help="print the layer-by-layer calculation of one footing")
-    e.add_argument("project", help="project folder with a site.toml")
+    e.add_argument("project", help="project folder with a site.toml (or the site.toml itself)")
     e.add_argument("footing", help="footing id")
     e.add_argument("--csv", action="store_true", help="print the sheet as CSV")
+    e.add_argument(
+        "--units", choices=["si", "us"], help="units of the sheet (default: the project's)"
+    )
     n = sub.add_parser("new", help="create a small commented starter project")
     n.add_argument("folder", help="folder to create (must not exist or be empty)")
     return p
@@ -116,9 +119,18 @@ class _Progress:
         self.bar.close()
 
 
+def _project_folder(project: str) -> str:
+    """The project folder: ``project`` itself, or the folder of a site.toml given as a path."""
+    p = Path(project)
+    if p.suffix.lower() == ".toml" and p.is_file():
+        return str(p.parent if str(p.parent) else ".")
+    return project
+
+
 def _load(project: str):
     import sitesettle
 
+    project = _project_folder(project)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         site = sitesettle.load_site(project)
@@ -135,11 +147,11 @@ def _check(args) -> int:
     import sitesettle
     from sitesettle.analysis import worst_pair_section
     from sitesettle.io.output import summary_dict, write_results
-    from sitesettle.io.summary import format_summary
+    from sitesettle.io.summary import format_caution, format_summary, group_warnings
 
     site, notes = _load(args.project)
     units = args.units or site.units
-    out = Path(args.out) if args.out else Path(args.project) / "results"
+    out = Path(args.out) if args.out else Path(_project_folder(args.project)) / "results"
     from sitesettle.io.output import check_target
 
     check_target(out.absolute())  # refuse an unwritable target before the (long) analysis
@@ -160,12 +172,12 @@ def _check(args) -> int:
     summary = summary_dict(results, units)
     ok = results.checks is None or results.checks.all_passed
     if not args.quiet:
-        for n in notes:
-            say(f"warning: {terminal_line(str(n))}")
+        for line in group_warnings([*notes, *results.warnings], units):
+            say(line, file=sys.stderr)
         say(format_summary(results, summary, units))
         say(f"results written to {terminal_line(str(out))}")
         say()
-        say("Caution: " + CAUTIONS)
+        say(format_caution(CAUTIONS))
     else:
         say("PASS" if ok else "FAIL")
     return OK if ok else FAILS
@@ -174,8 +186,12 @@ def _check(args) -> int:
 def _explain(args) -> int:
     import sitesettle
     from sitesettle.io.explain import format_sheet, trace_table
+    from sitesettle.io.summary import format_caution, group_warnings
 
     site, notes = _load(args.project)
+    units = args.units or site.units
+    for line in group_warnings(notes, units):
+        say(line, file=sys.stderr)
     if args.footing not in {f.id for f in site.footings}:
         ids = [f.id for f in site.footings]
         say(
@@ -190,12 +206,14 @@ def _explain(args) -> int:
     if args.csv:
         sys.stdout.write(
             terminal_text(
-                trace_table(results, args.footing).to_csv(index=False, float_format="%.6g")
+                trace_table(results, args.footing, units=units).to_csv(
+                    index=False, float_format="%.6g"
+                )
             )
         )
     else:
-        say(format_sheet(results, args.footing))
-        say("Caution: " + CAUTIONS)
+        say(format_sheet(results, args.footing, units=units))
+        say(format_caution(CAUTIONS))
     return OK
 
 

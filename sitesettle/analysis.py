@@ -21,6 +21,7 @@ from __future__ import annotations
 import math
 from collections.abc import Callable
 from dataclasses import dataclass, replace
+from dataclasses import field as dc_field
 
 import numpy as np
 
@@ -372,6 +373,7 @@ class Integration:
     spt_modulus: dict[str, float]
     #: (n_sub,) the sublayers of the first pass (where the own-load methods apply)
     first_pass: np.ndarray | None = None
+    own_params: dict[int, dict[str, float]] = dc_field(default_factory=dict)
 
 
 def _boundaries(gc: GroundColumns, c: int, planes: np.ndarray) -> np.ndarray:
@@ -439,6 +441,7 @@ def integrate(
     bound = np.full(n, np.inf)
     spt_modulus: dict[str, float] = {}
     own_notes: dict[int, list[str]] = {}
+    own_params: dict[int, dict[str, float]] = {}
     first = True
     passes = 0
     while active.any():
@@ -494,6 +497,7 @@ def integrate(
                 bb_reading=str(st.bb_pressure),
             )
             own_notes = own.notes
+            own_params = own.params
             spt_modulus = {k: float(np.median(v)) for k, v in own.spt_modulus.items()}
             stale = np.flatnonzero(np.isnan(sub.gran_nb) | np.isnan(sub.gran_own))
             fld.granular_field(
@@ -551,7 +555,7 @@ def integrate(
             ),
         ),
     )
-    return Integration(sub, bottom, reason, bound, own_notes, spt_modulus, first_pass)
+    return Integration(sub, bottom, reason, bound, own_notes, spt_modulus, first_pass, own_params)
 
 
 def _subset(gc: GroundColumns, cols: np.ndarray) -> GroundColumns:
@@ -947,6 +951,7 @@ def analyse(
             "of the settlement methods (a settlement of 0.1 B is commonly taken as bearing "
             "failure); check the moduli, the loads and their units"
         )
+    _far_warnings(site, warnings, with_checks)
     chk = None
     if with_checks:
         chk = checks_mod.check_movements(
@@ -964,6 +969,41 @@ def analyse(
         )
     say("done", 1.0)
     return Results(**{**results.__dict__, "checks": chk, "warnings": tuple(warnings)})
+
+
+def _far_warnings(site, warnings: list[str], with_checks: bool) -> None:
+    """Footings and boreholes far from the plan (likely coordinate typos), and the
+    automatic pairs not formed because their footings are too far apart."""
+    fs = site.footings
+    far = checks_mod.far_footings(fs)
+    for i, dist, spacing in far:
+        warnings.append(
+            f"footing {fs[i].id} is {dist:.0f} m from the nearest other footing (the plan's "
+            f"typical spacing is {spacing:.1f} m): check its coordinates"
+        )
+    spacing, _ = checks_mod.plan_spacing(fs)
+    if fs and math.isfinite(spacing):
+        xy = np.array([[f.x, f.y] for f in fs], dtype=float)
+        extent = float(np.hypot(*(xy.max(axis=0) - xy.min(axis=0))))
+        reach = max(checks_mod.FAR_FACTOR * spacing, extent)
+        for holes, kind in ((site.boreholes, "borehole"), (site.soundings, "sounding")):
+            for b in holes:
+                d = float(np.min(np.hypot(xy[:, 0] - b.x, xy[:, 1] - b.y)))
+                if d > reach:
+                    warnings.append(
+                        f"{kind} {b.id} is {d:.0f} m from the nearest footing (the plan spans "
+                        f"{extent:.0f} m): check its coordinates"
+                    )
+    if with_checks and str(getattr(site.checks, "pairs", "auto")).lower().endswith("auto"):
+        pairs = checks_mod.footing_pairs(fs)
+        long = checks_mod.long_span_pairs(fs, pairs)
+        for a, b in pairs[long]:
+            d = float(np.hypot(fs[a].x - fs[b].x, fs[a].y - fs[b].y))
+            warnings.append(
+                f"footing {fs[a].id} and footing {fs[b].id} are not paired: {d:.0f} m apart, "
+                f"far beyond the plan's spacing ({spacing:.1f} m); list the pair in [checks] "
+                "to check it"
+            )
 
 
 def assemble_footings(ctx: Context, pts: Points, cols: dict, run: Integration, significant):
@@ -1272,6 +1312,74 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
         "U(t)": hist.degree[:, life],
         "drainage path (m)": hist.drainage_path,
     }
+    # what a checker needs to redo a sublayer by hand
+    n_sub = len(sub)
+    st = site.analysis
+    c2 = (
+        fld.creep_factors(np.array([ctx.times[life]]), st.bb_r3, st.bb_r)[sub.creep, 0]
+        if n_sub
+        else np.zeros(0)
+    )
+    gran = ~coh & (sub.method != "none") if n_sub else np.zeros(0, bool)
+    is_sch = np.isin(sub.method, ["schmertmann", "schmertmann_1970"]) if n_sub else gran
+    dp = np.full(n_sub, np.nan)
+    c1 = np.full(n_sub, np.nan)
+    factor = np.full(n_sub, np.nan)
+    for col_, prm in run.own_params.items():
+        rows_ = slice(int(starts[col_]), int(ends[col_]))
+        dp[rows_] = prm["dp"]
+        c1[rows_] = prm["c1"]
+        factor[rows_] = prm["factor"]
+    dp = np.where(is_sch, dp, np.nan)
+    c1 = np.where(is_sch, c1, np.nan)
+    e_given = tab.youngs[sub.col, sub.stratum] if n_sub else np.zeros(0)
+    sounded = tab.sound[sub.col, sub.stratum] if n_sub else np.zeros(0, bool)
+    qc_given = tab.qc[sub.col, sub.stratum] if n_sub else np.zeros(0)
+    field_factor = np.where(
+        sub.method == "schmertmann_1970",
+        fld.FIELD_CONE_FACTOR["1970"],
+        fld.FIELD_CONE_FACTOR["1978"],
+    )
+    f_used = np.where(is_sch & np.isfinite(factor), factor, field_factor)
+    source = (
+        np.where(
+            coh,
+            np.where(np.isfinite(sub.modulus), "undrained E given", ""),
+            np.where(
+                np.isfinite(e_given),
+                "given",
+                np.where(
+                    sounded,
+                    np.char.add(np.char.add("", np.char.mod("%.2f", f_used)), "·qc from soundings"),
+                    np.where(
+                        np.isfinite(qc_given),
+                        np.char.add(np.char.mod("%.2f", f_used), "·qc given"),
+                        "from SPT (Burland & Burbidge)",
+                    ),
+                ),
+            ),
+        )
+        if n_sub
+        else np.zeros(0, dtype=object)
+    )
+    qc_used = (
+        np.where(
+            ~coh & np.isnan(e_given) & (sounded | np.isfinite(qc_given)),
+            sub.modulus / f_used,
+            np.nan,
+        )
+        if n_sub
+        else np.zeros(0)
+    )
+    parts = {
+        "thickness h (m)": h,
+        "Δp (kPa)": dp,
+        "C1": c1,
+        "C2": np.where(gran, c2, np.nan),
+        "qc (kPa)": qc_used,
+        "E source": source,
+        **parts,
+    }
     for c in np.flatnonzero(pts.kind == "footing"):
         m = slice(int(starts[c]), int(ends[c]))
         i = int(pts.owner[c])
@@ -1294,7 +1402,7 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
         for text, stratum in sorted(
             {(t, names[k]) for t, k in zip(hist.drainage_note[m], sub.stratum[m]) if t}
         ):
-            notes.append(f"{stratum}: {text}")
+            notes.append(text if str(text).startswith(f"{stratum}:") else f"{stratum}: {text}")
         notes.append(
             f"integrated to {run.bottom[c]:.2f} m below ground: {run.reason[c]}"
             + (
@@ -1319,6 +1427,36 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
 
 
 # --------------------------------------------------------------------------- section
+
+
+def outline_chord(outline: np.ndarray, start: np.ndarray, direction: np.ndarray):
+    """Where the line ``start + t·direction`` crosses a footing outline: (t_in, t_out) [m].
+
+    The chord of the polygon on the line (its first entry and last exit), so a
+    section through a 0.6 m strip shows it 0.6 m wide where the line crosses it
+    square, and its true cut where it crosses at an angle. (nan, nan) when the
+    line misses the outline.
+
+    >>> sq = np.array([[0.0, 0.0], [2.0, 0.0], [2.0, 1.0], [0.0, 1.0]])
+    >>> [round(v, 6) for v in outline_chord(sq, np.array([-1.0, 0.5]), np.array([1.0, 0.0]))]
+    [1.0, 3.0]
+    """
+    p = np.asarray(outline, float)
+    q = np.roll(p, -1, axis=0)
+    e = q - p
+    n = np.array([-direction[1], direction[0]])
+    denom = e @ n
+    ts = []
+    for k in range(len(p)):
+        if abs(denom[k]) < 1e-12:
+            continue
+        s = float(np.dot(start - p[k], n) / denom[k])
+        if -1e-9 <= s <= 1 + 1e-9:
+            hit = p[k] + s * e[k]
+            ts.append(float(np.dot(hit - start, direction)))
+    if len(ts) < 2:
+        return math.nan, math.nan
+    return min(ts), max(ts)
 
 
 def worst_pair_section(results: Results, *, samples: int = 80):
@@ -1360,17 +1498,15 @@ def worst_pair_section(results: Results, *, samples: int = 80):
     bottom = min(reach, max(a.depth, b.depth) + 3.0 * max(span, 1.0)) * 1.1
     tot = results.at_design_life()
 
-    def along(f: Footing) -> float:
-        return float(np.dot(np.array([f.x, f.y]) - start, d))
-
-    def width_along(f: Footing) -> float:
-        ax_l, _ = f.axes()
-        c = abs(float(np.dot(ax_l, d)))
-        return float(f.length * c + f.width * math.sqrt(max(0.0, 1 - c * c)))
+    def cut(f: Footing) -> tuple[float, float]:
+        """(centre distance, width) of the footing's outline along the line."""
+        t0, t1 = outline_chord(np.asarray(f.outline, float), start, d)
+        if not math.isfinite(t0):  # the line misses the outline: its centre, no width
+            return float(np.dot(np.array([f.x, f.y]) - start, d)), 0.0
+        return 0.5 * (t0 + t1), t1 - t0
 
     feet = tuple(
-        SectionFooting(f.id, along(f), width_along(f), f.depth, float(tot[i]))
-        for i, f in ((ia, a), (ib, b))
+        SectionFooting(f.id, *cut(f), f.depth, float(tot[i])) for i, f in ((ia, a), (ib, b))
     )
     return Section(
         start=tuple(start),
@@ -1397,5 +1533,6 @@ __all__ = [
     "integrate",
     "net_pressures",
     "prepare",
+    "outline_chord",
     "worst_pair_section",
 ]

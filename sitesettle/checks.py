@@ -204,7 +204,76 @@ def centre_line_points(footings: Sequence[Footing]) -> tuple[np.ndarray, np.ndar
     return np.concatenate(xy), np.concatenate(groups).astype(np.intp)
 
 
-def footing_pairs(footings: Sequence[Footing]) -> np.ndarray:
+#: a footing whose nearest other footing is farther than this many times the plan's
+#: typical spacing is "far from the others" (a likely coordinate typo; warned)
+FAR_FACTOR = 10.0
+#: automatic pairs are not formed across a gap between outlines larger than this many
+#: times the plan's typical spacing (a pair 400 m apart is no neighbour; common practice)
+LONG_SPAN_FACTOR = 5.0
+
+
+def plan_spacing(footings: Sequence[Footing]) -> tuple[float, np.ndarray]:
+    """The plan's typical spacing and every footing's distance to its nearest other one [m].
+
+    The typical spacing is the median of the nearest-centroid distances (NaN with
+    fewer than two footings).
+
+    >>> from sitesettle.site import Footing
+    >>> pads = [Footing(f"P{i}", np.zeros((4, 2)), "rectangle", float(x), 0.0, 1.0, 1.0, 0.0,
+    ...                 1.0, 100.0) for i, x in enumerate([0, 6, 12, 18, 418])]
+    >>> s, d = plan_spacing(pads)
+    >>> float(s), d.tolist()
+    (6.0, [6.0, 6.0, 6.0, 6.0, 400.0])
+    """
+    xy = np.array([[f.x, f.y] for f in footings], dtype=float).reshape(-1, 2)
+    if len(xy) < 2:
+        return math.nan, np.full(len(xy), np.nan)
+    d, _ = cKDTree(xy).query(xy, k=2)
+    near = d[:, 1]
+    return float(np.median(near)), near
+
+
+def far_footings(footings: Sequence[Footing]) -> list[tuple[int, float, float]]:
+    """Footings far from all others: ``(index, distance to the nearest [m], spacing [m])``.
+
+    Far means more than :data:`FAR_FACTOR` times the plan's typical spacing.
+    """
+    spacing, near = plan_spacing(footings)
+    if not math.isfinite(spacing) or spacing <= 0:
+        return []
+    return [(int(i), float(near[i]), spacing) for i in np.flatnonzero(near > FAR_FACTOR * spacing)]
+
+
+def outline_gaps(footings: Sequence[Footing], pairs: np.ndarray) -> np.ndarray:
+    """Approximate clear gap between the outlines of each pair [m] (≥ 0).
+
+    The nearest distance between the two footings' centre lines
+    (:func:`centre_line_points`) less half of each width.
+    """
+    pairs = np.asarray(pairs, dtype=np.intp).reshape(-1, 2)
+    if not len(pairs):
+        return np.zeros(0)
+    xy, groups = centre_line_points(footings)
+    pts = [xy[groups == i] for i in range(len(footings))]
+    w = np.array([f.width for f in footings], dtype=float)
+    out = np.empty(len(pairs))
+    for k, (a, b) in enumerate(pairs):
+        pa, pb = pts[a], pts[b]
+        d = np.hypot(pa[:, None, 0] - pb[None, :, 0], pa[:, None, 1] - pb[None, :, 1]).min()
+        out[k] = max(0.0, float(d) - 0.5 * (w[a] + w[b]))
+    return out
+
+
+def long_span_pairs(footings: Sequence[Footing], pairs: np.ndarray) -> np.ndarray:
+    """Mask of the pairs whose outline gap exceeds :data:`LONG_SPAN_FACTOR` × the spacing."""
+    pairs = np.asarray(pairs, dtype=np.intp).reshape(-1, 2)
+    spacing, _ = plan_spacing(footings)
+    if not len(pairs) or not math.isfinite(spacing) or spacing <= 0:
+        return np.zeros(len(pairs), dtype=bool)
+    return outline_gaps(footings, pairs) > LONG_SPAN_FACTOR * spacing
+
+
+def footing_pairs(footings: Sequence[Footing], *, drop_long: bool = False) -> np.ndarray:
     """Automatic neighbour pairs of footings (indices into ``footings``).
 
     The union of two relative neighbourhood graphs (:func:`neighbour_pairs`):
@@ -215,6 +284,9 @@ def footing_pairs(footings: Sequence[Footing]) -> np.ndarray:
       beside it, not only with the one nearest its centroid. Its points never block a
       pair of two compact footings (a row of pads beside a wall keeps its grid-line
       pairs).
+
+    With ``drop_long``, pairs across a gap far beyond the plan's spacing
+    (:func:`long_span_pairs`) are left out (the checks do this and warn).
 
     Returns
     -------
@@ -228,7 +300,10 @@ def footing_pairs(footings: Sequence[Footing]) -> np.ndarray:
     if elongated.any():
         extra = neighbour_pairs(xy, groups)
         pairs.append(extra[elongated[extra[:, 0]] | elongated[extra[:, 1]]])
-    return np.unique(np.concatenate(pairs), axis=0).reshape(-1, 2)
+    out = np.unique(np.concatenate(pairs), axis=0).reshape(-1, 2)
+    if drop_long:
+        out = out[~long_span_pairs(footings, out)]
+    return out
 
 
 # --- measures ------------------------------------------------------------------------------
@@ -732,8 +807,10 @@ def _line_checks(rows: list[dict]) -> LineChecks | None:
     out = {}
     for k in fields:
         values = [r[k] for r in rows]
-        out[k] = tuple(values) if k in ("ids", "limit", "limit_source", "zone") else np.array(
-            values, dtype=bool if k == "passed" else float
+        out[k] = (
+            tuple(values)
+            if k in ("ids", "limit", "limit_source", "zone")
+            else np.array(values, dtype=bool if k == "passed" else float)
         )
     return LineChecks(**out)
 
@@ -790,7 +867,7 @@ def _pair_list(footings: Sequence[Footing], settings: CheckSettings, extra_ids=(
         ids[q] = len(footings) + j
     pairs: dict[tuple[int, int], str] = {}
     if rule == PairRule.AUTO:
-        for a, b in footing_pairs(footings):
+        for a, b in footing_pairs(footings, drop_long=True):
             pairs[(int(a), int(b))] = "auto"
     for fa, fb in settings.listed_pairs:
         where = f'listed pair ("{fa}", "{fb}")'
@@ -1048,7 +1125,7 @@ def check_movements(
             elif value > lim.value:
                 why.append(
                     f"{measure} {format_value(measure, value)} > "
-                    f"{format_value(measure, lim.value)} ({lim.source})"
+                    f"{format_value(measure, lim.value, exact=True)} ({lim.source})"
                 )
         ok[i] = not why
         status.append("beyond_range" if beyond else ("pass" if ok[i] else "fail"))
@@ -1093,7 +1170,10 @@ __all__ = [
     "centre_line_points",
     "check_movements",
     "deflection_zones",
+    "far_footings",
     "footing_pairs",
+    "long_span_pairs",
+    "plan_spacing",
     "footing_tilt",
     "movement_after",
     "neighbour_pairs",

@@ -117,14 +117,50 @@ class Limit:
         >>> Limit("total", 0.05, "m", EC7).describe()
         'total settlement ≤ 50 mm'
         """
-        return f"{_LABELS[self.measure]} ≤ {format_value(self.measure, self.value)}"
+        return f"{_LABELS[self.measure]} ≤ {format_value(self.measure, self.value, exact=True)}"
 
 
-def format_value(measure: str, value: float) -> str:
-    """Format a movement or limit of ``measure`` for messages (mm, or 1/n for ratios).
+#: below this ratio a movement is written "< 1/10,000" (docs/outputs.md, precision rules)
+SMALLEST_RATIO = 1e-4
+
+
+def one_in(value: float, *, exact: bool = False) -> str:
+    """A small ratio as engineers write it: ``1/N``.
+
+    A computed value (``exact=False``) gives N to 3 significant figures and
+    ``"< 1/10,000"`` below :data:`SMALLEST_RATIO` (more digits would be spurious
+    precision); a limit (``exact=True``) keeps its N as given.
+
+    >>> one_in(1 / 388.6), one_in(1 / 142657), one_in(1 / 1678), one_in(1 / 2500, exact=True)
+    ('1/389', '< 1/10,000', '1/1680', '1/2500')
+    >>> one_in(0.0), one_in(-1 / 431)
+    ('0', '-1/431')
+    """
+    if not math.isfinite(value):
+        return "n/a"
+    if value == 0:
+        return "0"
+    sign = "-" if value < 0 else ""
+    v = abs(value)
+    if exact:
+        return f"{sign}1/{1 / v:.0f}"
+    if v < SMALLEST_RATIO:
+        return f"{sign}< 1/10,000"
+    n = float(f"{1 / v:.3g}")
+    return f"{sign}1/{n:.0f}"
+
+
+def format_value(measure: str, value: float, *, exact: bool = False) -> str:
+    """Format a movement or limit of ``measure`` for messages.
+
+    A computed movement (``exact=False``) is written to 0.1 mm, a ratio as 1/N
+    with N to 3 significant figures (:func:`one_in`); a limit (``exact=True``) as
+    given (``50 mm``, ``1/500``).
 
     >>> format_value("total", 0.0612)
-    '61 mm'
+    '61.2 mm'
+    >>> format_value("total", 0.05, exact=True)
+    '50 mm'
     >>> format_value("tilt", 0.004)
     '1/250'
     >>> format_value("angular_distortion", 0.0)
@@ -133,10 +169,8 @@ def format_value(measure: str, value: float) -> str:
     if not math.isfinite(value):
         return "n/a"
     if MEASURES[measure] == "m":
-        return f"{value * 1000:.0f} mm"
-    if value == 0:
-        return "0"
-    return f"1/{1 / abs(value):.0f}" if value > 0 else f"-1/{1 / abs(value):.0f}"
+        return f"{value * 1000:.4g} mm" if exact else f"{value * 1000:.1f} mm"
+    return one_in(value, exact=exact)
 
 
 @dataclass(frozen=True)
@@ -583,5 +617,6 @@ __all__ = [
     "UnknownCriteriaError",
     "bjerrum_level",
     "format_value",
+    "one_in",
     "get_criteria",
 ]

@@ -23,7 +23,7 @@ and every load at a map or query point, go through the field methods above.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -325,6 +325,10 @@ class OwnLoad:
 
     notes: dict[int, list[str]]
     spt_modulus: dict[str, list[float]]
+    #: per footing-point column: the Schmertmann parameters a checker needs
+    #: ("dp" Δp [kPa], "c1" C1, "izp" Izp, "sig_p" σ'vp [kPa], "zp" depth of Izp below
+    #: the base [m], "factor" E/qc)
+    params: dict[int, dict[str, float]] = field(default_factory=dict)
 
 
 def own_load_settlement(
@@ -353,9 +357,10 @@ def own_load_settlement(
     """
     notes: dict[int, list[str]] = {}
     spt_mod: dict[str, list[float]] = {}
+    params: dict[int, dict[str, float]] = {}
     owned = sub.owner >= 0
     if not owned.any():
-        return OwnLoad(notes, spt_mod)
+        return OwnLoad(notes, spt_mod, params)
     c, k = sub.col, sub.stratum
     beh = tab.behaviour[c, k]
     meth = tab.method[c, k]
@@ -413,6 +418,14 @@ def own_load_settlement(
             for j in np.unique(cols):
                 r = np.flatnonzero(cols == j)[0]
                 i = int(fi[r])
+                params[int(j)] = {
+                    "dp": float(dp[r]),
+                    "c1": float(c1[r]),
+                    "izp": float(izp[r]),
+                    "sig_p": float(sig_p[r]),
+                    "zp": float(zp[r] - fd[i]),
+                    "factor": float(np.asarray(dgi.modulus_factor)[r]),
+                }
                 notes.setdefault(int(j), []).append(
                     f"Schmertmann {ver}: Δp = {dp[r]:.1f} kPa, C1 = {float(c1[r]):.3f}, "
                     f"Izp = {float(izp[r]):.3f} at {float(zp[r] - fd[i]):.2f} m below the base "
@@ -425,7 +438,7 @@ def own_load_settlement(
         _burland_burbidge(
             sub, tab, gc, footings, q_full, fw, fd, lb, is_bb, notes, spt_mod, bb_reading
         )
-    return OwnLoad(notes, spt_mod)
+    return OwnLoad(notes, spt_mod, params)
 
 
 def own_below_reach(sub: Sublayers, tab: Tables) -> None:

@@ -1,8 +1,12 @@
 """Figures of the results: plan, contour map, settlement with time, section.
 
-Every function draws on a given matplotlib ``ax`` (or a new figure), returns the
-figure and never calls ``show()``. matplotlib is imported inside the functions with
-the Agg backend, so importing this module costs nothing and needs no display.
+The public functions :func:`plan`, :func:`contours`, :func:`history` and
+:func:`section` draw on a given matplotlib ``ax`` (or on a new figure) and return
+the Axes they drew on, so a figure can be composed from several of them; the
+results folder's PNG files are made by the same calls. ``plan_figure`` and the
+other ``*_figure`` functions return the figure instead. None calls ``show()``.
+matplotlib is imported inside the functions with the Agg backend, so importing
+this module costs nothing and needs no display.
 
 Visual language (our own): settlement runs on the perceptually uniform *cividis*
 colour map (dark blue = little, yellow = much, readable in grey and by colour-blind
@@ -39,6 +43,13 @@ STRATUM_STYLE = {
 }
 #: the most footings whose ids are written on the plan
 MAX_LABELS = 300
+#: boreholes and cone soundings on plans and sections: (marker, colour)
+BOREHOLE_STYLE = ("o", "#b5121b")
+SOUNDING_STYLE = ("^", "#1a7f37")
+#: a borehole or sounding is shown on the section when it lies this close to the
+#: line, as a fraction of the section's length (at least SECTION_CORRIDOR_MIN m)
+SECTION_CORRIDOR = 0.15
+SECTION_CORRIDOR_MIN = 5.0
 #: how many footings the settlement-time figure shows
 TIME_FIGURE_FOOTINGS = 5
 
@@ -201,7 +212,144 @@ def _label_footings(ax, results: Results, L: float, *, only=None, fontsize: floa
         )
 
 
-def plan_figure(results: Results, *, ax=None, units: str = "si"):
+def _investigation(ax, site, L: float, handles: list) -> None:
+    """Boreholes and cone soundings on a plan, marked and named."""
+    import matplotlib.patheffects as pe
+    from matplotlib.lines import Line2D
+
+    for holes, (marker, colour), label in (
+        (site.boreholes, BOREHOLE_STYLE, "borehole"),
+        (site.soundings, SOUNDING_STYLE, "cone sounding"),
+    ):
+        if not holes:
+            continue
+        xy = np.array([[b.x, b.y] for b in holes], float) * L
+        ax.scatter(
+            xy[:, 0],
+            xy[:, 1],
+            marker=marker,
+            s=42,
+            facecolors="white",
+            edgecolors=colour,
+            linewidths=1.6,
+            zorder=8,
+            label=f"_{label}",
+        )
+        for b, (x, y) in zip(holes, xy):
+            ax.annotate(
+                _esc(b.id),
+                (x, y),
+                xytext=(5, -9),
+                textcoords="offset points",
+                fontsize=7,
+                color=colour,
+                zorder=9,
+                path_effects=[pe.withStroke(linewidth=2.0, foreground="white")],
+            )
+        handles.append(
+            Line2D(
+                [],
+                [],
+                marker=marker,
+                lw=0,
+                markerfacecolor="white",
+                markeredgecolor=colour,
+                markeredgewidth=1.6,
+                label=label,
+            )
+        )
+
+
+def _limit_on_colourbar(cb, results: Results, S: float, su: str) -> None:
+    """Mark the total-settlement limit on a colour bar (a line and its value)."""
+    if results.checks is None:
+        return
+    lim = float(results.checks.footing_limit_total) * S
+    if not math.isfinite(lim):
+        return
+    lo, hi = cb.norm.vmin, cb.norm.vmax
+    if not (lo <= lim <= hi):
+        return
+    cb.ax.axhline(lim, color=FAIL_COLOUR, lw=2.2, zorder=5)
+    cb.ax.text(
+        -0.15,
+        lim,
+        f"limit {lim:g} {su} ",
+        transform=cb.ax.get_yaxis_transform(),
+        ha="right",
+        va="center",
+        fontsize=7,
+        color=FAIL_COLOUR,
+        fontweight="bold",
+    )
+
+
+def _limit_value(results: Results, S: float) -> float:
+    if results.checks is None:
+        return math.nan
+    return float(results.checks.footing_limit_total) * S
+
+
+def _values_on_footings(ax, results: Results, L: float, S: float, su: str) -> None:
+    """Write each footing's total settlement at its centre where it is legible."""
+    import matplotlib.patheffects as pe
+
+    fs = results.site.footings
+    if not fs or len(fs) > MAX_LABELS:
+        return
+    total = results.at_design_life() * S
+    fig = ax.figure
+    bbox = ax.get_window_extent()
+    x0, x1 = ax.get_xlim()
+    per_unit = bbox.width / abs(x1 - x0) * 72.0 / fig.dpi  # points per plan unit
+    dec = 2 if su == "in" else 1
+    for f, v in zip(fs, total):
+        if not math.isfinite(v):
+            continue
+        size = min(f.width, f.length) * L * per_unit
+        fontsize = 6.0 if size > 18 else 5.0
+        if size < 9 and len(fs) > 60:
+            continue
+        ax.text(
+            f.x * L,
+            f.y * L,
+            f"{v:.{dec}f}",
+            ha="center",
+            va="center",
+            fontsize=fontsize,
+            zorder=7,
+            color="black",
+            path_effects=[pe.withStroke(linewidth=1.6, foreground="white")],
+        )
+
+
+def plan(results: Results, ax=None, *, units: str = "si"):
+    """Plan of the footings to scale, coloured by total settlement at the design life.
+
+    Each footing carries its settlement; boreholes and cone soundings are marked
+    and named; the total-settlement limit is marked on the colour bar. Failing
+    footings get a thick outline and failing pairs a thick line, both in
+    :data:`FAIL_COLOUR`; passing pairs are thin grey lines. A legend, a north
+    arrow (plan y axis = north) and a scale bar complete it.
+
+    Parameters
+    ----------
+    results : Results
+        What :func:`sitesettle.analyse` returned.
+    ax : matplotlib.axes.Axes, optional
+        Where to draw (a new figure when None).
+    units : {"si", "us"}, optional
+        mm and m, or in and ft.
+
+    Returns
+    -------
+    matplotlib.axes.Axes
+        The axes drawn on.
+    """
+    return plan_figure(results, ax=ax, units=units, _axes=True)
+
+
+def plan_figure(results: Results, *, ax=None, units: str = "si", _axes: bool = False):
     """Plan of the footings to scale, coloured by total settlement at the design life.
 
     Failing footings get a thick outline and failing pairs a thick line, both in
@@ -224,6 +372,9 @@ def plan_figure(results: Results, *, ax=None, units: str = "si"):
     if vmax > 0:
         step = nice_step(vmax / 5.0)
         top = math.ceil(vmax / step - 1e-9) * step
+    lim = _limit_value(results, S)
+    if math.isfinite(lim) and lim > top and lim < 3 * max(top, 1e-12):
+        top = lim * 1.05  # the limit stays on the colour bar
     norm = Normalize(vmin=0.0, vmax=top)
 
     xy = results.member_xy * L
@@ -277,19 +428,41 @@ def plan_figure(results: Results, *, ax=None, units: str = "si"):
     if q is not None and len(q.ids):
         qxy = np.asarray(q.xy, float) * L
         qs = q.total[:, results.design_life_index]
-        ax.scatter(qxy[:, 0], qxy[:, 1], c=qs * S,
-                   cmap=SETTLEMENT_CMAP, norm=norm, marker="D", s=36, edgecolors="#222222",
-                   linewidths=0.8, zorder=6)
+        ax.scatter(
+            qxy[:, 0],
+            qxy[:, 1],
+            c=qs * S,
+            cmap=SETTLEMENT_CMAP,
+            norm=norm,
+            marker="D",
+            s=36,
+            edgecolors="#222222",
+            linewidths=0.8,
+            zorder=6,
+        )
         for name, (x, y) in zip(q.ids, qxy):
-            ax.annotate(_esc(name), (x, y), xytext=(4, 4), textcoords="offset points",
-                        fontsize=7, zorder=7)
-        handles.append(Line2D([], [], marker="D", color="#222222", lw=0, markerfacecolor="none",
-                              label="query point"))
+            ax.annotate(
+                _esc(name), (x, y), xytext=(4, 4), textcoords="offset points", fontsize=7, zorder=7
+            )
+        handles.append(
+            Line2D(
+                [],
+                [],
+                marker="D",
+                color="#222222",
+                lw=0,
+                markerfacecolor="none",
+                label="query point",
+            )
+        )
 
+    _investigation(ax, results.site, L, handles)
     _set_plan_limits(ax, results, L)
     cb = fig.colorbar(patches, ax=ax, shrink=0.85, pad=0.02)
     cb.set_label(f"total settlement at {_design_life_label(results)} [{su}]")
+    _limit_on_colourbar(cb, results, S, su)
     _label_footings(ax, results, L)
+    _values_on_footings(ax, results, L, S, su)
     _add_north_arrow(ax)
     _add_scale_bar(ax, lu)
     ax.set_xlabel(f"x (east) [{lu}]")
@@ -298,11 +471,28 @@ def plan_figure(results: Results, *, ax=None, units: str = "si"):
     ax.grid(True, color="#e6e6e6", lw=0.5, zorder=0)
     ax.set_axisbelow(True)
     if handles:
-        ax.legend(handles=handles, loc="upper left", fontsize=8, framealpha=0.9)
-    return fig
+        ax.legend(
+            handles=handles,
+            loc="upper center",
+            bbox_to_anchor=(0.5, -0.09),
+            ncol=3,
+            fontsize=8,
+            frameon=False,
+        )
+    return ax if _axes else fig
 
 
-def contour_figure(results: Results, *, ax=None, units: str = "si"):
+def contours(results: Results, ax=None, *, units: str = "si"):
+    """Filled contours of the settlement map with labelled lines, the footings, the
+    boreholes and soundings, and the total limit on the colour bar.
+
+    Without a map, the footing values are interpolated on their Delaunay triangles
+    and the figure says so. Returns the Axes drawn on (a new figure when ``ax`` is None).
+    """
+    return contour_figure(results, ax=ax, units=units, _axes=True)
+
+
+def contour_figure(results: Results, *, ax=None, units: str = "si", _axes: bool = False):
     """Filled contours of the settlement map with labelled lines and the footings.
 
     Without a map, the footing values are interpolated on their Delaunay triangles
@@ -390,9 +580,24 @@ def contour_figure(results: Results, *, ax=None, units: str = "si"):
         ax.set_aspect("equal")
     else:
         _set_plan_limits(ax, results, L, pad_fraction=0.1)
+    handles: list = []
+    _investigation(ax, results.site, L, handles)
+    if m is not None and filled is not None:  # the investigation may lie outside the map
+        ax.set_xlim(float(np.min(m.x)) * L, float(np.max(m.x)) * L)
+        ax.set_ylim(float(np.min(m.y)) * L, float(np.max(m.y)) * L)
+    if handles:
+        ax.legend(
+            handles=handles,
+            loc="upper center",
+            bbox_to_anchor=(0.5, -0.09),
+            ncol=2,
+            fontsize=8,
+            frameon=False,
+        )
     if filled is not None:
         cb = fig.colorbar(filled, ax=ax, shrink=0.85, pad=0.02)
         cb.set_label(f"settlement at {_design_life_label(results)} [{su}]")
+        _limit_on_colourbar(cb, results, S, su)
     _label_footings(ax, results, L)
     _add_north_arrow(ax)
     _add_scale_bar(ax, lu)
@@ -410,7 +615,7 @@ def contour_figure(results: Results, *, ax=None, units: str = "si"):
     ax.set_xlabel(f"x (east) [{lu}]")
     ax.set_ylabel(f"y (north) [{lu}]")
     ax.set_title(f"{_esc(results.site.name)} — settlement contours", loc="left", fontsize=11)
-    return fig
+    return ax if _axes else fig
 
 
 def _worst_pair(results: Results) -> int | None:
@@ -437,10 +642,31 @@ def _downward(ax) -> None:
     ax.set_ylim(max(lo, hi, 0.0) * 1.05 or 1.0, 0.0)
 
 
-def time_figure(results: Results, *, ax=None, units: str = "si"):
+def history(results: Results, ax=None, *, units: str = "si", pair_ax=None):
+    """Settlement against log time of the worst footings, with the total limit.
+
+    With ``pair_ax``, the worst pair's differential (on the checked basis) is drawn
+    there too. Returns the Axes of the footings (a new figure when ``ax`` is None).
+    """
+    if ax is None:
+        plt = _plt()
+        _, ax = plt.subplots(figsize=(7.0, 4.6), layout="constrained")
+    time_figure(results, ax=ax, units=units, pair_ax=pair_ax)
+    return ax
+
+
+def history_axes():
+    """A new figure with the two panels of settlement_time.png: (footings, worst pair)."""
+    plt = _plt()
+    _, (ax1, ax2) = plt.subplots(1, 2, figsize=(11.0, 4.6), layout="constrained")
+    return ax1, ax2
+
+
+def time_figure(results: Results, *, ax=None, units: str = "si", pair_ax=None):
     """Settlement against log time for the worst footings, and the worst pair's differential.
 
-    With ``ax`` given, only the footings panel is drawn on it.
+    With ``ax`` given, the footings panel is drawn on it (and the pair panel on
+    ``pair_ax`` when given). Returns the figure.
     """
     plt = _plt()
     S, su = _settlement_unit(units)
@@ -450,7 +676,7 @@ def time_figure(results: Results, *, ax=None, units: str = "si"):
     if ax is None:
         fig, (ax1, ax2) = plt.subplots(1, 2, figsize=(11.0, 4.6), layout="constrained")
     else:
-        fig, ax1, ax2 = ax.figure, ax, None
+        fig, ax1, ax2 = ax.figure, ax, pair_ax
     order = np.argsort(
         -np.nan_to_num(total[:, results.design_life_index], nan=-np.inf), kind="stable"
     )
@@ -539,8 +765,43 @@ def time_figure(results: Results, *, ax=None, units: str = "si"):
     return fig
 
 
-def section_figure(section: Section, *, ax=None, units: str = "si"):
-    """A vertical section: strata as bands, the water table and the footings on the line."""
+def section(section: Section, ax=None, *, units: str = "si", site=None):
+    """A vertical section: strata as bands, the water table, the footings at their true
+    widths along the line and (given ``site``) the boreholes and soundings near the line.
+
+    Returns the Axes drawn on (a new figure when ``ax`` is None).
+    """
+    return section_figure(section, ax=ax, units=units, site=site, _axes=True)
+
+
+def _near_line(section: Section, holes) -> list[tuple[object, float, float]]:
+    """(hole, distance along the line [m], offset from it [m]) of the holes near the line."""
+    (x0, y0), (x1, y1) = section.start, section.end
+    length = math.hypot(x1 - x0, y1 - y0)
+    if length <= 0:
+        return []
+    ux, uy = (x1 - x0) / length, (y1 - y0) / length
+    corridor = max(SECTION_CORRIDOR * length, SECTION_CORRIDOR_MIN)
+    out = []
+    for h in holes:
+        along = (h.x - x0) * ux + (h.y - y0) * uy
+        off = abs(-(h.x - x0) * uy + (h.y - y0) * ux)
+        if -1e-9 <= along <= length + 1e-9 and off <= corridor:
+            out.append((h, along, off))
+    return out
+
+
+def _hole_depth(h) -> float:
+    if hasattr(h, "intervals"):
+        return max((iv.bottom for iv in h.intervals), default=0.0)
+    d = np.asarray(getattr(h, "depth", []), float)
+    return float(d.max()) if d.size else 0.0
+
+
+def section_figure(section: Section, *, ax=None, units: str = "si", site=None, _axes: bool = False):
+    """A vertical section: strata as bands, the water table and the footings on the line.
+
+    Returns the figure (:func:`section` returns the Axes)."""
     from matplotlib.lines import Line2D
     from matplotlib.patches import Patch, Polygon, Rectangle
 
@@ -610,6 +871,31 @@ def section_figure(section: Section, *, ax=None, units: str = "si"):
             label += f"\n{f.settlement * S:.1f} {su}"
         ax.text(x0, -0.7 * L, label, ha="center", va="bottom", fontsize=8, zorder=7)
     handles.append(Patch(facecolor="#5a5a5a", edgecolor="black", label="footing"))
+    if site is not None:
+        for holes, (marker, colour), label in (
+            (site.boreholes, BOREHOLE_STYLE, "borehole (projected onto the line)"),
+            (site.soundings, SOUNDING_STYLE, "cone sounding (projected onto the line)"),
+        ):
+            near = _near_line(section, holes)
+            for h, along, off in near:
+                xh = along * L
+                zb = min(_hole_depth(h), float(section.bottom)) * L
+                ax.plot([xh, xh], [0.0, zb], color=colour, lw=2.0, zorder=8)
+                ax.plot([xh], [0.0], marker=marker, color=colour, ms=7, zorder=9, mfc="white")
+                ax.text(
+                    xh,
+                    zb,
+                    f" {_esc(h.id)}\n {off * L:.1f} {lu} off",
+                    fontsize=7,
+                    color=colour,
+                    va="top",
+                    ha="left",
+                    zorder=9,
+                )
+            if near:
+                handles.append(
+                    Line2D([], [], color=colour, lw=2.0, marker=marker, mfc="white", label=label)
+                )
     ax.set_xlim(float(d.min()), float(d.max()))
     ax.set_ylim(float(section.bottom) * L, -2.2 * L)
     ax.set_xlabel(f"distance along the section [{lu}]")
@@ -625,4 +911,4 @@ def section_figure(section: Section, *, ax=None, units: str = "si"):
     ax.legend(
         handles=handles, loc="center left", bbox_to_anchor=(1.01, 0.5), fontsize=8, frameon=False
     )
-    return fig
+    return ax if _axes else fig

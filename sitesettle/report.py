@@ -81,15 +81,35 @@ METHOD_NOTES: tuple[tuple[str, str, str, str], ...] = (
 
 #: headings of the report's sections, in order (tests look for every one)
 SECTIONS: tuple[str, ...] = (
-    "Project",
+    "Verdict and governing results",
     "Inputs",
-    "Methods",
+    "Methods and validity",
     "Results",
+    "Calculation traces",
     "Figures",
-    "Checks",
     "Warnings",
     "Cautions",
+    "Sign-off",
     "About this report",
+)
+#: anchors of the sections, in the order of :data:`SECTIONS`
+ANCHORS: tuple[str, ...] = (
+    "verdict",
+    "inputs",
+    "methods",
+    "results",
+    "traces",
+    "figures",
+    "warnings",
+    "cautions",
+    "signoff",
+    "about",
+)
+#: the sign-off rows: (label, [project] key)
+SIGN_OFF: tuple[tuple[str, str], ...] = (
+    ("prepared by", "prepared_by"),
+    ("checked by", "checked_by"),
+    ("approved by", "approved_by"),
 )
 
 FIGURE_CAPTIONS: dict[str, str] = {
@@ -104,36 +124,6 @@ FIGURE_CAPTIONS: dict[str, str] = {
     "section": "Section through the stratigraphy along a line through two footings, with the water "
     "table.",
 }
-
-_CSS = """
-body{font-family:"DejaVu Sans",Helvetica,Arial,sans-serif;color:#1d1d1d;margin:0;background:#f4f4f1;
-line-height:1.45;font-size:14px}
-main{max-width:1180px;margin:0 auto;padding:24px 32px 48px;background:#fff}
-h1{font-size:24px;margin:0 0 4px;border-bottom:3px solid #2f4b7c;padding-bottom:6px}
-h2{font-size:19px;margin:34px 0 10px;color:#2f4b7c;border-bottom:1px solid #c9d1de;
-padding-bottom:3px}
-h3{font-size:15px;margin:20px 0 6px}
-table{border-collapse:collapse;margin:6px 0 14px;font-size:12.5px}
-th,td{border:1px solid #cfd3d8;padding:3px 7px;text-align:left;vertical-align:top}
-th{background:#e8ecf3;font-weight:600}
-td.num{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
-tr.fail td{background:#fbe3f0}
-span.fail{color:#a3106b;font-weight:700}
-span.pass{color:#1d6b35;font-weight:700}
-.box{border-left:5px solid #d4148c;background:#fdf1f8;padding:8px 14px;margin:10px 0}
-.note{color:#555;font-size:12.5px}
-figure{margin:14px 0 24px}
-figure img{max-width:100%;border:1px solid #ddd}
-figcaption{font-size:12.5px;color:#444}
-dl.kv{display:grid;grid-template-columns:max-content auto;gap:2px 16px;margin:6px 0}
-dl.kv dt{font-weight:600}
-dl.kv dd{margin:0}
-.scroll{overflow-x:auto}
-nav.toc{font-size:13px;margin:10px 0 0}
-nav.toc a{color:#2f4b7c;margin-right:14px;text-decoration:none}
-@media print{body{background:#fff;font-size:11px}main{max-width:none;padding:0}
-.scroll{overflow:visible}nav.toc{display:none}table{font-size:9.5px}figure{break-inside:avoid}}
-"""
 
 
 def _e(value: object) -> str:
@@ -179,6 +169,11 @@ def _table(
     return "".join(out)
 
 
+def pd_float(series) -> bool:
+    """True for a float column."""
+    return str(series.dtype).startswith("float")
+
+
 #: footing columns shown in the settlement table (the rest go in the geometry table)
 _SETTLEMENT_COLUMNS = (
     "immediate_",
@@ -195,7 +190,7 @@ _SETTLEMENT_COLUMNS = (
 _ONE_IN_N = ("angular_distortion", "tilt")
 
 
-def _df_table(df, status=None) -> str:
+def _df_table(df, status=None, units: str = "si") -> str:
     """A formatted DataFrame (text cells) as an escaped table; failing rows highlighted.
 
     ``status`` (a Series of "pass"/"fail") marks the rows when the table has no
@@ -203,12 +198,20 @@ def _df_table(df, status=None) -> str:
     """
     from sitesettle.io.output import format_table
     from sitesettle.io.summary import ratio_text
+    from sitesettle.io.unit_text import in_units
 
     text = format_table(df)
+    # settlements to 0.1 mm or 0.01 in in the report (the CSV files keep 3 and 4 decimals)
+    for c in df.columns:
+        if str(c).endswith(("_mm", "_in")) and pd_float(df[c]):
+            d = 2 if str(c).endswith("_in") else 1
+            text[c] = [f"{v:.{d}f}" if np.isfinite(v) else "" for v in df[c].to_numpy(float)]
+        elif c in ("reasons", "limit"):
+            text[c] = [in_units(v, units) for v in df[c]]
     # as an engineer reads them: ratios as 1/N, utilisation to two decimals (the
     # CSV files keep the full values)
-    for c in _ONE_IN_N:
-        if c in df.columns:
+    for c in df.columns:
+        if str(c).startswith(_ONE_IN_N) and pd_float(df[c]):
             text[c] = [ratio_text(v) for v in df[c].to_numpy(float)]
     if "utilisation" in df.columns:
         text["utilisation"] = [
@@ -257,60 +260,573 @@ def run_date() -> str:
     return when.strftime("%Y-%m-%d %H:%M UTC")
 
 
-_STRATUM_FIELDS = (
-    ("behaviour", "behaviour", None),
-    ("γ [kN/m³]", "unit_weight", "{:.1f}"),
-    ("γsat [kN/m³]", "saturated_unit_weight", "{:.1f}"),
-    ("ν", "poisson", "{:.2f}"),
-    ("E [kPa]", "youngs_modulus", "{:.0f}"),
-    ("qc [kPa]", "cone_resistance", "{:.0f}"),
-    ("N", "spt_n", "{:.0f}"),
-    ("Cc", "compression_index", "{:.3g}"),
-    ("Cr", "recompression_index", "{:.3g}"),
-    ("e0", "void_ratio", "{:.3g}"),
-    ("σ'p [kPa]", "preconsolidation", "{:.0f}"),
-    ("OCR", "ocr", "{:.2f}"),
-    ("cv [m²/yr]", "consolidation_coefficient", "{:.3g}"),
-    ("Cα", "secondary_index", "{:.3g}"),
-    ("drainage", "drainage", None),
-)
+#: page sizes the print CSS is written for (A4 by default; Letter with ``page="letter"``)
+PAGE_SIZES = ("A4", "letter")
+
+_CSS = """
+body{font-family:"DejaVu Sans",Helvetica,Arial,sans-serif;color:#1d1d1d;margin:0;background:#f4f4f1;
+line-height:1.45;font-size:14px}
+main{max-width:1180px;margin:0 auto;padding:24px 32px 48px;background:#fff}
+h1{font-size:24px;margin:0 0 4px;border-bottom:3px solid #2f4b7c;padding-bottom:6px}
+h2{font-size:19px;margin:34px 0 10px;color:#2f4b7c;border-bottom:1px solid #c9d1de;
+padding-bottom:3px}
+h3{font-size:15px;margin:20px 0 6px}
+h4{font-size:13.5px;margin:14px 0 4px}
+table{border-collapse:collapse;margin:6px 0 14px;font-size:12.5px}
+th,td{border:1px solid #cfd3d8;padding:3px 7px;text-align:left;vertical-align:top}
+th{background:#e8ecf3;font-weight:600}
+td.num{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
+.nw{white-space:nowrap}
+tr.fail td{background:#fbe3f0}
+span.fail{color:#a3106b;font-weight:700}
+span.pass{color:#1d6b35;font-weight:700}
+.box{border-left:5px solid #d4148c;background:#fdf1f8;padding:8px 14px;margin:10px 0}
+.verdict{border-left:6px solid #2f4b7c;background:#eef2f8;padding:10px 14px;margin:10px 0;
+font-size:15px}
+.note{color:#555;font-size:12.5px}
+figure{margin:14px 0 24px}
+figure img{max-width:100%;border:1px solid #ddd}
+figcaption{font-size:12.5px;color:#444}
+dl.kv{display:grid;grid-template-columns:max-content auto;gap:2px 16px;margin:6px 0}
+dl.kv dt{font-weight:600}
+dl.kv dd{margin:0}
+.scroll{overflow-x:auto;max-width:100%}
+.scroll th:first-child,.scroll td:first-child{position:sticky;left:0;background:#fff;z-index:1}
+.scroll th:first-child{background:#e8ecf3}
+.scroll tr.fail td:first-child{background:#fbe3f0}
+nav.toc{font-size:13px;margin:10px 0 0;display:flex;flex-wrap:wrap;gap:4px 14px}
+nav.toc a{color:#2f4b7c;text-decoration:none}
+table.signoff td{min-width:150px;height:34px}
+.readings{font-size:11px;max-width:900px}
+.pagefoot{display:none}
+@media (max-width:600px){main{padding:12px 10px 30px}h1{font-size:20px}
+dl.kv{grid-template-columns:1fr}body{font-size:13px}}
+@page{size:A4;margin:16mm 14mm 18mm 14mm;
+@bottom-left{content:var(--foot);font-size:8pt;color:#555}
+@bottom-right{content:"page " counter(page) " of " counter(pages);font-size:8pt;color:#555}}
+@media print{body{background:#fff;font-size:10px}main{max-width:none;padding:0}
+.scroll{overflow:visible}nav.toc{display:none}table{font-size:8px}
+.scroll th:first-child,.scroll td:first-child{position:static}
+thead{display:table-header-group}tr,figure,dl.kv,.verdict,table.signoff{break-inside:avoid}
+h1,h2,h3,h4{break-after:avoid;page-break-after:avoid}
+h2{break-before:auto}figure img{max-height:230mm}
+table.trace{font-size:6.5px}table.trace th,table.trace td{padding:0 2px;line-height:1.2}
+.pagefoot{display:block;position:fixed;bottom:-12mm;left:0;font-size:8pt;color:#555}}
+"""
 
 
-def _depth(value: float) -> str:
-    """A depth to the centimetre, without trailing zeros (``0.600456`` → ``0.6``)."""
-    return f"{value:.2f}".rstrip("0").rstrip(".")
+def css_string(text: str) -> str:
+    """``text`` as a quoted CSS string: every character but letters, digits and spaces
+    written as a CSS escape (``\\3c `` for ``<``), so user text cannot end the string,
+    the rule or the style element.
+
+    >>> print(css_string('A</style><b>"'))
+    "A\\3c \\2f style\\3e \\3c b\\3e \\22 "
+    """
+    out = []
+    for ch in str(text):
+        if ch.isascii() and (ch.isalnum() or ch == " "):
+            out.append(ch)
+        else:
+            out.append(f"\\{ord(ch):x} ")
+    return '"' + "".join(out) + '"'
 
 
-def _inputs(results: Results) -> str:
-    site = results.site
+def _page_css(page: str, footer: str) -> str:
+    """The page rule for ``page`` ("A4" or "letter") with the running footer text."""
+    size = "letter" if str(page).lower() == "letter" else "A4"
+    return f"@page{{size:{size}}}:root{{--foot:{css_string(footer)}}}"
+
+
+class _Q:
+    """Values in the report's units: SI, or US customary (NIST SP 811 factors)."""
+
+    def __init__(self, units: str):
+        from sitesettle.io.output import FOOT, KIP, KSF
+
+        self.us = units == "us"
+        pcf = KIP / FOOT**3 / 1000.0  # 1 lbf/ft³ in kN/m³
+        self.spec = {
+            "length": ("ft", 1 / FOOT, 2) if self.us else ("m", 1.0, 2),
+            "settlement": ("in", 1 / 25.4, 2) if self.us else ("mm", 1.0, 1),
+            "force": ("kip", 1 / KIP, 1) if self.us else ("kN", 1.0, 0),
+            "pressure": ("ksf", 1 / KSF, 3) if self.us else ("kPa", 1.0, 1),
+            "modulus": ("ksi", 1 / (KSF * 0.144), 2) if self.us else ("MPa", 1.0, 2),
+            "unit_weight": ("pcf", 1 / pcf, 1) if self.us else ("kN/m³", 1.0, 1),
+            "diffusivity": ("ft²/yr", 1 / FOOT**2, 2) if self.us else ("m²/yr", 1.0, 3),
+        }
+
+    def unit(self, q: str) -> str:
+        return self.spec[q][0]
+
+    def v(self, value, q: str, decimals: int | None = None) -> str:
+        """A number in the report's unit of ``q`` (no unit); "–" for None or NaN.
+
+        Settlement is given in mm (SI core for text), modulus in MPa, the rest in
+        core units.
+        """
+        if value is None:
+            return "–"
+        try:
+            x = float(value)
+        except (TypeError, ValueError):
+            return _e(value)
+        if not math.isfinite(x):
+            return "–"
+        _, f, d = self.spec[q]
+        return f"{x * f:.{d if decimals is None else decimals}f}"
+
+    def t(self, value, q: str, decimals: int | None = None) -> str:
+        """Number and unit: ``"2.50 m"``."""
+        v = self.v(value, q, decimals)
+        return v if v == "–" else f"{v} {self.unit(q)}"
+
+    def h(self, label: str, q: str) -> str:
+        """A heading with its unit: ``"x [ft]"``."""
+        return f"{label} [{self.unit(q)}]"
+
+
+def _text(value: object, units: str) -> str:
+    """Escaped user or engine text with its quantities in the report's units."""
+    from sitesettle.io.unit_text import in_units
+
+    return _e(in_units(str(value), units))
+
+
+def _size(f, q: _Q) -> str:
+    """A footing's plan size: ``Ø 3.00 m`` for a circle, ``2.00 × 3.00 m`` otherwise."""
+    if f.shape == "circle":
+        return f"Ø {q.t(f.width, 'length')}"
+    return f"{q.v(f.width, 'length')} × {q.t(f.length, 'length')}"
+
+
+# ------------------------------------------------------------------ sections
+
+
+def _verdict(results: Results, units: str) -> str:
+    """Verdict, the governing result of each measure, and what fails."""
+    from sitesettle.io.output import pair_basis
+    from sitesettle.io.summary import ratio_text
+
+    q = _Q(units)
+    c = results.checks
+    ids = results.ids
+    total = results.at_design_life()
+    life = results.times[results.design_life_index]
+    if c is None:
+        worst = int(np.nanargmax(total)) if np.isfinite(total).any() else None
+        line = (
+            f"Largest total settlement {q.t(total[worst] * 1000, 'settlement')} at footing "
+            f"{_e(ids[worst])} ({life:g} yr)."
+            if worst is not None
+            else ""
+        )
+        return f"<div class='verdict'>No movement checks were run. {line}</div>"
+    nff = int(np.count_nonzero(~np.asarray(c.footing_passed, bool)))
+    nfp = int(np.count_nonzero(~np.asarray(c.pairs.passed, bool)))
+    nfl = 0 if c.lines is None else int(np.count_nonzero(~np.asarray(c.lines.passed, bool)))
+    verdict = (
+        "<span class='pass'>PASS</span> — every footing, pair and structure line passes"
+        if c.all_passed
+        else f"<span class='fail'>FAIL</span> — {nff} footing(s), {nfp} pair(s) and "
+        f"{nfl} structure line(s) exceed their limits"
+    )
+    basis, _ = pair_basis(results)
     parts = [
-        "<h3>Strata</h3>",
-        "<p class='note'>Parameters in core units as read (top-down order).</p>",
+        f"<div class='verdict'>{verdict} (criteria <b>{_e(c.criteria)}</b>; settlements at "
+        f"the design life, {life:g} yr; pairs on the movement {_e(basis)}).</div>",
+    ]
+    if getattr(c, "beyond_range", ()):
+        names = ", ".join(_e(ids[i]) for i in c.beyond_range)
+        parts.append(
+            "<p class='fail'><b>Outside the methods' range — bearing failure likely</b> at "
+            f"{names}: the settlement on loading exceeds 0.1 B, where the settlement methods "
+            "no longer apply. Check the bearing resistance and the inputs before reading "
+            "anything else for these footings.</p>"
+        )
+    parts.append("<h3>Governing results</h3>")
+    rows = []
+    if len(ids) and np.isfinite(total).any():
+        i = int(np.nanargmax(total))
+        util = total[i] / c.footing_limit_total if c.footing_limit_total > 0 else math.nan
+        rows.append(
+            [
+                "total settlement of a footing (total)",
+                q.t(total[i] * 1000, "settlement"),
+                f"footing {_e(ids[i])}",
+                f"≤ {q.t(c.footing_limit_total * 1000, 'settlement', 2 if q.us else 0)}",
+                _e(c.footing_limit_source),
+                _num(util, "{:.2f}"),
+                "pass" if not util > 1 else "<span class='fail'>fail</span>",
+            ]
+        )
+    tilt = np.asarray(results.tilt, float)
+    if np.isfinite(tilt).any():
+        i = int(np.nanargmax(tilt))
+        rows.append(
+            [
+                f"tilt of a footing ({_e(basis)})",
+                ratio_text(tilt[i]),
+                f"footing {_e(ids[i])}",
+                *_tilt_limit(results, tilt[i]),
+            ]
+        )
+    pc = c.pairs
+    mids = results.member_ids
+    for label, values in (
+        ("differential settlement", np.asarray(pc.differential, float)),
+        ("angular distortion β", np.asarray(pc.angular_distortion, float)),
+    ):
+        if not len(values) or not np.isfinite(values).any():
+            continue
+        k = int(np.nanargmax(values))
+        shown = (
+            q.t(values[k] * 1000, "settlement")
+            if label.startswith("differential")
+            else ratio_text(values[k])
+        )
+        rows.append(
+            [
+                f"{label} of a pair ({_e(basis)})",
+                shown,
+                f"{_e(mids[int(pc.a[k])])} – {_e(mids[int(pc.b[k])])}",
+                _text(pc.limit[k], units),
+                _e(pc.limit_source[k]),
+                _num(pc.utilisation[k], "{:.2f}"),
+                "pass" if pc.passed[k] else "<span class='fail'>fail</span>",
+            ]
+        )
+    if len(pc.a):
+        k = int(np.nanargmax(np.nan_to_num(np.asarray(pc.utilisation, float), nan=-1)))
+        rows.append(
+            [
+                f"most utilised pair ({_e(basis)})",
+                f"β {ratio_text(pc.angular_distortion[k])}",
+                f"{_e(mids[int(pc.a[k])])} – {_e(mids[int(pc.b[k])])}",
+                _text(pc.limit[k], units),
+                _e(pc.limit_source[k]),
+                _num(pc.utilisation[k], "{:.2f}"),
+                "pass" if pc.passed[k] else "<span class='fail'>fail</span>",
+            ]
+        )
+    if c.lines is not None and len(c.lines.ids):
+        k = int(np.nanargmax(np.nan_to_num(np.asarray(c.lines.utilisation, float), nan=-1)))
+        rows.append(
+            [
+                f"deflection ratio Δ/L of a line ({_e(basis)})",
+                ratio_text(abs(c.lines.deflection_ratio[k])),
+                _e(" → ".join(c.lines.ids[k])),
+                _text(c.lines.limit[k], units),
+                _e(c.lines.limit_source[k]),
+                _num(c.lines.utilisation[k], "{:.2f}"),
+                "pass" if c.lines.passed[k] else "<span class='fail'>fail</span>",
+            ]
+        )
+    rows.append(
+        [
+            f"building tilt (plane through the footings, {_e(basis)})",
+            ratio_text(c.building_tilt),
+            f"toward {_num(c.building_tilt_direction, '{:.0f}')}° from east",
+            "reported",
+            "",
+            "",
+            "",
+        ]
+    )
+    parts.append(
+        _table(
+            ["measure (basis)", "worst value", "where", "limit", "source", "utilisation", "status"],
+            rows,
+            numeric={5},
+        )
+    )
+    parts.append(
+        "<p class='note'>Utilisation is the movement divided by its limit; above 1.00 it "
+        f"fails. Settlements are given to {'0.01 in' if q.us else '0.1 mm'}, ratios as 1/N "
+        "to three significant figures, below 1/10,000 as &lt; 1/10,000 (docs/outputs.md); "
+        "the CSV files keep full precision.</p>"
+    )
+    bad = [i for i, ok in enumerate(c.footing_passed) if not ok]
+    parts.append("<h3>Failing footings</h3>")
+    if bad:
+        parts.append(
+            _table(
+                ["footing", q.h("total", "settlement"), "reason"],
+                [
+                    [
+                        _e(ids[i]),
+                        q.v(total[i] * 1000, "settlement"),
+                        _text(c.footing_reasons[i], units),
+                    ]
+                    for i in bad
+                ],
+                numeric={1},
+            )
+        )
+    else:
+        parts.append("<p>None.</p>")
+    badp = [k for k, ok in enumerate(pc.passed) if not ok]
+    parts.append("<h3>Failing pairs</h3>")
+    if badp:
+        parts.append(
+            _table(
+                [
+                    "pair",
+                    q.h(f"differential {basis}", "settlement"),
+                    f"β {_e(basis)}",
+                    "limit",
+                    "source",
+                    "utilisation",
+                ],
+                [
+                    [
+                        f"{_e(mids[int(pc.a[k])])} – {_e(mids[int(pc.b[k])])}",
+                        q.v(pc.differential[k] * 1000, "settlement"),
+                        ratio_text(pc.angular_distortion[k]),
+                        _text(pc.limit[k], units),
+                        _e(pc.limit_source[k]),
+                        _num(pc.utilisation[k], "{:.2f}"),
+                    ]
+                    for k in badp
+                ],
+                numeric={1, 2, 5},
+            )
+        )
+    else:
+        parts.append("<p>None.</p>")
+    if c.lines is not None and nfl:
+        parts.append("<h3>Failing structure lines</h3>")
+        parts.append(
+            "<ul>"
+            + "".join(
+                f"<li>{_e(' → '.join(line))}: {_text(lim, units)} ({_e(src)})</li>"
+                for line, lim, src, ok in zip(
+                    c.lines.ids, c.lines.limit, c.lines.limit_source, c.lines.passed
+                )
+                if not ok
+            )
+            + "</ul>"
+        )
+    return "".join(parts)
+
+
+def _tilt_limit(results: Results, tilt: float) -> list[str]:
+    """Limit, source, utilisation and status cells of the worst footing tilt."""
+    from sitesettle.criteria import get_criteria
+
+    ck = results.site.checks
+    try:
+        lim = get_criteria(ck.criteria, ck.overrides).limit("tilt")
+    except Exception:  # the set was checked on input
+        lim = None
+    if lim is None:
+        return [f"no tilt limit in {_e(ck.criteria)} (reported)", "", "", ""]
+    u = tilt / lim.value
+    return [
+        _e(lim.describe()),
+        _e(lim.source),
+        _num(u, "{:.2f}"),
+        "pass" if not u > 1 else "<span class='fail'>fail</span>",
+    ]
+
+
+def _stratum_rows(results: Results, q: _Q) -> tuple[list[str], list[list[str]]]:
+    """Every stratum parameter as used, with where it came from."""
+    site = results.site
+    spt = {}
+    for tr in results.traces.values():
+        for t in tr:
+            src = t.details.get("E source")
+            if src is None or t.modulus is None:
+                continue
+            for name, s, e in zip(t.stratum, src, t.modulus):
+                if str(s).startswith("from SPT") and np.isfinite(e):
+                    spt.setdefault(name, []).append(float(e))
+    header = [
+        "stratum",
+        "behaviour",
+        q.h("γ", "unit_weight"),
+        q.h("γsat", "unit_weight"),
+        "ν",
+        "stiffness as used (source)",
+        "SPT N",
+        "Cc",
+        "Cr",
+        "e0",
+        "σ'p / OCR",
+        q.h("cv", "diffusivity"),
+        "Cα",
+        "drainage",
+        q.h("Eu", "modulus"),
+        "method",
     ]
     rows = []
     for s in site.strata:
-        cells = [_e(s.name)]
-        for _, attr, fmt in _STRATUM_FIELDS:
-            v = getattr(s, attr)
-            if fmt is None:
-                cells.append(_e(getattr(v, "value", v)) if v is not None else "–")
-            else:
-                cells.append(_num(v, fmt) if v is not None else "–")
-        if s.use_soundings:
-            cells[6] = "from soundings"
-        rows.append(cells)
+        beh = str(getattr(s.behaviour, "value", s.behaviour))
+        if s.youngs_modulus is not None:
+            stiff = f"E = {q.t(s.youngs_modulus / 1000, 'modulus')} (given)"
+        elif s.use_soundings:
+            stiff = "E = factor × qc, qc from the soundings at each sublayer (see the traces)"
+        elif s.cone_resistance is not None:
+            stiff = f"qc = {q.t(s.cone_resistance / 1000, 'modulus')} (given); E = factor × qc"
+        elif s.spt_n is not None and beh == "granular":
+            eq = spt.get(s.name)
+            stiff = "from SPT N (Burland & Burbidge)" + (
+                f"; equivalent E ≈ {q.t(float(np.median(eq)) / 1000, 'modulus')}" if eq else ""
+            )
+        else:
+            stiff = "–"
+        if s.preconsolidation is not None:
+            sp = f"σ'p = {q.t(s.preconsolidation, 'pressure')} (given)"
+        elif s.ocr is not None:
+            sp = f"OCR = {s.ocr:.2f} (given)"
+        elif beh == "cohesive":
+            sp = "normally consolidated (σ'p = σ'v0)"
+        else:
+            sp = "–"
+        method = s.method.value if s.method is not None else ""
+        if beh == "granular" and not method:
+            method = f"{results.site.analysis.granular_method.value} (site default)"
+        rows.append(
+            [
+                _e(s.name),
+                _e(beh),
+                q.v(s.unit_weight, "unit_weight"),
+                q.v(s.saturated_unit_weight, "unit_weight"),
+                _num(s.poisson, "{:.2f}"),
+                _e(stiff),
+                _num(s.spt_n, "{:.0f}"),
+                _num(s.compression_index, "{:.3g}"),
+                _num(s.recompression_index, "{:.3g}"),
+                _num(s.void_ratio, "{:.3g}"),
+                _e(sp),
+                q.v(s.consolidation_coefficient, "diffusivity"),
+                _num(s.secondary_index, "{:.3g}") if beh == "cohesive" else "–",
+                _e(getattr(s.drainage, "value", s.drainage)) if beh == "cohesive" else "–",
+                q.v(None if s.undrained_modulus is None else s.undrained_modulus / 1000, "modulus"),
+                _e(method or "–"),
+            ]
+        )
+    return header, rows
+
+
+#: the analysis settings with what they mean (site.toml [analysis])
+_SETTING_MEANING = {
+    "granular_method": "own-load method of granular strata (unless a stratum names one)",
+    "shape_interpolation": "Schmertmann diagram between L/B = 1 and 10",
+    "report_times": "times reported besides the design life [yr]",
+    "design_life": "time of the settlements that are checked [yr]",
+    "depth_rule": "how deep each column is integrated",
+    "truncation_tolerance": "remaining settlement allowed below the integration (fraction)",
+    "influence_fraction": "significant depth: Δσz below this fraction of σ'v0",
+    "max_depth_widths": "cap on the integration below the base, in widths",
+    "max_depth": "cap on the integration depth [m]",
+    "sublayer_fraction": "sublayer thickness as a fraction of the footing width",
+    "end_of_primary": "end of primary consolidation (start of secondary compression)",
+    "bb_r3": "Burland & Burbidge time factor R3",
+    "bb_r": "Burland & Burbidge time factor R",
+    "bb_pressure": "Burland & Burbidge bearing pressure q'",
+    "map_spacing": "settlement map grid spacing [m] (0: from the plan)",
+    "map_margin": "settlement map margin around the footings [m]",
+    "stress_tolerance": "stress engine tolerance (fraction of the largest pressure)",
+    "cohesive_immediate": "clay settles on loading by its undrained modulus",
+    "clay_settlement": "how undrained and consolidation settlement of clay combine",
+}
+
+
+def _setting_value(v) -> str:
+    if isinstance(v, tuple):
+        return ", ".join(f"{x:.4g}" for x in v)
+    if isinstance(v, bool):
+        return "yes" if v else "no"
+    if isinstance(v, float):
+        return "none" if not math.isfinite(v) else f"{v:.4g}"
+    return str(getattr(v, "value", v))
+
+
+def _inputs(results: Results, units: str) -> str:
+    import dataclasses
+
+    from sitesettle.criteria import get_criteria
+
+    q = _Q(units)
+    site = results.site
+    parts = ["<h3>Project</h3>"]
+    info = "".join(
+        f"<dt>{_e(k.replace('_', ' '))}</dt><dd>{_e(v)}</dd>" for k, v in site.info.items()
+    )
+    parts.append(
+        f"<dl class='kv'><dt>name</dt><dd>{_e(site.name)}</dd>{info}"
+        f"<dt>coordinate system</dt><dd>{_e(site.crs) if site.crs else 'none given'}</dd></dl>"
+    )
+    # footings
+    fs = site.footings
+    parts.append("<h3>Footing schedule</h3>")
+    parts.append(
+        "<p class='note'>Every footing as analysed: loads on the base, the sustained part "
+        "of the live load (for consolidation and creep of clay), rigidity and the fill "
+        "above the base; net pressures as computed.</p>"
+    )
+    rows = []
+    for i, f in enumerate(fs):
+        rows.append(
+            [
+                _e(f.id),
+                _e(f.shape),
+                f"<span class='nw'>{_size(f, q)}</span>",
+                q.v(f.x, "length"),
+                q.v(f.y, "length"),
+                f"{f.rotation:.1f}",
+                q.v(f.depth, "length"),
+                q.v(f.dead_load, "force"),
+                q.v(f.live_load, "force"),
+                f"{f.sustained_live_fraction:.2f}",
+                q.v(f.sustained_load, "force"),
+                "rigid" if f.rigid else "flexible",
+                q.v(f.fill_unit_weight, "unit_weight"),
+                q.v(results.net_pressure[i], "pressure"),
+                q.v(results.sustained_net_pressure[i], "pressure"),
+                _e(results.methods[i]),
+            ]
+        )
     parts.append(
         _table(
-            ["name"] + [h for h, _, _ in _STRATUM_FIELDS],
+            [
+                "id",
+                "shape",
+                "size B × L",
+                q.h("x", "length"),
+                q.h("y", "length"),
+                "rotation [°]",
+                q.h("base depth", "length"),
+                q.h("dead", "force"),
+                q.h("live", "force"),
+                "sustained live fraction",
+                q.h("sustained load", "force"),
+                "rigidity",
+                q.h("fill γ", "unit_weight"),
+                q.h("q net", "pressure"),
+                q.h("q net sustained", "pressure"),
+                "method",
+            ],
             rows,
-            numeric=set(range(2, len(_STRATUM_FIELDS) + 1)) - {15},
+            numeric={3, 4, 5, 6, 7, 8, 9, 10, 12, 13, 14},
         )
     )
+    # strata
+    parts.append("<h3>Strata</h3>")
+    parts.append(
+        "<p class='note'>Top-down order; every parameter as used, with where it came "
+        "from (given, from the cone soundings, from SPT).</p>"
+    )
+    header, rows = _stratum_rows(results, q)
+    parts.append(_table(header, rows, numeric={2, 3, 4, 6, 7, 8, 9, 11, 12, 14}))
+    # boreholes
     parts.append("<h3>Boreholes</h3>")
     rows = []
     for b in site.boreholes:
         layers = "; ".join(
-            f"{_e(iv.stratum)} {_depth(iv.top)}–{_depth(iv.bottom)} m"
+            f"{_e(iv.stratum)} {q.v(iv.top, 'length')}–{q.t(iv.bottom, 'length')}"
             + (
                 " ("
                 + ", ".join(f"{_e(k)} = {v:.4g}" for k, v in sorted(iv.overrides.items()))
@@ -323,50 +839,135 @@ def _inputs(results: Results) -> str:
         rows.append(
             [
                 _e(b.id),
-                _num(b.x, "{:.2f}"),
-                _num(b.y, "{:.2f}"),
-                _num(b.water_depth, "{:.2f}") if b.water_depth is not None else "–",
+                q.v(b.x, "length"),
+                q.v(b.y, "length"),
+                q.v(b.water_depth, "length") if b.water_depth is not None else "site value",
                 layers,
             ]
         )
     parts.append(
         _table(
-            ["id", "x [m]", "y [m]", "water depth [m]", "strata (depth below ground)"],
+            [
+                "id",
+                q.h("x", "length"),
+                q.h("y", "length"),
+                q.h("water depth", "length"),
+                "strata (depth below ground)",
+            ],
             rows,
             numeric={1, 2, 3},
         )
     )
     if site.soundings:
-        rows = [
-            [
-                _e(s.id),
-                _num(s.x, "{:.2f}"),
-                _num(s.y, "{:.2f}"),
-                _num(float(np.max(s.depth)) if len(s.depth) else math.nan, "{:.2f}"),
-            ]
-            for s in site.soundings
-        ]
         parts.append("<h3>Cone soundings</h3>")
-        parts.append(_table(["id", "x [m]", "y [m]", "final depth [m]"], rows, numeric={1, 2, 3}))
-    fs = site.footings
-    parts.append("<h3>Footings</h3>")
-    if fs:
-        shapes = sorted({f.shape for f in fs})
-        widths = [f.width for f in fs]
-        depths = [f.depth for f in fs]
-        loads = [f.service_load for f in fs]
-        water = "none" if not math.isfinite(site.water_depth) else f"{site.water_depth:g} m"
+        rows = []
+        for s in site.soundings:
+            readings = ", ".join(
+                f"{q.v(z, 'length')}: {q.v(v / 1000, 'modulus')}" for z, v in zip(s.depth, s.qc)
+            )
+            rows.append(
+                [
+                    _e(s.id),
+                    q.v(s.x, "length"),
+                    q.v(s.y, "length"),
+                    str(len(s.depth)),
+                    f"<span class='readings'>{readings}</span>",
+                ]
+            )
         parts.append(
-            "<dl class='kv'>"
-            f"<dt>number</dt><dd>{len(fs)} ({_e(', '.join(shapes))})</dd>"
-            f"<dt>width B</dt><dd>{min(widths):.2f} – {max(widths):.2f} m</dd>"
-            f"<dt>base depth D</dt><dd>{min(depths):.2f} – {max(depths):.2f} m</dd>"
-            f"<dt>service load</dt><dd>{min(loads):.0f} – {max(loads):.0f} kN (total "
-            f"{sum(loads):.0f} kN)</dd>"
-            f"<dt>site water table</dt><dd>{_e(water)}</dd>"
-            f"<dt>design life</dt><dd>{site.analysis.design_life:g} yr</dd>"
-            f"<dt>coordinate system</dt><dd>{_e(site.crs) if site.crs else 'none given'}</dd>"
-            "</dl>"
+            _table(
+                [
+                    "id",
+                    q.h("x", "length"),
+                    q.h("y", "length"),
+                    "readings",
+                    f"depth [{q.unit('length')}]: qc [{q.unit('modulus')}]",
+                ],
+                rows,
+                numeric={1, 2, 3},
+            )
+        )
+    parts.append("<h3>Groundwater</h3>")
+    water = "none" if not math.isfinite(site.water_depth) else q.t(site.water_depth, "length")
+    own = [b for b in site.boreholes if b.water_depth is not None]
+    parts.append(
+        f"<p>Site water table: {_e(water)} below ground"
+        + (
+            "; boreholes with their own level: "
+            + ", ".join(f"{_e(b.id)} {q.t(b.water_depth, 'length')}" for b in own)
+            if own
+            else ""
+        )
+        + ".</p>"
+    )
+    if site.points:
+        parts.append("<h3>Query points</h3>")
+        parts.append(
+            _table(
+                ["id", q.h("x", "length"), q.h("y", "length"), q.h("depth", "length")],
+                [
+                    [_e(p.id), q.v(p.x, "length"), q.v(p.y, "length"), q.v(p.depth, "length")]
+                    for p in site.points
+                ],
+                numeric={1, 2, 3},
+            )
+        )
+    parts.append("<h3>Analysis settings</h3>")
+    rows = []
+    for fld in dataclasses.fields(site.analysis):
+        v = getattr(site.analysis, fld.name)
+        rows.append([_e(fld.name), _e(_setting_value(v)), _e(_SETTING_MEANING.get(fld.name, ""))])
+    parts.append(_table(["setting", "value", "meaning"], rows))
+    parts.append(
+        "<ul class='note'>" + "".join(f"<li>{_e(b)}</li>" for b in results.basis) + "</ul>"
+    )
+    # criteria
+    ck = site.checks
+    parts.append("<h3>Checks and criteria</h3>")
+    try:
+        cset = get_criteria(ck.criteria, ck.overrides)
+    except Exception:  # an unknown set was refused on input; nothing to echo
+        cset = None
+    if cset is not None:
+        parts.append(f"<p>Criteria set <b>{_e(cset.name)}</b>: {_e(cset.title)}.</p>")
+        parts.append(
+            _table(
+                ["measure", "limit", "source", "note"],
+                [
+                    [
+                        _e(lim.measure.replace("_", " ")),
+                        _text(lim.describe(), units),
+                        _e(lim.source),
+                        _e(lim.note),
+                    ]
+                    for lim in cset.limits
+                ],
+            )
+        )
+    rule = (
+        "automatic neighbours plus the listed pairs"
+        if str(ck.pairs) == "auto"
+        else ("listed pairs only")
+    )
+    parts.append(
+        "<dl class='kv'>"
+        "<dt>movement checked</dt><dd>"
+        + (f"after {ck.checked_after:g} yr" if ck.checked_after > 0 else "total")
+        + "</dd>"
+        f"<dt>pairs</dt><dd>{_e(rule)}</dd>"
+        f"<dt>listed pairs</dt><dd>"
+        + (", ".join(f"{_e(a)} – {_e(b)}" for a, b in ck.listed_pairs) or "none")
+        + "</dd><dt>structure lines</dt><dd>"
+        + ("; ".join(_e(" → ".join(line)) for line in ck.structure_lines) or "none")
+        + f"</dd><dt>rigid-body tilt in β</dt><dd>{_e(getattr(ck, 'rigid_tilt', ''))}</dd>"
+        + "</dl>"
+    )
+    outside = getattr(site, "outside_files", ())
+    if outside:
+        parts.append(
+            "<p>Input files read from outside the project folder: "
+            + ", ".join(_e(x) for x in outside)
+            + "</p>"
         )
     return "".join(parts)
 
@@ -395,106 +996,60 @@ def _methods(results: Results) -> str:
         + note
         + (
             "<p class='note'>Rigid footings settle as the mean of their four "
-            "characteristic points; flexible ones report the centre.</p>"
+            "characteristic points; flexible ones report the centre. Settlement on "
+            "loading is that of the granular strata (Schmertmann's C2 = 1, Burland & "
+            "Burbidge's ft = 1) and of undrained clay; creep is the granular part beyond "
+            "that (C2 − 1, ft − 1) up to the design life.</p>"
         )
     )
 
 
-def _checks(results: Results, units: str) -> str:
+def _results_tables(results: Results, units: str) -> str:
+    from sitesettle.io.output import footing_table, pair_basis, pair_table, point_table
+
+    ft = footing_table(results, units)
+    su = "in" if units == "us" else "mm"
+    life = float(results.times[results.design_life_index])
+    keep = (
+        ["id"]
+        + [
+            f"{c}_{su}"
+            for c in (
+                "on_loading",
+                "creep",
+                "consolidation",
+                "secondary",
+                "total",
+                "own",
+                "neighbours",
+            )
+        ]
+        + ["tilt", "status", "reasons"]
+    )
+    parts = [f"<h3>Footing settlements at the design life ({life:g} yr)</h3>"]
+    parts.append(
+        "<p class='note'>total = on loading + creep + consolidation + secondary = own + "
+        "neighbours; tilt of the checked movement.</p>"
+    )
+    parts.append(_df_table(ft[keep], status=ft["status"], units=units))
+    basis, _ = pair_basis(results)
+    parts.append(f"<h3>Pairs (differential and β {_e(basis)})</h3>")
+    pt = pair_table(results, units)
+    parts.append(_df_table(pt, units=units) if len(pt) else "<p>No pairs were checked.</p>")
     c = results.checks
-    if c is None:
-        return "<p>No movement checks were run.</p>"
-    S, su = (1000.0 / 25.4, "in") if units == "us" else (1000.0, "mm")
-    ids = results.ids
-    verdict = (
-        "<span class='pass'>all checks pass</span>"
-        if c.all_passed
-        else "<span class='fail'>some checks fail</span>"
-    )
-    parts = []
-    if c.beyond_range:
-        names = ", ".join(_e(ids[i]) for i in c.beyond_range)
-        parts.append(
-            "<p class='fail'><b>Outside the methods' range — bearing failure likely</b> at "
-            f"{names}: the settlement on loading exceeds 0.1 B, where the settlement methods "
-            "no longer apply. Check the bearing resistance and the inputs before reading "
-            "anything else for these footings.</p>"
-        )
-    parts.append(f"<p>Criteria: <b>{_e(c.criteria)}</b> — {verdict}.</p>")
-    limits = sorted({(lim, src) for lim, src in zip(c.pairs.limit, c.pairs.limit_source)})
-    kinds = tuple(c.footing_kind) or ("pad",) * len(ids)
-    lim_of = {}
-    if c.footing_limit is not None:
-        for kind, value in zip(kinds, c.footing_limit):
-            lim_of.setdefault(kind, value)
-    else:
-        lim_of = {"pad": c.footing_limit_total}
-    rows = [
-        [
-            f"total settlement of a {kind}",
-            f"≤ {value * S:.4g} {su}" if np.isfinite(value) else "none in this set",
-            _e(c.footing_limit_source) if np.isfinite(value) else "",
-        ]
-        for kind, value in lim_of.items()
-    ]
-    if np.isfinite(c.building_tilt_limit):
-        rows.append(
-            [
-                "tilt of the building",
-                f"≤ 1/{1 / c.building_tilt_limit:.0f}",
-                _e(c.building_tilt_source),
-            ]
-        )
-    rows += [["pairs", _e(lim), _e(src)] for lim, src in limits]
-    if c.lines is not None:
-        rows += [
-            ["structure lines", _e(lim), _e(src)]
-            for lim, src in sorted(set(zip(c.lines.limit, c.lines.limit_source)))
-        ]
-    parts.append(_table(["applies to", "limit", "source"], rows))
-    if c.checked_after > 0:
-        parts.append(f"<p>Only the movement after {c.checked_after:g} yr is checked for pairs.</p>")
-    basis = {
-        "both": "computed with the building's rigid-body tilt kept and with it removed; "
-        "the larger is checked",
-        "kept": "computed with the building's rigid-body tilt kept",
-        "removed": "computed with the building's rigid-body tilt removed",
-    }[c.rigid_tilt]
-    parts.append(
-        f"<p>Angular distortion β is {basis} (docs/criteria.md §2.2). Structure lines "
-        "are judged by their sagging and hogging zones separately (Burland &amp; Wroth "
-        "1974).</p>"
-    )
-    bad_f = [_e(i) for i, p in zip(ids, c.footing_passed) if not p]
-    bad_p = [
-        f"{_e(results.member_ids[int(a)])} – {_e(results.member_ids[int(b)])}"
-        for a, b, p in zip(c.pairs.a, c.pairs.b, c.pairs.passed)
-        if not p
-    ]
-    parts.append(
-        "<dl class='kv'>"
-        f"<dt>failing footings</dt><dd>{', '.join(bad_f) if bad_f else 'none'}</dd>"
-        f"<dt>failing pairs</dt><dd>{', '.join(bad_p) if bad_p else 'none'}</dd>"
-        f"<dt>building tilt</dt><dd>{_num(c.building_tilt, '{:.3g}')} rad toward "
-        f"{_num(c.building_tilt_direction, '{:.0f}')}° from east"
-        + (
-            f" ({'pass' if c.building_tilt_passed else 'FAIL'})"
-            if np.isfinite(c.building_tilt_limit)
-            else ""
-        )
-        + "</dd>"
-        "</dl>"
-    )
-    if c.lines is not None and len(c.lines.ids):
+    if c is not None and c.lines is not None and len(c.lines.ids):
+        from sitesettle.io.summary import ratio_text
+
+        q = _Q(units)
         rows = [
             [
                 _e(" → ".join(line)),
-                _num(length, "{:.2f}"),
+                q.v(length, "length"),
                 _e(zone),
-                _num(ratio, "{:.3g}"),
-                _e(lim),
+                ratio_text(abs(ratio)),
+                _text(lim, units),
                 _num(u, "{:.2f}"),
-                "pass" if p else "fail",
+                "pass" if p else "<span class='fail'>fail</span>",
             ]
             for line, length, zone, ratio, lim, u, p in zip(
                 c.lines.ids,
@@ -506,12 +1061,12 @@ def _checks(results: Results, units: str) -> str:
                 c.lines.passed,
             )
         ]
-        parts.append("<h3>Structure lines</h3>")
+        parts.append(f"<h3>Structure lines (Δ/L {_e(basis)})</h3>")
         parts.append(
             _table(
                 [
                     "footings",
-                    "length [m]",
+                    q.h("length", "length"),
                     "governing zone",
                     "Δ/L",
                     "limit",
@@ -522,72 +1077,269 @@ def _checks(results: Results, units: str) -> str:
                 numeric={1, 3, 5},
             )
         )
-    parts.append("<p>Sources cited: " + "; ".join(_e(s) for s in c.sources) + ".</p>")
+    if getattr(results, "points", None) is not None:
+        qt = point_table(results, units)
+        parts.append(f"<h3>Query points at the design life ({life:g} yr)</h3>")
+        parts.append(
+            "<p class='note'>Named points with no load of their own (an existing building's "
+            "footings, a tank rim, a buried service): the same engine as the footings, the "
+            "footings' own load counted by elastic strain and consolidation.</p>"
+        )
+        parts.append(_df_table(qt[np.isclose(qt["time_yr"], life)], units=units))
+    if c is not None:
+        parts.append("<p>Sources cited: " + "; ".join(_e(s) for s in c.sources) + ".</p>")
     return "".join(parts)
 
 
-def _trace(results: Results, fid: str | None, units: str) -> str:
-    """The layer-by-layer calculation of one footing (its first evaluation point), if kept."""
-    traces = results.traces.get(fid) if fid is not None else None
+def traced_footings(results: Results) -> list[str]:
+    """The footings the report traces: every failing one, then the worst passing one."""
+    ids = results.ids
+    total = results.at_design_life()
+    order = [int(i) for i in np.argsort(-np.nan_to_num(total, nan=-np.inf), kind="stable")]
+    c = results.checks
+    if c is None:
+        return [ids[order[0]]] if order else []
+    failing = [ids[i] for i in order if not c.footing_passed[i]]
+    passing = [ids[i] for i in order if c.footing_passed[i]]
+    return failing + passing[:1]
+
+
+#: trace columns of granular rows: (heading, key or attribute, quantity, decimals)
+_GRANULAR_TRACE = (
+    ("top", "top", "length", 2),
+    ("bottom", "bottom", "length", 2),
+    ("h", "thickness h (m)", "length", 3),
+    ("stratum", "stratum", "", None),
+    ("method", "method", "", None),
+    ("σ'v0", "sigma_v0", "pressure", 1),
+    ("Δσz own", "own_stress", "pressure", 1),
+    ("Δσz neighbours", "neighbour_stress", "pressure", 1),
+    ("Δp", "Δp (kPa)", "pressure", 1),
+    ("C1", "C1", "", 3),
+    ("C2", "C2", "", 3),
+    ("Iz", "influence", "", 4),
+    ("qc", "qc (kPa)", "modulus", 2),
+    ("E", "modulus", "modulus", 2),
+    ("E source", "E source", "", None),
+    ("on loading", "on loading (mm)", "settlement", 3),
+    ("creep", "creep (mm)", "settlement", 3),
+    ("own", "own_settlement", "settlement", 3),
+    ("neighbours", "neighbour_settlement", "settlement", 3),
+)
+_CLAY_TRACE = (
+    ("top", "top", "length", 2),
+    ("bottom", "bottom", "length", 2),
+    ("h", "thickness h (m)", "length", 3),
+    ("stratum", "stratum", "", None),
+    ("σ'v0", "sigma_v0", "pressure", 1),
+    ("Δσz own", "own_stress", "pressure", 1),
+    ("Δσz neighbours", "neighbour_stress", "pressure", 1),
+    ("σ'p", "σ'p (kPa)", "pressure", 1),
+    ("final σ'", "final σ' (kPa)", "pressure", 1),
+    ("branch", "branch", "", None),
+    ("primary strain", "primary strain", "", 5),
+    ("U(t)", "U(t)", "", 3),
+    ("drainage path", "drainage path (m)", "length", 2),
+    ("Eu", "modulus", "modulus", 2),
+    ("on loading", "on loading (mm)", "settlement", 3),
+    ("consolidation", "consolidation (mm)", "settlement", 3),
+    ("secondary", "secondary (mm)", "settlement", 3),
+    ("own", "own_settlement", "settlement", 3),
+    ("neighbours", "neighbour_settlement", "settlement", 3),
+)
+
+
+def _trace_column(t, key: str) -> np.ndarray:
+    if key in t.details:
+        return np.asarray(t.details[key])
+    if key == "thickness h (m)":
+        return np.asarray(t.bottom, float) - np.asarray(t.top, float)
+    if not hasattr(t, key):  # a trace made without that detail
+        text = key in ("E source", "branch")
+        return np.full(len(t.top), "" if text else np.nan, dtype=object if text else float)
+    v = getattr(t, key)
+    if key in ("own_settlement", "neighbour_settlement"):
+        return np.asarray(v, float) * 1000.0
+    if key == "modulus":
+        return np.asarray(v, float) / 1000.0 if v is not None else np.full(len(t.top), np.nan)
+    return np.asarray(v) if not isinstance(v, tuple) else np.array(v, dtype=object)
+
+
+def _trace_table(t, rows: np.ndarray, spec, units: str) -> str:
+    q = _Q(units)
+    heads = [q.h(h, qty) if qty else h for h, _, qty, _ in spec]
+    cols = [_trace_column(t, key) for _, key, _, _ in spec]
+    body = []
+    for r in rows:
+        cells = []
+        for (_h, key, qty, dec), col in zip(spec, cols):
+            v = col[r]
+            if dec is None:
+                cells.append(_e(v))
+            elif qty:
+                if qty == "settlement" and q.us:
+                    dec = 4
+                cells.append(q.v(v, qty, dec if not (q.us and qty == "pressure") else 3))
+            elif key == "primary strain":
+                cells.append(_num(v, "{:.4e}"))
+            else:
+                cells.append(_num(v, f"{{:.{dec}f}}"))
+        body.append(cells)
+    numeric = {j for j, (_, _, _, d) in enumerate(spec) if d is not None}
+    return _table(heads, body, numeric=numeric).replace("<table>", "<table class='trace'>", 1)
+
+
+def _governing_points(results: Results, i: int, traces) -> set[int]:
+    """Indices of the trace points that make footing ``i``'s settlement.
+
+    A pad's settlement comes from all its points; a strip's from the station that
+    settles most at the design life, so only that station's points (each point
+    belongs to its nearest station).
+    """
+    every = set(range(len(traces)))
+    sx, st = results.station_xy, results.station_total
+    if sx is None or st is None:
+        return every
+    xy = np.asarray(sx, float)[i]
+    ok = np.isfinite(xy[:, 0])
+    if ok.sum() <= 1:
+        return every
+    tot = np.asarray(st, float)[i, :, results.design_life_index]
+    g = int(np.nanargmax(np.where(ok, tot, -np.inf)))
+    pts = np.array([t.point for t in traces], float)
+    d = np.hypot(pts[:, None, 0] - xy[None, :, 0], pts[:, None, 1] - xy[None, :, 1])
+    d = np.where(ok[None, :], d, np.inf)
+    return {int(k) for k in np.flatnonzero(np.argmin(d, axis=1) == g)} or every
+
+
+def _trace(results: Results, fid: str, units: str, why: str) -> str:
+    """Every evaluation point of footing ``fid``: granular and clay sublayers a checker can redo."""
+    from sitesettle.io.unit_text import in_units
+
+    traces = results.traces.get(fid)
     if not traces:
         return ""
-    t = traces[0]
-    S, su = (1000.0 / 25.4, "in") if units == "us" else (1000.0, "mm")
+    q = _Q(units)
+    i = results.ids.index(fid)
+    f = results.site.footings[i]
+    k = results.design_life_index
+    parts = [
+        f"<h3>Calculation trace of footing {_e(fid)} ({_e(why)})</h3>",
+        f"<p class='note'>{_e(f.shape)} {_size(f, q)}, base {q.t(f.depth, 'length')}, "
+        f"{'rigid' if f.rigid else 'flexible'}; q net {q.t(results.net_pressure[i], 'pressure')} "
+        f"(sustained {q.t(results.sustained_net_pressure[i], 'pressure')}); total "
+        f"{q.t(results.total[i, k] * 1000, 'settlement')} at {results.times[k]:g} yr.</p>",
+    ]
+    shown = _governing_points(results, i, traces)
+    if len(shown) < len(traces):
+        parts.append(
+            f"<p class='note'>A strip: the points of its station that settles most "
+            f"({len(shown)} of {len(traces)} points; <code>sitesettle explain</code> lists "
+            "them all).</p>"
+        )
+    for p, t in enumerate(traces, start=1):
+        if p - 1 not in shown:
+            continue
+        own = float(np.nansum(t.own_settlement)) * 1000
+        nb = float(np.nansum(t.neighbour_settlement)) * 1000
+        unit = "in" if q.us else "mm"
+        sc = 1 / 25.4 if q.us else 1.0
+        parts.append(
+            f"<h4>Point {p} of {len(traces)} at ({q.v(t.point[0], 'length')}, "
+            f"{q.v(t.point[1], 'length')}) {q.unit('length')}</h4>"
+        )
+        parts.append(
+            f"<p class='note'>The sublayers add up to {own * sc:.3f} {unit} own and "
+            f"{nb * sc:.3f} {unit} from the neighbours at this point.</p>"
+        )
+        if t.notes:
+            parts.append(
+                "<ul class='note'>"
+                + "".join(f"<li>{_e(in_units(n, units))}</li>" for n in t.notes)
+                + "</ul>"
+            )
+        branch = np.asarray(t.details.get("branch", np.full(len(t.top), "")), dtype=object)
+        clay = np.array([bool(str(b)) for b in branch], dtype=bool)
+        gran = np.flatnonzero(~clay)
+        if len(gran):
+            parts.append(
+                "<p class='note'>Granular sublayers: own on loading = C1·Δp·Iz·h/E "
+                "(Schmertmann's own-load rows; Iz = 0 where the diagram has ended), creep = "
+                "(C2 − 1) × on loading; the neighbours' part is elastic strain of their Δσz "
+                "with E.</p>"
+            )
+            parts.append(_trace_table(t, gran, _GRANULAR_TRACE, units))
+        cl = np.flatnonzero(clay)
+        if len(cl):
+            parts.append(
+                "<p class='note'>Clay sublayers: primary strain = Cr/(1+e0)·log10(σ'p/σ'v0) + "
+                "Cc/(1+e0)·log10(σ'/σ'p) along the branch shown, final σ' = σ'v0 + Δσz "
+                "(sustained); on loading + consolidation = strain × h × U(t) "
+                "(the on-loading part is undrained, at once); secondary after the end of "
+                "primary.</p>"
+            )
+            parts.append(_trace_table(t, cl, _CLAY_TRACE, units))
+    return "".join(parts)
+
+
+def _traces(results: Results, units: str) -> str:
+    ids = traced_footings(results)
+    if not ids:
+        return "<p>No footings.</p>"
+    c = results.checks
+    parts = [
+        "<p>Every failing footing is traced at all its evaluation points, then the worst "
+        "passing one; <code>sitesettle explain PROJECT ID</code> gives any footing.</p>"
+    ]
+    for fid in ids:
+        i = results.ids.index(fid)
+        if c is None:
+            why = "the largest settlement"
+        elif not c.footing_passed[i]:
+            why = "fails"
+        else:
+            why = "the worst passing footing"
+        parts.append(_trace(results, fid, units, why))
+    return "".join(parts)
+
+
+def _sign_off(site, date: str) -> str:
+    info = site.info
     rows = [
         [
-            _num(top, "{:.2f}"),
-            _num(bottom, "{:.2f}"),
-            _e(stratum),
-            _e(method),
-            _num(s0, "{:.1f}"),
-            _num(own, "{:.1f}"),
-            _num(nb, "{:.1f}"),
-            _num(eps, "{:.3e}"),
-            _num(so * S, "{:.3f}"),
-            _num(sn * S, "{:.3f}"),
-            _num(iz, "{:.3f}"),
+            _e(label),
+            _e(info.get(key, "")),
+            "",
+            _e(info.get("date", "")) if key == "prepared_by" else "",
         ]
-        for top, bottom, stratum, method, s0, own, nb, eps, so, sn, iz in zip(
-            t.top,
-            t.bottom,
-            t.stratum,
-            t.method,
-            t.sigma_v0,
-            t.own_stress,
-            t.neighbour_stress,
-            t.strain,
-            t.own_settlement,
-            t.neighbour_settlement,
-            t.influence,
-        )
+        for label, key in SIGN_OFF
     ]
-    total_own = float(np.nansum(t.own_settlement)) * S
-    total_nb = float(np.nansum(t.neighbour_settlement)) * S
-    header = [
-        "top [m]",
-        "bottom [m]",
-        "stratum",
-        "method",
-        "σ'v0 [kPa]",
-        "Δσz own [kPa]",
-        "Δσz neighbours [kPa]",
-        "strain",
-        f"own [{su}]",
-        f"neighbours [{su}]",
-        "Iz",
-    ]
-    return (
-        f"<h3>Calculation trace of footing {_e(fid)} (the largest settlement)</h3>"
-        f"<p class='note'>At ({t.point[0]:.2f}, {t.point[1]:.2f}) m, at the design life; "
-        f"the sublayers add up to {total_own:.3f} {su} own and {total_nb:.3f} {su} from the "
-        "neighbours at this point.</p>" + _table(header, rows, numeric={0, 1, 4, 5, 6, 7, 8, 9, 10})
+    top = (
+        "<dl class='kv'>"
+        f"<dt>project</dt><dd>{_e(site.name)}</dd>"
+        f"<dt>job number</dt><dd>{_e(info.get('job_number', '–'))}</dd>"
+        f"<dt>revision</dt><dd>{_e(info.get('revision', '–'))}</dd>"
+        f"<dt>date</dt><dd>{_e(info.get('date', date))}</dd>"
+        "</dl>"
+    )
+    return top + _table(["role", "name", "signature", "date"], rows).replace(
+        "<table>", "<table class='signoff'>", 1
     )
 
 
 def render_report(
-    results: Results, figures: dict[str, bytes], *, units: str = "si", date: str | None = None
+    results: Results,
+    figures: dict[str, bytes],
+    *,
+    units: str = "si",
+    date: str | None = None,
+    page: str = "A4",
 ) -> str:
     """The whole report as one HTML string.
+
+    Order: verdict and governing results, the inputs echoed in full, methods and
+    their validity, the per-footing and per-pair tables, the calculation traces,
+    the figures, warnings, cautions and the sign-off block (from ``[project]``).
 
     Parameters
     ----------
@@ -597,94 +1349,48 @@ def render_report(
         PNG images by name (``"plan"``, ``"contours"``, ``"settlement_time"``,
         ``"section"`` or any other), embedded as base64 in that order.
     units : {"si", "us"}, optional
-        Units of the results tables.
+        Units of every table and sentence.
     date : str, optional
         Run date shown at the end (default: :func:`run_date`).
+    page : {"A4", "letter"}, optional
+        Paper size of the print style sheet.
     """
-    from sitesettle.io.output import footing_table, pair_table, summary_dict
-
     site = results.site
-    summary = summary_dict(results, units)
-    S, su = (1000.0 / 25.4, "in") if units == "us" else (1000.0, "mm")
+    when = date or run_date()
     title = f"Settlement report — {_e(site.name)}"
+    info = site.info
+    footer = (
+        f"{site.name} · job {info.get('job_number', '–')} · revision "
+        f"{info.get('revision', '–')} · sitesettle {sitesettle.__version__}"
+    )
     body = [
         f"<h1>{title}</h1>",
-        f"<p class='note'>sitesettle {_e(sitesettle.__version__)} · design life "
-        f"{_e(summary['design_life_yr'])} yr · units "
+        f"<p class='note'>job {_e(info.get('job_number', '–'))} · revision "
+        f"{_e(info.get('revision', '–'))} · {_e(info.get('date', when))} · sitesettle "
+        f"{_e(sitesettle.__version__)} · design life "
+        f"{results.times[results.design_life_index]:g} yr · units "
         f"{'US customary' if units == 'us' else 'SI'}</p>",
-    ]
-
-    anchors = (
-        "project",
-        "inputs",
-        "methods",
-        "results",
-        "figures",
-        "checks",
-        "warnings",
-        "cautions",
-        "about",
-    )
-    body.append(
         "<nav class='toc'>"
-        + "".join(f"<a href='#{a}'>{h}</a>" for a, h in zip(anchors, SECTIONS))
-        + "</nav>"
-    )
-    body.append(f"<h2 id='project'>{SECTIONS[0]}</h2>")
-    info = "".join(f"<dt>{_e(k)}</dt><dd>{_e(v)}</dd>" for k, v in site.info.items())
-    body.append(f"<dl class='kv'><dt>name</dt><dd>{_e(site.name)}</dd>{info}</dl>")
-    total = results.at_design_life() * S
-    verdict = ""
-    if results.checks is not None:
-        verdict = (
-            " All checks pass."
-            if results.checks.all_passed
-            else f" <span class='fail'>{len(summary['failing_footings'])} footing(s) and "
-            f"{len(summary['failing_pairs'])} pair(s) fail.</span>"
-        )
-    if np.isfinite(total).any():
-        worst = summary["worst_footing"]
-        body.append(
-            f"<p>{len(results.ids)} footings; largest total settlement {np.nanmax(total):.1f} {su} "
-            f"at footing {_e(worst)}.{verdict}</p>"
-        )
+        + "".join(f"<a href='#{a}'>{h}</a>" for a, h in zip(ANCHORS, SECTIONS))
+        + "</nav>",
+    ]
+    sec = iter(zip(ANCHORS, SECTIONS))
 
-    body.append(f"<h2 id='inputs'>{SECTIONS[1]}</h2>")
-    body.append(_inputs(results))
-    body.append(f"<h2 id='methods'>{SECTIONS[2]}</h2>")
+    def h2() -> str:
+        a, h = next(sec)
+        return f"<h2 id='{a}'>{h}</h2>"
+
+    body.append(h2())
+    body.append(_verdict(results, units))
+    body.append(h2())
+    body.append(_inputs(results, units))
+    body.append(h2())
     body.append(_methods(results))
-    body.append(f"<h2 id='results'>{SECTIONS[3]}</h2>")
-    ft = footing_table(results, units)
-    settle_cols = [c for c in ft.columns if c.startswith(_SETTLEMENT_COLUMNS)]
-    body.append(
-        f"<h3>Footing settlements at the design life ({_e(summary['design_life_yr'])} yr)</h3>"
-    )
-    body.append(_df_table(ft[["id"] + settle_cols + ["status", "reasons"]], status=ft["status"]))
-    body.append("<h3>Footing geometry, loads and methods</h3>")
-    body.append(
-        _df_table(
-            ft[[c for c in ft.columns if c not in settle_cols + ["status", "reasons"]]],
-            status=ft["status"],
-        )
-    )
-    body.append(_trace(results, summary.get("worst_footing"), units))
-    body.append("<h3>Pairs</h3>")
-    pt = pair_table(results, units)
-    body.append(_df_table(pt) if len(pt) else "<p>No pairs were checked.</p>")
-    if getattr(results, "points", None) is not None:
-        from sitesettle.io.output import point_table
-
-        qt = point_table(results, units)
-        life = float(results.times[results.design_life_index])
-        body.append(f"<h3>Query points at the design life ({life:g} yr)</h3>")
-        body.append(
-            "<p class='note'>Named points with no load of their own (an existing building's "
-            "footings, a tank rim, a buried service): the same engine as the footings, the "
-            "footings' own load counted by elastic strain and consolidation.</p>"
-        )
-        body.append(_df_table(qt[np.isclose(qt["time_yr"], life)]))
-
-    body.append(f"<h2 id='figures'>{SECTIONS[4]}</h2>")
+    body.append(h2())
+    body.append(_results_tables(results, units))
+    body.append(h2())
+    body.append(_traces(results, units))
+    body.append(h2())
     if not figures:
         body.append("<p>No figures were made.</p>")
     for name, png in figures.items():
@@ -694,25 +1400,25 @@ def render_report(
             f"<figure><img src='data:image/png;base64,{data}' alt='{_e(name)} figure'>"
             f"<figcaption>{_e(caption)}</figcaption></figure>"
         )
-
-    body.append(f"<h2 id='checks'>{SECTIONS[5]}</h2>")
-    body.append(_checks(results, units))
-    body.append(f"<h2 id='warnings'>{SECTIONS[6]}</h2>")
+    body.append(h2())
     if results.warnings:
-        body.append("<ul>" + "".join(f"<li>{_e(w)}</li>" for w in results.warnings) + "</ul>")
+        body.append(
+            "<ul>" + "".join(f"<li>{_text(w, units)}</li>" for w in results.warnings) + "</ul>"
+        )
     else:
         body.append("<p>No warnings.</p>")
-    body.append(f"<h2 id='cautions'>{SECTIONS[7]}</h2>")
+    body.append(h2())
     body.append(
         "<div class='box'><ul>" + "".join(f"<li>{_e(c)}</li>" for c in CAUTIONS) + "</ul></div>"
     )
-    body.append(f"<h2 id='about'>{SECTIONS[8]}</h2>")
-    body.append(
-        f"<p>Made by sitesettle {_e(sitesettle.__version__)} on {_e(date or run_date())}.</p>"
-    )
+    body.append(h2())
+    body.append(_sign_off(site, when))
+    body.append(h2())
+    body.append(f"<p>Made by sitesettle {_e(sitesettle.__version__)} on {_e(when)}.</p>")
+    css = _CSS + _page_css(page, footer)
     return (
         "<!DOCTYPE html>\n<html lang='en'><head><meta charset='utf-8'>"
         "<meta name='viewport' content='width=device-width, initial-scale=1'>"
-        f"<title>{title}</title><style>{_CSS}</style></head>"
+        f"<title>{title}</title><style>{css}</style></head>"
         f"<body><main>{''.join(body)}</main></body></html>\n"
     )

@@ -80,7 +80,40 @@ _OTHER = {
     "[temperature]": "a temperature",
     "[mass] / [length] ** 3": "a density",
     "[length] ** 3": "a volume",
+    "[mass] / [time] ** 2": "a force per length such as 15 kN/m (a line load)",
+    "[mass] * [length] ** 2 / [time] ** 2": "an energy or a moment such as 20 kN·m",
+    "[mass] * [length] / [time] ** 2 / [length] ** 3": "a unit weight",
+    "[length] ** 2 / [time]": "a coefficient of consolidation",
+    "[time]": "a time",
+    "[current]": "an electric current",
+    "[mass] * [length] ** 2 / [time] ** 3": "a power",
 }
+#: the base dimensions in words
+_BASE_WORDS = {
+    "[mass]": "mass",
+    "[length]": "length",
+    "[time]": "time",
+    "[temperature]": "temperature",
+    "[current]": "electric current",
+    "[substance]": "amount of substance",
+    "[luminosity]": "luminosity",
+}
+_POWER_WORDS = {2: "squared", 3: "cubed"}
+
+
+def dimension_words(dims) -> str:
+    """A pint dimensionality in words: ``[mass] / [time] ** 2`` → ``mass per time squared``."""
+    up, down = [], []
+    for base, power in sorted(dict(dims).items()):
+        word = _BASE_WORDS.get(base, base.strip("[]"))
+        p = abs(power)
+        if p != 1:
+            word += " " + _POWER_WORDS.get(p, f"to the power {p:g}")
+        (up if power > 0 else down).append(word)
+    text = " × ".join(up) or "one"
+    if down:
+        text += " per " + " per ".join(down)
+    return text
 
 
 def _describe(q) -> str:
@@ -90,7 +123,7 @@ def _describe(q) -> str:
     for name, (unit, _) in DIMENSIONS.items():
         if dims == registry()(unit).dimensionality:
             return _NAMES[name]
-    return _OTHER.get(str(dims), f"of dimension {dims}")
+    return _OTHER.get(str(dims), f"of dimension {dimension_words(dims)}")
 
 
 def parse(value: object, dimension: str, where: str) -> float:

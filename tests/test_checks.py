@@ -499,7 +499,8 @@ def test_soft_spot_under_one_corner():
     assert all(o == "auto" for o in p.origin)
     # C1 settles 51 mm > 50 mm (EN 1997-1:2004 Annex H); the others pass on total
     assert not checks.footing_passed[0] and checks.footing_passed[1:].all()
-    assert checks.footing_reasons[0] == "total 51 mm > 50 mm (EN 1997-1:2004 Annex H)"
+    # text to 0.1 mm (docs/outputs.md, precision rules); the limit as given
+    assert checks.footing_reasons[0] == "total 51.1 mm > 50 mm (EN 1997-1:2004 Annex H)"
     assert checks.footing_limit_total == pytest.approx(0.050)
     assert not checks.all_passed
     assert checks.sources == ("EN 1997-1:2004 Annex H",)
@@ -517,7 +518,7 @@ def test_differential_limit_governs_with_a_differential_set():
     assert p.limit_measure[k] == "differential" and "19 mm" in p.limit[k]
     assert p.utilisation[k] == pytest.approx(p.differential[k] / 0.019)
     assert "Terzaghi & Peck" in p.limit_source[k]
-    assert "total 51 mm > 25 mm" in checks.footing_reasons[0]
+    assert "total 51.1 mm > 25 mm" in checks.footing_reasons[0]  # 0.1 mm in text
 
 
 def test_checked_after_leaves_only_the_late_movement():
@@ -836,7 +837,7 @@ def test_one_footing_and_bad_shapes():
     times, total, pxy, pt = plan_arrays(f, lambda x, y, t: 0.06 + 0 * x)
     checks = check_movements(f, times, total, pxy, pt, CheckSettings())
     assert len(checks.pairs.a) == 0 and checks.building_tilt == 0.0
-    assert checks.footing_reasons == ("total 60 mm > 50 mm (EN 1997-1:2004 Annex H)",)
+    assert checks.footing_reasons == ("total 60.0 mm > 50 mm (EN 1997-1:2004 Annex H)",)
     with pytest.raises(ValueError, match="total is"):
         check_movements(f, times, total.T[:, :0], pxy, pt, CheckSettings())
     with pytest.raises(ValueError, match="point arrays"):

@@ -209,12 +209,12 @@ def test_explain_prints_the_layer_table_and_its_csv_adds_up(passing):
     p, *_ = passing
     rc, out, err = run("explain", str(p), "C2")
     assert rc == 0, err
-    assert "Footing C2" in out and "sigma_v0_kPa" in out and "Point 4" in out
+    assert "Footing C2" in out and "σ'v0 (kPa)" in out and "Point 4" in out
     rc, out, _ = run("explain", str(p), "C2", "--csv")
     sheet = pd.read_csv(io.StringIO(out))
     r = sitesettle.analyse(sitesettle.load_site(p), with_map=False)
     i = r.ids.index("C2")
-    per_point = sheet.groupby("point").settlement_mm.sum().to_numpy()
+    per_point = sheet.groupby("point")["settlement (mm)"].sum().to_numpy()
     np.testing.assert_allclose(
         per_point, r.point_total[i, : len(per_point), r.design_life_index] * 1000, rtol=1e-5
     )

@@ -260,7 +260,9 @@ def test_override_errors():
 
 @pytest.mark.parametrize(
     "measure, v, text",
-    [("total", 0.0612, "61 mm"), ("differential", 0.019, "19 mm"), ("tilt", 1 / 250, "1/250")],
+    # computed movements to 0.1 mm, ratios as 1/N to 3 significant figures (docs/outputs.md,
+    # precision rules: common practice)
+    [("total", 0.0612, "61.2 mm"), ("differential", 0.019, "19.0 mm"), ("tilt", 1 / 250, "1/250")],
 )
 def test_format_value(measure, v, text):
     assert format_value(measure, v) == text

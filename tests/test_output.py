@@ -448,7 +448,8 @@ def test_report_tables_show_ratios_as_one_in_n():
 
     assert ratio_text(1 / 500) == "1/500"
     assert ratio_text(1 / 388.6) == "1/389"
-    assert ratio_text(8.86e-6) == "1/112,867"
+    assert ratio_text(8.86e-6) == "< 1/10,000"  # docs/outputs.md: no spurious digits
+    assert ratio_text(1 / 1678) == "1/1680"  # N to 3 significant figures
     assert ratio_text(0.0) == "0" and ratio_text(float("nan")) == ""
     df = pd.DataFrame(
         {

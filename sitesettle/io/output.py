@@ -52,6 +52,7 @@ import pandas as pd
 import sitesettle
 from sitesettle.errors import OutputError
 from sitesettle.io.text import FORBIDDEN_CATEGORIES, spreadsheet_text, terminal_line
+from sitesettle.io.unit_text import in_units
 from sitesettle.results import Results
 from sitesettle.site import foundation_kind
 
@@ -162,7 +163,7 @@ def footing_table(results: Results, units: str = "si") -> pd.DataFrame:
     checks = results.checks
     n = len(fs)
     passed = [None] * n if checks is None else [bool(p) for p in checks.footing_passed]
-    reasons = [""] * n if checks is None else [str(r) for r in checks.footing_reasons]
+    reasons = [""] * n if checks is None else [in_units(r, u) for r in checks.footing_reasons]
     status = [_status(p) for p in passed]
     if checks is not None and len(checks.footing_status) == n:  # "beyond range" first
         status = [st.replace("_", " ") for st in checks.footing_status]
@@ -217,6 +218,48 @@ _PAIR_BASE = (
 )
 
 
+def pair_basis(results: Results) -> tuple[str, str]:
+    """What the pairs' differential and angular distortion measure, as (words, name part).
+
+    ``("after 0.5 yr", "after_0.5yr")`` when the checks look at the movement after
+    ``checked_after`` years, ``("total", "total")`` otherwise.
+    """
+    after = 0.0 if results.checks is None else float(results.checks.checked_after)
+    if after > 0:
+        return f"after {after:g} yr", f"after_{after:g}yr"
+    return "total", "total"
+
+
+def total_differential(results: Results) -> np.ndarray:
+    """|total_a − total_b| of every checked pair at the design life [m] (the total basis).
+
+    For a strip, its station nearest the other member, as the checks take it.
+    """
+    from sitesettle.checks import _nearest_stations
+
+    pc = results.checks.pairs if results.checks is not None else None
+    if pc is None or len(pc.a) == 0:
+        return np.zeros(0)
+    k = results.design_life_index
+    if results.station_xy is not None and results.station_total is not None:
+        st_xy = np.asarray(results.station_xy, float)
+        st_tot = np.asarray(results.station_total, float)[..., k]
+    else:
+        st_xy = results.member_xy[: len(results.ids), None, :]
+        st_tot = results.total[:, None, k]
+    if results.points is not None:
+        nq, ns = len(results.points.ids), st_xy.shape[1]
+        pad_xy = np.full((nq, ns, 2), np.nan)
+        pad_xy[:, 0] = np.asarray(results.points.xy, float).reshape(-1, 2)
+        pad_s = np.full((nq, ns), np.nan)
+        pad_s[:, 0] = results.points.total[:, k]
+        st_xy = np.concatenate([st_xy, pad_xy])
+        st_tot = np.concatenate([st_tot, pad_s])
+    a, b = np.asarray(pc.a, int), np.asarray(pc.b, int)
+    sa, sb = _nearest_stations(st_xy, a, b)
+    return np.abs(st_tot[a, sa] - st_tot[b, sb])
+
+
 def _opt(values, fallback, n: int = 0) -> np.ndarray:
     """An optional result array, or the fallback (NaN of length n when None)."""
     if values is not None:
@@ -225,9 +268,18 @@ def _opt(values, fallback, n: int = 0) -> np.ndarray:
 
 
 def pair_table(results: Results, units: str = "si") -> pd.DataFrame:
-    """One row per checked pair (empty, with the columns, when there are no checks)."""
+    """One row per checked pair (empty, with the columns, when there are no checks).
+
+    ``differential`` and the angular distortions are of the checked movement; the
+    ``basis`` column says which ("after 0.5 yr" or "total"). When the checks look
+    at the movement after a time, ``differential_total`` and
+    ``angular_distortion_total`` give the total difference beside it.
+    """
     u = _units(units)
     span, diff = column("span", "length", u), column("differential", "settlement", u)
+    diff_tot = column("differential_total", "settlement", u)
+    words, _ = pair_basis(results)
+    after = words != "total"
     cols = [
         "a",
         "b",
@@ -237,43 +289,47 @@ def pair_table(results: Results, units: str = "si") -> pd.DataFrame:
         "angular_distortion_tilt_removed",
         "angular_distortion_checked",
         "beta_basis",
-        "limit",
-        "limit_source",
-        "utilisation",
-        "status",
-        "origin",
+        "basis",
     ]
+    if after:
+        cols += [diff_tot, "angular_distortion_total"]
+    cols += ["limit", "limit_source", "utilisation", "status", "origin"]
     ratios = ("angular_distortion", "angular_distortion_tilt_removed", "angular_distortion_checked")
+    numeric = {span, diff, diff_tot, *ratios, "angular_distortion_total", "utilisation"}
     if results.checks is None or len(results.checks.pairs.a) == 0:
-        return pd.DataFrame(
-            {
-                c: pd.Series(dtype=float if c in (span, diff, *ratios, "utilisation") else object)
-                for c in cols
-            }
-        )
+        return pd.DataFrame({c: pd.Series(dtype=float if c in numeric else object) for c in cols})
     pc = results.checks.pairs
     ids = results.member_ids
     k = len(pc.a)
     origin = tuple(pc.origin) if len(pc.origin) == k else ("",) * k
-    return pd.DataFrame(
+    data = {
+        "a": [ids[int(i)] for i in pc.a],
+        "b": [ids[int(j)] for j in pc.b],
+        span: np.asarray(pc.span, float) * _scale("length", u),
+        diff: np.asarray(pc.differential, float) * _scale("settlement", u),
+        # β = differential / span (the rigid-body tilt kept), β with the building's
+        # plane removed, and the one checked (docs/criteria.md §2.2)
+        "angular_distortion": _opt(pc.angular_distortion_tilt_kept, pc.angular_distortion),
+        "angular_distortion_tilt_removed": _opt(pc.angular_distortion_tilt_removed, None, k),
+        "angular_distortion_checked": np.asarray(pc.angular_distortion, float),
+        "beta_basis": list(pc.beta_basis) if len(pc.beta_basis) == k else [""] * k,
+        "basis": [words] * k,
+    }
+    if after:
+        tot = total_differential(results)
+        sp = np.asarray(pc.span, float)
+        data[diff_tot] = tot * _scale("settlement", u)
+        data["angular_distortion_total"] = np.divide(tot, sp, out=np.full(k, np.nan), where=sp > 0)
+    data.update(
         {
-            "a": [ids[int(i)] for i in pc.a],
-            "b": [ids[int(j)] for j in pc.b],
-            span: np.asarray(pc.span, float) * _scale("length", u),
-            diff: np.asarray(pc.differential, float) * _scale("settlement", u),
-            # β = differential / span (the rigid-body tilt kept), β with the building's
-            # plane removed, and the one checked (docs/criteria.md §2.2)
-            "angular_distortion": _opt(pc.angular_distortion_tilt_kept, pc.angular_distortion),
-            "angular_distortion_tilt_removed": _opt(pc.angular_distortion_tilt_removed, None, k),
-            "angular_distortion_checked": np.asarray(pc.angular_distortion, float),
-            "beta_basis": list(pc.beta_basis) if len(pc.beta_basis) == k else [""] * k,
-            "limit": list(pc.limit),
+            "limit": [in_units(x, u) for x in pc.limit],
             "limit_source": list(pc.limit_source),
             "utilisation": np.asarray(pc.utilisation, float),
             "status": [_status(bool(p)) for p in pc.passed],
             "origin": list(origin),
         }
     )
+    return pd.DataFrame(data)
 
 
 def point_table(results: Results, units: str = "si") -> pd.DataFrame:
@@ -372,7 +428,7 @@ def summary_dict(results: Results, units: str = "si") -> dict:
         "design_life_yr": _round(
             results.times[results.design_life_index], FIXED_DECIMALS["time_yr"]
         ),
-        "warnings": list(results.warnings),
+        "warnings": [in_units(w, u) for w in results.warnings],
         "cautions": list(CAUTIONS),
         "files_outside_project": list(getattr(results.site, "outside_files", ())),
     }
@@ -383,6 +439,7 @@ def summary_dict(results: Results, units: str = "si") -> dict:
                 "n_pairs": 0,
                 diff_name: None,
                 "max_angular_distortion": None,
+                "pair_basis": None,
                 "failing_footings": [],
                 "failing_pairs": [],
                 "worst_pair": None,
@@ -410,6 +467,7 @@ def summary_dict(results: Results, units: str = "si") -> dict:
             "n_pairs": k,
             diff_name: _round(np.nanmax(pc.differential) * S, sd) if k else None,
             "max_angular_distortion": _round(np.nanmax(pc.angular_distortion), None) if k else None,
+            "pair_basis": pair_basis(results)[0],
             "failing_footings": [fid for fid, p in zip(ids, checks.footing_passed) if not p],
             "failing_pairs": [pr for pr, p in zip(pairs, pc.passed) if not p],
             "worst_pair": worst_pair,
@@ -468,7 +526,7 @@ def format_table(df: pd.DataFrame) -> pd.DataFrame:
         if s.dtype == bool or not pd.api.types.is_float_dtype(s.dtype):
             continue
         d = _decimals(name)
-        if d is None and name not in RATIO_COLUMNS:
+        if d is None and not name.startswith(RATIO_COLUMNS):
             d = 6
         fmt = RATIO_FORMAT if d is None else f"{{:.{d}f}}"
         out[name] = [fmt.format(v) if math.isfinite(v) else "" for v in s.to_numpy(float)]
@@ -602,12 +660,17 @@ def make_figures(results: Results, *, units: str = "si", section=None) -> dict[s
     from sitesettle import plots
 
     figs = {
-        "plan": _figure_bytes(plots.plan_figure(results, units=units)),
-        "contours": _figure_bytes(plots.contour_figure(results, units=units)),
-        "settlement_time": _figure_bytes(plots.time_figure(results, units=units)),
+        "plan": _figure_bytes(plots.plan(results, units=units).figure),
+        "contours": _figure_bytes(plots.contours(results, units=units).figure),
     }
+    ax1, ax2 = plots.history_axes()
+    figs["settlement_time"] = _figure_bytes(
+        plots.history(results, ax=ax1, units=units, pair_ax=ax2).figure
+    )
     if section is not None:
-        figs["section"] = _figure_bytes(plots.section_figure(section, units=units))
+        figs["section"] = _figure_bytes(
+            plots.section(section, units=units, site=results.site).figure
+        )
     return figs
 
 
@@ -897,5 +960,6 @@ def _write_all(
     for name, png in figures.items():
         (folder / f"{name}.png").write_bytes(png)
     progress("report.html")
-    html = render_report(results, figures, units=units)
+    # US units print on Letter, SI on A4 (either prints on both: the page rule is a default)
+    html = render_report(results, figures, units=units, page="letter" if units == "us" else "A4")
     (folder / "report.html").write_text(html, encoding="utf-8")

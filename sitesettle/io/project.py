@@ -7,6 +7,7 @@ can feed text: ``parse_*`` functions take text or parsed tables, ``read_*`` and
 
 from __future__ import annotations
 
+import datetime as _dt
 import math
 import pathlib
 import re
@@ -55,9 +56,21 @@ class PairRule(Choice):
     LISTED = "listed"  #: only the pairs of the pairs file
 
 
+#: [project] keys of the report's sign-off block (text; empty boxes when absent)
+SIGN_OFF_KEYS = ("revision", "date", "prepared_by", "checked_by", "approved_by")
+
 #: the tables of site.toml and their keys
 TABLES: dict[str, tuple[str, ...]] = {
-    "project": ("name", "client", "job_number", "engineer", "notes", "output_units", "crs"),
+    "project": (
+        "name",
+        "client",
+        "job_number",
+        "engineer",
+        "notes",
+        "output_units",
+        "crs",
+        *SIGN_OFF_KEYS,
+    ),
     "groundwater": ("depth",),
     "footings": (
         "file",
@@ -667,8 +680,10 @@ def _footing_defaults(table: dict, where: str) -> FootingDefaults:
 def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> Site:
     """The :class:`Site` from parsed site.toml data; reads the files it names from ``folder``."""
     folder = pathlib.Path(folder)
-    project = config.get("project", {})
-    for k in ("name", "client", "job_number", "engineer", "notes", "crs"):
+    project = dict(config.get("project", {}))
+    if isinstance(project.get("date"), (_dt.date, _dt.datetime)):  # a TOML date is a date
+        project["date"] = project["date"].isoformat()
+    for k in ("name", "client", "job_number", "engineer", "notes", "crs", *SIGN_OFF_KEYS):
         if k in project and not isinstance(project[k], str):
             raise InputError(
                 f"{source} [project], key '{k}'",
@@ -677,7 +692,7 @@ def build_site(config: dict, folder: pathlib.Path, source: str = SITE_FILE) -> S
             )
     info = {
         k: free_text(project[k], f"{source} [project], key '{k}'", lines=k == "notes")
-        for k in ("client", "job_number", "engineer", "notes")
+        for k in ("client", "job_number", "engineer", "notes", *SIGN_OFF_KEYS)
         if k in project
     }
     if "name" in project:

@@ -132,13 +132,25 @@ _UNITS = {
 #: units a number written without one may have been meant in: dimension →
 #: [(unit as the user would write it, core value of one such unit)]
 _MEANT: dict[str, tuple[tuple[str, float], ...]] = {
-    "pressure": (("MPa", 1e3), ("GPa", 1e6), ("Pa", 1e-3), ("bar", 100.0), ("psi", 6.894757),
-                 ("ksf", 47.88026), ("psf", 0.04788026), ("tsf", 95.76052)),
+    "pressure": (
+        ("MPa", 1e3),
+        ("GPa", 1e6),
+        ("Pa", 1e-3),
+        ("bar", 100.0),
+        ("psi", 6.894757),
+        ("ksf", 47.88026),
+        ("psf", 0.04788026),
+        ("tsf", 95.76052),
+    ),
     # a density in kg/m³ written as a unit weight: ρ·g
-    "unit_weight": (("kg/m³ (a density)", 9.80665e-3), ("pcf", 0.1570875),
-                    ("N/m³", 1e-3)),
-    "diffusivity": (("m²/s", 3.15576e7), ("cm²/s", 3.15576e3), ("m²/day", 365.25),
-                    ("m²/month", 12.0), ("ft²/day", 33.93)),
+    "unit_weight": (("kg/m³ (a density)", 9.80665e-3), ("pcf", 0.1570875), ("N/m³", 1e-3)),
+    "diffusivity": (
+        ("m²/s", 3.15576e7),
+        ("cm²/s", 3.15576e3),
+        ("m²/day", 365.25),
+        ("m²/month", 12.0),
+        ("ft²/day", 33.93),
+    ),
     "time": (("days", 1 / 365.25), ("months", 1 / 12), ("hours", 1 / 8766.0)),
     "dimensionless": (("%", 0.01),),
 }
@@ -162,10 +174,7 @@ def _probably_meant(value: float, lo: float, hi: float, dimension: str) -> str:
             core = _UNITS.get(dimension, "")
             shown = f"{_num(value * factor)}{' ' + core if core else ''}"
             written = f"{value:g} {unit.split(' (')[0]}"
-            return (
-                f"; if the number is in {unit} it is {shown}: write the unit, "
-                f'e.g. "{written}"'
-            )
+            return f'; if the number is in {unit} it is {shown}: write the unit, e.g. "{written}"'
     return "; check the value and write its unit"
 
 
@@ -214,6 +223,14 @@ def parse_stratum(table: dict, where: str) -> Stratum:
     where : str
         Place for messages (``'site.toml [[strata]] 2 ("clay")'``).
     """
+    if "behavior" in table:  # the US spelling is accepted
+        if "behaviour" in table:
+            raise InputError(
+                f"{where}, key 'behavior'",
+                'both "behaviour" and "behavior" are given',
+                "one of the two spellings",
+            )
+        table = {("behaviour" if k == "behavior" else k): v for k, v in table.items()}
     for key in table:
         if key not in QUANTITY_KEYS and key not in OTHER_KEYS:
             raise InputError(
