@@ -394,6 +394,22 @@ def plan_figure(results: Results, *, ax=None, units: str = "si", _axes: bool = F
             )
             handles.append(Line2D([], [], color=FAIL_COLOUR, lw=3.2, label="pair fails its limit"))
 
+    for a in results.site.area_loads:  # fills, slabs and excavations, under the footings
+        from matplotlib.patches import Polygon as _Poly
+
+        dig = a.pressure < 0
+        ax.add_patch(
+            _Poly(np.asarray(a.outline, float) * L, closed=True, fill=True, zorder=0,
+                  facecolor="#dfe8f0" if dig else "#f3ead7", edgecolor="#8a6d3b", lw=0.8,
+                  ls="--", alpha=0.6)
+        )
+        cx, cy = np.asarray(a.outline, float).mean(axis=0) * L
+        ax.text(cx, cy, _esc(a.name), fontsize=7, color="#8a6d3b", ha="center", va="center",
+                zorder=0)
+    if results.site.area_loads:
+        handles.append(Patch(facecolor="#f3ead7", edgecolor="#8a6d3b", ls="--",
+                             label="area load (excavation in blue)"))
+
     patches = PatchCollection(
         _footing_patches(results, L),
         cmap=SETTLEMENT_CMAP,
@@ -642,6 +658,20 @@ def _downward(ax) -> None:
     ax.set_ylim(max(lo, hi, 0.0) * 1.05 or 1.0, 0.0)
 
 
+def _stage_marks(results: Results) -> list[tuple[str, float]]:
+    """(name, start) of each load stage that starts after time 0 (the default history:
+    the live load just after checked_after)."""
+    site = results.site
+    if site.stages:
+        return [(g.name, g.start) for g in site.stages if g.start > 0]
+    for b in results.basis:
+        if b.startswith("load history:") and "live load just after" in b:
+            after = float(results.checks.checked_after) if results.checks is not None else 0.0
+            if after > 0:
+                return [("live load", after)]
+    return []
+
+
 def history(results: Results, ax=None, *, units: str = "si", pair_ax=None):
     """Settlement against log time of the worst footings, with the total limit.
 
@@ -697,10 +727,15 @@ def time_figure(results: Results, *, ax=None, units: str = "si", pair_ax=None):
         lim = results.checks.footing_limit_total * S
         if math.isfinite(lim):
             ax1.axhline(lim, color=FAIL_COLOUR, lw=1.2, ls=":", label=f"limit {lim:g} {su}")
+    stages = _stage_marks(results)
     for a in (ax1, ax2):
         if a is None:
             continue
         a.set_xscale("log")
+        for name, start in stages:  # when each load stage starts (docs/methods.md §4.6)
+            a.axvline(start, color="#8a6d3b", lw=0.8, ls="--", zorder=0)
+            a.text(start, 0.02, f" {_esc(name)}", transform=a.get_xaxis_transform(),
+                   fontsize=6.5, rotation=90, va="bottom", color="#8a6d3b")
         a.axvline(life, color="#555555", lw=0.8, ls="-.")
         a.text(
             life,

@@ -447,19 +447,46 @@ def _verdict(results: Results, units: str) -> str:
     parts.append("<h3>Governing results</h3>")
     rows = []
     if len(ids) and np.isfinite(total).any():
-        i = int(np.nanargmax(total))
-        util = total[i] / c.footing_limit_total if c.footing_limit_total > 0 else math.nan
+        # the limit of each footing's kind (EN 1997-1 Annex H's total is for isolated
+        # foundations: a raft may have none); the governing one has the largest use
+        limits = (
+            np.asarray(c.footing_limit, float)
+            if c.footing_limit is not None
+            else np.full(len(ids), c.footing_limit_total)
+        )
+        kinds = tuple(c.footing_kind) or ("footing",) * len(ids)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            use = np.where(limits > 0, total / limits, np.nan)
+        i = int(np.nanargmax(use)) if np.isfinite(use).any() else int(np.nanargmax(total))
+        util = float(use[i])
         rows.append(
             [
-                "total settlement of a footing (total)",
+                f"total settlement of a {_e(kinds[i])} (total)",
                 q.t(total[i] * 1000, "settlement"),
                 f"footing {_e(ids[i])}",
-                f"≤ {q.t(c.footing_limit_total * 1000, 'settlement', 2 if q.us else 0)}",
-                _e(c.footing_limit_source),
+                f"≤ {q.t(limits[i] * 1000, 'settlement', 2 if q.us else 0)}"
+                if np.isfinite(limits[i])
+                else "none for its kind",
+                _e(c.footing_limit_source) if np.isfinite(limits[i]) else "",
                 _num(util, "{:.2f}"),
                 "pass" if not util > 1 else "<span class='fail'>fail</span>",
             ]
         )
+        free = [k for k in range(len(ids)) if not np.isfinite(limits[k])]
+        if free:
+            k = max(free, key=lambda j: np.nan_to_num(total[j], nan=-np.inf))
+            rows.append(
+                [
+                    f"total settlement of a {_e(kinds[k])} (total)",
+                    q.t(total[k] * 1000, "settlement"),
+                    f"footing {_e(ids[k])}",
+                    f"no total limit for a {_e(kinds[k])} in {_e(c.criteria)}: judged by "
+                    "its relative rotation and tilt",
+                    "",
+                    "",
+                    "reported",
+                ]
+            )
     tilt = np.asarray(results.tilt, float)
     if np.isfinite(tilt).any():
         i = int(np.nanargmax(tilt))

@@ -363,7 +363,7 @@ def test_the_first_gallery_example_is_ten_lines_from_demo_site_to_a_what_if():
     ]
     assert len(code) <= 10, code
     joined = "\n".join(code)
-    for call in ("demo_site()", ".pairs()", "nlargest", "PolyCollection", "with_footing"):
+    for call in ("demo_site()", ".pairs()", "nlargest", "plots.plan", "with_footing"):
         assert call in joined, call
 
 

@@ -255,3 +255,29 @@ def test_checked_after_names_an_unknown_stage(tmp_path):
         'checked_after = "0 yr"', 'checked_after = "after roofing"'), encoding="utf-8")
     with pytest.raises(InputError, match='no stage called "roofing"'):
         load_site(folder)
+
+
+def test_stages_and_area_loads_are_drawn(tmp_path):
+    import matplotlib
+
+    matplotlib.use("Agg")
+    from sitesettle import plots
+
+    folder = tmp_path / "p"
+    shutil.copytree(STARTER, folder)
+    toml = folder / "site.toml"
+    toml.write_text(
+        toml.read_text(encoding="utf-8")
+        + '\n[[area_loads]]\nname = "yard fill"\nfill_thickness = "0.4 m"\n'
+        'fill_unit_weight = "19 kN/m^3"\nextent = "plan + 4 m"\n'
+        '\n[[stages]]\nname = "frame"\nstart = "0 yr"\ndead = 1\narea_loads = ["yard fill"]\n'
+        '\n[[stages]]\nname = "occupancy"\nstart = "6 months"\nlive = 1\n',
+        encoding="utf-8",
+    )
+    r = analyse(load_site(folder))
+    ax = plots.plan(r)
+    assert "yard fill" in [t.get_text() for t in ax.texts]
+    ax = plots.history(r)
+    assert any(t.get_text().strip() == "occupancy" for t in ax.texts)
+    assert any(abs(line.get_xdata()[0] - 0.5) < 1e-12 for line in ax.lines
+               if len(line.get_xdata()) == 2)

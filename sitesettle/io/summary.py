@@ -113,6 +113,26 @@ def _reason(text: str, units: str) -> str:
     return re.sub(r" \([^()]*\)", "", in_units(text, units))
 
 
+def _total_limits(chk, units: str) -> str:
+    """The total-settlement limit of each kind of foundation on the plan, in words."""
+    kinds = tuple(chk.footing_kind)
+    if chk.footing_limit is None or not kinds:
+        lim = in_units(f"{chk.footing_limit_total * 1000:.4g} mm", units)
+        return f"a footing's total settlement ≤ {lim}"
+    by_kind: dict[str, float] = {}
+    for kind, value in zip(kinds, np.asarray(chk.footing_limit, float)):
+        by_kind.setdefault(kind, value)
+    same: dict[str, list[str]] = {}
+    for kind, value in by_kind.items():
+        text = in_units(f"{value * 1000:.4g} mm", units) if np.isfinite(value) else "no limit"
+        same.setdefault(text, []).append(kind + "s")
+    parts = [
+        f"{' and '.join(k)} " + (f"≤ {t}" if t != "no limit" else "not limited")
+        for t, k in same.items()
+    ]
+    return "total settlement of " + "; ".join(parts)
+
+
 def format_summary(results: Results, summary: dict, units: str = "si") -> str:
     """A few lines: counts, the worst footings and pairs with their limits, the verdict.
 
@@ -138,8 +158,7 @@ def format_summary(results: Results, summary: dict, units: str = "si") -> str:
         out.append(f"area load {a.name}: {a.description}")
     out.extend(b for b in results.basis if b.startswith("load history:"))
     if chk is not None:
-        lim = in_units(f"{chk.footing_limit_total * 1000:.4g} mm", units)
-        out.append(f"criteria: {chk.criteria}; a footing's total settlement ≤ {lim}")
+        out.append(f"criteria: {chk.criteria}; {_total_limits(chk, units)}")
         out.append(f"β checked with the building's rigid-body tilt {_TILT_BASIS[chk.rigid_tilt]}")
     beyond = chk.beyond_range if chk is not None else ()
     if beyond:
