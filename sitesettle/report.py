@@ -939,6 +939,38 @@ def _inputs(results: Results, units: str) -> str:
                 numeric={1, 2, 3},
             )
         )
+    if site.area_loads:
+        parts.append("<h3>Area loads</h3>")
+        parts.append(
+            _table(
+                ["name", "what", q.h("pressure", "pressure"), q.h("depth", "length"),
+                 "area [m²]"],
+                [
+                    [_e(a.name), _text(a.description, units), q.v(a.pressure, "pressure"),
+                     q.v(a.depth, "length"), _num(a.area, "{:.1f}")]
+                    for a in site.area_loads
+                ],
+                numeric={2, 3, 4},
+            )
+        )
+    parts.append("<h3>Load history</h3>")
+    history = [b for b in results.basis if b.startswith("load history:")]
+    if site.stages:
+        parts.append(
+            _table(
+                ["stage", "start [yr]", "duration [yr]", "dead load", "live load", "area loads"],
+                [
+                    [_e(g.name), _num(g.start, "{:.3g}"), _num(g.duration, "{:.3g}"),
+                     f"{g.dead:.0%}", f"{g.live:.0%}", _e(", ".join(g.area_loads)) or "—"]
+                    for g in site.stages
+                ],
+                numeric={1, 2, 3, 4},
+            )
+        )
+    parts.append(
+        "<p>" + (_e(history[0]) if history else "all loads at time 0") + " (docs/methods.md "
+        "§4.6: each stage's increment from its own start; ramps by Olson's 1977 solution)</p>"
+    )
     parts.append("<h3>Analysis settings</h3>")
     rows = []
     for fld in dataclasses.fields(site.analysis):
