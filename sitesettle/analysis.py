@@ -36,10 +36,10 @@ from sitesettle.options import DepthRule
 from sitesettle.results import QueryResults, Results, SettlementMap, Trace
 from sitesettle.site import Footing, LoadStage, Site
 
-#: a settlement above this fraction of the footing width is commonly taken as
-#: bearing failure (common practice, e.g. the 0.1 B settlement criterion of plate
-#: and footing load tests): past it the small-strain methods say nothing
-FAILURE_SETTLEMENT_RATIO = 0.10
+#: a settlement above this fraction of the footing width is beyond the small-strain
+#: methods (the 0.1 B criterion of plate and footing load tests, common practice); on
+#: loading it is the checks' bearing-failure status, over time a warning
+FAILURE_SETTLEMENT_RATIO = checks_mod.BEARING_PROXY
 #: at most this many distinct load-plane depths are made sublayer boundaries
 MAX_LOAD_PLANES = 32
 #: why a column's integration stopped (Integration.reason)
@@ -943,13 +943,18 @@ def analyse(
     )
     total_life = results.at_design_life("total")
     fw = np.array([f.width for f in site.footings])
+    on_loading = results.immediate[:, ctx.life]
     for i in np.flatnonzero(total_life > FAILURE_SETTLEMENT_RATIO * fw):
         f = site.footings[i]
+        when = (
+            "on loading: its status is beyond range, bearing failure likely"
+            if on_loading[i] > FAILURE_SETTLEMENT_RATIO * fw[i]
+            else "over time (not on loading): beyond the range of the settlement methods"
+        )
         warnings.append(
             f"footing {f.id} settles {total_life[i] * 1000:.0f} mm, more than "
-            f"{FAILURE_SETTLEMENT_RATIO:.0%} of its width ({f.width:g} m): beyond the range "
-            "of the settlement methods (a settlement of 0.1 B is commonly taken as bearing "
-            "failure); check the moduli, the loads and their units"
+            f"{FAILURE_SETTLEMENT_RATIO:.0%} of its width ({f.width:g} m), {when}; check the "
+            "moduli, the loads and their units"
         )
     _far_warnings(site, warnings, with_checks)
     chk = None

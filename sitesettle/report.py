@@ -1164,15 +1164,21 @@ def traced_footings(results: Results) -> list[str]:
 
 
 #: trace columns of granular rows: (heading, key or attribute, quantity, decimals)
-_GRANULAR_TRACE = (
+_TRACE_PLACE = (
     ("top", "top", "length", 2),
     ("bottom", "bottom", "length", 2),
     ("h", "thickness h (m)", "length", 3),
     ("stratum", "stratum", "", None),
-    ("method", "method", "", None),
+)
+_TRACE_STRESS = (
     ("σ'v0", "sigma_v0", "pressure", 1),
     ("Δσz own", "own_stress", "pressure", 1),
     ("Δσz neighbours", "neighbour_stress", "pressure", 1),
+)
+_GRANULAR_TRACE = (
+    *_TRACE_PLACE,
+    ("method", "method", "", None),
+    *_TRACE_STRESS,
     ("Δp", "Δp (kPa)", "pressure", 1),
     ("C1", "C1", "", 3),
     ("C2", "C2", "", 3),
@@ -1186,13 +1192,8 @@ _GRANULAR_TRACE = (
     ("neighbours", "neighbour_settlement", "settlement", 3),
 )
 _CLAY_TRACE = (
-    ("top", "top", "length", 2),
-    ("bottom", "bottom", "length", 2),
-    ("h", "thickness h (m)", "length", 3),
-    ("stratum", "stratum", "", None),
-    ("σ'v0", "sigma_v0", "pressure", 1),
-    ("Δσz own", "own_stress", "pressure", 1),
-    ("Δσz neighbours", "neighbour_stress", "pressure", 1),
+    *_TRACE_PLACE,
+    *_TRACE_STRESS,
     ("σ'p", "σ'p (kPa)", "pressure", 1),
     ("final σ'", "final σ' (kPa)", "pressure", 1),
     ("branch", "branch", "", None),

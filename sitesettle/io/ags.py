@@ -44,6 +44,17 @@ AGS_SUFFIXES = (".ags",)
 _NOT_FAULTS = ("FYI", "Summary of data", "Metadata", "General", "Warning")
 
 
+def _location(locations, table, row) -> str:
+    """The row's LOCA_ID, which must be a location of the LOCA group."""
+    lid = table.text(row, "loca_id")
+    if lid not in locations:
+        raise InputError(
+            table.where(row, "loca_id"),
+            f'location "{lid}" is not in the LOCA group',
+            "a LOCA_ID of the LOCA group",
+        )
+    return lid
+
 def _unit(text: str) -> str | None:
     """An AGS unit as pint reads it (``kN/m2`` → ``kN/m^2``); None when blank or ``-``."""
     text = str(text or "").strip()
@@ -225,13 +236,7 @@ def boreholes_table(tables: dict, source: str, legend: dict, description: dict) 
     # GEOL rows per location, merged into one interval per run of the same stratum
     runs: dict[str, list[list]] = {}
     for r in geol.rows:
-        lid = geol.text(r, "loca_id")
-        if lid not in locations:
-            raise InputError(
-                geol.where(r, "loca_id"),
-                f'location "{lid}" is not in the LOCA group',
-                "a LOCA_ID of the LOCA group",
-            )
+        lid = _location(locations, geol, r)
         name = _stratum(geol, r, legend, description)
         top = geol.quantity(r, "geol_top", "length")
         base = geol.quantity(r, "geol_base", "length")
@@ -326,13 +331,7 @@ def soundings_table(tables: dict, source: str) -> Table:
     )
     has_fs = "scpt_fres" in scpt.columns
     for r in scpt.rows:
-        lid = scpt.text(r, "loca_id")
-        if lid not in locations:
-            raise InputError(
-                scpt.where(r, "loca_id"),
-                f'location "{lid}" is not in the LOCA group',
-                "a LOCA_ID of the LOCA group",
-            )
+        lid = _location(locations, scpt, r)
         test = scpt.text(r, "scpg_tesn", default="")
         sid = f"{lid}/{test}" if per_location[lid] > 1 and test else lid
         x, y = _xy(*locations[lid])

@@ -58,8 +58,9 @@ def footings(results: Results, units: str = "si") -> pd.DataFrame:
         ``on_loading_mm`` + ``creep_mm``, ``consolidation_mm``, ``secondary_mm``,
         ``total_mm``, ``own_mm``, ``neighbours_mm``) [mm], ``tilt`` [rad],
         ``tilt_direction_deg`` [deg from east], ``integration_depth_m`` and
-        ``significant_depth_m`` [m], ``method``, ``outside_boreholes``, ``status``
-        (``pass``, ``fail``, ``unchecked``) and ``reasons``: the columns of
+        ``significant_depth_m`` [m], ``method``, ``outside_boreholes``, ``kind``
+        (pad, strip, raft), ``total_limit_mm`` [mm], ``status`` (``pass``, ``fail``,
+        ``beyond range``, ``unchecked``) and ``reasons``: the columns of
         footings.csv (docs/outputs.md).
     """
     return footing_table(results, units).set_index("id")
@@ -79,7 +80,9 @@ def pairs(results: Results, units: str = "si") -> pd.DataFrame:
     -------
     pandas.DataFrame
         ``span_m`` [m], ``differential_mm`` [mm] (of the movement checked, after
-        ``checked_after`` when set), ``angular_distortion`` [-], the governing
+        ``checked_after`` when set), ``angular_distortion`` [-] (differential/span),
+        ``angular_distortion_tilt_removed`` and ``angular_distortion_checked`` [-] with
+        its ``beta_basis`` (docs/criteria.md §2.2), the governing
         ``limit`` and its ``limit_source``, ``utilisation`` [-] (value ÷ limit),
         ``status`` and ``origin`` (``auto``, ``listed`` or ``line``): the columns of
         pairs.csv. Empty, with these columns, when the analysis made no checks.

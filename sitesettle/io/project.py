@@ -958,6 +958,36 @@ AREA_LOAD_KEYS = (
 _EXTENT = re.compile(r"^\s*plan\s*(?:\+\s*(?P<margin>.+?))?\s*$", re.I)
 
 
+def _named_tables(tables, where: str, table: str, keys, example: str):
+    """Walk an array of ``[[table]]`` tables: each a table of known ``keys`` with a unique
+    ``name``. Yields (place for messages, name, the table); None yields nothing."""
+    if tables is None:
+        return
+    if not isinstance(tables, list):
+        raise InputError(f"{where} {table}", f"{table} must be [[{table}]] tables", f"[[{table}]]")
+    names: set[str] = set()
+    for n, t in enumerate(tables, start=1):
+        place = f"{where} [[{table}]] {n}"
+        if not isinstance(t, dict):
+            raise InputError(place, "not a table", f"[[{table}]] followed by its keys")
+        for key in t:
+            if key not in keys:
+                raise InputError(
+                    f"{place}, key {key!r}",
+                    "unknown key" + suggest(str(key), keys),
+                    f"one of {', '.join(keys)}",
+                )
+        if not str(t.get("name", "")).strip():
+            raise InputError(place, 'the key "name" is missing', f'name = "{example}"')
+        what = table.replace("_", " ").rstrip("s") + " name"
+        name = identifier(str(t["name"]).strip(), f"{place}, key 'name'", what)
+        place = f'{where} [[{table}]] {n} ("{name}")'
+        if name in names:
+            raise InputError(place, f'the name "{name}" is used twice', "a unique name")
+        names.add(name)
+        yield place, name, t
+
+
 def parse_area_loads(tables, footings, where: str = SITE_FILE):
     """The ``[[area_loads]]`` tables as :class:`sitesettle.site.AreaLoad` values.
 
@@ -970,31 +1000,8 @@ def parse_area_loads(tables, footings, where: str = SITE_FILE):
     """
     from sitesettle.site import AreaLoad
 
-    if tables is None:
-        return ()
-    if not isinstance(tables, list):
-        raise InputError(
-            f"{where} area_loads", "area loads must be [[area_loads]] tables", "[[area_loads]]"
-        )
-    out, names = [], set()
-    for n, t in enumerate(tables, start=1):
-        place = f"{where} [[area_loads]] {n}"
-        if not isinstance(t, dict):
-            raise InputError(place, "not a table", "[[area_loads]] followed by its keys")
-        for key in t:
-            if key not in AREA_LOAD_KEYS:
-                raise InputError(
-                    f"{place}, key {key!r}",
-                    "unknown key" + suggest(str(key), AREA_LOAD_KEYS),
-                    f"one of {', '.join(AREA_LOAD_KEYS)}",
-                )
-        if not str(t.get("name", "")).strip():
-            raise InputError(place, 'the key "name" is missing', 'name = "site fill"')
-        name = identifier(str(t["name"]).strip(), f"{place}, key 'name'", "area load name")
-        place = f'{where} [[area_loads]] {n} ("{name}")'
-        if name in names:
-            raise InputError(place, f'the name "{name}" is used twice', "a unique name")
-        names.add(name)
+    out = []
+    for place, name, t in _named_tables(tables, where, "area_loads", AREA_LOAD_KEYS, "site fill"):
         given_p = "pressure" in t
         given_f = "fill_thickness" in t or "fill_unit_weight" in t
         dig = 0.0
@@ -1101,29 +1108,8 @@ def parse_stages(tables, area_names, where: str = SITE_FILE):
     """
     from sitesettle.site import LoadStage
 
-    if tables is None:
-        return ()
-    if not isinstance(tables, list) or not tables:
-        raise InputError(f"{where} stages", "stages must be [[stages]] tables", "[[stages]]")
-    out, names = [], set()
-    for n, t in enumerate(tables, start=1):
-        place = f"{where} [[stages]] {n}"
-        if not isinstance(t, dict):
-            raise InputError(place, "not a table", "[[stages]] followed by its keys")
-        for key in t:
-            if key not in STAGE_KEYS:
-                raise InputError(
-                    f"{place}, key {key!r}",
-                    "unknown key" + suggest(str(key), STAGE_KEYS),
-                    f"one of {', '.join(STAGE_KEYS)}",
-                )
-        if not str(t.get("name", "")).strip():
-            raise InputError(place, 'the key "name" is missing', 'name = "frame"')
-        name = identifier(str(t["name"]).strip(), f"{place}, key 'name'", "stage name")
-        place = f'{where} [[stages]] {n} ("{name}")'
-        if name in names:
-            raise InputError(place, f'the name "{name}" is used twice', "a unique name")
-        names.add(name)
+    out = []
+    for place, name, t in _named_tables(tables, where, "stages", STAGE_KEYS, "frame"):
         if "start" not in t:
             raise InputError(f"{place}, key 'start'", "the key is missing", 'start = "4 months"')
         start = units.parse(t["start"], "time", f"{place}, key 'start'")
@@ -1163,7 +1149,7 @@ def parse_stages(tables, area_names, where: str = SITE_FILE):
             )
     named = {n for stg in out for n in stg.area_loads}
     rest = tuple(n for n in area_names if n not in named)
-    if rest:
+    if rest and out:
         out[0] = replace(out[0], area_loads=out[0].area_loads + rest)
     return tuple(out)
 
