@@ -59,6 +59,26 @@ CAUTIONS = (
 )
 
 
+def _what_if_arguments(p: argparse.ArgumentParser) -> None:
+    p.add_argument(
+        "--set",
+        action="append",
+        default=[],
+        metavar="KEY=VALUE",
+        dest="changes",
+        help="a what-if change, without editing the files (repeatable): "
+        "footing.ID.KEY=VALUE (width, length, size keeping L/B, depth, dead_load, "
+        "live_load, x, y, …), strata.NAME.KEY=VALUE, or TABLE.KEY=VALUE for analysis, "
+        "checks, groundwater; e.g. --set footing.F4.size=3.0 --set "
+        "'strata.clay.compression_index=0.3'. The outputs list the changes",
+    )
+    p.add_argument(
+        "--criteria",
+        metavar="NAME",
+        help="check against another criteria set (as --set checks.criteria=NAME)",
+    )
+
+
 def _parser() -> argparse.ArgumentParser:
     import sitesettle
 
@@ -80,6 +100,7 @@ def _parser() -> argparse.ArgumentParser:
     c.add_argument("--out", help="results folder (default: PROJECT/results)")
     c.add_argument("--units", choices=["si", "us"], help="output units (default: the project's)")
     c.add_argument("--quiet", action="store_true", help="print only errors and the verdict")
+    _what_if_arguments(c)
     e = sub.add_parser("explain", help="print the layer-by-layer calculation of one footing")
     e.add_argument("project", help="project folder with a site.toml (or the site.toml itself)")
     e.add_argument("footing", help="footing id")
@@ -87,6 +108,7 @@ def _parser() -> argparse.ArgumentParser:
     e.add_argument(
         "--units", choices=["si", "us"], help="units of the sheet (default: the project's)"
     )
+    _what_if_arguments(e)
     n = sub.add_parser("new", help="create a small commented starter project")
     n.add_argument("folder", help="folder to create (must not exist or be empty)")
     return p
@@ -127,13 +149,19 @@ def _project_folder(project: str) -> str:
     return project
 
 
-def _load(project: str):
+def _load(project: str, args=None):
     import sitesettle
+    from sitesettle.io.overrides import parse_overrides
 
     project = _project_folder(project)
+    changes = (
+        parse_overrides(getattr(args, "changes", ()), getattr(args, "criteria", None))
+        if args is not None
+        else ()
+    )
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
-        site = sitesettle.load_site(project)
+        site = sitesettle.load_site(project, overrides=changes)
     from sitesettle.errors import InputWarning
 
     notes = [str(w.message) for w in caught if issubclass(w.category, InputWarning)]
@@ -149,7 +177,7 @@ def _check(args) -> int:
     from sitesettle.io.output import summary_dict, write_results
     from sitesettle.io.summary import format_caution, format_summary, group_warnings
 
-    site, notes = _load(args.project)
+    site, notes = _load(args.project, args)
     units = args.units or site.units
     out = Path(args.out) if args.out else Path(_project_folder(args.project)) / "results"
     from sitesettle.io.output import check_target
@@ -188,7 +216,7 @@ def _explain(args) -> int:
     from sitesettle.io.explain import format_sheet, trace_table
     from sitesettle.io.summary import format_caution, group_warnings
 
-    site, notes = _load(args.project)
+    site, notes = _load(args.project, args)
     units = args.units or site.units
     for line in group_warnings(notes, units):
         say(line, file=sys.stderr)

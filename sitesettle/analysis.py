@@ -1102,7 +1102,13 @@ def _basis(site: Site, ctx: Context) -> tuple[str, ...]:
         if st.depth_rule == DepthRule.COMPLETE
         else f"down to where Δσz < {st.influence_fraction:g}·σ'v0 (stress-ratio rule, as set)"
     )
+    what_if = (
+        ("what-if changes, not in the project files: " + "; ".join(site.overrides),)
+        if site.overrides
+        else ()
+    )
     return (
+        *what_if,
         f"settlements at the design life, {life:g} yr after loading, unless a time is named",
         "loads: the full service load (dead + live) for settlement on loading and in "
         "granular strata; dead + sustained live for consolidation and creep of clay",

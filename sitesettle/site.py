@@ -500,6 +500,8 @@ class Site:
         Output units of the project, ``"si"`` or ``"us"``.
     points : tuple of QueryPoint
         Query points (x, y, depth [m]).
+    overrides : tuple of str
+        What-if changes made on reading (``"footing.F4.width=3.0"``), listed in the outputs.
     """
 
     name: str
@@ -526,6 +528,9 @@ class Site:
     #: the load history; empty: the dead load and area loads at time 0, the live load
     #: just after [checks] checked_after (see sitesettle.analysis.load_stages)
     stages: tuple[LoadStage, ...] = ()
+    #: what-if changes made on reading (``--set`` texts, sitesettle.io.overrides); the
+    #: outputs list them
+    overrides: tuple[str, ...] = ()
 
     def stratum(self, name: str) -> Stratum:
         """The stratum called ``name``.

@@ -431,6 +431,7 @@ def summary_dict(results: Results, units: str = "si") -> dict:
         "warnings": [in_units(w, u) for w in results.warnings],
         "cautions": list(CAUTIONS),
         "files_outside_project": list(getattr(results.site, "outside_files", ())),
+        "overrides": list(getattr(results.site, "overrides", ())),
     }
     diff_name = column("max_differential", "settlement", u)
     if checks is None:

@@ -1198,13 +1198,18 @@ def _polygon(value, where: str) -> np.ndarray:
     return xy
 
 
-def load_site(folder) -> Site:
+def load_site(folder, overrides=()) -> Site:
     """Read and validate a project folder (or its site.toml) into a :class:`Site`.
 
     Parameters
     ----------
     folder : str or path-like
         The project folder holding ``site.toml``, or the path of the TOML file.
+    overrides : iterable of str or Override, optional
+        What-if changes, ``"footing.F4.width=3.0"``, ``"strata.clay.compression_index=0.3"``,
+        ``"checks.criteria=bjerrum_tall_buildings"`` (:mod:`sitesettle.io.overrides`):
+        the files are not changed, and the site records the changes
+        (:attr:`Site.overrides`).
 
     Returns
     -------
@@ -1227,4 +1232,16 @@ def load_site(folder) -> Site:
             f"a folder with a {SITE_FILE} (sitesettle new DIR writes a starter project)",
         )
     config = read_site_toml(path)
-    return build_site(config, path.parent, path.name)
+    if not overrides:
+        return build_site(config, path.parent, path.name)
+    from sitesettle.io import overrides as _ov
+
+    changes = tuple(
+        o if isinstance(o, _ov.Override) else _ov.parse_override(str(o)) for o in overrides
+    )
+    config = _ov.apply_to_config(config, changes)
+    try:
+        site = build_site(config, path.parent, path.name)
+    except InputError as exc:
+        raise _ov.blame(exc, changes) from None
+    return _ov.apply_to_site(site, changes)

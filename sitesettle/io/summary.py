@@ -156,7 +156,9 @@ def format_summary(results: Results, summary: dict, units: str = "si") -> str:
     ]
     for a in results.site.area_loads:
         out.append(f"area load {a.name}: {a.description}")
-    out.extend(b for b in results.basis if b.startswith("load history:"))
+    out.extend(
+        b for b in results.basis if b.startswith(("load history:", "what-if changes"))
+    )
     if chk is not None:
         out.append(f"criteria: {chk.criteria}; {_total_limits(chk, units)}")
         out.append(f"β checked with the building's rigid-body tilt {_TILT_BASIS[chk.rigid_tilt]}")
