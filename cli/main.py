@@ -109,6 +109,32 @@ def _parser() -> argparse.ArgumentParser:
         "--units", choices=["si", "us"], help="units of the sheet (default: the project's)"
     )
     _what_if_arguments(e)
+    z = sub.add_parser(
+        "size",
+        help="propose the smallest footing sizes that pass every check, and write the sized plan",
+        description="Resize the pads and strips (rafts and polygons stay) to the smallest "
+        "widths on a grid that pass every total, pair and line check, re-analysing the whole "
+        "plan after each change (docs/sizing.md). Writes the results of the sized plan with "
+        "footings_sized.csv (input format), sizing.csv (the changes) and sizing.json. Exit 0 "
+        "when the sized plan passes, 1 when sizing cannot pass every check (the reasons are "
+        "printed and the best plan found is written).",
+    )
+    z.add_argument("project", help="project folder with a site.toml (or the site.toml itself)")
+    z.add_argument("--out", help="results folder of the sized plan (default: PROJECT/sized)")
+    z.add_argument("--step", help='grid of the widths (default "0.1 m")')
+    z.add_argument("--min-size", dest="min_width", help='smallest width B (default "0.6 m")')
+    z.add_argument("--max-size", dest="max_width", help='largest width B (default "6 m")')
+    z.add_argument(
+        "--bearing-pressure",
+        help='allowable net bearing pressure, a cap on every footing (e.g. "200 kPa"; '
+        "default: none, sizes then meet the settlement checks only)",
+    )
+    z.add_argument(
+        "--thickness", help='concrete thickness for the volumes of sizing.csv (default "0.5 m")'
+    )
+    z.add_argument("--units", choices=["si", "us"], help="output units (default: the project's)")
+    z.add_argument("--quiet", action="store_true", help="print only errors and the verdict")
+    _what_if_arguments(z)
     n = sub.add_parser("new", help="create a small commented starter project")
     n.add_argument("folder", help="folder to create (must not exist or be empty)")
     return p
@@ -245,6 +271,58 @@ def _explain(args) -> int:
     return OK
 
 
+def _size(args) -> int:
+    import dataclasses
+
+    import sitesettle
+    from sitesettle.analysis import worst_pair_section
+    from sitesettle.io import sized
+    from sitesettle.io.output import check_target, write_results
+    from sitesettle.io.summary import format_caution, group_warnings
+    from sitesettle.sizing import size_footings
+
+    site, notes = _load(args.project, args)
+    limits = sized.limits_from_text(
+        args.step, args.min_width, args.max_width, args.bearing_pressure, args.thickness
+    )
+    units = args.units or site.units
+    out = Path(args.out) if args.out else Path(_project_folder(args.project)) / "sized"
+    check_target(out.absolute())
+    bar = _Progress(not args.quiet)
+    try:
+        outcome = size_footings(site, limits, progress=lambda s, f: bar(s, 0.8 * f))
+        plan = dataclasses.replace(
+            outcome.site, overrides=site.overrides + sized.changed_overrides(outcome)
+        )
+        bar("analysing the sized plan", 0.85)
+        results = sitesettle.analyse(plan)
+        bar("writing results", 0.99)
+        write_results(
+            results,
+            out,
+            units=units,
+            section=worst_pair_section(results),
+            on_wait=lambda msg: say(terminal_line(msg), file=sys.stderr),
+            extra_files={
+                "footings_sized.csv": sized.sized_footings_csv(outcome),
+                "sizing.csv": sized.changes_csv(outcome, limits),
+                "sizing.json": sized.sizing_json(outcome, limits),
+            },
+        )
+    finally:
+        bar.close()
+    if args.quiet:
+        say("PASS" if outcome.passed else "FAIL")
+    else:
+        for line in group_warnings([*notes, *results.warnings], units):
+            say(line, file=sys.stderr)
+        say(sized.format_sizing(outcome, limits, units))
+        say(f"sized plan and its results written to {terminal_line(str(out))}")
+        say()
+        say(format_caution(CAUTIONS))
+    return OK if outcome.passed else FAILS
+
+
 def _new(args) -> int:
     from importlib import resources
 
@@ -308,6 +386,8 @@ def main(argv: list[str] | None = None) -> int:
             return _check(args)
         if args.command == "explain":
             return _explain(args)
+        if args.command == "size":
+            return _size(args)
         return _new(args)
     except (InputError, OutputError) as exc:
         say(f"error: {terminal_line(str(exc))}", file=sys.stderr)
@@ -326,7 +406,11 @@ def main(argv: list[str] | None = None) -> int:
         say(
             "error: could not finish: "
             + terminal_line(_could_not_finish(exc))
-            + ("; nothing was written over earlier results" if args.command == "check" else "")
+            + (
+                "; nothing was written over earlier results"
+                if args.command in ("check", "size")
+                else ""
+            )
             + ("" if args.debug else " (--debug shows the traceback)"),
             file=sys.stderr,
         )

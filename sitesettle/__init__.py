@@ -33,6 +33,8 @@ __all__ = [
     "Footing",
     "Stratum",
     "stress",
+    "size_footings",
+    "SizingLimits",
 ]
 
 _LAZY = {
@@ -44,6 +46,8 @@ _LAZY = {
     "Site": ("sitesettle.site", "Site"),
     "Footing": ("sitesettle.site", "Footing"),
     "Stratum": ("sitesettle.site", "Stratum"),
+    "size_footings": ("sitesettle.sizing", "size_footings"),
+    "SizingLimits": ("sitesettle.sizing", "SizingLimits"),
 }
 
 

@@ -861,6 +861,7 @@ def write_results(
     progress: Callable[[str], None] | None = None,
     section=None,
     on_wait: Callable[[str], None] | None = None,
+    extra_files: dict[str, bytes] | None = None,
 ) -> Path:
     """Write every output file into ``out_dir``, atomically.
 
@@ -882,6 +883,10 @@ def write_results(
     on_wait : callable, optional
         Called once with a message when another run holds the folder's lock and
         this one waits for it.
+    extra_files : dict, optional
+        More files for the folder, name → content (``sitesettle size`` adds the
+        sized footings and the table of changes), written with the rest and
+        replaced with it.
 
     Returns
     -------
@@ -920,6 +925,10 @@ def write_results(
             os.umask(umask)
             os.chmod(tmp, 0o777 & ~umask)
             _write_all(results, tmp, u, progress or (lambda name: None), section)
+            for name, content in (extra_files or {}).items():
+                if Path(name).name != name or name.startswith("."):
+                    raise ValueError(f"extra file name {name!r} is not a plain file name")
+                (tmp / name).write_bytes(content)
             _swap(tmp, out)
         except BaseException:
             shutil.rmtree(tmp, ignore_errors=True)
