@@ -581,9 +581,14 @@ def _outcome(
                 at_max = current.footings[culprit].width >= upper[culprit] - 1e-9
                 why = _why(results, original, culprit, at_max, blocked.get(culprit), limits)
         unresolved.append(Unresolved(text, tuple(ids[m] for m in fs), why))
+    failing = {fid for u in unresolved for fid in u.footings if len(u.footings) <= 2}
     changes = []
     for i, (f0, f1) in enumerate(zip(site.footings, current.footings)):
         notes = []
+        if f0.id in failing and i in sizable:
+            notes.append(
+                "still fails at this size, which is no recommendation (sizing.json says why)"
+            )
         if i not in sizable:
             notes.append("not resized (" + ("polygon" if f0.shape == "polygon" else kinds[i]) + ")")
         if i in bearing_note:
