@@ -248,3 +248,22 @@ def test_limits_are_checked():
     with pytest.raises(InputError):
         SizingLimits(bearing_pressure=-5.0)
     assert dataclasses.replace(SizingLimits(), step=0.05).step == 0.05
+
+
+def test_a_failing_pair_grows_the_footing_that_settles_more():
+    # two pads 5 m apart whose totals pass a 50 mm limit but whose differential
+    # breaks β ≤ 1/500 (EN 1997-1:2004 Annex H, the set's own limit): growing the
+    # heavier pad is what reduces the differential; the lighter one never grows
+    heavy, light = pad("H", 0, 0, 1.6, 1500.0), pad("L", 5.0, 0, 1.6, 300.0)
+    site = site_of([heavy, light], [sand(), ROCK], [H, 5.0], total=0.050)
+    before = sitesettle.analyse(site, with_map=False)
+    (n,) = range(len(before.checks.pairs.a))
+    assert not before.checks.pairs.passed[n]
+    out = size_footings(site, SizingLimits(step=0.1))
+    assert out.passed
+    w = {f.id: f.width for f in out.site.footings}
+    assert w["H"] > 1.6 and w["L"] <= 1.6
+    # the sized plan re-analysed from scratch: β = |Δs| / span within 1/500
+    again = sitesettle.analyse(out.site, with_map=False)
+    s = again.total[:, -1]
+    assert abs(s[0] - s[1]) / 5.0 <= 1 / 500 + 1e-12
