@@ -597,6 +597,23 @@ class Site:
         (9.0, 4.0)
         """
         where = f"with_footing({fid!r})"
+        index, footing = self._changed_footing(fid, changes)
+        footings = self.footings[:index] + (footing,) + self.footings[index + 1 :]
+        if {"x", "y", "width", "length", "rotation"} & set(changes):
+            for i, j, common in find_overlaps([f.outline for f in footings]):
+                if index in (i, j):
+                    other = footings[j if i == index else i].id
+                    raise InputError(
+                        where,
+                        f"the changed footing overlaps footing {other!r} by {common:.3g} m²",
+                        "footings that do not overlap (merge a combined footing into one)",
+                    )
+        return dataclasses.replace(self, footings=footings)
+
+    def _changed_footing(self, fid: str, changes: dict) -> tuple[int, Footing]:
+        """The index of footing ``fid`` and the footing with ``changes`` made (checked,
+        outline rebuilt; no overlap check: :meth:`with_footing` makes it)."""
+        where = f"with_footing({fid!r})"
         try:
             index = [f.id for f in self.footings].index(fid)
         except ValueError:
@@ -658,19 +675,7 @@ class Site:
                 float(changes.get("rotation", old.rotation)),
             )
             new.update(width=b, length=l, rotation=rot, outline=rectangle_outline(x, y, b, l, rot))
-        footing = dataclasses.replace(old, **new)
-        footings = self.footings[:index] + (footing,) + self.footings[index + 1 :]
-        if {"x", "y", "width", "length", "rotation"} & set(changes):
-            for i, j, common in find_overlaps([f.outline for f in footings]):
-                if index in (i, j):
-                    other = footings[j if i == index else i].id
-                    raise InputError(
-                        where,
-                        f"the changed footing overlaps footing {other!r} by {common:.3g} m²",
-                        "footings that do not overlap (merge a combined footing into one)",
-                    )
-        return dataclasses.replace(self, footings=footings)
-
+        return index, dataclasses.replace(old, **new)
     def with_stratum(self, name: str, **changes) -> Site:
         """A copy of the site with stratum ``name`` changed: for a what-if re-analysis.
 

@@ -52,6 +52,7 @@ largest size or blocked by a neighbour it would overlap, rafts and polygons
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from collections.abc import Callable
 from dataclasses import dataclass, field
@@ -143,6 +144,8 @@ class Unresolved:
     check: str
     footings: tuple[str, ...]
     reason: str
+    #: the footing sizing would have to change (the one that moves most), if any
+    cause: str | None = None
 
 
 @dataclass(frozen=True)
@@ -316,27 +319,44 @@ def demands(results, sizable: set[int]) -> tuple[dict[int, float], list[tuple[st
 def _resize(
     site: Site, widths: dict[int, float], kinds, step, originals
 ) -> tuple[Site, dict[int, str]]:
-    """The site with the widths applied, shrinking footings first.
+    """The site with the widths applied; a footing that would overlap keeps its size.
 
-    ``originals`` are the footings as given (their L/B is kept). A footing that
-    would overlap another keeps its size in ``site``; the returned dict names, per
-    footing held back, the footing it would overlap. ``site`` itself is returned
-    when nothing changes.
+    ``originals`` are the footings as given (their L/B is kept). All changes are
+    made at once and the plan is checked for overlaps once per pass (one spatial
+    index, not one per footing); of an overlapping pair, the changed footing that
+    grew more keeps its size in ``site``, and the check is repeated. The returned
+    dict names, per footing held back, the footing it would overlap; ``site``
+    itself is returned when nothing changes.
     """
-    blocked: dict[int, str] = {}
-    out = site
-    for i in sorted(widths, key=lambda j: widths[j] - site.footings[j].width):
-        f = out.footings[i]
-        sides = _sides(originals[i], kinds[i], widths[i], step)
+    from sitesettle.site import find_overlaps
+
+    new: dict[int, object] = {}
+    for i, b in widths.items():
+        f = site.footings[i]
+        sides = _sides(originals[i], kinds[i], b, step)
         if all(math.isclose(v, getattr(f, key), abs_tol=1e-9) for key, v in sides.items()):
             continue
-        try:
-            out = out.with_footing(f.id, kind=kinds[i], **sides)
-        except InputError as exc:
-            if "overlaps footing" not in exc.problem:
-                raise
-            blocked[i] = exc.problem.split("'")[1] if "'" in exc.problem else "a neighbour"
-    return out, blocked
+        new[i] = site._changed_footing(f.id, {"kind": kinds[i], **sides})[1]
+    blocked: dict[int, str] = {}
+    while new:
+        footings = list(site.footings)
+        for i, f in new.items():
+            footings[i] = f
+        clash = [
+            (i, j)
+            for i, j, _ in find_overlaps([f.outline for f in footings])
+            if i in new or j in new
+        ]
+        if not clash:
+            return dataclasses.replace(site, footings=tuple(footings)), blocked
+        for i, j in clash:
+            grew = [m for m in (i, j) if m in new]
+            if not grew:
+                continue
+            m = max(grew, key=lambda m: new[m].area - site.footings[m].area)
+            new.pop(m)
+            blocked[m] = footings[j if m == i else i].id
+    return site, blocked
 
 
 def _why(results, original, i: int, at_max: bool, blocked: str | None, limits) -> str:
@@ -559,6 +579,7 @@ def _outcome(
     unresolved = []
     for text, members, _excess, kind in failing_checks(results):
         fs = tuple(m for m in members if m < len(ids))
+        cause = None
         if kind in ("tilt", "building"):
             why = (
                 "a tilt comes from the settlement of the ground around the footings, which "
@@ -578,10 +599,11 @@ def _outcome(
                     f"Alternatives: {ALTERNATIVES}"
                 )
             else:
+                cause = ids[culprit]
                 at_max = current.footings[culprit].width >= upper[culprit] - 1e-9
                 why = _why(results, original, culprit, at_max, blocked.get(culprit), limits)
-        unresolved.append(Unresolved(text, tuple(ids[m] for m in fs), why))
-    failing = {fid for u in unresolved for fid in u.footings if len(u.footings) <= 2}
+        unresolved.append(Unresolved(text, tuple(ids[m] for m in fs), why, cause))
+    failing = {u.cause for u in unresolved}
     changes = []
     for i, (f0, f1) in enumerate(zip(site.footings, current.footings)):
         notes = []

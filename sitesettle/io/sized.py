@@ -192,7 +192,7 @@ def sizing_json(outcome: SizingOutcome, limits: SizingLimits) -> bytes:
         "resized": [c["id"] for c in outcome.changes if c["changed"]],
         "failing_by_analysis": [h[0] for h in outcome.history],
         "unresolved": [
-            {"check": u.check, "footings": list(u.footings), "reason": u.reason}
+            {"check": u.check, "footings": list(u.footings), "cause": u.cause, "reason": u.reason}
             for u in outcome.unresolved
         ],
     }
