@@ -3,9 +3,12 @@
 The treecode of :func:`sitesettle.stress.stress_sums` spends its time in three
 small computations repeated tens of millions of times on a large plan: the
 rigorous truncation bound of a (box of points, cluster of loads) pair, the
-multipole (monopole + dipole + quadrupole) value of a cluster at a point, and
-the exact corner-superposition value of a rectangle at a point. This module
-holds them as scalar functions compiled with numba, and the dual traversal of
+multipole value (monopole, dipole, quadrupole and, for clusters of rectangles
+and circles, octupole) of a cluster at a run of points, and the exact
+corner-superposition value of a rectangle at a point. This module holds them
+as functions compiled with numba (the multipole as a loop over contiguous
+slices of points that the compiler turns into SIMD instructions, with results
+identical to the scalar loop: no fast-math, no reassociation), and the dual traversal of
 the load tree and the point groups that calls them, so that no pair list is
 ever stored and the two threads of the driver run truly in parallel (the
 compiled functions release the GIL).
@@ -49,16 +52,17 @@ NT_H3 = 22  # coefficient of M3 in the harmonic bound of T
 NT_EXTENT = 23  # plan diagonal of the bounding box
 NT_F = 24  # Σ |q| A
 NT_M = 25  # 25–29 radial moments M0…M4
-NT_ALT = 30  # 1 where the second bound exists
-NT_COLS = 31
+NT_HAS_OCT = 30  # 1 where the expansion includes the octupole (third order)
+NT_OCT = 31  # 31–40 octupole xxx, xxy, xyy, yyy, xxw, xyw, yyw, xww, yww, www
+NT_COLS = 41
 
 #: power of W in each of the six bound terms, and its kernel (0 σz, 1 T)
 TERM_A = np.array([3, 2, 1, 0, 1, 0], dtype=np.int64)
 TERM_KERNEL = np.array([0, 0, 0, 0, 1, 1], dtype=np.int64)
 
-#: the second bounds are computed only for pairs whose first bound e₁ lies in
-#: (λ·LAZY_LO, λ·LAZY_HI] (see treecode.Tree.pair_bounds): on the benchmark plan
-#: they make 1.6 % of the pairs acceptable, 99.9 % of these with e₁ ≤ 4.6 λ
+#: the harmonic bound of T is computed only for pairs whose first bound e₁ lies
+#: in (λ·LAZY_LO, λ·LAZY_HI] (see treecode.Tree.pair_bounds), where it may change
+#: the acceptance or a block's sum
 LAZY_LO = 0.25
 LAZY_HI = 5.0
 
@@ -136,10 +140,10 @@ def harmonic_bound(nt, node, lo0, lo1, lo2, hi0, hi1, hi2):
 
 
 @_compiled
-def pair_bound(nt, amp1, b1, amp4, b4, amp3, b3, node, lo0, lo1, lo2, hi0, hi1, hi2, lam):
+def pair_bound(nt, amp1, b1, node, lo0, lo1, lo2, hi0, hi1, hi2, lam):
     """Bound e of the far-field error of ``node`` at every point of the box
     [lo, hi], and whether the node contributes nothing there (all points above
-    its planes). ``lam`` < 0 computes the second bounds always; otherwise only
+    its planes). ``lam`` < 0 computes T's harmonic bound always; otherwise only
     where the first bound lies in (λ·LAZY_LO, λ·LAZY_HI]. e = inf where some
     point is not below the node's deepest plane."""
     dmin = nt[node, NT_DMIN]
@@ -157,29 +161,24 @@ def pair_bound(nt, amp1, b1, amp4, b4, amp3, b3, node, lo0, lo1, lo2, hi0, hi1, 
     es, et = _sup_terms(amp1[node], b1[node], hh, vmin, vmax, dd)
     e1 = max(es, et)
     if lam < 0.0 or (e1 > LAZY_LO * lam and e1 <= LAZY_HI * lam):
-        eh, tail = harmonic_bound(nt, node, lo0, lo1, lo2, hi0, hi1, hi2)
+        eh, _ = harmonic_bound(nt, node, lo0, lo1, lo2, hi0, hi1, hi2)
         et = min(et, eh)
-        if nt[node, NT_ALT] > 0.0:
-            c0 = nt[node, NT_C]
-            c1 = nt[node, NT_C + 1]
-            c2 = nt[node, NT_C + 2]
-            cx = max(max(lo0 - c0, c0 - hi0), 0.0)
-            cy = max(max(lo1 - c1, c1 - hi1), 0.0)
-            hc = cx * cx + cy * cy
-            s4, t4 = _sup_terms(amp4[node], b4, hh, vmin, vmax, dd)
-            s3, t3 = _sup_terms(amp3[node], b3, hc, lo2 - c2, hi2 - c2, 0.0)
-            es = min(es, s4 + s3)
-            et = min(et, min(t4, tail) + t3)
     return max(es, et), False
 
 
 @_compiled
-def multipole(nt, node, px, py, pz):
-    """Multipole (σz, T) of ``node`` at one point: the Taylor expansion of the
-    kernels about the centre C to second order, grouped by powers of 1/r."""
-    X = px - nt[node, 0]
-    Y = py - nt[node, 1]
-    W = pz - nt[node, 2]
+def multipole_add(nt, node, px, py, pz, out_s, out_t, p0, p1):
+    """Add the multipole (σz, T) of ``node`` to the points p0…p1−1 of the result
+    arrays: the Taylor expansion of the kernels about the node's centre C to
+    second order (monopole Q0, dipole d, quadrupole Q: q0·k − d·∇k + ½ Q:∇∇k),
+    grouped by powers of 1/r, and to third order (− (1/6) O:∇³k) where the node
+    holds an octupole (:func:`_octupole_add`). The node's moments are read once
+    and the loop runs over contiguous slices, which the compiler vectorises;
+    each point's value is formed by the same operations in the same order as a
+    scalar loop, so the result does not depend on how points are grouped."""
+    c0 = nt[node, 0]
+    c1 = nt[node, 1]
+    c2 = nt[node, 2]
     q0 = nt[node, 3]
     dx = nt[node, 4]
     dy = nt[node, 5]
@@ -190,28 +189,118 @@ def multipole(nt, node, px, py, pz):
     qxw = nt[node, 10]
     qyw = nt[node, 11]
     qww = nt[node, 12]
-    d1 = dx * X + dy * Y
-    q1 = qxw * X + qyw * Y
-    q2 = (0.5 * qxx) * (X * X) + (0.5 * qyy) * (Y * Y) + qxy * (X * Y)
+    hxx = 0.5 * qxx
+    hyy = 0.5 * qyy
     ss = qxx + qyy
-    W2 = W * W
-    ir2 = 1.0 / (X * X + Y * Y + W2)
-    ir3 = ir2 * math.sqrt(ir2)
-    ir5 = ir3 * ir2
-    ir7 = ir5 * ir2
-    ir9 = ir7 * ir2
-    W3 = W2 * W
-    # σz: q0 W³r⁻⁵ − d·∇k + ½ Q:∇∇k of k = W³ r⁻⁵, by powers of r⁻²
-    s5 = W * (q0 * W2 - 3.0 * dw * W + 3.0 * qww)
-    s7 = W2 * (5.0 * W * (d1 + dw * W) - (2.5 * ss + 17.5 * qww) * W - 15.0 * q1)
-    s9 = W3 * (35.0 * q2 + 17.5 * qww * W2 + 35.0 * W * q1)
-    sz = ir5 * s5 + ir7 * s7 + ir9 * s9
-    # T: the same for t = W r⁻³
-    t3 = q0 * W - dw
-    t5 = 3.0 * W * (d1 + dw * W) - (1.5 * ss + 4.5 * qww) * W - 3.0 * q1
-    t7 = W * (15.0 * q2 + 7.5 * qww * W2 + 15.0 * W * q1)
-    tt = ir3 * t3 + ir5 * t5 + ir7 * t7
-    return K_SIGMA * sz, K_THETA * tt
+    xs = px[p0:p1]
+    ys = py[p0:p1]
+    zs = pz[p0:p1]
+    os_ = out_s[p0:p1]
+    ot = out_t[p0:p1]
+    if nt[node, NT_HAS_OCT] > 0.0:
+        _octupole_add(nt, node, xs, ys, zs, os_, ot)
+        return
+    for k in range(len(xs)):
+        X = xs[k] - c0
+        Y = ys[k] - c1
+        W = zs[k] - c2
+        d1 = dx * X + dy * Y
+        q1 = qxw * X + qyw * Y
+        q2 = hxx * (X * X) + hyy * (Y * Y) + qxy * (X * Y)
+        W2 = W * W
+        ir2 = 1.0 / (X * X + Y * Y + W2)
+        ir3 = ir2 * math.sqrt(ir2)
+        ir5 = ir3 * ir2
+        ir7 = ir5 * ir2
+        ir9 = ir7 * ir2
+        W3 = W2 * W
+        s5 = W * (q0 * W2 - 3.0 * dw * W + 3.0 * qww)
+        s7 = W2 * (5.0 * W * (d1 + dw * W) - (2.5 * ss + 17.5 * qww) * W - 15.0 * q1)
+        s9 = W3 * (35.0 * q2 + 17.5 * qww * W2 + 35.0 * W * q1)
+        t3 = q0 * W - dw
+        t5 = 3.0 * W * (d1 + dw * W) - (1.5 * ss + 4.5 * qww) * W - 3.0 * q1
+        t7 = W * (15.0 * q2 + 7.5 * qww * W2 + 15.0 * W * q1)
+        os_[k] += K_SIGMA * (ir5 * s5 + ir7 * s7 + ir9 * s9)
+        ot[k] += K_THETA * (ir3 * t3 + ir5 * t5 + ir7 * t7)
+
+
+@_compiled
+def _octupole_add(nt, node, xs, ys, zs, os_, ot):
+    """:func:`multipole_add` for a node with an octupole: orders 0–2 as there,
+    plus the third-order term −(1/6) O:∇³k with the ten distinct components of
+    O = Σ q∫(s − C)⊗3 dA, grouped by powers of 1/r (derived with a computer
+    algebra system and checked in tests/test_farfield.py against finite
+    differences of the kernels)."""
+    c0 = nt[node, 0]
+    c1 = nt[node, 1]
+    c2 = nt[node, 2]
+    oxxx = nt[node, NT_OCT]
+    oxxy = nt[node, NT_OCT + 1]
+    oxyy = nt[node, NT_OCT + 2]
+    oyyy = nt[node, NT_OCT + 3]
+    oxxw = nt[node, NT_OCT + 4]
+    oxyw = nt[node, NT_OCT + 5]
+    oyyw = nt[node, NT_OCT + 6]
+    oxww = nt[node, NT_OCT + 7]
+    oyww = nt[node, NT_OCT + 8]
+    owww = nt[node, NT_OCT + 9]
+    lx = oxxx + oxyy
+    ly = oxxy + oyyy
+    trw = oxxw + oyyw
+    q0 = nt[node, 3]
+    dx = nt[node, 4]
+    dy = nt[node, 5]
+    dw = nt[node, 6]
+    qxx = nt[node, 7]
+    qxy = nt[node, 8]
+    qyy = nt[node, 9]
+    qxw = nt[node, 10]
+    qyw = nt[node, 11]
+    qww = nt[node, 12]
+    hxx = 0.5 * qxx
+    hyy = 0.5 * qyy
+    ss = qxx + qyy
+    for k in range(len(xs)):
+        X = xs[k] - c0
+        Y = ys[k] - c1
+        W = zs[k] - c2
+        W2 = W * W
+        W3 = W2 * W
+        ir2 = 1.0 / (X * X + Y * Y + W2)
+        ir3 = ir2 * math.sqrt(ir2)
+        ir5 = ir3 * ir2
+        ir7 = ir5 * ir2
+        ir9 = ir7 * ir2
+        ir11 = ir9 * ir2
+        c3 = X * X * (oxxx * X + 3.0 * oxxy * Y) + Y * Y * (3.0 * oxyy * X + oyyy * Y)
+        cq = X * (oxxw * X + 2.0 * oxyw * Y) + oyyw * (Y * Y)
+        cl = oxww * X + oyww * Y
+        lin = lx * X + ly * Y
+        full = W3 * owww + 3.0 * W2 * cl + 3.0 * W * cq + c3
+        p9 = 70.0 * W2 * owww + 122.5 * W * cl + 17.5 * W * lin + 52.5 * cq + 17.5 * W2 * trw
+        sz = (
+            ir11 * (52.5 * W3 * full)
+            - ir9 * (W2 * p9)
+            + ir7 * (W * (22.5 * W * owww + 7.5 * W * trw + 15.0 * cl))
+            - ir5 * owww
+        )
+        tt = (
+            ir9 * (17.5 * W * full)
+            - ir7 * (15.0 * W2 * owww + 22.5 * W * cl + 7.5 * W * lin + 7.5 * cq + 7.5 * W2 * trw)
+            + ir5 * (1.5 * (owww + trw))
+        )
+        # orders 0–2, as in multipole_add
+        d1 = dx * X + dy * Y
+        q1 = qxw * X + qyw * Y
+        q2 = hxx * (X * X) + hyy * (Y * Y) + qxy * (X * Y)
+        s5 = W * (q0 * W2 - 3.0 * dw * W + 3.0 * qww)
+        s7 = W2 * (5.0 * W * (d1 + dw * W) - (2.5 * ss + 17.5 * qww) * W - 15.0 * q1)
+        s9 = W3 * (35.0 * q2 + 17.5 * qww * W2 + 35.0 * W * q1)
+        t3 = q0 * W - dw
+        t5 = 3.0 * W * (d1 + dw * W) - (1.5 * ss + 4.5 * qww) * W - 3.0 * q1
+        t7 = W * (15.0 * q2 + 7.5 * qww * W2 + 15.0 * W * q1)
+        os_[k] += K_SIGMA * ((ir5 * s5 + ir7 * s7 + ir9 * s9) + sz)
+        ot[k] += K_THETA * ((ir3 * t3 + ir5 * t5 + ir7 * t7) + tt)
 
 
 @_compiled
@@ -252,14 +341,14 @@ def rectangle(hl, hw, u, v, w):
 
 
 @_compiled
-def bounds_many(nt, amp1, b1, amp4, b4, amp3, b3, nodes, lo, hi, lam):
+def bounds_many(nt, amp1, b1, nodes, lo, hi, lam):
     """pair_bound of (box k, nodes[k]) for K pairs; ``lam`` (K,) or negative."""
     n = len(nodes)
     e = np.empty(n)
     zero = np.empty(n, dtype=np.bool_)
     for k in range(n):
         e[k], zero[k] = pair_bound(
-            nt, amp1, b1, amp4, b4, amp3, b3, nodes[k],
+            nt, amp1, b1, nodes[k],
             lo[k, 0], lo[k, 1], lo[k, 2], hi[k, 0], hi[k, 1], hi[k, 2], lam[k],
         )  # fmt: skip
     return e, zero
@@ -280,12 +369,13 @@ def harmonic_many(nt, nodes, lo, hi):
 
 @_compiled
 def multipole_many(nt, nodes, px, py, pz):
-    """multipole of nodes[k] at point k, for 1-D arrays of one length."""
+    """Multipole (σz, T) of nodes[k] at point k, for 1-D arrays of one length
+    (:func:`multipole_add` one point at a time, for tests and small sums)."""
     n = len(nodes)
-    sz = np.empty(n)
-    tt = np.empty(n)
+    sz = np.zeros(n)
+    tt = np.zeros(n)
     for k in range(n):
-        sz[k], tt[k] = multipole(nt, nodes[k], px[k], py[k], pz[k])
+        multipole_add(nt, nodes[k], px, py, pz, sz, tt, k, k + 1)
     return sz, tt
 
 
@@ -311,10 +401,6 @@ def traverse(
     nt,
     amp1,
     b1,
-    amp4,
-    b4,
-    amp3,
-    b3,
     left,
     right,
     load,
@@ -366,7 +452,7 @@ def traverse(
             node = s_n[top]
             lam = lam0 if mode == 0 else tau0 * nt[node, NT_F]
             e, zero = pair_bound(
-                nt, amp1, b1, amp4, b4, amp3, b3, node,
+                nt, amp1, b1, node,
                 g_lo[g, 0], g_lo[g, 1], g_lo[g, 2], g_hi[g, 0], g_hi[g, 1], g_hi[g, 2], lam,
             )  # fmt: skip
             if zero:
@@ -375,10 +461,7 @@ def traverse(
             if e <= lam:
                 pairs += 1
                 p0 = g_start[g]
-                for k in range(p0, p0 + g_count[g]):
-                    a, b = multipole(nt, node, px[k], py[k], pz[k])
-                    out_s[k] += a
-                    out_t[k] += b
+                multipole_add(nt, node, px, py, pz, out_s, out_t, p0, p0 + g_count[g])
                 b0 = g_index[g] << lev
                 for blk in range(b0, min(b0 + (1 << lev), nb)):
                     esum[blk] += e

@@ -1132,7 +1132,8 @@ def stress_sums(loads: Loads, points, *, tolerance: float = 1e-3) -> tuple[np.nd
     blocks; loads into a binary tree of clusters. For a cluster with
     |q|-weighted centroid C the far field uses the Taylor expansion of the
     kernel about C to second order (monopole, dipole, quadrupole, in 3-D:
-    loads of a cluster may lie at different depths). The kernels are
+    loads of a cluster may lie at different depths), and to third order
+    (octupole) for clusters of rectangles and circles. The kernels are
     k = (3/2π) w³ r⁻⁵ for σz and t = (1/π) w r⁻³ for T (u = p − s, w its vertical
     component, r = |u|). Along a segment s = C + τh the n-th derivative of
     w^p·r^−m is, by Leibniz's rule,
@@ -1159,31 +1160,29 @@ def stress_sums(loads: Loads, points, *, tolerance: float = 1e-3) -> tuple[np.nd
     every such segment lies in the cluster's bounding box (C is inside the
     cluster's convex hull), which bounds r from below by the plan gap and the
     vertical gap between that box and the points' box.
-    Order n = 3 for clusters and polygons; n = 4 for a single rectangle or
-    circle, whose third moments vanish by central symmetry. The formula of a
-    load is exact only below its plane, so a cluster whose deepest plane is not
-    above the whole block is never approximated.
+    Order n = 3 where the cluster holds a polygon; n = 4 for a single rectangle
+    or circle, whose third moments vanish by central symmetry, and for a
+    cluster of them, whose expansion carries the third-order term (below). The
+    formula of a load is exact only below its plane, so a cluster whose deepest
+    plane is not above the whole block is never approximated.
 
-    **Second bound for clusters of rectangles and circles.** Carrying the
-    Taylor expansion one order further splits the same error into the exact
-    third-order term (1/6)·O : ∇³k(p − C), with the third-moment tensor
-    O = Σ q∫(s − C)⊗(s − C)⊗(s − C) dA, and the order-4 remainder (the bound
-    above with n = 4 and M_4). For these loads the odd moments about their own
-    centroids vanish, so ∫(h + t)⊗3 dA = A h⊗h⊗h + h_a I_bc + h_b I_ac + h_c I_ab
-    (h = c_i − C, I the plan second-moment tensor). By the triangle
-    inequality over the 27 elementary tensors, |O : A| ≤ N3·‖A‖ with
-    N3 = Σ_abc |O_abc| and ‖A‖ the largest |A(v, v, v)| over unit v, which for
-    a symmetric trilinear form is its norm (Banach 1938); |∂³k/∂v³| is bounded
-    by the Leibniz–Gegenbauer formula above with |h| = 1, |h_w| ≤ 1, at the
-    distance from the point to C itself. The smaller of the two bounds is used,
-    for σz and for T separately.
+    **Octupole for clusters of rectangles and circles.** For these loads the
+    odd moments about their own centroids vanish, so the third-moment tensor
+    O = Σ q∫(s − C)⊗(s − C)⊗(s − C) dA is exact from the centroids and the plan
+    second-moment tensors: ∫(h + t)⊗3 dA = A h⊗h⊗h + h_a I_bc + h_b I_ac +
+    h_c I_ab (h = c_i − C). The far field of such a cluster adds the exact
+    third-order term −(1/6)·O : ∇³k(p − C), and its truncation error is the
+    order-4 remainder: the bound above with n = 4 and M_4. On the benchmark plan
+    (2,000 rectangles, 600,000 points) this needs 247 instead of 332 cluster
+    evaluations per point, and the whole sum about a quarter less time, though
+    each evaluation costs more.
 
     **Harmonic bound for T.** With u = p − s, t = (1/π) w r⁻³ = −(1/π) ∂/∂z of
     1/|p − s| (z the point's depth). Let R = |p − C| and, for a source s,
     h = s − C, ρ = |h| < R. The Legendre series 1/|p − s| = Σ_n ρⁿ Y_n(p),
     Y_n = R^(−n−1) P_n(cos γ), γ the angle between h and p − C, converges with
     its derivatives, and its n-th term is the part of degree n in h of the
-    Taylor series about C; so the far field (orders 0–2) leaves the error
+    Taylor series about C; so a far field of orders 0–2 leaves the error
     −(1/π) Σ_{n≥3} ρⁿ ∂Y_n/∂z per unit source. In spherical coordinates about
     the axis h, |∇Y_n|² = R^(−2n−4)[(n+1)² P_n² + (1 − x²) P_n′²], x = cos γ.
     By Legendre's equation f = P_n² + (1 − x²) P_n′²/(n(n+1)) has
@@ -1199,12 +1198,12 @@ def stress_sums(loads: Loads, points, *, tolerance: float = 1e-3) -> tuple[np.nd
               + \frac{M_4\,S(a/r_c)}{r_c^6}\right]
 
     (points below all the cluster's planes, where t is the kernel). For a single
-    rectangle or circle the n = 3 term integrates to zero (odd in h), and for a
-    cluster of them it may be replaced by the bound of the exact third-order
-    term above. T's bound is the smallest of these. The first bound alone is
-    computed for pairs whose first bound e₁ is far from the threshold λ (e₁ ≤ λ/4
-    or e₁ > 5λ): the others can only lower e where it hardly matters, and any
-    of them is a valid bound of the same error.
+    rectangle or circle the n = 3 term integrates to zero (odd in h), and a
+    cluster of them carries it in its expansion: both lose the M_3 term. T's
+    bound is the smaller of the two. The first bound alone is computed for
+    pairs whose first bound e₁ is far from the threshold λ (e₁ ≤ λ/4 or
+    e₁ > 5λ): the harmonic bound can only lower e where it hardly matters, and
+    either is a valid bound of the same error.
 
     **Blocks and acceptance.** Points are grouped into blocks of one 0.5 m plan
     cell and one depth band [2^k, 2^(k+1)) m, so that a vertical column of
@@ -1229,7 +1228,8 @@ def stress_sums(loads: Loads, points, *, tolerance: float = 1e-3) -> tuple[np.nd
 
     **Evaluation.** The dual traversal runs compiled (:mod:`sitesettle.farfield`),
     depth first from each root group, and adds an accepted cluster's multipole
-    or an exact rectangle to the points as soon as the pair is decided, so no
+    (one vectorised loop over the group's contiguous points) or an exact
+    rectangle to the points as soon as the pair is decided, so no
     list of pairs is ever held; exact circles and polygons are returned as
     (block, load) pairs and summed by the vectorised kernels. The root groups
     are shared between two threads in chunks of consecutive groups, whose

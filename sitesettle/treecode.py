@@ -134,22 +134,29 @@ def _cluster_moments(aq, mu, h, inert, reach, sym, node):
     return np.column_stack([m0, m1, m2, m3, m4])
 
 
-def _third_moment_norm(q, area, h, inert, node):
-    """Σ_abc |O_abc| of the third-moment tensor O = Σ q ∫ (s − C)⊗3 dA, per cluster.
+#: the ten distinct components of a symmetric 3-tensor, as (a, b, c) index
+#: triples (0 x, 1 y, 2 w), in the order of farfield.NT_OCT
+_OCT_INDEX = ((0, 0, 0), (0, 0, 1), (0, 1, 1), (1, 1, 1), (0, 0, 2), (0, 1, 2), (1, 1, 2),
+              (0, 2, 2), (1, 2, 2), (2, 2, 2))  # fmt: skip
 
-    For centrally symmetric loads (rectangles, circles) with centroid offsets h
-    from C and plan second-moment tensors I, ∫ (h + t)⊗3 dA = A h⊗h⊗h +
-    h_a I_bc + h_b I_ac + h_c I_ab (the odd moments of t vanish). Member i
-    belongs to cluster ``node[i]``.
-    """
+
+def _third_moments(q, area, h, inert, node):
+    """The octupole O_abc = Σ q ∫ (s − C)_a (s − C)_b (s − C)_c dA per cluster, its
+    ten distinct components (order of ``_OCT_INDEX``), for centrally symmetric
+    loads: ∫ (h + t)⊗3 dA = A h⊗h⊗h + h_a I_bc + h_b I_ac + h_c I_ab, with h the
+    centroid offset from C and I the plan second-moment tensor (the odd moments
+    of t vanish). Member i belongs to cluster ``node[i]``."""
     k = int(node.max()) + 1 if len(node) else 0
-    o = np.einsum("i,ia,ib,ic->iabc", q * area, h, h, h)
-    o += np.einsum("i,ia,ibc->iabc", q, h, inert)
-    o += np.einsum("i,ib,iac->iabc", q, h, inert)
-    o += np.einsum("i,ic,iab->iabc", q, h, inert)
-    flat = o.reshape(len(q), 27)
-    tot = np.column_stack([np.bincount(node, weights=flat[:, i], minlength=k) for i in range(27)])
-    return np.abs(tot).sum(axis=1)
+    cols = []
+    for a, b, c in _OCT_INDEX:
+        v = q * (
+            area * h[:, a] * h[:, b] * h[:, c]
+            + h[:, a] * inert[:, b, c]
+            + h[:, b] * inert[:, a, c]
+            + h[:, c] * inert[:, a, b]
+        )
+        cols.append(np.bincount(node, weights=v, minlength=k))
+    return np.column_stack(cols) if cols else np.zeros((0, 10))
 
 
 def _segments(starts, stops):
@@ -171,7 +178,8 @@ def _build(q, cen, area, mu, inert, reach, sym, ext, idx):
     tree: 2m − 1 nodes for m loads): the left child of node i is i + 1, the
     right child i + 2·(m // 2). Returns per node the topology, the multipole
     moments about the |q|A-weighted centroid C, the moments of the bound
-    (:func:`_cluster_moments`, :func:`_third_moment_norm`), the bounding box
+    (:func:`_cluster_moments`), the octupole of clusters of rectangles and
+    circles (:func:`_third_moments`), the bounding box
     and the depths of its planes.
     """
     m = len(idx)
@@ -195,7 +203,8 @@ def _build(q, cen, area, mu, inert, reach, sym, ext, idx):
         "dmax": np.zeros(n),
         "lo": np.zeros((n, 3)),
         "hi": np.zeros((n, 3)),
-        "N3": np.full(n, np.inf),
+        "oct": np.zeros((n, 10)),
+        "has_oct": np.zeros(n, dtype=bool),
     }
     ids = np.zeros(1, dtype=np.intp)
     a0, a1 = np.zeros(1, dtype=np.intp), np.full(1, m, dtype=np.intp)
@@ -242,10 +251,14 @@ def _build(q, cen, area, mu, inert, reach, sym, ext, idx):
         o["delta"][ids] = top(np.abs(h[:, 2]), np.maximum)
         single = size == 1
         all_sym = top(sym[j].astype(np.int8), np.minimum) > 0
-        o["order"][ids] = np.where(single & all_sym, 4, 3)
+        # rectangles and circles only: a single one has no third moments about
+        # its centroid, a cluster of them carries its octupole; either way the
+        # expansion is exact to third order and the remainder is of order 4
+        o["order"][ids] = np.where(all_sym, 4, 3)
         third = ~single & all_sym
         if third.any():
-            o["N3"][ids[third]] = _third_moment_norm(q[j], area[j], h, inert[j], rep)[third]
+            o["oct"][ids[third]] = _third_moments(q[j], area[j], h, inert[j], rep)[third]
+            o["has_oct"][ids[third]] = True
         o["load"][ids[single]] = perm[a0[single]]
         # split the nodes of more than one load
         k = np.flatnonzero(~single)
@@ -281,31 +294,24 @@ class Tree:
         self.c, self.F, self.Q0, self.dip, self.quad = t["c"], t["F"], t["Q0"], t["dip"], t["quad"]
         self.M, self.rho, self.delta, self.order = t["M"], t["rho"], t["delta"], t["order"]
         self.dmin, self.dmax, self.lo, self.hi = t["dmin"], t["dmax"], t["lo"], t["hi"]
-        self.N3 = t["N3"]
         self.extent = np.sqrt(((self.hi[:, :2] - self.lo[:, :2]) ** 2).sum(axis=1))
         self.leaf = self.load >= 0
+        # clusters of rectangles and circles carry the octupole O (third order)
+        self.oct, self.has_oct = t["oct"], t["has_oct"]
         # coefficient of M₃ in the harmonic bound of T: 4 (the order-3 Legendre
-        # term), 0 for a single centrally symmetric load (its third moments vanish)
+        # term), 0 where the expansion is of order 3 (octupole) or the third
+        # moments vanish (a single centrally symmetric load): order n = 4
         self.h3 = np.where(self.order == 4, 0.0, 4.0)
         # the bound's six terms per node (σz: j = 0…3, T: j = 0, 1, the order of
         # farfield.TERM_A), each coefficient · δ^j · M_{n−j} with the power b of 1/r
-        # (a = 3 − j, b = 5 + n − j for σz; a = 1 − j, b = 3 + n − j for T). The second
-        # bound of a cluster of centrally symmetric loads: the exact third-order term,
-        # bounded by N3 (the sum of |O_abc|) times the directional third derivative at
-        # the point (amp3, b3), plus the order-4 remainder (amp4, b4).
-        self.alt = np.isfinite(self.N3)
-        n3 = np.where(self.alt, self.N3, 0.0)
-        amp1, b1, amp4, b4, amp3, b3 = [], [], [], [], [], []
+        # (a = 3 − j, b = 5 + n − j for σz; a = 1 − j, b = 3 + n − j for T)
+        amp1, b1 = [], []
         for kernel, (p, m) in enumerate(((3, 5), (1, 3))):
             for j in range(p + 1):
                 coef = np.array([dict(_BOUND[o][kernel]).get(j, 0.0) for o in self.order])
                 mom = self.M[np.arange(self.n), self.order - j]
                 amp1.append(coef * self.delta**j * mom)
                 b1.append(m + self.order - j)
-                amp4.append(dict(_BOUND[4][kernel]).get(j, 0.0) * self.delta**j * self.M[:, 4 - j])
-                b4.append(m + 4 - j)
-                amp3.append(dict(_BOUND[3][kernel]).get(j, 0.0) * n3)
-                b3.append(m + 3 - j)
 
         # the same as flat tables for the compiled loops (sitesettle.farfield)
         nt = np.zeros((self.n, ff.NT_COLS))
@@ -319,16 +325,16 @@ class Tree:
         nt[:, ff.NT_RHO], nt[:, ff.NT_H3] = self.rho, self.h3
         nt[:, ff.NT_EXTENT], nt[:, ff.NT_F] = self.extent, self.F
         nt[:, ff.NT_M : ff.NT_M + 5] = self.M
-        nt[:, ff.NT_ALT] = self.alt
+        nt[:, ff.NT_HAS_OCT] = self.has_oct
+        nt[:, ff.NT_OCT : ff.NT_OCT + 10] = self.oct
         self.nt = nt
-        self.amp1, self.amp4, self.amp3 = (np.column_stack(v) for v in (amp1, amp4, amp3))
+        self.amp1 = np.column_stack(amp1)
         self.b1 = np.column_stack(b1).astype(np.int64)
-        self.b4, self.b3 = np.array(b4, dtype=np.int64), np.array(b3, dtype=np.int64)
         # child and load indices as the compiled traversal takes them
         self.links = tuple(
             np.asarray(v, dtype=np.int64) for v in (self.left, self.right, self.load)
         )
-        self.tables = (self.nt, self.amp1, self.b1, self.amp4, self.b4, self.amp3, self.b3)
+        self.tables = (self.nt, self.amp1, self.b1)
 
     def bounds(self, lo, hi):
         """Per node: truncation bound valid at every point of the box [lo, hi], and
@@ -349,13 +355,12 @@ class Tree:
         v with its maximum at the positive root of (b − a)v² + bΔv − ah² = 0; the
         sup over the box's depth range is taken at that root clipped to the range.
 
-        The second bound (clusters of centrally symmetric loads) and the harmonic
-        bound of T are smaller only now and then and cost twice the first: with
-        ``lam`` (K,) the acceptance thresholds they are computed only for pairs
-        whose first bound lies in (λ·LAZY_LO, λ·LAZY_HI] (sitesettle.farfield),
-        where they may change the acceptance or add to a block's sum; elsewhere e
-        is the first bound, which is as rigorous (every bound here is an upper
-        bound of the same error).
+        The harmonic bound of T is smaller only now and then and costs about as
+        much as the first: with ``lam`` (K,) the acceptance thresholds it is
+        computed only for pairs whose first bound lies in (λ·LAZY_LO, λ·LAZY_HI]
+        (sitesettle.farfield), where it may change the acceptance or add to a
+        block's sum; elsewhere e is the first bound, which is as rigorous (both
+        are upper bounds of the same error).
         """
         nodes = np.ascontiguousarray(nodes, dtype=np.int64)
         lo = np.ascontiguousarray(np.broadcast_to(lo, (len(nodes), 3)), dtype=float)
@@ -370,14 +375,16 @@ class Tree:
         Legendre terms of order ≥ 4: with r_c the least distance from the box to
         the node's centre C and ρ its radius about C, (1/π)[4·M₃/r_c⁵ +
         M₄·S(ρ/r_c)/r_c⁶], S(x) = 5/(1 − x) + x/(1 − x)² (inf where ρ ≥ r_c; no
-        M₃ term for a single centrally symmetric load)."""
+        M₃ term where the expansion is of third order or a single load is
+        centrally symmetric)."""
         nodes = np.ascontiguousarray(nodes, dtype=np.int64)
         lo = np.ascontiguousarray(np.broadcast_to(lo, (len(nodes), 3)), dtype=float)
         hi = np.ascontiguousarray(np.broadcast_to(hi, (len(nodes), 3)), dtype=float)
         return ff.harmonic_many(self.nt, nodes, lo, hi)
 
     def far(self, nodes, px, py, pz):
-        """Multipole (monopole + dipole + quadrupole) (σz, T) of ``nodes`` at the points."""
+        """Multipole (σz, T) of ``nodes`` at the points, summed over the nodes (to
+        second order; to third where a node carries an octupole)."""
         nodes = np.asarray(nodes, dtype=np.int64)
         px, py, pz = (np.asarray(v, dtype=float) for v in (px, py, pz))
         k = np.repeat(nodes[None, :], len(px), axis=0).ravel()

@@ -433,9 +433,9 @@ def test_moments_used_by_the_bound():
 def test_cluster_error_inside_its_bound(seed, tol):
     # every cluster of the tree (not only leaves), at random points: the multipole
     # value differs from the exact sum of its loads by no more than its bound,
-    # which for clusters of rectangles and circles is the smaller of the order-3
-    # remainder and (third-order term + order-4 remainder); the exact sum of the
-    # cluster's loads (tolerance=0) is the independent reference
+    # which for clusters of rectangles and circles (expanded to third order, with
+    # their octupole) is the order-4 remainder; the exact sum of the cluster's
+    # loads (tolerance=0) is the independent reference
     rng = np.random.default_rng(seed)
     loads = S.Loads.concat(
         grid_plan(4, 4, spacing=rng.uniform(3.0, 8.0), seed=seed),
@@ -443,7 +443,7 @@ def test_cluster_error_inside_its_bound(seed, tol):
     )
     tree = S._tree(loads, np.arange(len(loads)))
     nodes = np.flatnonzero(~tree.leaf)
-    assert tree.alt[nodes].all()  # no polygon: every cluster has the second bound
+    assert tree.has_oct[nodes].all()  # no polygon: every cluster carries its octupole
     worst = 0.0
     for _ in range(6):
         x, y = rng.uniform(-40, 60, 2)
