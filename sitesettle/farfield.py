@@ -87,12 +87,37 @@ def _ipow(x, n):
     return out
 
 
+def _stationary_tables(amax=3, bmax=9):
+    """For W^a (h² + W²)^(−b/2) on one plane (Δ = 0): its maximum over W > 0 is at
+    W* = h·√(a/(b − a)), where it equals h^(a−b) (a/(b − a))^(a/2) ((b − a)/b)^(b/2).
+    Tables of √(a/(b − a)) and of that constant, indexed [a, b]."""
+    ratio = np.zeros((amax + 1, bmax + 1))
+    const = np.zeros((amax + 1, bmax + 1))
+    for a in range(1, amax + 1):
+        for b in range(a + 1, bmax + 1):
+            ratio[a, b] = math.sqrt(a / (b - a))
+            const[a, b] = (a / (b - a)) ** (a / 2) * ((b - a) / b) ** (b / 2)
+    return ratio, const
+
+
+_W_RATIO, _W_CONST = _stationary_tables()
+
+
 @_compiled
 def _sup_terms(amp, b, hh, vmin, vmax, dd):
     """Σ over six terms amp · sup (v + Δ)^a (h² + v²)^(−b/2), v in [vmin, vmax],
-    for σz (terms 0–3) and T (terms 4, 5)."""
+    for σz (terms 0–3) and T (terms 4, 5).
+
+    Each term is unimodal in v with its maximum at the positive root of
+    (b − a)v² + bΔv − ah² = 0, clipped to the range; on one plane (Δ = 0) the
+    root is h·√(a/(b − a)) and the value there has a closed form
+    (:func:`_stationary_tables`), so one square root serves every term."""
     es = 0.0
     et = 0.0
+    flat = dd == 0.0
+    h = math.sqrt(hh) if flat else 0.0
+    ir_lo = 1.0 / math.sqrt(hh + vmin * vmin)
+    ir_hi = -1.0
     for k in range(6):
         ak = amp[k]
         if ak == 0.0:
@@ -100,15 +125,23 @@ def _sup_terms(amp, b, hh, vmin, vmax, dd):
         a = TERM_A[k]
         bk = b[k]
         if a == 0:
-            v = vmin
+            val = ak * _ipow(ir_lo, bk)
         else:
-            bd = bk * dd
-            vs = (-bd + math.sqrt(bd * bd + 4.0 * (bk - a) * a * hh)) / (2.0 * (bk - a))
-            v = min(max(vs, vmin), vmax)
-        ir = 1.0 / math.sqrt(hh + v * v)
-        val = ak * _ipow(ir, bk)
-        if a:
-            val *= _ipow(v + dd, a)
+            if flat:
+                vs = _W_RATIO[a, bk] * h
+            else:
+                bd = bk * dd
+                vs = (-bd + math.sqrt(bd * bd + 4.0 * (bk - a) * a * hh)) / (2.0 * (bk - a))
+            if vs <= vmin:
+                val = ak * _ipow(ir_lo, bk) * _ipow(vmin + dd, a)
+            elif vs >= vmax:
+                if ir_hi < 0.0:
+                    ir_hi = 1.0 / math.sqrt(hh + vmax * vmax)
+                val = ak * _ipow(ir_hi, bk) * _ipow(vmax + dd, a)
+            elif flat:
+                val = ak * _W_CONST[a, bk] * _ipow(1.0 / h, bk - a)
+            else:
+                val = ak * _ipow(1.0 / math.sqrt(hh + vs * vs), bk) * _ipow(vs + dd, a)
         if TERM_KERNEL[k] == 0:
             es += val
         else:
