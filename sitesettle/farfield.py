@@ -199,15 +199,68 @@ def pair_bound(nt, amp1, b1, node, lo0, lo1, lo2, hi0, hi1, hi2, lam):
     return max(es, et), False
 
 
+@njit(inline="always", **_JIT)
+def _second_order(X, Y, W, W2, W3, ir2, ir3, q0, dx, dy, dw, hxx, hyy, qxy, qxw, qyw, qww, ss):
+    """Orders 0–2 of the expansion at offset (X, Y, W) from C: q0·k − d·∇k + ½ Q:∇∇k
+    of k = W³r⁻⁵ (σz) and t = W r⁻³ (T), grouped by powers of r⁻², without the
+    kernels' constants."""
+    d1 = dx * X + dy * Y
+    q1 = qxw * X + qyw * Y
+    q2 = hxx * (X * X) + hyy * (Y * Y) + qxy * (X * Y)
+    ir5 = ir3 * ir2
+    ir7 = ir5 * ir2
+    ir9 = ir7 * ir2
+    s5 = W * (q0 * W2 - 3.0 * dw * W + 3.0 * qww)
+    s7 = W2 * (5.0 * W * (d1 + dw * W) - (2.5 * ss + 17.5 * qww) * W - 15.0 * q1)
+    s9 = W3 * (35.0 * q2 + 17.5 * qww * W2 + 35.0 * W * q1)
+    t3 = q0 * W - dw
+    t5 = 3.0 * W * (d1 + dw * W) - (1.5 * ss + 4.5 * qww) * W - 3.0 * q1
+    t7 = W * (15.0 * q2 + 7.5 * qww * W2 + 15.0 * W * q1)
+    return ir5 * s5 + ir7 * s7 + ir9 * s9, ir3 * t3 + ir5 * t5 + ir7 * t7
+
+
+@njit(inline="always", **_JIT)
+def _third_order(X, Y, W, W2, W3, ir2, ir3, o, lx, ly, trw):
+    """The third-order term −(1/6) O:∇³k at offset (X, Y, W), for σz and T without
+    the kernels' constants; ``o`` the ten distinct components of O = Σ q∫(s − C)⊗3 dA
+    (xxx, xxy, xyy, yyy, xxw, xyw, yyw, xww, yww, www), lx = O_xxx + O_xyy,
+    ly = O_xxy + O_yyy, trw = O_xxw + O_yyw. Grouped by powers of r⁻² (derived with
+    a computer algebra system; tests/test_farfield.py checks it against finite
+    differences of the kernels)."""
+    oxxx, oxxy, oxyy, oyyy, oxxw, oxyw, oyyw, oxww, oyww, owww = o
+    ir5 = ir3 * ir2
+    ir7 = ir5 * ir2
+    ir9 = ir7 * ir2
+    ir11 = ir9 * ir2
+    c3 = X * X * (oxxx * X + 3.0 * oxxy * Y) + Y * Y * (3.0 * oxyy * X + oyyy * Y)
+    cq = X * (oxxw * X + 2.0 * oxyw * Y) + oyyw * (Y * Y)
+    cl = oxww * X + oyww * Y
+    lin = lx * X + ly * Y
+    full = W3 * owww + 3.0 * W2 * cl + 3.0 * W * cq + c3
+    p9 = 70.0 * W2 * owww + 122.5 * W * cl + 17.5 * W * lin + 52.5 * cq + 17.5 * W2 * trw
+    sz = (
+        ir11 * (52.5 * W3 * full)
+        - ir9 * (W2 * p9)
+        + ir7 * (W * (22.5 * W * owww + 7.5 * W * trw + 15.0 * cl))
+        - ir5 * owww
+    )
+    tt = (
+        ir9 * (17.5 * W * full)
+        - ir7 * (15.0 * W2 * owww + 22.5 * W * cl + 7.5 * W * lin + 7.5 * cq + 7.5 * W2 * trw)
+        + ir5 * (1.5 * (owww + trw))
+    )
+    return sz, tt
+
+
 @_compiled
 def multipole_add(nt, node, px, py, pz, out_s, out_t, p0, p1):
     """Add the multipole (σz, T) of ``node`` to the points p0…p1−1 of the result
     arrays: the Taylor expansion of the kernels about the node's centre C to
-    second order (monopole Q0, dipole d, quadrupole Q: q0·k − d·∇k + ½ Q:∇∇k),
-    grouped by powers of 1/r, and to third order (− (1/6) O:∇³k) where the node
-    holds an octupole (:func:`_octupole_add`). The node's moments are read once
-    and the loop runs over contiguous slices, which the compiler vectorises;
-    each point's value is formed by the same operations in the same order as a
+    second order (monopole Q0, dipole d, quadrupole Q: q0·k − d·∇k + ½ Q:∇∇k,
+    :func:`_second_order`) and to third order (− (1/6) O:∇³k, :func:`_third_order`)
+    where the node holds an octupole. The node's moments are read once and the
+    loop runs over contiguous slices, which the compiler vectorises; each
+    point's value is formed by the same operations in the same order as a
     scalar loop, so the result does not depend on how points are grouped."""
     c0 = nt[node, 0]
     c1 = nt[node, 1]
@@ -231,109 +284,42 @@ def multipole_add(nt, node, px, py, pz, out_s, out_t, p0, p1):
     os_ = out_s[p0:p1]
     ot = out_t[p0:p1]
     if nt[node, NT_HAS_OCT] > 0.0:
-        _octupole_add(nt, node, xs, ys, zs, os_, ot)
-        return
-    for k in range(len(xs)):
-        X = xs[k] - c0
-        Y = ys[k] - c1
-        W = zs[k] - c2
-        d1 = dx * X + dy * Y
-        q1 = qxw * X + qyw * Y
-        q2 = hxx * (X * X) + hyy * (Y * Y) + qxy * (X * Y)
-        W2 = W * W
-        ir2 = 1.0 / (X * X + Y * Y + W2)
-        ir3 = ir2 * math.sqrt(ir2)
-        ir5 = ir3 * ir2
-        ir7 = ir5 * ir2
-        ir9 = ir7 * ir2
-        W3 = W2 * W
-        s5 = W * (q0 * W2 - 3.0 * dw * W + 3.0 * qww)
-        s7 = W2 * (5.0 * W * (d1 + dw * W) - (2.5 * ss + 17.5 * qww) * W - 15.0 * q1)
-        s9 = W3 * (35.0 * q2 + 17.5 * qww * W2 + 35.0 * W * q1)
-        t3 = q0 * W - dw
-        t5 = 3.0 * W * (d1 + dw * W) - (1.5 * ss + 4.5 * qww) * W - 3.0 * q1
-        t7 = W * (15.0 * q2 + 7.5 * qww * W2 + 15.0 * W * q1)
-        os_[k] += K_SIGMA * (ir5 * s5 + ir7 * s7 + ir9 * s9)
-        ot[k] += K_THETA * (ir3 * t3 + ir5 * t5 + ir7 * t7)
-
-
-@_compiled
-def _octupole_add(nt, node, xs, ys, zs, os_, ot):
-    """:func:`multipole_add` for a node with an octupole: orders 0–2 as there,
-    plus the third-order term −(1/6) O:∇³k with the ten distinct components of
-    O = Σ q∫(s − C)⊗3 dA, grouped by powers of 1/r (derived with a computer
-    algebra system and checked in tests/test_farfield.py against finite
-    differences of the kernels)."""
-    c0 = nt[node, 0]
-    c1 = nt[node, 1]
-    c2 = nt[node, 2]
-    oxxx = nt[node, NT_OCT]
-    oxxy = nt[node, NT_OCT + 1]
-    oxyy = nt[node, NT_OCT + 2]
-    oyyy = nt[node, NT_OCT + 3]
-    oxxw = nt[node, NT_OCT + 4]
-    oxyw = nt[node, NT_OCT + 5]
-    oyyw = nt[node, NT_OCT + 6]
-    oxww = nt[node, NT_OCT + 7]
-    oyww = nt[node, NT_OCT + 8]
-    owww = nt[node, NT_OCT + 9]
-    lx = oxxx + oxyy
-    ly = oxxy + oyyy
-    trw = oxxw + oyyw
-    q0 = nt[node, 3]
-    dx = nt[node, 4]
-    dy = nt[node, 5]
-    dw = nt[node, 6]
-    qxx = nt[node, 7]
-    qxy = nt[node, 8]
-    qyy = nt[node, 9]
-    qxw = nt[node, 10]
-    qyw = nt[node, 11]
-    qww = nt[node, 12]
-    hxx = 0.5 * qxx
-    hyy = 0.5 * qyy
-    ss = qxx + qyy
-    for k in range(len(xs)):
-        X = xs[k] - c0
-        Y = ys[k] - c1
-        W = zs[k] - c2
-        W2 = W * W
-        W3 = W2 * W
-        ir2 = 1.0 / (X * X + Y * Y + W2)
-        ir3 = ir2 * math.sqrt(ir2)
-        ir5 = ir3 * ir2
-        ir7 = ir5 * ir2
-        ir9 = ir7 * ir2
-        ir11 = ir9 * ir2
-        c3 = X * X * (oxxx * X + 3.0 * oxxy * Y) + Y * Y * (3.0 * oxyy * X + oyyy * Y)
-        cq = X * (oxxw * X + 2.0 * oxyw * Y) + oyyw * (Y * Y)
-        cl = oxww * X + oyww * Y
-        lin = lx * X + ly * Y
-        full = W3 * owww + 3.0 * W2 * cl + 3.0 * W * cq + c3
-        p9 = 70.0 * W2 * owww + 122.5 * W * cl + 17.5 * W * lin + 52.5 * cq + 17.5 * W2 * trw
-        sz = (
-            ir11 * (52.5 * W3 * full)
-            - ir9 * (W2 * p9)
-            + ir7 * (W * (22.5 * W * owww + 7.5 * W * trw + 15.0 * cl))
-            - ir5 * owww
-        )
-        tt = (
-            ir9 * (17.5 * W * full)
-            - ir7 * (15.0 * W2 * owww + 22.5 * W * cl + 7.5 * W * lin + 7.5 * cq + 7.5 * W2 * trw)
-            + ir5 * (1.5 * (owww + trw))
-        )
-        # orders 0–2, as in multipole_add
-        d1 = dx * X + dy * Y
-        q1 = qxw * X + qyw * Y
-        q2 = hxx * (X * X) + hyy * (Y * Y) + qxy * (X * Y)
-        s5 = W * (q0 * W2 - 3.0 * dw * W + 3.0 * qww)
-        s7 = W2 * (5.0 * W * (d1 + dw * W) - (2.5 * ss + 17.5 * qww) * W - 15.0 * q1)
-        s9 = W3 * (35.0 * q2 + 17.5 * qww * W2 + 35.0 * W * q1)
-        t3 = q0 * W - dw
-        t5 = 3.0 * W * (d1 + dw * W) - (1.5 * ss + 4.5 * qww) * W - 3.0 * q1
-        t7 = W * (15.0 * q2 + 7.5 * qww * W2 + 15.0 * W * q1)
-        os_[k] += K_SIGMA * ((ir5 * s5 + ir7 * s7 + ir9 * s9) + sz)
-        ot[k] += K_THETA * ((ir3 * t3 + ir5 * t5 + ir7 * t7) + tt)
+        o = (
+            nt[node, NT_OCT], nt[node, NT_OCT + 1], nt[node, NT_OCT + 2], nt[node, NT_OCT + 3],
+            nt[node, NT_OCT + 4], nt[node, NT_OCT + 5], nt[node, NT_OCT + 6],
+            nt[node, NT_OCT + 7], nt[node, NT_OCT + 8], nt[node, NT_OCT + 9],
+        )  # fmt: skip
+        lx = o[0] + o[2]
+        ly = o[1] + o[3]
+        trw = o[4] + o[6]
+        for k in range(len(xs)):
+            X = xs[k] - c0
+            Y = ys[k] - c1
+            W = zs[k] - c2
+            W2 = W * W
+            W3 = W2 * W
+            ir2 = 1.0 / (X * X + Y * Y + W2)
+            ir3 = ir2 * math.sqrt(ir2)
+            s2, t2 = _second_order(
+                X, Y, W, W2, W3, ir2, ir3, q0, dx, dy, dw, hxx, hyy, qxy, qxw, qyw, qww, ss
+            )
+            s3, t3 = _third_order(X, Y, W, W2, W3, ir2, ir3, o, lx, ly, trw)
+            os_[k] += K_SIGMA * (s2 + s3)
+            ot[k] += K_THETA * (t2 + t3)
+    else:
+        for k in range(len(xs)):
+            X = xs[k] - c0
+            Y = ys[k] - c1
+            W = zs[k] - c2
+            W2 = W * W
+            W3 = W2 * W
+            ir2 = 1.0 / (X * X + Y * Y + W2)
+            ir3 = ir2 * math.sqrt(ir2)
+            s2, t2 = _second_order(
+                X, Y, W, W2, W3, ir2, ir3, q0, dx, dy, dw, hxx, hyy, qxy, qxw, qyw, qww, ss
+            )
+            os_[k] += K_SIGMA * s2
+            ot[k] += K_THETA * t2
 
 
 @_compiled
