@@ -283,43 +283,32 @@ def multipole_add(nt, node, px, py, pz, out_s, out_t, p0, p1):
     zs = pz[p0:p1]
     os_ = out_s[p0:p1]
     ot = out_t[p0:p1]
-    if nt[node, NT_HAS_OCT] > 0.0:
-        o = (
-            nt[node, NT_OCT], nt[node, NT_OCT + 1], nt[node, NT_OCT + 2], nt[node, NT_OCT + 3],
-            nt[node, NT_OCT + 4], nt[node, NT_OCT + 5], nt[node, NT_OCT + 6],
-            nt[node, NT_OCT + 7], nt[node, NT_OCT + 8], nt[node, NT_OCT + 9],
-        )  # fmt: skip
-        lx = o[0] + o[2]
-        ly = o[1] + o[3]
-        trw = o[4] + o[6]
-        for k in range(len(xs)):
-            X = xs[k] - c0
-            Y = ys[k] - c1
-            W = zs[k] - c2
-            W2 = W * W
-            W3 = W2 * W
-            ir2 = 1.0 / (X * X + Y * Y + W2)
-            ir3 = ir2 * math.sqrt(ir2)
-            s2, t2 = _second_order(
-                X, Y, W, W2, W3, ir2, ir3, q0, dx, dy, dw, hxx, hyy, qxy, qxw, qyw, qww, ss
-            )
+    has_oct = nt[node, NT_HAS_OCT] > 0.0
+    o = (
+        nt[node, NT_OCT], nt[node, NT_OCT + 1], nt[node, NT_OCT + 2], nt[node, NT_OCT + 3],
+        nt[node, NT_OCT + 4], nt[node, NT_OCT + 5], nt[node, NT_OCT + 6],
+        nt[node, NT_OCT + 7], nt[node, NT_OCT + 8], nt[node, NT_OCT + 9],
+    )  # fmt: skip
+    lx = o[0] + o[2]
+    ly = o[1] + o[3]
+    trw = o[4] + o[6]
+    for k in range(len(xs)):
+        X = xs[k] - c0
+        Y = ys[k] - c1
+        W = zs[k] - c2
+        W2 = W * W
+        W3 = W2 * W
+        ir2 = 1.0 / (X * X + Y * Y + W2)
+        ir3 = ir2 * math.sqrt(ir2)
+        s2, t2 = _second_order(
+            X, Y, W, W2, W3, ir2, ir3, q0, dx, dy, dw, hxx, hyy, qxy, qxw, qyw, qww, ss
+        )
+        if has_oct:
             s3, t3 = _third_order(X, Y, W, W2, W3, ir2, ir3, o, lx, ly, trw)
-            os_[k] += K_SIGMA * (s2 + s3)
-            ot[k] += K_THETA * (t2 + t3)
-    else:
-        for k in range(len(xs)):
-            X = xs[k] - c0
-            Y = ys[k] - c1
-            W = zs[k] - c2
-            W2 = W * W
-            W3 = W2 * W
-            ir2 = 1.0 / (X * X + Y * Y + W2)
-            ir3 = ir2 * math.sqrt(ir2)
-            s2, t2 = _second_order(
-                X, Y, W, W2, W3, ir2, ir3, q0, dx, dy, dw, hxx, hyy, qxy, qxw, qyw, qww, ss
-            )
-            os_[k] += K_SIGMA * s2
-            ot[k] += K_THETA * t2
+            s2 += s3
+            t2 += t3
+        os_[k] += K_SIGMA * s2
+        ot[k] += K_THETA * t2
 
 
 @_compiled
