@@ -22,6 +22,11 @@ Conventions of every table made here:
   (``unchecked`` compares with nothing). ``regression`` is a check that B fails and
   A passed (pass → fail or pass → beyond range); it is what makes ``sitesettle
   compare`` exit with code 1.
+* ``changed`` says whether anything of the row differs: presence, status, size,
+  kind or place, a non-zero difference of a quantity written with fixed decimals,
+  or a ratio difference beyond the sixth significant figure the ratios are written
+  with (:data:`RATIO_TOLERANCE`; a smaller one is the rounding of two writings of
+  the same value).
 * Rows are sorted with the status changes that got worse first, then by the size
   of the change, largest first (rows without a difference, added or removed, last);
   ties keep B's order, then A's.
@@ -113,6 +118,30 @@ class _Joined:
         """B's value, or A's where B lacks the row."""
         va, vb = _col(self.a, name, numeric), _col(self.b, name, numeric)
         return vb.where(pd.Series(self.presence != "removed", index=vb.index), va).to_numpy()
+
+
+#: ratios are written to 6 significant figures, so two writings of one value differ
+#: by less than 1e-5 of it: a smaller difference of a ratio is not a change
+RATIO_TOLERANCE = 1e-5
+
+
+def changed_column(out: dict, exact: tuple[str, ...], ratios: tuple[str, ...]) -> np.ndarray:
+    """Whether each row changed: added or removed, a status change, a non-zero difference
+    of a quantity with fixed decimals (``exact``: the ``*_delta_*`` columns), or a ratio
+    difference (``ratios``: base names with ``_a``, ``_b``, ``_delta``) beyond
+    :data:`RATIO_TOLERANCE` of the ratio, the precision it is written with."""
+    m = np.asarray(out["presence"]) != "both"
+    m = m | (np.asarray(out["status_change"]) != "")
+    for name in exact:
+        d = np.asarray(out[name], float)
+        m |= np.isfinite(d) & (d != 0)
+    for base in ratios:
+        a, b = np.asarray(out[f"{base}_a"], float), np.asarray(out[f"{base}_b"], float)
+        d = np.asarray(out[f"{base}_delta"], float)
+        scale = np.fmax(np.abs(a), np.abs(b))
+        with np.errstate(invalid="ignore"):
+            m |= np.isfinite(d) & (np.abs(d) > RATIO_TOLERANCE * scale)
+    return m
 
 
 def status_columns(status_a, status_b, presence) -> dict[str, np.ndarray]:
@@ -237,6 +266,12 @@ def compare_footings(
     j.numbers(out, "total_limit", S, delta=False)
     j.texts(out, "status")
     out.update(status_columns(out["status_a"], out["status_b"], j.presence))
+    out["changed"] = (
+        changed_column(out, (f"total_delta_{S}", f"own_delta_{S}", f"neighbours_delta_{S}"), ())
+        | out["size_changed"]
+        | out["kind_changed"]
+        | out["moved"]
+    )
     out["reasons_b"] = _text(_col(j.b, "reasons", False)).to_numpy(object)
     return sort_by_change(pd.DataFrame(out), f"total_delta_{S}")
 
@@ -313,6 +348,9 @@ def compare_pairs(
     j.texts(out, "limit")
     j.texts(out, "status")
     out.update(status_columns(out["status_a"], out["status_b"], j.presence))
+    out["changed"] = changed_column(
+        out, (f"differential_delta_{S}",), ("angular_distortion_checked", "utilisation")
+    )
     return sort_by_change(pd.DataFrame(out), "angular_distortion_checked_delta")
 
 
@@ -374,6 +412,11 @@ def compare_lines(
     j.texts(out, "limit")
     j.texts(out, "status")
     out.update(status_columns(out["status_a"], out["status_b"], j.presence))
+    out["changed"] = changed_column(
+        out,
+        (f"relative_deflection_delta_{S}",),
+        ("deflection_ratio", "angular_distortion", "utilisation"),
+    )
     return sort_by_change(pd.DataFrame(out), f"relative_deflection_delta_{S}")
 
 
@@ -474,7 +517,7 @@ def _largest(table: pd.DataFrame, magnitude: str, ids: tuple[str, ...], extra: t
     return out
 
 
-def _tally_one(table: pd.DataFrame, ids: tuple[str, ...], deltas: tuple[str, ...]) -> dict:
+def _tally_one(table: pd.DataFrame, ids: tuple[str, ...]) -> dict:
     def names(mask) -> list:
         rows = table[mask]
         if len(ids) == 1:
@@ -482,11 +525,7 @@ def _tally_one(table: pd.DataFrame, ids: tuple[str, ...], deltas: tuple[str, ...
         return [[str(r[k]) for k in ids] for _, r in rows.iterrows()]
 
     pres = table["presence"] if len(table) else pd.Series(dtype=object)
-    changed = np.zeros(len(table), bool)
-    for d in deltas:
-        v = table[d].to_numpy(float)
-        changed |= np.isfinite(v) & (v != 0)
-    changed |= (table["status_change"] != "").to_numpy() if len(table) else changed
+    changed = table["changed"].to_numpy(bool) if len(table) else np.zeros(0, bool)
     return {
         "in_a": int((pres != "added").sum()),
         "in_b": int((pres != "removed").sum()),
@@ -524,8 +563,8 @@ def tally(
     -------
     dict
         ``footings``, ``pairs`` and ``lines``: each with ``in_a``, ``in_b``,
-        ``added``, ``removed`` (ids), ``changed`` (rows with a non-zero difference
-        or a status change), ``worse``, ``better``, ``regressions`` and
+        ``added``, ``removed`` (ids), ``changed`` (how many rows changed: the
+        ``changed`` column, :func:`changed_column`), ``worse``, ``better``, ``regressions`` and
         ``improvements`` (ids: pass → fail, and status that got better),
         ``failing_added`` (added rows that fail in B); footings also
         ``size_changed``, ``kind_changed`` and ``moved`` (ids). ``largest``: the
@@ -535,26 +574,12 @@ def tally(
     S = settlement
     lines = lines if lines is not None and len(lines) else None
     out = {
-        "footings": _tally_one(
-            footings, ("id",), (f"total_delta_{S}", f"own_delta_{S}", f"neighbours_delta_{S}")
-        ),
-        "pairs": _tally_one(
-            pairs,
-            ("a", "b"),
-            (f"differential_delta_{S}", "angular_distortion_checked_delta", "utilisation_delta"),
-        ),
+        "footings": _tally_one(footings, ("id",)),
+        "pairs": _tally_one(pairs, ("a", "b")),
     }
     for flag in ("size_changed", "kind_changed", "moved"):
         out["footings"][flag] = [str(v) for v in footings.loc[footings[flag], "id"]]
-    out["lines"] = (
-        _tally_one(
-            lines,
-            ("line",),
-            (f"relative_deflection_delta_{S}", "deflection_ratio_delta", "utilisation_delta"),
-        )
-        if lines is not None
-        else None
-    )
+    out["lines"] = _tally_one(lines, ("line",)) if lines is not None else None
     out["largest"] = {
         "footing": _largest(
             footings, f"total_delta_{S}", ("id",), (f"total_a_{S}", f"total_b_{S}")

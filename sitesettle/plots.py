@@ -1021,9 +1021,7 @@ def difference_map(
         a, b = str(r["a"]), str(r["b"])
         if a not in xy or b not in xy:
             continue  # a query point: not on this plan
-        deltas = (float(r["angular_distortion_checked_delta"]), float(r[f"differential_delta_{S}"]))
-        moved = any(np.isfinite(v) and v != 0 for v in deltas)
-        if r["change"] in ("worse", "better") or moved or r["presence"] != "both":
+        if bool(r["changed"]):
             segs.append([xy[a], xy[b]])
             styles.append(r["change"] if r["change"] in ("worse", "better") else "changed")
     styles = np.array(styles, dtype=object)

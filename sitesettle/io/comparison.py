@@ -698,7 +698,7 @@ def format_comparison(c: Comparison, *, top: int = TOP) -> list[str]:
 
     if not k["no_change"] and top > 0:
         f = c.footings
-        shown = f[(f[f"total_delta_{S}"].abs() > 0) | (f["change"] != "same")].head(top)
+        shown = f[f["changed"]].head(top)
         if len(shown):
             out.append("")
             out.append(f"Largest changes of footings (total at the design life, {S}):")
@@ -714,15 +714,11 @@ def format_comparison(c: Comparison, *, top: int = TOP) -> list[str]:
                     f"{_num(r[f'total_a_{S}'], d):>8} {_num(r[f'total_b_{S}'], d):>8} "
                     f"{_num(r[f'total_delta_{S}'], d, True):>8}  {_status(r)}"
                 )
-            rest = int(((f[f"total_delta_{S}"].abs() > 0) | (f["change"] != "same")).sum())
+            rest = int(f["changed"].sum())
             if rest > len(shown):
                 out.append(f"  … {rest - len(shown)} more in footings_compared.csv")
         p = c.pairs
-        changed = (
-            (p["angular_distortion_checked_delta"].abs() > 0)
-            | (p[f"differential_delta_{S}"].abs() > 0)
-            | (p["change"] != "same")
-        )
+        changed = p["changed"]
         shown = p[changed].head(top)
         if len(shown):
             basis = p["basis_b"].where(p["basis_b"] != "", p["basis_a"])
