@@ -614,9 +614,12 @@ def _size(w: float, ln: float) -> str:
 
 
 def _num(v: float, d: int, sign: bool = False) -> str:
+    """``v`` to ``d`` decimals; with ``sign`` a + or − unless it rounds to zero."""
     if not math.isfinite(v):
         return "–"
-    return f"{v:+.{d}f}" if sign else f"{v:.{d}f}"
+    if sign and round(v, d) != 0:
+        return f"{v:+.{d}f}"
+    return f"{abs(v) if round(v, d) == 0 else v:.{d}f}"
 
 
 def _ratio(v: float) -> str:
@@ -655,9 +658,12 @@ def format_comparison(c: Comparison, *, top: int = TOP) -> list[str]:
         "sitesettle compare — differences are B − A",
         f"  A: {terminal_line(str(c.a))}",
         f"  B: {terminal_line(str(c.b))}",
-        f"  settlements in {S}, sizes in {L}; totals at the design life (A {la:g} yr, B {lb:g} yr)"
-        if isinstance(la, (int, float)) and isinstance(lb, (int, float))
-        else f"  settlements in {S}, sizes in {L}; totals at the design life",
+        f"  settlements in {_UNIT_WORDS[S]}, sizes in {_UNIT_WORDS[L]}; totals at the design "
+        + (
+            f"life (A {la:g} yr, B {lb:g} yr)"
+            if isinstance(la, (int, float)) and isinstance(lb, (int, float))
+            else "life"
+        ),
     ]
     for w in c.warnings:
         out.append(f"warning: {terminal_line(w)}")
@@ -691,6 +697,10 @@ def format_comparison(c: Comparison, *, top: int = TOP) -> list[str]:
             f"{lk['changed']} changed; status {lk['worse']} worse, {lk['better']} better"
         )
     for name, t in (("footings", fk), ("pairs", pk), ("lines", lk)):
+        if t is not None and t["added"]:
+            out.append(f"  {name} only in B (added): {_ids(t['added'])}")
+        if t is not None and t["removed"]:
+            out.append(f"  {name} only in A (removed): {_ids(t['removed'])}")
         if t is not None and t["improvements"]:
             out.append(f"  {name} that got better: {_ids(t['improvements'])}")
         if t is not None and t["failing_added"]:
