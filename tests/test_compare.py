@@ -426,3 +426,46 @@ def test_a_ratio_rounded_in_its_sixth_figure_is_no_change():
     assert not bool(t.loc[0, "changed"])
     pc = pa.assign(angular_distortion_checked=[0.00193317])
     assert bool(compare.compare_pairs(pa, pc).loc[0, "changed"])
+
+
+def test_hostile_ids_stay_text_on_the_page_and_the_terminal(runs, tmp_path):
+    root, a, _ = runs
+    edited = tmp_path / "hostile"
+    shutil.copytree(a, edited)
+    evil = "<script>alert(1)</script>\u202e"
+    for name in ("footings.csv", "pairs.csv"):
+        p = edited / name
+        text = p.read_text(encoding="utf-8")
+        p.write_text(re.sub(r"(?m)(^|,)A1,", lambda m: f"{m.group(1)}{evil},", text), "utf-8")
+    out = tmp_path / "c"
+    rc, stdout, err = run("compare", a, edited, "--out", out)
+    assert rc in (0, 1), err
+    html = (out / "comparison.html").read_text(encoding="utf-8")
+    assert "<script" not in html and "&lt;script&gt;" in html
+    assert "\u202e" not in stdout  # escaped for the terminal (sitesettle.io.text)
+    info = json.loads((out / "comparison.json").read_text(encoding="utf-8"))
+    assert info["added"]["footings"] == [evil] and info["removed"]["footings"] == ["A1"]
+
+
+def test_write_results_keeps_its_signature():
+    import inspect
+
+    from sitesettle.io.output import write_folder, write_results
+
+    params = list(inspect.signature(write_results).parameters)
+    assert params == [
+        "results",
+        "out_dir",
+        "units",
+        "progress",
+        "section",
+        "on_wait",
+        "extra_files",
+    ]
+    assert list(inspect.signature(write_folder).parameters) == [
+        "out_dir",
+        "fill",
+        "marker",
+        "what",
+        "on_wait",
+    ]
