@@ -26,10 +26,10 @@ from contextlib import redirect_stderr, redirect_stdout
 import numpy as np
 import pandas as pd
 import pytest
+from sitesettle_cli.main import main
 
 from sitesettle import compare
 from sitesettle.io.comparison import compare_folders, default_out
-from sitesettle_cli.main import main
 
 ROOT = pathlib.Path(__file__).resolve().parents[1]
 DEMO = ROOT / "demo_site"

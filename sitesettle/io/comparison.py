@@ -425,10 +425,12 @@ def compare_folders(a: str | os.PathLike, b: str | os.PathLike) -> Comparison:
         or garbled (the message names the file, row and column), or the two folders
         are written in different units.
 
-    Examples
-    --------
-    >>> c = compare_folders("demo_site/results", "demo_site/sized")  # doctest: +SKIP
-    >>> c.footings[["id", "total_a_mm", "total_b_mm", "total_delta_mm"]].head()  # doctest: +SKIP
+    Notes
+    -----
+    With the demo checked and sized (docs/sizing.md)::
+
+        c = compare_folders("demo_site/results", "demo_site/sized")
+        c.footings[["id", "total_a_mm", "total_b_mm", "total_delta_mm"]].head()
     """
     fa = read_results_folder(a, "A")
     fb = read_results_folder(b, "B")
