@@ -2,8 +2,9 @@
 
 Exit codes (:data:`EXIT_CODES`, also in ``--help`` and the README):
 
-* 0 every check passes;
-* 1 some check fails (all outputs written);
+* 0 every check passes (``compare``: results B fail no check that results A passed);
+* 1 some check fails (all outputs written); ``compare``: B fails a check that A
+  passed, a regression (the comparison is written);
 * 2 bad input, or a results folder that cannot be used (one message naming the
   file and row, column or key; nothing written);
 * 3 the tool could not finish: no space left, a file too large for the file
@@ -29,8 +30,8 @@ from sitesettle.io.text import terminal_line, terminal_text
 
 #: exit code → meaning (printed by --help)
 EXIT_CODES = {
-    0: "every check passes",
-    1: "some check fails (all outputs written)",
+    0: "every check passes (compare: B fails no check that A passed)",
+    1: "some check fails (all outputs written); compare: B fails a check that A passed",
     2: "bad input or unusable results folder (one message; nothing written)",
     3: "could not finish: no space, no permission, internal error (one line; --debug "
     "shows the traceback)",
@@ -77,6 +78,17 @@ def _what_if_arguments(p: argparse.ArgumentParser) -> None:
         metavar="NAME",
         help="check against another criteria set (as --set checks.criteria=NAME)",
     )
+
+
+def _non_negative(text: str) -> int:
+    """An argparse type: a whole number ≥ 0."""
+    try:
+        n = int(text)
+    except ValueError:
+        n = -1
+    if n < 0:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number ≥ 0")
+    return n
 
 
 def _parser() -> argparse.ArgumentParser:
@@ -135,6 +147,31 @@ def _parser() -> argparse.ArgumentParser:
     z.add_argument("--units", choices=["si", "us"], help="output units (default: the project's)")
     z.add_argument("--quiet", action="store_true", help="print only errors and the verdict")
     _what_if_arguments(z)
+    m = sub.add_parser(
+        "compare",
+        help="what changed between two results folders, footing by footing and pair by pair",
+        description="Compare results folder B with results folder A (both written by check or "
+        "size, in the same units): every footing's total settlement, every pair's differential "
+        "and checked angular distortion, every structure line, and their statuses, B − A, "
+        "sorted by change with the checks that got worse first. Writes "
+        "footings_compared.csv, pairs_compared.csv, lines_compared.csv, basis_compared.csv, "
+        "comparison.json and comparison.html (with a difference map). Exit 0: B fails no "
+        "check that A passed; 1: it does (a regression); 2: a folder is missing, not a "
+        "results folder, garbled, or the two are in different units (nothing written).",
+    )
+    m.add_argument("results_a", metavar="RESULTS_A", help="the reference results folder")
+    m.add_argument("results_b", metavar="RESULTS_B", help="the results folder compared with A")
+    m.add_argument(
+        "--out", help="comparison folder (default: RESULTS_B/compare_to_<name of RESULTS_A>)"
+    )
+    m.add_argument("--quiet", action="store_true", help="print only errors and the verdict")
+    m.add_argument(
+        "--top",
+        type=_non_negative,
+        default=10,
+        metavar="N",
+        help="rows of the largest changes shown in the terminal (default 10)",
+    )
     n = sub.add_parser("new", help="create a small commented starter project")
     n.add_argument("folder", help="folder to create (must not exist or be empty)")
     return p
@@ -323,6 +360,34 @@ def _size(args) -> int:
     return OK if outcome.passed else FAILS
 
 
+def _compare(args) -> int:
+    from sitesettle.io.comparison import (
+        compare_folders,
+        default_out,
+        format_comparison,
+        write_comparison,
+    )
+    from sitesettle.io.output import check_target
+    from sitesettle.io.summary import format_caution
+
+    out = Path(args.out) if args.out else default_out(args.results_a, args.results_b)
+    comparison = compare_folders(args.results_a, args.results_b)  # bad input: exit 2, no file
+    check_target(out.absolute(), marker="comparison.json", what="the comparison")
+    write_comparison(
+        comparison, out, on_wait=lambda msg: say(terminal_line(msg), file=sys.stderr)
+    )
+    worse = comparison.n_regressions > 0
+    if args.quiet:
+        say("REGRESSION" if worse else "NO REGRESSION")
+    else:
+        for line in format_comparison(comparison, top=args.top):
+            say(line)
+        say(f"comparison written to {terminal_line(str(out))}")
+        say()
+        say(format_caution(CAUTIONS))
+    return FAILS if worse else OK
+
+
 def _new(args) -> int:
     from importlib import resources
 
@@ -388,6 +453,8 @@ def main(argv: list[str] | None = None) -> int:
             return _explain(args)
         if args.command == "size":
             return _size(args)
+        if args.command == "compare":
+            return _compare(args)
         return _new(args)
     except (InputError, OutputError) as exc:
         say(f"error: {terminal_line(str(exc))}", file=sys.stderr)
@@ -408,7 +475,7 @@ def main(argv: list[str] | None = None) -> int:
             + terminal_line(_could_not_finish(exc))
             + (
                 "; nothing was written over earlier results"
-                if args.command in ("check", "size")
+                if args.command in ("check", "size", "compare")
                 else ""
             )
             + ("" if args.debug else " (--debug shows the traceback)"),

@@ -947,3 +947,171 @@ def section_figure(section: Section, *, ax=None, units: str = "si", site=None, _
         handles=handles, loc="center left", bbox_to_anchor=(1.01, 0.5), fontsize=8, frameon=False
     )
     return ax if _axes else fig
+
+
+#: colour map of a settlement difference, centred at 0: purple where B settles less,
+#: orange where it settles more (a diverging map, readable by colour-blind readers)
+DIFFERENCE_CMAP = "PuOr_r"
+#: a check that B fails and A passed, and one that B passes and A failed
+WORSE_COLOUR = FAIL_COLOUR
+BETTER_COLOUR = "#0f8a7e"
+#: how many of the largest changes are named on the difference map
+DIFFERENCE_LABELS = 30
+
+
+def difference_map(
+    footings,
+    pairs,
+    outlines: dict,
+    *,
+    settlement: str = "mm",
+    length: str = "m",
+    ax=None,
+):
+    """Plan of B's footings coloured by the change of total settlement ΔS = S_B − S_A.
+
+    The colour map (:data:`DIFFERENCE_CMAP`) is diverging and centred at 0, symmetric
+    about it. Footings only in B are hatched, footings only in A are drawn as dashed
+    outlines; a footing or pair whose check B fails and A passed is drawn in
+    :data:`WORSE_COLOUR` with a thick line, one that got better in
+    :data:`BETTER_COLOUR` (dashed for pairs); other pairs whose movement changed are
+    thin grey lines. The footings with the largest changes are named.
+
+    Parameters
+    ----------
+    footings, pairs : pandas.DataFrame
+        The tables of :func:`sitesettle.compare.compare_footings` and
+        :func:`~sitesettle.compare.compare_pairs`.
+    outlines : dict
+        Footing id → (n, 2) outline [plan units of ``length``].
+    settlement : {"mm", "in"}, optional
+        The settlement unit of the tables' columns.
+    length : {"m", "ft"}, optional
+        The length unit of the tables' columns and the outlines.
+    ax : matplotlib.axes.Axes, optional
+        Where to draw (a new figure when None).
+
+    Returns
+    -------
+    matplotlib.axes.Axes
+        The axes drawn on.
+    """
+    import matplotlib.patheffects as pe
+    from matplotlib.collections import LineCollection, PatchCollection
+    from matplotlib.colors import TwoSlopeNorm
+    from matplotlib.lines import Line2D
+    from matplotlib.patches import Patch, Polygon
+
+    fig, ax = _new_axes(ax, (9.0, 7.0))
+    S, L = settlement, length
+    delta = footings[f"total_delta_{S}"].to_numpy(float)
+    finite = np.abs(delta[np.isfinite(delta)])
+    top = float(finite.max()) if finite.size and finite.max() > 0 else 1.0
+    top = math.ceil(top / nice_step(top / 5.0) - 1e-9) * nice_step(top / 5.0)
+    norm = TwoSlopeNorm(vmin=-top, vcenter=0.0, vmax=top)
+    ids = [str(i) for i in footings["id"]]
+    pres = footings["presence"].to_numpy(object)
+    change = footings["change"].to_numpy(object)
+    fx, fy = footings[f"x_{L}"].to_numpy(float), footings[f"y_{L}"].to_numpy(float)
+    xy = {i: (x, y) for i, x, y in zip(ids, fx, fy)}
+    handles = []
+
+    segs, styles = [], []
+    for _, r in pairs.iterrows():
+        a, b = str(r["a"]), str(r["b"])
+        if a not in xy or b not in xy:
+            continue  # a query point: not on this plan
+        if bool(r["changed"]):
+            segs.append([xy[a], xy[b]])
+            styles.append(r["change"] if r["change"] in ("worse", "better") else "changed")
+    styles = np.array(styles, dtype=object)
+    segs = np.array(segs, float).reshape(-1, 2, 2)
+    spec = {
+        "changed": dict(colors=PAIR_COLOUR, linewidths=0.8, zorder=1),
+        "better": dict(colors=BETTER_COLOUR, linewidths=2.6, linestyles="--", zorder=4),
+        "worse": dict(colors=WORSE_COLOUR, linewidths=3.2, zorder=4, capstyle="round"),
+    }
+    labels = {
+        "changed": "pair whose movement changed",
+        "better": "pair: B passes, A failed",
+        "worse": "pair: B fails, A passed",
+    }
+    for style, kw in spec.items():
+        m = styles == style
+        if m.any():
+            ax.add_collection(LineCollection(segs[m], **kw))
+            handles.append(
+                Line2D([], [], color=kw["colors"], lw=kw["linewidths"],
+                       ls=kw.get("linestyles", "-"), label=labels[style])
+            )
+
+    shown = [i for i, p in zip(ids, pres) if p != "removed" and i in outlines]
+    patches = PatchCollection(
+        [Polygon(outlines[i], closed=True) for i in shown],
+        cmap=DIFFERENCE_CMAP,
+        norm=norm,
+        edgecolor="#222222",
+        linewidths=0.6,
+        zorder=3,
+    )
+    values = np.array([d for i, d, p in zip(ids, delta, pres) if p != "removed" and i in outlines])
+    patches.set_array(np.ma.masked_invalid(values))
+    ax.add_collection(patches)
+    for i, p, ch in zip(ids, pres, change):
+        if i not in outlines:
+            continue
+        o = outlines[i]
+        if p == "added":
+            ax.add_patch(Polygon(o, closed=True, facecolor="white", edgecolor="#222222",
+                                 hatch="////", lw=1.2, zorder=4))
+        elif p == "removed":
+            ax.add_patch(Polygon(o, closed=True, fill=False, edgecolor="#555555", ls="--",
+                                 lw=1.2, zorder=4))
+        elif ch in ("worse", "better"):
+            ax.add_patch(Polygon(o, closed=True, fill=False, lw=2.6, zorder=5,
+                                 edgecolor=WORSE_COLOUR if ch == "worse" else BETTER_COLOUR))
+    if (pres == "added").any():
+        handles.append(Patch(facecolor="white", edgecolor="#222222", hatch="////",
+                             label="footing only in B (added)"))
+    if (pres == "removed").any():
+        handles.append(Patch(facecolor="none", edgecolor="#555555", ls="--",
+                             label="footing only in A (removed)"))
+    if (change == "worse").any():
+        handles.append(Patch(facecolor="none", edgecolor=WORSE_COLOUR, lw=2.6,
+                             label="footing: B fails, A passed"))
+    if (change == "better").any():
+        handles.append(Patch(facecolor="none", edgecolor=BETTER_COLOUR, lw=2.6,
+                             label="footing: B passes, A failed"))
+
+    everything = [outlines[i] for i in ids if i in outlines]
+    if everything:
+        pts = np.concatenate(everything)
+        xmin, ymin = pts.min(axis=0)
+        xmax, ymax = pts.max(axis=0)
+        pad = 0.08 * max(xmax - xmin, ymax - ymin, 1.0)
+        ax.set_xlim(xmin - pad, xmax + pad)
+        ax.set_ylim(ymin - 1.6 * pad, ymax + 1.6 * pad)
+    ax.set_aspect("equal")
+    order = np.argsort(-np.where(np.isfinite(delta), np.abs(delta), -1.0), kind="stable")
+    named = [ids[k] for k in order[:DIFFERENCE_LABELS] if np.isfinite(delta[k]) and delta[k] != 0]
+    named += [i for i, p, ch in zip(ids, pres, change) if p != "both" or ch != "same"]
+    for i in dict.fromkeys(named):
+        if i in outlines:
+            o = outlines[i]
+            ax.text(float(o[:, 0].mean()), float(o[:, 1].max()), _esc(i), ha="center",
+                    va="bottom", fontsize=7, zorder=7,
+                    path_effects=[pe.withStroke(linewidth=2.2, foreground="white")])
+    cb = fig.colorbar(patches, ax=ax, shrink=0.85, pad=0.02)
+    cb.set_label(f"ΔS = S_B − S_A, total at the design life [{S}]")
+    _add_north_arrow(ax)
+    _add_scale_bar(ax, L)
+    ax.set_xlabel(f"x (east) [{L}]")
+    ax.set_ylabel(f"y (north) [{L}]")
+    ax.set_title("Difference map: B's footings by change of settlement (B − A)", loc="left",
+                 fontsize=11)
+    ax.grid(True, color="#e6e6e6", lw=0.5, zorder=0)
+    ax.set_axisbelow(True)
+    if handles:
+        ax.legend(handles=handles, loc="upper center", bbox_to_anchor=(0.5, -0.09), ncol=3,
+                  fontsize=8, frameon=False)
+    return ax

@@ -675,54 +675,65 @@ def make_figures(results: Results, *, units: str = "si", section=None) -> dict[s
     return figs
 
 
-def _is_results_folder(path: Path) -> bool:
-    """An empty folder, or one that sitesettle wrote (its summary.json says so)."""
+#: the file whose ``"program": "sitesettle"`` marks a results folder as ours
+RESULTS_MARKER = "summary.json"
+
+
+def _is_results_folder(path: Path, marker: str = RESULTS_MARKER) -> bool:
+    """An empty folder, or one that sitesettle wrote (its ``marker`` file says so)."""
     entries = list(path.iterdir())
     if not entries:
         return True
-    summary = path / "summary.json"
+    summary = path / marker
     try:
         return json.loads(summary.read_text(encoding="utf-8")).get("program") == "sitesettle"
     except (OSError, ValueError, AttributeError):
         return False
 
 
-def _check_target(out: Path) -> None:
-    """Raise OutputError when ``out`` cannot become a results folder (nothing is written)."""
+def _check_target(out: Path, marker: str = RESULTS_MARKER, what: str = "results") -> None:
+    """Raise OutputError when ``out`` cannot become a folder of ours (nothing is written).
+
+    ``marker`` is the JSON file that says an existing folder is ours (summary.json for
+    results); ``what`` names the folder in the messages ("results", "the comparison").
+    """
     bad = [c for c in str(out) if unicodedata.category(c) in FORBIDDEN_CATEGORIES]
     if bad:
         raise OutputError(
-            f"cannot write results to {terminal_line(str(out))}: the path holds the control "
+            f"cannot write {what} to {terminal_line(str(out))}: the path holds the control "
             f"or invisible character U+{ord(bad[0]):04X}, which the GIS library cannot "
             "write and a terminal cannot show; choose a plain folder name"
         )
     if out.exists() or out.is_symlink():
         if not out.is_dir():
             raise OutputError(
-                f"cannot write results to {out}: it is an existing file, not a folder; "
+                f"cannot write {what} to {out}: it is an existing file, not a folder; "
                 "choose another --out or remove the file"
             )
-        if not _is_results_folder(out):
+        if not _is_results_folder(out, marker):
             raise OutputError(
-                f"cannot write results to {out}: the folder exists and was not written by "
-                "sitesettle (no summary.json of ours); choose an empty or new folder"
+                f"cannot write {what} to {out}: the folder exists and was not written by "
+                f"sitesettle (no {marker} of ours); choose an empty or new folder"
             )
     ancestor = out.parent
     while not ancestor.exists():
         ancestor = ancestor.parent
     if not ancestor.is_dir():
-        raise OutputError(f"cannot write results to {out}: {ancestor} is a file, not a folder")
+        raise OutputError(f"cannot write {what} to {out}: {ancestor} is a file, not a folder")
     if not os.access(ancestor, os.W_OK | os.X_OK):
-        raise OutputError(f"cannot write results to {out}: no permission to write in {ancestor}")
+        raise OutputError(f"cannot write {what} to {out}: no permission to write in {ancestor}")
 
 
-def check_target(out_dir: str | os.PathLike) -> None:
+def check_target(
+    out_dir: str | os.PathLike, *, marker: str = RESULTS_MARKER, what: str = "results"
+) -> None:
     """Raise OutputError now if ``out_dir`` cannot become a results folder.
 
     The command line calls it before a long analysis; :func:`write_results` calls it
-    again before writing. Nothing is written.
+    again before writing. Nothing is written. ``marker`` and ``what`` as for
+    :func:`write_folder` (another kind of folder of ours, such as a comparison).
     """
-    _check_target(_follow_link(Path(out_dir).absolute()))
+    _check_target(_follow_link(Path(out_dir).absolute()), marker, what)
 
 
 @contextlib.contextmanager
@@ -903,32 +914,78 @@ def write_results(
         the temporary folder is removed and the old folder kept.
     """
     u = _units(units)
+
+    def fill(tmp: Path) -> None:
+        _write_all(results, tmp, u, progress or (lambda name: None), section)
+        for name, content in (extra_files or {}).items():
+            if Path(name).name != name or name.startswith("."):
+                raise ValueError(f"extra file name {name!r} is not a plain file name")
+            (tmp / name).write_bytes(content)
+
+    return write_folder(out_dir, fill, on_wait=on_wait)
+
+
+def write_folder(
+    out_dir: str | os.PathLike,
+    fill: Callable[[Path], None],
+    *,
+    marker: str = RESULTS_MARKER,
+    what: str = "results",
+    on_wait: Callable[[str], None] | None = None,
+) -> Path:
+    """Make a folder of ours atomically: ``fill`` writes a temporary folder, then it is
+    swapped into place.
+
+    This is the writing of :func:`write_results` without its files; ``sitesettle
+    compare`` writes its folder the same way. The target is checked first (an existing
+    file, a folder that is not ours, a link to nothing, a parent that cannot be written
+    raise :class:`OutputError` before anything is written), the folder's lock is held
+    from the temporary folder to the swap, the leftovers of killed runs are cleared,
+    and after any error or interrupt the temporary folder is removed and the old
+    folder kept.
+
+    Parameters
+    ----------
+    out_dir : path
+        The folder to (re)place. It may exist if it is empty or ours: its ``marker``
+        file holds ``"program": "sitesettle"``.
+    fill : callable
+        Called as ``fill(tmp)`` with the temporary folder (a :class:`pathlib.Path`);
+        it writes every file, including the ``marker``.
+    marker : str, optional
+        The JSON file that marks a folder as ours (``"summary.json"`` for results).
+    what : str, optional
+        The folder in the messages (``"results"``, ``"the comparison"``).
+    on_wait : callable, optional
+        Called once with a message when another run holds the folder's lock.
+
+    Returns
+    -------
+    pathlib.Path
+        The folder written (a symbolic link followed).
+    """
     out = _follow_link(Path(out_dir).absolute())
-    _check_target(out)
+    _check_target(out, marker, what)
     # the temporary folder's name is chosen before it exists, so that an interrupt at
     # any moment after its creation finds it and removes it
     tmp = out.parent / f".{out.name}.tmp-{uuid.uuid4().hex[:8]}"
     try:
         out.parent.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
-        raise OutputError(f"cannot write results to {out}: {exc.strerror or exc}") from None
+        raise OutputError(f"cannot write {what} to {out}: {exc.strerror or exc}") from None
     with _results_lock(out, on_wait):
         _remove_stale(out)
-        _check_target(out)  # again: another run may have changed it while this one waited
+        _check_target(out, marker, what)  # again: another run may have changed it meanwhile
         try:
             try:
                 with _signals_deferred():
                     tmp.mkdir(mode=0o700)
             except OSError as exc:
-                raise OutputError(f"cannot write results to {out}: {exc.strerror or exc}") from None
+                raise OutputError(f"cannot write {what} to {out}: {exc.strerror or exc}") from None
             umask = os.umask(0)
             os.umask(umask)
             os.chmod(tmp, 0o777 & ~umask)
-            _write_all(results, tmp, u, progress or (lambda name: None), section)
-            for name, content in (extra_files or {}).items():
-                if Path(name).name != name or name.startswith("."):
-                    raise ValueError(f"extra file name {name!r} is not a plain file name")
-                (tmp / name).write_bytes(content)
+            fill(tmp)
             _swap(tmp, out)
         except BaseException:
             shutil.rmtree(tmp, ignore_errors=True)
