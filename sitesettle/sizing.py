@@ -146,6 +146,8 @@ class Unresolved:
     reason: str
     #: the footing sizing would have to change (the one that moves most), if any
     cause: str | None = None
+    #: the check passed on the plan as given: resizing other footings made it fail
+    new: bool = False
 
 
 @dataclass(frozen=True)
@@ -577,6 +579,7 @@ def _outcome(
     ids = results.ids
     chk0, chk = original.checks, results.checks
     unresolved = []
+    before = {(kind, members) for _, members, _, kind in failing_checks(original)}
     for text, members, _excess, kind in failing_checks(results):
         fs = tuple(m for m in members if m < len(ids))
         cause = None
@@ -602,7 +605,13 @@ def _outcome(
                 cause = ids[culprit]
                 at_max = current.footings[culprit].width >= upper[culprit] - 1e-9
                 why = _why(results, original, culprit, at_max, blocked.get(culprit), limits)
-        unresolved.append(Unresolved(text, tuple(ids[m] for m in fs), why, cause))
+        new = (kind, members) not in before
+        if new:
+            why = (
+                "this check passed on the plan as given; the sizes chosen for other "
+                f"footings made it fail. {why}"
+            )
+        unresolved.append(Unresolved(text, tuple(ids[m] for m in fs), why, cause, new))
     failing = {u.cause for u in unresolved}
     changes = []
     for i, (f0, f1) in enumerate(zip(site.footings, current.footings)):

@@ -157,6 +157,29 @@ def test_exit_code_is_1_exactly_when_a_check_that_passed_fails(runs, sized_vs_de
             assert re.search(rf"pair ({x}–{y}|{y}–{x}):", stdout)
 
 
+def test_sizing_marks_the_checks_its_sizes_broke(runs):
+    # the checks sizing leaves failing that passed on the plan as given, as
+    # sizing.json marks them, are exactly the pairs that fail in the sized plan's
+    # pairs.csv and passed in the demo's (the two folders' own tables)
+    root, a, b = runs
+    pa, pb = read(a / "pairs.csv"), read(b / "pairs.csv")
+    pst = {frozenset((x, y)): s for x, y, s in zip(pa["a"], pa["b"], pa["status"])}
+    broke = {
+        frozenset((x, y))
+        for x, y, s in zip(pb["a"], pb["b"], pb["status"])
+        if pst.get(frozenset((x, y))) == "pass" and s == "fail"
+    }
+    info = json.loads((b / "sizing.json").read_text(encoding="utf-8"))
+    marked = {
+        frozenset(u["footings"])
+        for u in info["unresolved"]
+        if u["passed_before_sizing"] and u["check"].startswith("pair ")
+    }
+    assert marked == broke
+    for u in info["unresolved"]:
+        assert ("passed on the plan as given" in u["reason"]) == u["passed_before_sizing"]
+
+
 def test_differences_are_b_minus_a_of_the_two_csv_files(runs, sized_vs_demo):
     root, a, b = runs
     out = sized_vs_demo[0]

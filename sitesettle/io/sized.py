@@ -192,7 +192,13 @@ def sizing_json(outcome: SizingOutcome, limits: SizingLimits) -> bytes:
         "resized": [c["id"] for c in outcome.changes if c["changed"]],
         "failing_by_analysis": [h[0] for h in outcome.history],
         "unresolved": [
-            {"check": u.check, "footings": list(u.footings), "cause": u.cause, "reason": u.reason}
+            {
+                "check": u.check,
+                "footings": list(u.footings),
+                "cause": u.cause,
+                "passed_before_sizing": u.new,
+                "reason": u.reason,
+            }
             for u in outcome.unresolved
         ],
     }
@@ -260,11 +266,8 @@ def format_sizing(outcome: SizingOutcome, limits: SizingLimits, units: str = "si
             "written is the best found:"
         )
         for u in outcome.unresolved:
-            out.extend(
-                textwrap.wrap(
-                    terminal_line(u.check), 100, initial_indent="  ", subsequent_indent="    "
-                )
-            )
+            head = terminal_line(u.check) + (" (passed before sizing)" if u.new else "")
+            out.extend(textwrap.wrap(head, 100, initial_indent="  ", subsequent_indent="    "))
             out.extend(
                 textwrap.wrap(
                     "why: " + terminal_line(u.reason),
