@@ -35,7 +35,7 @@ loads); the same algorithm written with numpy arrays of pairs and a recursive
 tree took 42–66 s, most of it in building and gathering those arrays.
 Polygons (benchmarks/polygon_bench.py): the compiled edge sum costs 30–40 ns per
 (point × vertex) on two threads, against 110–280 ns for the numpy sum; at the
-default tolerance a raft outline of 8,000–200,000 vertices costs about 0.2 ms
+default tolerance a raft outline of 8,000–200,000 vertices costs 0.1–0.5 ms
 per point through its chain tree, nearly independent of the vertex count.
 
 References
