@@ -607,8 +607,10 @@ def _stresses(ctx: Context, sub: fld.Sublayers, tol: float) -> None:
     """Superposed stresses of all loads and the own footing's, full and sustained (in place)."""
     xyz = np.column_stack([sub.x, sub.y, sub.mid])
     if len(ctx.loads_full) and len(xyz):
-        sub.sz, sub.t = stress.stress_sums(ctx.loads_full, xyz, tolerance=tol)
-        sub.sz_sust, _ = stress.stress_sums(ctx.loads_sust, xyz, tolerance=tol)
+        notes: list = []
+        sub.sz, sub.t = stress.stress_sums(ctx.loads_full, xyz, tolerance=tol, notes=notes)
+        sub.sz_sust, _ = stress.stress_sums(ctx.loads_sust, xyz, tolerance=tol, notes=notes)
+        _outline_notes(ctx, notes)
     else:
         sub.sz = sub.t = sub.sz_sust = np.zeros(len(xyz))
     sub.own_sz = np.zeros(len(xyz))
@@ -619,6 +621,25 @@ def _stresses(ctx: Context, sub: fld.Sublayers, tol: float) -> None:
         sub.own_sz[owned], sub.own_t[owned] = osz, ot
     ratio = np.divide(ctx.q_sust, ctx.q_full, out=np.zeros(len(ctx.q_full)), where=ctx.q_full > 0)
     sub.own_sust = np.where(sub.owner >= 0, sub.own_sz * ratio[np.maximum(sub.owner, 0)], 0.0)
+
+
+def _outline_notes(ctx: Context, notes: list) -> None:
+    """A warning naming each dense outline the stress engine simplified (once per run)."""
+    nf = len(ctx.site.footings)
+    for note in notes:
+        k = note.load
+        if k < nf:
+            name = f"footing {ctx.site.footings[int(np.flatnonzero(ctx.load_of == k)[0])].id}"
+        else:
+            name = f"area load {ctx.site.area_loads[k - nf].name}"
+        text = (
+            f"{name}: its outline of {note.vertices} vertices was simplified for the "
+            f"stresses at {note.points} of {note.evaluated} points (up to "
+            f"{note.most_dropped} vertices dropped at a point); the stress error this "
+            f"adds is at most {note.bound:.1g} kPa, within the stress tolerance"
+        )
+        if not any(w.startswith(f"{name}: its outline of") for w in ctx.warnings):
+            ctx.warnings.append(text)
 
 
 def _histories(ctx, sub, tab, gc, *, own_mask=None, total_mask=None, times=None) -> fld.History:
