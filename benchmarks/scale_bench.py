@@ -22,7 +22,6 @@ import json
 import math
 import os
 import pathlib
-import resource
 import subprocess
 import sys
 import tempfile
@@ -147,17 +146,23 @@ def write_project(folder: pathlib.Path, n: int, *, with_map: bool, seed: int = 7
 
 
 def run_subprocess(folder: pathlib.Path, with_map: bool) -> tuple[float, float, int]:
-    """Wall time [s], peak RSS of the child [MB] and exit code of ``sitesettle check``."""
+    """Wall time [s], peak RSS of the child [MB] and exit code of ``sitesettle check``.
+
+    The peak is this child's own (``os.wait4``), not the largest of all children so
+    far (``RUSAGE_CHILDREN`` keeps the maximum over every child waited for).
+    """
     cmd = [sys.executable, "-m", "sitesettle_cli", "check", str(folder), "--quiet",
            "--out", str(folder / "results")]
-    before = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
     t0 = time.perf_counter()
-    done = subprocess.run(cmd, capture_output=True, text=True)
+    proc = subprocess.Popen(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True)
+    err = proc.stderr.read()
+    _, status, usage = os.wait4(proc.pid, 0)
     wall = time.perf_counter() - t0
-    peak = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
-    if done.returncode not in (0, 1):
-        print(done.stderr[-2000:], file=sys.stderr)
-    return wall, max(peak, before) / 1024.0, done.returncode
+    rc = os.waitstatus_to_exitcode(status)
+    proc.returncode = rc
+    if rc not in (0, 1):
+        print(err[-2000:], file=sys.stderr)
+    return wall, usage.ru_maxrss / 1024.0, rc
 
 
 def phases(folder: pathlib.Path, with_map: bool) -> dict[str, float]:
