@@ -603,12 +603,39 @@ def _empty_sublayers() -> fld.Sublayers:
     )
 
 
+def same_loads(a: stress.Loads, b: stress.Loads) -> bool:
+    """True when two sets of loads are the same, bit for bit (their stresses are then equal).
+
+    >>> sq = stress.Loads.rectangles([0.0], [0.0], [2.0], [2.0], [0.0], [100.0], [1.0])
+    >>> same_loads(sq, sq.with_pressure([100.0])), same_loads(sq, sq.with_pressure([90.0]))
+    (True, False)
+    """
+    if a is b:
+        return True
+    if len(a) != len(b) or len(a.outlines) != len(b.outlines):
+        return False
+    names = ("kind", "x", "y", "length", "width", "rotation", "radius", "pressure", "depth")
+    arrays = [(getattr(a, k), getattr(b, k)) for k in names] + list(zip(a.outlines, b.outlines))
+    return all(
+        u is v
+        or (
+            np.asarray(u).shape == np.asarray(v).shape
+            and np.asarray(u).dtype == np.asarray(v).dtype
+            and np.asarray(u).tobytes() == np.asarray(v).tobytes()
+        )
+        for u, v in arrays
+    )
+
+
 def _stresses(ctx: Context, sub: fld.Sublayers, tol: float) -> None:
     """Superposed stresses of all loads and the own footing's, full and sustained (in place)."""
     xyz = np.column_stack([sub.x, sub.y, sub.mid])
     if len(ctx.loads_full) and len(xyz):
         sub.sz, sub.t = stress.stress_sums(ctx.loads_full, xyz, tolerance=tol)
-        sub.sz_sust, _ = stress.stress_sums(ctx.loads_sust, xyz, tolerance=tol)
+        if same_loads(ctx.loads_full, ctx.loads_sust):  # e.g. a stage of dead load only
+            sub.sz_sust = sub.sz.copy()
+        else:
+            sub.sz_sust, _ = stress.stress_sums(ctx.loads_sust, xyz, tolerance=tol)
     else:
         sub.sz = sub.t = sub.sz_sust = np.zeros(len(xyz))
     sub.own_sz = np.zeros(len(xyz))
@@ -777,8 +804,16 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
     nt = len(t)
     out = {name: np.zeros((len(run.sub), nt)) for name in _TIMED}
     full = None
+    keys = [_state_key(state) for state in ctx.states] + [None]
+    kept = None  # the previous state's sublayers, kept only when the next state is equal
     for j in range(K):  # one state at a time: memory of two histories, not K
-        sctx, ssub = _state(ctx, run, tab, gc, ctx.states[j]) if j < K - 1 else (ctx, run.sub)
+        if j == K - 1:
+            sctx, ssub = ctx, run.sub
+        elif kept is not None and keys[j] == keys[j - 1]:
+            sctx, ssub = kept  # a stage that adds no load: the same state again
+        else:
+            sctx, ssub = _state(ctx, run, tab, gc, ctx.states[j])
+        kept = (sctx, ssub) if j < K - 1 and keys[j + 1] == keys[j] else None
         # state j enters increment j (+) and increment j + 1 (−)
         own_t, own_w, own_q = nodes[j]
         nxt_t, nxt_w, nxt_q = nodes[j + 1] if j + 1 < K else (np.zeros(0),) * 3
@@ -798,6 +833,13 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
                 _add_nodes(acc, v[:, a:b], nxt_w, nxt_q, -1.0)
         del h
     return fld.History(**out, degree=full[0], drainage_path=full[1], drainage_note=full[2])
+
+
+def _state_key(state) -> bytes:
+    """The pressures of a stage's state, as bytes (equal bytes: equal stresses and strains)."""
+    qf, qs, lf, ls = state
+    return b"|".join(np.ascontiguousarray(a, dtype=float).tobytes()
+                     for a in (qf, qs, lf.pressure, ls.pressure))
 
 
 def _strip_sublayers(site: Site, sub: fld.Sublayers) -> np.ndarray:
@@ -1265,11 +1307,13 @@ def _left_out(sub, gc, tab, pts, cols, ctx, st) -> dict[int, tuple[float, str]]:
     gap = all_life - cols["tot"][:, life]
     out = {}
     names = [s.name for s in site.strata]
+    starts = np.searchsorted(sub.col, np.arange(n))  # sublayers sorted by column
+    ends = np.searchsorted(sub.col, np.arange(n), side="right")
     for c in np.flatnonzero(
         (pts.kind == "footing") & (gap > st.truncation_tolerance * np.abs(all_life))
     ):
         i = int(pts.owner[c])
-        rows = np.flatnonzero(sub.col == c)
+        rows = np.arange(starts[c], ends[c])
         strata = sorted({names[k] for k in sub.stratum[rows]})
         if i not in out or gap[c] * 1000 > out[i][0]:
             out[i] = (float(gap[c] * 1000), ", ".join(strata))
@@ -1352,27 +1396,34 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
         fld.FIELD_CONE_FACTOR["1978"],
     )
     f_used = np.where(is_sch & np.isfinite(factor), factor, field_factor)
-    source = (
-        np.where(
-            coh,
-            np.where(np.isfinite(sub.modulus), "undrained E given", ""),
+    # the text of the modulus' source, formatted only where a trace shows it (the
+    # sublayers of the footings' columns, not those of the map and query points)
+    shown = np.flatnonzero(pts.kind[sub.col] == "footing") if n_sub else np.zeros(0, int)
+    if n_sub:
+        f_shown = f_used[shown]
+        part = np.where(
+            coh[shown],
+            np.where(np.isfinite(sub.modulus[shown]), "undrained E given", ""),
             np.where(
-                np.isfinite(e_given),
+                np.isfinite(e_given[shown]),
                 "given",
                 np.where(
-                    sounded,
-                    np.char.add(np.char.add("", np.char.mod("%.2f", f_used)), "·qc from soundings"),
+                    sounded[shown],
+                    np.char.add(
+                        np.char.add("", np.char.mod("%.2f", f_shown)), "·qc from soundings"
+                    ),
                     np.where(
-                        np.isfinite(qc_given),
-                        np.char.add(np.char.mod("%.2f", f_used), "·qc given"),
+                        np.isfinite(qc_given[shown]),
+                        np.char.add(np.char.mod("%.2f", f_shown), "·qc given"),
                         "from SPT (Burland & Burbidge)",
                     ),
                 ),
             ),
         )
-        if n_sub
-        else np.zeros(0, dtype=object)
-    )
+        source = np.full(n_sub, "", dtype=part.dtype)
+        source[shown] = part
+    else:
+        source = np.zeros(0, dtype=object)
     qc_used = (
         np.where(
             ~coh & np.isnan(e_given) & (sounded | np.isfinite(qc_given)),
