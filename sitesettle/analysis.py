@@ -25,10 +25,10 @@ from dataclasses import field as dc_field
 
 import numpy as np
 
+from sitesettle import budget, stress
 from sitesettle import checks as checks_mod
 from sitesettle import columns as colmod
 from sitesettle import field as fld
-from sitesettle import stress
 from sitesettle.columns import GroundColumns, Points
 from sitesettle.errors import InputError
 from sitesettle.ground import Ground
@@ -881,7 +881,12 @@ def per_column(sub: fld.Sublayers, values: np.ndarray, n: int) -> np.ndarray:
 
 
 def analyse(
-    site: Site, *, progress: Progress | None = None, with_map: bool = True, with_checks: bool = True
+    site: Site,
+    *,
+    progress: Progress | None = None,
+    with_map: bool = True,
+    with_checks: bool = True,
+    on_warning: Callable[[str], None] | None = None,
 ) -> Results:
     """Settlement of every footing of ``site`` over time, with traces, map and checks.
 
@@ -893,6 +898,10 @@ def analyse(
         ``progress(stage, fraction)`` is called as the work advances.
     with_map, with_checks : bool
         Compute the settlement map and the movement checks (default True).
+    on_warning : callable, optional
+        ``on_warning(text)`` is called at once, before the work starts, when the plan
+        is estimated to be large (:mod:`sitesettle.budget`); the text is also among
+        the results' warnings.
 
     Returns
     -------
@@ -905,6 +914,12 @@ def analyse(
     ctx = prepare(site)
     site = ctx.site  # excavations resolved to their pressures
     pts, layout = evaluation_points(site, with_map=with_map)
+    # refused or warned before any stress is computed (PlanTooLarge: an InputError)
+    large = budget.assess(plan_estimate(ctx, pts, layout))
+    if large:
+        ctx.warnings.append(large)
+        if on_warning is not None:
+            on_warning(large)
     gc = GroundColumns.build(ctx.ground, pts.xy)
     tab = fld.Tables.build(gc, str(st.granular_method))
     run = integrate(ctx, pts, gc, tab, say)
@@ -1016,6 +1031,22 @@ def analyse(
         )
     say("done", 1.0)
     return Results(**{**results.__dict__, "checks": chk, "warnings": tuple(warnings)})
+
+
+def plan_estimate(ctx: Context, pts: Points, layout: dict) -> budget.Estimate:
+    """The time and memory a run will take, from its counts (:func:`sitesettle.budget.estimate`)."""
+    site = ctx.site
+    n_states = len(ctx.stages)
+    return budget.estimate(
+        budget.counts(
+            len(site.footings),
+            len(pts),
+            len(layout["map"]),
+            len(ctx.times),
+            n_states,
+            site.analysis.sublayer_fraction,
+        )
+    )
 
 
 def _far_warnings(site, warnings: list[str], with_checks: bool) -> None:
