@@ -778,8 +778,18 @@ def _add_nodes(acc, values, weight, index, sign: float) -> None:
         return
     q = np.unique(index)
     k = len(index) // len(q)
-    part = (values * weight).reshape(values.shape[0], len(q), k).sum(axis=2)
-    acc[:, q] += sign * part
+    if k == 1 and np.all(weight == 1.0):  # a load applied at once: the values themselves
+        part = values  # (x·1 and a sum of one term are x exactly: the same numbers)
+    else:
+        part = (values * weight).reshape(values.shape[0], len(q), k).sum(axis=2)
+    if len(q) == q[-1] - q[0] + 1:  # consecutive report times: a slice, not a gather
+        view = acc[:, q[0] : q[-1] + 1]
+        if sign == 1.0:
+            view += part
+        else:
+            view += sign * part
+    else:
+        acc[:, q] += sign * part
 
 
 def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mask=None):
