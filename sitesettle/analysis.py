@@ -32,7 +32,7 @@ from sitesettle import field as fld
 from sitesettle.columns import GroundColumns, Points
 from sitesettle.errors import InputError
 from sitesettle.ground import Ground
-from sitesettle.options import DepthRule
+from sitesettle.options import Behaviour, DepthRule
 from sitesettle.results import QueryResults, Results, SettlementMap, Trace
 from sitesettle.site import Footing, LoadStage, Site
 
@@ -648,7 +648,9 @@ def _stresses(ctx: Context, sub: fld.Sublayers, tol: float) -> None:
     sub.own_sust = np.where(sub.owner >= 0, sub.own_sz * ratio[np.maximum(sub.owner, 0)], 0.0)
 
 
-def _histories(ctx, sub, tab, gc, *, own_mask=None, total_mask=None, times=None) -> fld.History:
+def _histories(
+    ctx, sub, tab, gc, *, own_mask=None, total_mask=None, times=None, units=None
+) -> fld.History:
     """Stage 4 with the site's settings (the one place the engine's histories are asked for)."""
     st = ctx.site.analysis
     return fld.histories(
@@ -665,7 +667,40 @@ def _histories(ctx, sub, tab, gc, *, own_mask=None, total_mask=None, times=None)
         clay_settlement=str(st.clay_settlement),
         cohesive_immediate=st.cohesive_immediate,
         strip=_strip_sublayers(ctx.site, sub),
+        units=units,
     )
+
+
+#: the histories of a load state are made this many (sublayer × time) elements at a
+#: time, whole columns each (memory in proportion to the chunk, not to the plan)
+HISTORY_CHUNK = 1_000_000
+
+
+def column_chunks(col: np.ndarray, per_row: int, limit: int = HISTORY_CHUNK) -> list[slice]:
+    """Row ranges of sublayers sorted by column, whole columns each, of about
+    ``limit / per_row`` rows (a column larger than that is a range of its own).
+
+    >>> column_chunks(np.array([0, 0, 1, 1, 1, 2]), 1, limit=3)
+    [slice(0, 2, None), slice(2, 5, None), slice(5, 6, None)]
+    """
+    n = len(col)
+    rows = max(1, limit // max(1, per_row))
+    if n <= rows:
+        return [slice(0, n)]
+    starts = np.flatnonzero(np.r_[True, col[1:] != col[:-1]])  # first row of each column
+    out, a = [], 0
+    while a < n:
+        if a + rows >= n:
+            b = n
+        else:
+            k = int(np.searchsorted(starts, a + rows, side="right")) - 1  # last start ≤ a + rows
+            if starts[k] > a:
+                b = int(starts[k])
+            else:  # one column longer than a chunk: it alone
+                b = int(starts[k + 1]) if k + 1 < len(starts) else n
+        out.append(slice(a, b))
+        a = b
+    return out
 
 
 def _state(ctx: Context, run: Integration, tab, gc, state) -> tuple[Context, fld.Sublayers]:
@@ -812,8 +847,13 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
     K = len(stages)
     nodes = [ramp_nodes(t - stg.start, stg.duration) for stg in stages]
     nt = len(t)
-    out = {name: np.zeros((len(run.sub), nt)) for name in _TIMED}
-    full = None
+    n_sub = len(run.sub)
+    out = {name: np.zeros((n_sub, nt)) for name in _TIMED}
+    degree = np.full((n_sub, nt), np.nan)
+    path = np.full(n_sub, np.nan)
+    note = np.full(n_sub, "", dtype=object)
+    clay = tab.behaviour.size and (tab.behaviour == Behaviour.COHESIVE.value).any()
+    units = fld.consolidating_units(gc, tab, ctx.ground.investigated_depth) if clay else None
     keys = [_state_key(state) for state in ctx.states] + [None]
     kept = None  # the previous state's sublayers, kept only when the next state is equal
     for j in range(K):  # one state at a time: memory of two histories, not K
@@ -830,19 +870,33 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
         grid = np.concatenate([own_t, nxt_t, t if j == K - 1 else np.zeros(0)])
         if not len(grid):
             continue
-        h = _histories(sctx, ssub, tab, gc, own_mask=own_mask, total_mask=total_mask, times=grid)
-        del ssub
-        if j == K - 1:
-            full = (h.degree[:, -nt:].copy(), h.drainage_path, h.drainage_note)
         a, b = len(own_t), len(own_t) + len(nxt_t)
-        for name in _TIMED:
-            v = getattr(h, name)
-            acc = out[name]
-            _add_nodes(acc, v[:, :a], own_w, own_q, 1.0)
-            if b > a:
-                _add_nodes(acc, v[:, a:b], nxt_w, nxt_q, -1.0)
-        del h
-    return fld.History(**out, degree=full[0], drainage_path=full[1], drainage_note=full[2])
+        for rows in column_chunks(ssub.col, len(grid)):  # whole columns at a time
+            part = ssub.take(np.arange(rows.start, rows.stop))
+            h = _histories(
+                sctx,
+                part,
+                tab,
+                gc,
+                own_mask=None if own_mask is None else own_mask[rows],
+                total_mask=None if total_mask is None else total_mask[rows],
+                times=grid,
+                units=units,
+            )
+            del part
+            if j == K - 1:
+                degree[rows] = h.degree[:, -nt:]
+                path[rows] = h.drainage_path
+                note[rows] = h.drainage_note
+            for name in _TIMED:
+                v = getattr(h, name)
+                acc = out[name][rows]
+                _add_nodes(acc, v[:, :a], own_w, own_q, 1.0)
+                if b > a:
+                    _add_nodes(acc, v[:, a:b], nxt_w, nxt_q, -1.0)
+            del h
+        del ssub
+    return fld.History(**out, degree=degree, drainage_path=path, drainage_note=note)
 
 
 def _state_key(state) -> bytes:

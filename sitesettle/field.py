@@ -606,6 +606,7 @@ def histories(
     clay_settlement: str = "oedometer",
     cohesive_immediate: bool = True,
     strip: np.ndarray | None = None,
+    units: Units | None = None,
 ) -> History:
     """Settlement of every sublayer at every time (sublayers sorted by column, then depth).
 
@@ -619,7 +620,8 @@ def histories(
     once normally consolidated (Cα/Cc constant, Mesri & Godlewski 1977); for a clay with no
     bottom in the boreholes, down to the investigated depth only; undrained strain
     at once. ``own_mask`` and ``total_mask`` switch sublayers off (an explicit
-    stress-ratio depth rule).
+    stress-ratio depth rule). ``units`` are the consolidating units of ``gc``
+    (:func:`consolidating_units`), when the caller has them already.
     """
     n, nt = len(sub), len(times)
     om = np.ones(n, dtype=bool) if own_mask is None else own_mask
@@ -641,7 +643,8 @@ def histories(
     c, k = sub.col, sub.stratum
     coh = tab.behaviour[c, k] == Behaviour.COHESIVE.value if n else np.zeros(0, dtype=bool)
     if coh.any():
-        units = consolidating_units(gc, tab, investigated_depth)
+        if units is None:
+            units = consolidating_units(gc, tab, investigated_depth)
         idx = np.flatnonzero(coh)
         ukey = units.index[c[idx], k[idx]]
         order = np.argsort(ukey, kind="stable")
