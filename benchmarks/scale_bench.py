@@ -176,6 +176,17 @@ from sitesettle.io.project import load_site
 from sitesettle.analysis import analyse
 out = {"start-up": time.perf_counter() - t0}
 t = time.perf_counter(); site = load_site(sys.argv[1]); out["read"] = time.perf_counter() - t
+try:  # what sitesettle.budget estimates for this plan (its coefficients come from here)
+    from sitesettle import analysis as an
+    ctx = an.prepare(site)
+    pts, lay = an.evaluation_points(ctx.site, with_map=sys.argv[2] == "1")
+    est = an.plan_estimate(ctx, pts, lay)
+    out["estimate: time [s]"] = est.seconds
+    out["estimate: memory [GB]"] = est.bytes / 1e9
+    out["estimate: sublayers [million]"] = est.counts.sublayers / 1e6
+    out["estimate: columns [thousand]"] = est.counts.columns / 1e3
+except (ImportError, AttributeError):  # a version without the estimate
+    pass
 marks = []
 def progress(stage, frac):
     marks.append((stage, time.perf_counter()))
@@ -225,7 +236,8 @@ def main() -> None:
         print(f"{n:>9} {wall:>8.1f} {peak:>8.0f} {rc:>4}")
         if not args.no_phases:
             for name, sec in phases(folder, with_map).items():
-                print(f"{'':>12}{name:<40} {sec:>7.2f} s")
+                unit = "" if name.startswith("estimate") else " s"
+                print(f"{'':>12}{name:<40} {sec:>7.2f}{unit}")
     if len(args.sizes) > 1:
         slope = np.polyfit(np.log(args.sizes), np.log(walls), 1)[0]
         print(f"growth exponent of the wall time ({args.sizes[0]}–{args.sizes[-1]}): {slope:.2f}")
