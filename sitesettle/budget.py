@@ -10,7 +10,10 @@ written); above :data:`WARN_MEMORY_RATIO` of the memory available now, or over
 :data:`WARN_SECONDS`, it runs with a warning that names the estimate.
 
 The coefficients are measured by ``benchmarks/scale_bench.py`` on a 2-core machine
-(it prints the estimate beside the measured time and peak memory of every plan);
+(it prints the estimate beside the measured time and peak memory of every plan; on
+its plans of 100, 1,000 and 3,000 footings the memory is within 20 % and the time
+is overestimated up to 3 times for small plans, within 20 % at 3,000 footings:
+benchmarks/README.md);
 they are an order of magnitude, not a promise: another machine, another load on
 it, or a plan very unlike the benchmark's (a raft of many vertices, deep clay)
 moves them.
@@ -38,14 +41,14 @@ SUBLAYERS_PER_FRACTION = 7.0
 BASE_SECONDS = 4.0
 BASE_BYTES = 350e6
 #: seconds per sublayer per stress evaluation (stresses and strains of one load state)
-SECONDS_PER_SUBLAYER_STATE = 1.2e-5
+SECONDS_PER_SUBLAYER_STATE = 3.0e-5
 #: seconds per sublayer per time of the histories
 SECONDS_PER_SUBLAYER_TIME = 1.0e-6
 #: seconds per footing (checks, traces, tables, the report, the GIS layers)
 SECONDS_PER_FOOTING = 2.0e-3
 #: bytes per sublayer (its arrays) and per sublayer and time of a history
-BYTES_PER_SUBLAYER = 900.0
-BYTES_PER_SUBLAYER_TIME = 200.0
+BYTES_PER_SUBLAYER = 500.0
+BYTES_PER_SUBLAYER_TIME = 90.0
 
 
 class PlanTooLarge(InputError):

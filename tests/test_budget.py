@@ -29,13 +29,13 @@ def _no_stress(*args, **kwargs):
 
 @pytest.fixture
 def machine(monkeypatch):
-    """A machine of 8 GB with 6 GB available (whatever this one has)."""
-    monkeypatch.setattr(budget, "physical_memory", lambda: 8 * GB)
-    monkeypatch.setattr(budget, "available_memory", lambda: 6 * GB)
+    """A machine of 4 GB with 3 GB available (whatever this one has)."""
+    monkeypatch.setattr(budget, "physical_memory", lambda: 4 * GB)
+    monkeypatch.setattr(budget, "available_memory", lambda: 3 * GB)
 
 
 def _huge():
-    """5,000 pads with sublayers of 1 % of their width: far beyond 16 GB by the estimate."""
+    """5,000 pads with sublayers of 1 % of their width: far beyond 8 GB by the estimate."""
     site = make_site(nx=100, ny=50)
     return dataclasses.replace(
         site, analysis=dataclasses.replace(site.analysis, sublayer_fraction=0.01)
@@ -58,8 +58,8 @@ def test_the_command_refuses_it_with_exit_2_and_writes_nothing(
 ):
     folder = tmp_path / "demo"
     shutil.copytree(DEMO, folder)
-    # the demo (about 1.2 GB by the estimate) on a machine of 0.5 GB: refused
-    monkeypatch.setattr(budget, "physical_memory", lambda: 0.5 * GB)
+    # the demo (about 0.75 GB by the estimate) on a machine of 0.25 GB: refused
+    monkeypatch.setattr(budget, "physical_memory", lambda: 0.25 * GB)
     monkeypatch.setattr(stress, "stress_sums", _no_stress)
     out = tmp_path / "results"
     assert main(["check", str(folder), "--out", str(out)]) == 2
