@@ -620,6 +620,18 @@ def _series_terms(span, ct) -> int:
     return int(np.clip(np.nanmax(np.ceil(need)) if len(need) else 1, 1, MAX_SERIES_TERMS))
 
 
+def _series_terms_each(span, c, times) -> list[int]:
+    """:func:`_series_terms` at each of ``times``, for all times at once (the same numbers:
+    the largest of the same values)."""
+    if not len(span):
+        return [1] * len(times)
+    ct = c[:, None] * np.asarray(times, dtype=float)[None, :]  # (m, nt)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        need = np.where(ct > 0, span[:, None] / math.pi * np.sqrt(SERIES_EXPONENT / ct), 1.0)
+    top = np.nanmax(np.ceil(need), axis=0)
+    return [int(np.clip(v, 1, MAX_SERIES_TERMS)) for v in top]
+
+
 def _series_means(a, b, u0, L, c, times, one_face) -> np.ndarray:
     """(m, n, nt) mean excess pore pressure of the sublayers of finite layers at each time > 0.
 
@@ -631,7 +643,7 @@ def _series_means(a, b, u0, L, c, times, one_face) -> np.ndarray:
     nt = len(times)
     h = b - a
     span = np.where(one_face, 2.0 * L, L)  # the doubly drained equivalent layer
-    counts = [_series_terms(span, c * tt) for tt in times]
+    counts = _series_terms_each(span, c, times)
     terms = max(counts)
     out = np.zeros((m, n, nt))
     step = max(1, _CHUNK // max(1, n * terms))
