@@ -22,7 +22,6 @@ import json
 import math
 import os
 import pathlib
-import resource
 import subprocess
 import sys
 import tempfile
@@ -147,17 +146,23 @@ def write_project(folder: pathlib.Path, n: int, *, with_map: bool, seed: int = 7
 
 
 def run_subprocess(folder: pathlib.Path, with_map: bool) -> tuple[float, float, int]:
-    """Wall time [s], peak RSS of the child [MB] and exit code of ``sitesettle check``."""
+    """Wall time [s], peak RSS of the child [MB] and exit code of ``sitesettle check``.
+
+    The peak is this child's own (``os.wait4``), not the largest of all children so
+    far (``RUSAGE_CHILDREN`` keeps the maximum over every child waited for).
+    """
     cmd = [sys.executable, "-m", "sitesettle_cli", "check", str(folder), "--quiet",
            "--out", str(folder / "results")]
-    before = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
     t0 = time.perf_counter()
-    done = subprocess.run(cmd, capture_output=True, text=True)
+    proc = subprocess.Popen(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True)
+    err = proc.stderr.read()
+    _, status, usage = os.wait4(proc.pid, 0)
     wall = time.perf_counter() - t0
-    peak = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
-    if done.returncode not in (0, 1):
-        print(done.stderr[-2000:], file=sys.stderr)
-    return wall, max(peak, before) / 1024.0, done.returncode
+    rc = os.waitstatus_to_exitcode(status)
+    proc.returncode = rc
+    if rc not in (0, 1):
+        print(err[-2000:], file=sys.stderr)
+    return wall, usage.ru_maxrss / 1024.0, rc
 
 
 def phases(folder: pathlib.Path, with_map: bool) -> dict[str, float]:
@@ -171,6 +176,17 @@ from sitesettle.io.project import load_site
 from sitesettle.analysis import analyse
 out = {"start-up": time.perf_counter() - t0}
 t = time.perf_counter(); site = load_site(sys.argv[1]); out["read"] = time.perf_counter() - t
+try:  # what sitesettle.budget estimates for this plan (its coefficients come from here)
+    from sitesettle import analysis as an
+    ctx = an.prepare(site)
+    pts, lay = an.evaluation_points(ctx.site, with_map=sys.argv[2] == "1")
+    est = an.plan_estimate(ctx, pts, lay)
+    out["estimate: time [s]"] = est.seconds
+    out["estimate: memory [GB]"] = est.bytes / 1e9
+    out["estimate: sublayers [million]"] = est.counts.sublayers / 1e6
+    out["estimate: columns [thousand]"] = est.counts.columns / 1e3
+except (ImportError, AttributeError):  # a version without the estimate
+    pass
 marks = []
 def progress(stage, frac):
     marks.append((stage, time.perf_counter()))
@@ -220,7 +236,8 @@ def main() -> None:
         print(f"{n:>9} {wall:>8.1f} {peak:>8.0f} {rc:>4}")
         if not args.no_phases:
             for name, sec in phases(folder, with_map).items():
-                print(f"{'':>12}{name:<40} {sec:>7.2f} s")
+                unit = "" if name.startswith("estimate") else " s"
+                print(f"{'':>12}{name:<40} {sec:>7.2f}{unit}")
     if len(args.sizes) > 1:
         slope = np.polyfit(np.log(args.sizes), np.log(walls), 1)[0]
         print(f"growth exponent of the wall time ({args.sizes[0]}–{args.sizes[-1]}): {slope:.2f}")

@@ -5,8 +5,9 @@ Exit codes (:data:`EXIT_CODES`, also in ``--help`` and the README):
 * 0 every check passes (``compare``: results B fail no check that results A passed);
 * 1 some check fails (all outputs written); ``compare``: B fails a check that A
   passed, a regression (the comparison is written);
-* 2 bad input, or a results folder that cannot be used (one message naming the
-  file and row, column or key; nothing written);
+* 2 bad input, a plan estimated to need more than twice this machine's memory, or
+  a results folder that cannot be used (one message naming the file and row,
+  column or key, or the estimate and what to change; nothing written);
 * 3 the tool could not finish: no space left, a file too large for the file
   system, no permission, a folder that cannot be moved, an internal error. One
   line, no traceback unless ``--debug``; an earlier results folder is untouched;
@@ -32,7 +33,8 @@ from sitesettle.io.text import terminal_line, terminal_text
 EXIT_CODES = {
     0: "every check passes (compare: B fails no check that A passed)",
     1: "some check fails (all outputs written); compare: B fails a check that A passed",
-    2: "bad input or unusable results folder (one message; nothing written)",
+    2: "bad input, a plan too large for this machine, or unusable results folder (one "
+    "message; nothing written)",
     3: "could not finish: no space, no permission, internal error (one line; --debug "
     "shows the traceback)",
     130: "interrupted (Ctrl-C)",
@@ -248,7 +250,11 @@ def _check(args) -> int:
     check_target(out.absolute())  # refuse an unwritable target before the (long) analysis
     bar = _Progress(not args.quiet)
     try:
-        results = sitesettle.analyse(site, progress=bar)
+        results = sitesettle.analyse(
+            site,
+            progress=bar,
+            on_warning=None if args.quiet else lambda msg: say(f"warning: {msg}", file=sys.stderr),
+        )
         section = worst_pair_section(results)
         bar("writing results", 0.99)
         write_results(

@@ -25,14 +25,14 @@ from dataclasses import field as dc_field
 
 import numpy as np
 
+from sitesettle import budget, stress
 from sitesettle import checks as checks_mod
 from sitesettle import columns as colmod
 from sitesettle import field as fld
-from sitesettle import stress
 from sitesettle.columns import GroundColumns, Points
 from sitesettle.errors import InputError
 from sitesettle.ground import Ground
-from sitesettle.options import DepthRule
+from sitesettle.options import Behaviour, DepthRule
 from sitesettle.results import QueryResults, Results, SettlementMap, Trace
 from sitesettle.site import Footing, LoadStage, Site
 
@@ -603,13 +603,40 @@ def _empty_sublayers() -> fld.Sublayers:
     )
 
 
+def same_loads(a: stress.Loads, b: stress.Loads) -> bool:
+    """True when two sets of loads are the same, bit for bit (their stresses are then equal).
+
+    >>> sq = stress.Loads.rectangles([0.0], [0.0], [2.0], [2.0], [0.0], [100.0], [1.0])
+    >>> same_loads(sq, sq.with_pressure([100.0])), same_loads(sq, sq.with_pressure([90.0]))
+    (True, False)
+    """
+    if a is b:
+        return True
+    if len(a) != len(b) or len(a.outlines) != len(b.outlines):
+        return False
+    names = ("kind", "x", "y", "length", "width", "rotation", "radius", "pressure", "depth")
+    arrays = [(getattr(a, k), getattr(b, k)) for k in names] + list(zip(a.outlines, b.outlines))
+    return all(
+        u is v
+        or (
+            np.asarray(u).shape == np.asarray(v).shape
+            and np.asarray(u).dtype == np.asarray(v).dtype
+            and np.asarray(u).tobytes() == np.asarray(v).tobytes()
+        )
+        for u, v in arrays
+    )
+
+
 def _stresses(ctx: Context, sub: fld.Sublayers, tol: float) -> None:
     """Superposed stresses of all loads and the own footing's, full and sustained (in place)."""
     xyz = np.column_stack([sub.x, sub.y, sub.mid])
     if len(ctx.loads_full) and len(xyz):
         notes: list = []
         sub.sz, sub.t = stress.stress_sums(ctx.loads_full, xyz, tolerance=tol, notes=notes)
-        sub.sz_sust, _ = stress.stress_sums(ctx.loads_sust, xyz, tolerance=tol, notes=notes)
+        if same_loads(ctx.loads_full, ctx.loads_sust):  # e.g. a stage of dead load only
+            sub.sz_sust = sub.sz.copy()
+        else:
+            sub.sz_sust, _ = stress.stress_sums(ctx.loads_sust, xyz, tolerance=tol, notes=notes)
         _outline_notes(ctx, notes)
     else:
         sub.sz = sub.t = sub.sz_sust = np.zeros(len(xyz))
@@ -642,7 +669,9 @@ def _outline_notes(ctx: Context, notes: list) -> None:
             ctx.warnings.append(text)
 
 
-def _histories(ctx, sub, tab, gc, *, own_mask=None, total_mask=None, times=None) -> fld.History:
+def _histories(
+    ctx, sub, tab, gc, *, own_mask=None, total_mask=None, times=None, units=None
+) -> fld.History:
     """Stage 4 with the site's settings (the one place the engine's histories are asked for)."""
     st = ctx.site.analysis
     return fld.histories(
@@ -659,7 +688,40 @@ def _histories(ctx, sub, tab, gc, *, own_mask=None, total_mask=None, times=None)
         clay_settlement=str(st.clay_settlement),
         cohesive_immediate=st.cohesive_immediate,
         strip=_strip_sublayers(ctx.site, sub),
+        units=units,
     )
+
+
+#: the histories of a load state are made this many (sublayer × time) elements at a
+#: time, whole columns each (memory in proportion to the chunk, not to the plan)
+HISTORY_CHUNK = 1_000_000
+
+
+def column_chunks(col: np.ndarray, per_row: int, limit: int = HISTORY_CHUNK) -> list[slice]:
+    """Row ranges of sublayers sorted by column, whole columns each, of about
+    ``limit / per_row`` rows (a column larger than that is a range of its own).
+
+    >>> column_chunks(np.array([0, 0, 1, 1, 1, 2]), 1, limit=3)
+    [slice(0, 2, None), slice(2, 5, None), slice(5, 6, None)]
+    """
+    n = len(col)
+    rows = max(1, limit // max(1, per_row))
+    if n <= rows:
+        return [slice(0, n)]
+    starts = np.flatnonzero(np.r_[True, col[1:] != col[:-1]])  # first row of each column
+    out, a = [], 0
+    while a < n:
+        if a + rows >= n:
+            b = n
+        else:
+            k = int(np.searchsorted(starts, a + rows, side="right")) - 1  # last start ≤ a + rows
+            if starts[k] > a:
+                b = int(starts[k])
+            else:  # one column longer than a chunk: it alone
+                b = int(starts[k + 1]) if k + 1 < len(starts) else n
+        out.append(slice(a, b))
+        a = b
+    return out
 
 
 def _state(ctx: Context, run: Integration, tab, gc, state) -> tuple[Context, fld.Sublayers]:
@@ -772,8 +834,18 @@ def _add_nodes(acc, values, weight, index, sign: float) -> None:
         return
     q = np.unique(index)
     k = len(index) // len(q)
-    part = (values * weight).reshape(values.shape[0], len(q), k).sum(axis=2)
-    acc[:, q] += sign * part
+    if k == 1 and np.all(weight == 1.0):  # a load applied at once: the values themselves
+        part = values  # (x·1 and a sum of one term are x exactly: the same numbers)
+    else:
+        part = (values * weight).reshape(values.shape[0], len(q), k).sum(axis=2)
+    if len(q) == q[-1] - q[0] + 1:  # consecutive report times: a slice, not a gather
+        view = acc[:, q[0] : q[-1] + 1]
+        if sign == 1.0:
+            view += part
+        else:
+            view += sign * part
+    else:
+        acc[:, q] += sign * part
 
 
 def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mask=None):
@@ -796,29 +868,63 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
     K = len(stages)
     nodes = [ramp_nodes(t - stg.start, stg.duration) for stg in stages]
     nt = len(t)
-    out = {name: np.zeros((len(run.sub), nt)) for name in _TIMED}
-    full = None
+    n_sub = len(run.sub)
+    out = {name: np.zeros((n_sub, nt)) for name in _TIMED}
+    degree = np.full((n_sub, nt), np.nan)
+    path = np.full(n_sub, np.nan)
+    note = np.full(n_sub, "", dtype=object)
+    clay = tab.behaviour.size and (tab.behaviour == Behaviour.COHESIVE.value).any()
+    units = fld.consolidating_units(gc, tab, ctx.ground.investigated_depth) if clay else None
+    keys = [_state_key(state) for state in ctx.states] + [None]
+    kept = None  # the previous state's sublayers, kept only when the next state is equal
     for j in range(K):  # one state at a time: memory of two histories, not K
-        sctx, ssub = _state(ctx, run, tab, gc, ctx.states[j]) if j < K - 1 else (ctx, run.sub)
+        if j == K - 1:
+            sctx, ssub = ctx, run.sub
+        elif kept is not None and keys[j] == keys[j - 1]:
+            sctx, ssub = kept  # a stage that adds no load: the same state again
+        else:
+            sctx, ssub = _state(ctx, run, tab, gc, ctx.states[j])
+        kept = (sctx, ssub) if j < K - 1 and keys[j + 1] == keys[j] else None
         # state j enters increment j (+) and increment j + 1 (−)
         own_t, own_w, own_q = nodes[j]
         nxt_t, nxt_w, nxt_q = nodes[j + 1] if j + 1 < K else (np.zeros(0),) * 3
         grid = np.concatenate([own_t, nxt_t, t if j == K - 1 else np.zeros(0)])
         if not len(grid):
             continue
-        h = _histories(sctx, ssub, tab, gc, own_mask=own_mask, total_mask=total_mask, times=grid)
-        del ssub
-        if j == K - 1:
-            full = (h.degree[:, -nt:].copy(), h.drainage_path, h.drainage_note)
         a, b = len(own_t), len(own_t) + len(nxt_t)
-        for name in _TIMED:
-            v = getattr(h, name)
-            acc = out[name]
-            _add_nodes(acc, v[:, :a], own_w, own_q, 1.0)
-            if b > a:
-                _add_nodes(acc, v[:, a:b], nxt_w, nxt_q, -1.0)
-        del h
-    return fld.History(**out, degree=full[0], drainage_path=full[1], drainage_note=full[2])
+        for rows in column_chunks(ssub.col, len(grid)):  # whole columns at a time
+            part = ssub.take(np.arange(rows.start, rows.stop))
+            h = _histories(
+                sctx,
+                part,
+                tab,
+                gc,
+                own_mask=None if own_mask is None else own_mask[rows],
+                total_mask=None if total_mask is None else total_mask[rows],
+                times=grid,
+                units=units,
+            )
+            del part
+            if j == K - 1:
+                degree[rows] = h.degree[:, -nt:]
+                path[rows] = h.drainage_path
+                note[rows] = h.drainage_note
+            for name in _TIMED:
+                v = getattr(h, name)
+                acc = out[name][rows]
+                _add_nodes(acc, v[:, :a], own_w, own_q, 1.0)
+                if b > a:
+                    _add_nodes(acc, v[:, a:b], nxt_w, nxt_q, -1.0)
+            del h
+        del ssub
+    return fld.History(**out, degree=degree, drainage_path=path, drainage_note=note)
+
+
+def _state_key(state) -> bytes:
+    """The pressures of a stage's state, as bytes (equal bytes: equal stresses and strains)."""
+    qf, qs, lf, ls = state
+    return b"|".join(np.ascontiguousarray(a, dtype=float).tobytes()
+                     for a in (qf, qs, lf.pressure, ls.pressure))
 
 
 def _strip_sublayers(site: Site, sub: fld.Sublayers) -> np.ndarray:
@@ -860,7 +966,12 @@ def per_column(sub: fld.Sublayers, values: np.ndarray, n: int) -> np.ndarray:
 
 
 def analyse(
-    site: Site, *, progress: Progress | None = None, with_map: bool = True, with_checks: bool = True
+    site: Site,
+    *,
+    progress: Progress | None = None,
+    with_map: bool = True,
+    with_checks: bool = True,
+    on_warning: Callable[[str], None] | None = None,
 ) -> Results:
     """Settlement of every footing of ``site`` over time, with traces, map and checks.
 
@@ -872,6 +983,10 @@ def analyse(
         ``progress(stage, fraction)`` is called as the work advances.
     with_map, with_checks : bool
         Compute the settlement map and the movement checks (default True).
+    on_warning : callable, optional
+        ``on_warning(text)`` is called at once, before the work starts, when the plan
+        is estimated to be large (:mod:`sitesettle.budget`); the text is also among
+        the results' warnings.
 
     Returns
     -------
@@ -884,6 +999,12 @@ def analyse(
     ctx = prepare(site)
     site = ctx.site  # excavations resolved to their pressures
     pts, layout = evaluation_points(site, with_map=with_map)
+    # refused or warned before any stress is computed (PlanTooLarge: an InputError)
+    large = budget.assess(plan_estimate(ctx, pts, layout))
+    if large:
+        ctx.warnings.append(large)
+        if on_warning is not None:
+            on_warning(large)
     gc = GroundColumns.build(ctx.ground, pts.xy)
     tab = fld.Tables.build(gc, str(st.granular_method))
     run = integrate(ctx, pts, gc, tab, say)
@@ -995,6 +1116,22 @@ def analyse(
         )
     say("done", 1.0)
     return Results(**{**results.__dict__, "checks": chk, "warnings": tuple(warnings)})
+
+
+def plan_estimate(ctx: Context, pts: Points, layout: dict) -> budget.Estimate:
+    """The time and memory a run will take, from its counts (:func:`sitesettle.budget.estimate`)."""
+    site = ctx.site
+    n_states = len(ctx.stages)
+    return budget.estimate(
+        budget.counts(
+            len(site.footings),
+            len(pts),
+            len(layout["map"]),
+            len(ctx.times),
+            n_states,
+            site.analysis.sublayer_fraction,
+        )
+    )
 
 
 def _far_warnings(site, warnings: list[str], with_checks: bool) -> None:
@@ -1286,11 +1423,13 @@ def _left_out(sub, gc, tab, pts, cols, ctx, st) -> dict[int, tuple[float, str]]:
     gap = all_life - cols["tot"][:, life]
     out = {}
     names = [s.name for s in site.strata]
+    starts = np.searchsorted(sub.col, np.arange(n))  # sublayers sorted by column
+    ends = np.searchsorted(sub.col, np.arange(n), side="right")
     for c in np.flatnonzero(
         (pts.kind == "footing") & (gap > st.truncation_tolerance * np.abs(all_life))
     ):
         i = int(pts.owner[c])
-        rows = np.flatnonzero(sub.col == c)
+        rows = np.arange(starts[c], ends[c])
         strata = sorted({names[k] for k in sub.stratum[rows]})
         if i not in out or gap[c] * 1000 > out[i][0]:
             out[i] = (float(gap[c] * 1000), ", ".join(strata))
@@ -1373,27 +1512,34 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
         fld.FIELD_CONE_FACTOR["1978"],
     )
     f_used = np.where(is_sch & np.isfinite(factor), factor, field_factor)
-    source = (
-        np.where(
-            coh,
-            np.where(np.isfinite(sub.modulus), "undrained E given", ""),
+    # the text of the modulus' source, formatted only where a trace shows it (the
+    # sublayers of the footings' columns, not those of the map and query points)
+    shown = np.flatnonzero(pts.kind[sub.col] == "footing") if n_sub else np.zeros(0, int)
+    if n_sub:
+        f_shown = f_used[shown]
+        part = np.where(
+            coh[shown],
+            np.where(np.isfinite(sub.modulus[shown]), "undrained E given", ""),
             np.where(
-                np.isfinite(e_given),
+                np.isfinite(e_given[shown]),
                 "given",
                 np.where(
-                    sounded,
-                    np.char.add(np.char.add("", np.char.mod("%.2f", f_used)), "·qc from soundings"),
+                    sounded[shown],
+                    np.char.add(
+                        np.char.add("", np.char.mod("%.2f", f_shown)), "·qc from soundings"
+                    ),
                     np.where(
-                        np.isfinite(qc_given),
-                        np.char.add(np.char.mod("%.2f", f_used), "·qc given"),
+                        np.isfinite(qc_given[shown]),
+                        np.char.add(np.char.mod("%.2f", f_shown), "·qc given"),
                         "from SPT (Burland & Burbidge)",
                     ),
                 ),
             ),
         )
-        if n_sub
-        else np.zeros(0, dtype=object)
-    )
+        source = np.full(n_sub, "", dtype=part.dtype)
+        source[shown] = part
+    else:
+        source = np.zeros(0, dtype=object)
     qc_used = (
         np.where(
             ~coh & np.isnan(e_given) & (sounded | np.isfinite(qc_given)),

@@ -177,6 +177,7 @@ def analyse(
     progress: Callable[[str, float], None] | None = None,
     with_map: bool = True,
     with_checks: bool = True,
+    on_warning: Callable[[str], None] | None = None,
 ) -> Results:
     """Settlement of every footing of ``site`` over time, with traces, map and checks.
 
@@ -193,6 +194,12 @@ def analyse(
     with_checks : bool, optional
         Check totals, tilts, pairs and structure lines against the site's criteria
         (default True).
+    on_warning : callable, optional
+        ``on_warning(text)`` is called at once, before the work starts, when the plan
+        is estimated to take more than 10 minutes or most of the memory available
+        (the text is also among the results' warnings). A plan estimated to need more
+        than twice the machine's memory is refused with
+        ``sitesettle.budget.PlanTooLarge``, an ``InputError``.
 
     Returns
     -------
@@ -211,7 +218,15 @@ def analyse(
     """
     from sitesettle.analysis import analyse as _analyse
 
-    return Results.of(_analyse(site, progress=progress, with_map=with_map, with_checks=with_checks))
+    return Results.of(
+        _analyse(
+            site,
+            progress=progress,
+            with_map=with_map,
+            with_checks=with_checks,
+            on_warning=on_warning,
+        )
+    )
 
 
 def write_results(

@@ -254,7 +254,8 @@ def outline_gaps(footings: Sequence[Footing], pairs: np.ndarray) -> np.ndarray:
     if not len(pairs):
         return np.zeros(0)
     xy, groups = centre_line_points(footings)
-    pts = [xy[groups == i] for i in range(len(footings))]
+    # groups run in footing order: split at the boundaries (one pass, not a scan per footing)
+    pts = np.split(xy, np.searchsorted(groups, np.arange(1, len(footings))))
     w = np.array([f.width for f in footings], dtype=float)
     out = np.empty(len(pairs))
     for k, (a, b) in enumerate(pairs):

@@ -415,8 +415,8 @@ def own_load_settlement(
             sub.modulus[m] = np.where(integral > 0, E, sub.modulus[m])
             sub.method[m] = "schmertmann" if ver == "1978" else "schmertmann_1970"
             izp = np.asarray(peak) if peak is not None else np.full(len(m), 0.6)
-            for j in np.unique(cols):
-                r = np.flatnonzero(cols == j)[0]
+            cols_u, firsts = np.unique(cols, return_index=True)  # each column's first row
+            for j, r in zip(cols_u, firsts):
                 i = int(fi[r])
                 params[int(j)] = {
                     "dp": float(dp[r]),
@@ -502,8 +502,11 @@ def _burland_burbidge(sub, tab, gc, footings, q_full, fw, fd, lb, is_bb, notes, 
     some texts, e.g. Tomlinson's "average net applied pressure").
     """
     nu = tab.nu[sub.col, sub.stratum]
+    # the rows of each column in one sort (not a scan of every row per column)
+    by_col = np.argsort(sub.col, kind="stable")
+    sorted_col = sub.col[by_col]
     for j in np.unique(sub.col[is_bb]):
-        m = np.flatnonzero(sub.col == j)
+        m = by_col[np.searchsorted(sorted_col, j) : np.searchsorted(sorted_col, j, side="right")]
         i = int(sub.owner[m[0]])
         B = fw[i]
         k = sub.stratum[m]
@@ -603,6 +606,7 @@ def histories(
     clay_settlement: str = "oedometer",
     cohesive_immediate: bool = True,
     strip: np.ndarray | None = None,
+    units: Units | None = None,
 ) -> History:
     """Settlement of every sublayer at every time (sublayers sorted by column, then depth).
 
@@ -616,7 +620,8 @@ def histories(
     once normally consolidated (Cα/Cc constant, Mesri & Godlewski 1977); for a clay with no
     bottom in the boreholes, down to the investigated depth only; undrained strain
     at once. ``own_mask`` and ``total_mask`` switch sublayers off (an explicit
-    stress-ratio depth rule).
+    stress-ratio depth rule). ``units`` are the consolidating units of ``gc``
+    (:func:`consolidating_units`), when the caller has them already.
     """
     n, nt = len(sub), len(times)
     om = np.ones(n, dtype=bool) if own_mask is None else own_mask
@@ -638,7 +643,8 @@ def histories(
     c, k = sub.col, sub.stratum
     coh = tab.behaviour[c, k] == Behaviour.COHESIVE.value if n else np.zeros(0, dtype=bool)
     if coh.any():
-        units = consolidating_units(gc, tab, investigated_depth)
+        if units is None:
+            units = consolidating_units(gc, tab, investigated_depth)
         idx = np.flatnonzero(coh)
         ukey = units.index[c[idx], k[idx]]
         order = np.argsort(ukey, kind="stable")

@@ -175,6 +175,30 @@ def _footing_patches(results: Results, L: float):
     return [Polygon(np.asarray(f.outline, float) * L, closed=True) for f in results.site.footings]
 
 
+def _place_axes(fig) -> None:
+    """Put every axes where the next draw will (layout engine, then aspect), without drawing.
+
+    The same steps as ``Figure.draw`` takes before it renders (aspect, the layout
+    engine, aspect again), so sizes measured on the axes afterwards are those of the
+    saved figure, at the cost of the layout alone rather than a full render.
+    """
+    renderer = fig.canvas.get_renderer()
+
+    def aspect():
+        for a in fig.axes:
+            loc = a.get_axes_locator()
+            a.apply_aspect(loc(a, renderer) if loc else None)
+
+    aspect()
+    engine = fig.get_layout_engine()
+    if fig.axes and engine is not None:
+        try:
+            engine.execute(fig)
+        except ValueError:  # as Figure.draw: a layout that cannot be made is skipped
+            pass
+    aspect()
+
+
 def _label_footings(ax, results: Results, L: float, *, only=None, fontsize: float = 7.0) -> None:
     """Write footing ids beside the footings where they are legible."""
     import matplotlib.patheffects as pe
@@ -183,7 +207,7 @@ def _label_footings(ax, results: Results, L: float, *, only=None, fontsize: floa
     if len(fs) > MAX_LABELS and only is None:
         return
     fig = ax.figure
-    fig.canvas.draw_idle()
+    _place_axes(fig)
     bbox = ax.get_window_extent()
     x0, x1 = ax.get_xlim()
     points_per_unit = bbox.width / abs(x1 - x0) * 72.0 / fig.dpi

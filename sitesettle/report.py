@@ -1272,7 +1272,7 @@ def _governing_points(results: Results, i: int, traces) -> set[int]:
     return {int(k) for k in np.flatnonzero(np.argmin(d, axis=1) == g)} or every
 
 
-def _trace(results: Results, fid: str, units: str, why: str) -> str:
+def _trace(results: Results, fid: str, units: str, why: str, i: int | None = None) -> str:
     """Every evaluation point of footing ``fid``: granular and clay sublayers a checker can redo."""
     from sitesettle.io.unit_text import in_units
 
@@ -1280,7 +1280,7 @@ def _trace(results: Results, fid: str, units: str, why: str) -> str:
     if not traces:
         return ""
     q = _Q(units)
-    i = results.ids.index(fid)
+    i = results.ids.index(fid) if i is None else i
     f = results.site.footings[i]
     k = results.design_life_index
     parts = [
@@ -1351,15 +1351,16 @@ def _traces(results: Results, units: str) -> str:
         "<p>Every failing footing is traced at all its evaluation points, then the worst "
         "passing one; <code>sitesettle explain PROJECT ID</code> gives any footing.</p>"
     ]
+    where = {fid: i for i, fid in enumerate(results.ids)}  # one look-up table, not a scan each
     for fid in ids:
-        i = results.ids.index(fid)
+        i = where[fid]
         if c is None:
             why = "the largest settlement"
         elif not c.footing_passed[i]:
             why = "fails"
         else:
             why = "the worst passing footing"
-        parts.append(_trace(results, fid, units, why))
+        parts.append(_trace(results, fid, units, why, i))
     return "".join(parts)
 
 

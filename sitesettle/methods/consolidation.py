@@ -564,17 +564,20 @@ def sublayer_degree_of_consolidation(
     b = np.where(flip[:, None], a + h, b)
     one_face = (d != Drainage.BOTH.value) | ~np.isfinite(L)
     ubar = np.zeros((m, n, len(t)))
-    for it, tt in enumerate(t):
-        ct = c * tt
-        if tt <= 0:
-            ubar[..., it] = u0
-            continue
-        open_ = ~np.isfinite(L)
+    open_ = ~np.isfinite(L)
+    fin = np.flatnonzero(~open_)
+    later = t > 0
+    ubar[..., ~later] = u0[..., None]
+    for it in np.flatnonzero(later):
         if np.any(open_):
+            ct = c * t[it]
             ubar[open_, :, it] = _half_space_mean(a[open_], b[open_], u0[open_], ct[open_])
-        fin = np.flatnonzero(~open_)
-        if len(fin):
-            ubar[fin, :, it] = _series_mean(a[fin], b[fin], u0[fin], L[fin], ct[fin], one_face[fin])
+    if len(fin) and later.any():
+        # the series' sublayer integrals and coefficients do not depend on time:
+        # computed once for all the times (each time keeps its own number of terms)
+        ubar[np.ix_(fin, np.arange(n), np.flatnonzero(later))] = _series_means(
+            a[fin], b[fin], u0[fin], L[fin], c[fin], t[later], one_face[fin]
+        )
     with np.errstate(divide="ignore", invalid="ignore"):
         U = 1.0 - ubar / u0[..., None]
     loaded = (u0 > 0) & (h > 0)
@@ -607,6 +610,60 @@ def _series_mean(a, b, u0, L, ct, one_face) -> np.ndarray:
         with np.errstate(divide="ignore", invalid="ignore"):
             mean = np.einsum("mn,mjn->mj", bn * decay, integ) / h[sl]
         out[sl] = np.where(h[sl] > 0, mean, 0.0)
+    return out
+
+
+def _series_terms(span, ct) -> int:
+    """Series terms for the times factor ``ct`` = cv·t of every layer (at least 1)."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        need = np.where(ct > 0, span / math.pi * np.sqrt(SERIES_EXPONENT / ct), 1.0)
+    return int(np.clip(np.nanmax(np.ceil(need)) if len(need) else 1, 1, MAX_SERIES_TERMS))
+
+
+def _series_terms_each(span, c, times) -> list[int]:
+    """:func:`_series_terms` at each of ``times``, for all times at once (the same numbers:
+    the largest of the same values)."""
+    if not len(span):
+        return [1] * len(times)
+    ct = c[:, None] * np.asarray(times, dtype=float)[None, :]  # (m, nt)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        need = np.where(ct > 0, span[:, None] / math.pi * np.sqrt(SERIES_EXPONENT / ct), 1.0)
+    top = np.nanmax(np.ceil(need), axis=0)
+    return [int(np.clip(v, 1, MAX_SERIES_TERMS)) for v in top]
+
+
+def _series_means(a, b, u0, L, c, times, one_face) -> np.ndarray:
+    """(m, n, nt) mean excess pore pressure of the sublayers of finite layers at each time > 0.
+
+    The same numbers as :func:`_series_mean` time by time: each time keeps its own
+    number of terms, and the sublayer integrals ∫sin(kζ)dζ and the coefficients b_k,
+    which do not depend on time, are computed once for the most terms asked.
+    """
+    m, n = a.shape
+    nt = len(times)
+    h = b - a
+    span = np.where(one_face, 2.0 * L, L)  # the doubly drained equivalent layer
+    counts = _series_terms_each(span, c, times)
+    terms = max(counts)
+    out = np.zeros((m, n, nt))
+    step = max(1, _CHUNK // max(1, n * terms))
+    j = np.arange(1, terms + 1, dtype=float)
+    for s in range(0, m, step):
+        sl = slice(s, s + step)
+        k_all = np.where(
+            one_face[sl, None],
+            (2.0 * j - 1.0) * math.pi / (2.0 * L[sl, None]),
+            j * math.pi / L[sl, None],
+        )  # (mc, N)
+        integ_all = _mean_sin(k_all[:, None, :], a[sl, :, None], b[sl, :, None])  # (mc, n, N)
+        for it, (tt, nk) in enumerate(zip(times, counts)):
+            k = np.ascontiguousarray(k_all[:, :nk])
+            integ = np.ascontiguousarray(integ_all[:, :, :nk])
+            bn = 2.0 / L[sl, None] * np.einsum("mj,mjn->mn", u0[sl], integ)
+            decay = np.exp(-(k**2) * (c[sl] * tt)[:, None])
+            with np.errstate(divide="ignore", invalid="ignore"):
+                mean = np.einsum("mn,mjn->mj", bn * decay, integ) / h[sl]
+            out[sl, :, it] = np.where(h[sl] > 0, mean, 0.0)
     return out
 
 
