@@ -13,11 +13,11 @@ import shutil
 
 import pytest
 from _factories import make_site
+from sitesettle_cli.main import main
 
 import sitesettle
 from sitesettle import analysis, budget, stress
 from sitesettle.errors import InputError
-from sitesettle_cli.main import main
 
 DEMO = pathlib.Path(__file__).resolve().parents[1] / "demo_site"
 GB = 1e9
