@@ -374,6 +374,17 @@ class Integration:
     #: (n_sub,) the sublayers of the first pass (where the own-load methods apply)
     first_pass: np.ndarray | None = None
     own_params: dict[int, dict[str, float]] = dc_field(default_factory=dict)
+    #: (n_columns,) 0 footing, 1 query point, 2 map: the points of each kind are
+    #: summed apart (:func:`_stresses`)
+    column_group: np.ndarray | None = None
+
+
+#: the kinds of column whose stresses are summed in separate calls
+_GROUP_OF_KIND = {"footing": 0, "query": 1, "map": 2}
+
+
+def _column_groups(kind) -> np.ndarray:
+    return np.array([_GROUP_OF_KIND.get(k, 2) for k in kind], dtype=int)
 
 
 def _boundaries(gc: GroundColumns, c: int, planes: np.ndarray) -> np.ndarray:
@@ -442,6 +453,7 @@ def integrate(
     spt_modulus: dict[str, float] = {}
     own_notes: dict[int, list[str]] = {}
     own_params: dict[int, dict[str, float]] = {}
+    groups = _column_groups(pts.kind)
     first = True
     passes = 0
     while active.any():
@@ -480,7 +492,7 @@ def integrate(
             owner=pts.owner[col],
         )
         say("stresses", min(0.1 + 0.1 * passes, 0.6))
-        _stresses(ctx, sub, st.stress_tolerance)
+        _stresses(ctx, sub, st.stress_tolerance, group=groups[col])
         sub.sig0 = gc.effective_stress(col, mid)
         fld.sublayer_strains(
             sub, tab, ctx.ground, spt_modulus, cohesive_immediate=st.cohesive_immediate
@@ -555,7 +567,9 @@ def integrate(
             ),
         ),
     )
-    return Integration(sub, bottom, reason, bound, own_notes, spt_modulus, first_pass, own_params)
+    return Integration(
+        sub, bottom, reason, bound, own_notes, spt_modulus, first_pass, own_params, groups
+    )
 
 
 def _subset(gc: GroundColumns, cols: np.ndarray) -> GroundColumns:
@@ -627,16 +641,32 @@ def same_loads(a: stress.Loads, b: stress.Loads) -> bool:
     )
 
 
-def _stresses(ctx: Context, sub: fld.Sublayers, tol: float) -> None:
-    """Superposed stresses of all loads and the own footing's, full and sustained (in place)."""
+def _stresses(ctx: Context, sub: fld.Sublayers, tol: float, group=None) -> None:
+    """Superposed stresses of all loads and the own footing's, full and sustained (in place).
+
+    ``group`` (n_sub,) sorts the sublayers into footing, query and map columns
+    (:func:`_column_groups`; by default footing columns and the rest), whose
+    stresses are summed in separate calls: the treecode groups the points of one
+    call, so this keeps every footing's and query point's result independent of
+    the map grid (each within the stated bound either way)."""
     xyz = np.column_stack([sub.x, sub.y, sub.mid])
     if len(ctx.loads_full) and len(xyz):
         notes: list = []
-        sub.sz, sub.t = stress.stress_sums(ctx.loads_full, xyz, tolerance=tol, notes=notes)
+        if group is None:
+            group = np.where(sub.owner >= 0, 0, 2)
+        groups = [g for g in (np.flatnonzero(group == k) for k in range(3)) if len(g)]
+
+        def sums(loads):
+            a, b = np.zeros(len(xyz)), np.zeros(len(xyz))
+            for g in groups:
+                a[g], b[g] = stress.stress_sums(loads, xyz[g], tolerance=tol, notes=notes)
+            return a, b
+
+        sub.sz, sub.t = sums(ctx.loads_full)
         if same_loads(ctx.loads_full, ctx.loads_sust):  # e.g. a stage of dead load only
             sub.sz_sust = sub.sz.copy()
         else:
-            sub.sz_sust, _ = stress.stress_sums(ctx.loads_sust, xyz, tolerance=tol, notes=notes)
+            sub.sz_sust, _ = sums(ctx.loads_sust)
         _outline_notes(ctx, notes)
     else:
         sub.sz = sub.t = sub.sz_sust = np.zeros(len(xyz))
@@ -735,7 +765,8 @@ def _state(ctx: Context, run: Integration, tab, gc, state) -> tuple[Context, fld
     qf, qs, lf, ls = state
     sctx = replace(ctx, q_full=qf, q_sust=qs, loads_full=lf, loads_sust=ls)
     d = run.sub.take(np.arange(len(run.sub)))
-    _stresses(sctx, d, st.stress_tolerance)
+    group = run.column_group[d.col] if run.column_group is not None else None
+    _stresses(sctx, d, st.stress_tolerance, group=group)
     d.sig0 = run.sub.sig0
     fld.sublayer_strains(
         d, tab, ctx.ground, run.spt_modulus, cohesive_immediate=st.cohesive_immediate
