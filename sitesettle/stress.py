@@ -406,6 +406,20 @@ def _edge_pair(ax, ay, bx, by, tx, ty, ell, ra, rb, w):
 
 
 @_ff._compiled
+def _segment(vx, vy, lo, hi, x, y, w, tx, ty, ell):
+    """:func:`_edge_pair` of the segment from vertex ``lo`` to vertex ``hi`` (an edge,
+    or the chord of a chain) seen from (x, y) at depth w below the plane."""
+    w2 = w * w
+    ax = vx[lo] - x
+    ay = vy[lo] - y
+    bx = vx[hi] - x
+    by = vy[hi] - y
+    ra = math.sqrt(ax * ax + ay * ay + w2)
+    rb = math.sqrt(bx * bx + by * by + w2)
+    return _edge_pair(ax, ay, bx, by, tx, ty, ell, ra, rb, w)
+
+
+@_ff._compiled
 def _rings_exact(vx, vy, etx, ety, ell, start, dep, wq, px, py, pz, out_s, out_t):
     """Add Σ over rings of q·σ_A·(σz/q, Ω/π) to ``out_s``, ``out_t`` at each point.
 
@@ -510,7 +524,6 @@ def _chain_eval(vx, vy, etx, ety, ell, nodes, nfl, arc_total, ox, oy, dep, wq, e
             continue
         x = px[i] - ox
         y = py[i] - oy
-        w2 = w * w
         som = 0.0
         sk = 0.0
         es = 0.0
@@ -530,13 +543,7 @@ def _chain_eval(vx, vy, etx, ety, ell, nodes, nfl, arc_total, ox, oy, dep, wq, e
                 )
                 lim = eps_q * nfl[c, 9] / arc_total
                 if bs <= lim and bt <= lim:
-                    ax = vx[lo] - x
-                    ay = vy[lo] - y
-                    bx = vx[hi] - x
-                    by = vy[hi] - y
-                    ra = math.sqrt(ax * ax + ay * ay + w2)
-                    rb = math.sqrt(bx * bx + by * by + w2)
-                    om, k = _edge_pair(ax, ay, bx, by, nfl[c, 2], nfl[c, 3], nfl[c, 4], ra, rb, w)
+                    om, k = _segment(vx, vy, lo, hi, x, y, w, nfl[c, 2], nfl[c, 3], nfl[c, 4])
                     som += om
                     sk += k
                     es += bs
@@ -545,13 +552,7 @@ def _chain_eval(vx, vy, etx, ety, ell, nodes, nfl, arc_total, ox, oy, dep, wq, e
                     continue
             if hi - lo == 1:
                 if ell[lo] > 0.0:
-                    ax = vx[lo] - x
-                    ay = vy[lo] - y
-                    bx = vx[hi] - x
-                    by = vy[hi] - y
-                    ra = math.sqrt(ax * ax + ay * ay + w2)
-                    rb = math.sqrt(bx * bx + by * by + w2)
-                    om, k = _edge_pair(ax, ay, bx, by, etx[lo], ety[lo], ell[lo], ra, rb, w)
+                    om, k = _segment(vx, vy, lo, hi, x, y, w, etx[lo], ety[lo], ell[lo])
                     som += om
                     sk += k
                 continue

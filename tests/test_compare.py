@@ -78,6 +78,17 @@ def sized_vs_demo(runs):
     return out, rc, stdout, err
 
 
+def _pairs_that_broke(a: pathlib.Path, b: pathlib.Path) -> set[frozenset]:
+    """Pairs that pass in folder a's pairs.csv and fail in b's (read by pandas)."""
+    pa, pb = read(a / "pairs.csv"), read(b / "pairs.csv")
+    pst = {frozenset((x, y)): s for x, y, s in zip(pa["a"], pa["b"], pa["status"])}
+    return {
+        frozenset((x, y))
+        for x, y, s in zip(pb["a"], pb["b"], pb["status"])
+        if pst.get(frozenset((x, y))) == "pass" and s == "fail"
+    }
+
+
 def _lines_fit(text: str) -> None:
     assert max(len(line) for line in text.splitlines()) <= 100
 
@@ -138,13 +149,7 @@ def test_exit_code_is_1_exactly_when_a_check_that_passed_fails(runs, sized_vs_de
     fa, fb = read(a / "footings.csv"), read(b / "footings.csv")
     st = fa.set_index("id")["status"]
     worse_f = {i for i, s in zip(fb["id"], fb["status"]) if st.get(i) == "pass" and s != "pass"}
-    pa, pb = read(a / "pairs.csv"), read(b / "pairs.csv")
-    pst = {frozenset((x, y)): s for x, y, s in zip(pa["a"], pa["b"], pa["status"])}
-    worse_p = {
-        frozenset((x, y))
-        for x, y, s in zip(pb["a"], pb["b"], pb["status"])
-        if pst.get(frozenset((x, y))) == "pass" and s == "fail"
-    }
+    worse_p = _pairs_that_broke(a, b)
     info = json.loads((out / "comparison.json").read_text(encoding="utf-8"))
     assert set(info["regressions"]["footings"]) == worse_f
     assert {frozenset(p) for p in info["regressions"]["pairs"]} == worse_p
@@ -162,13 +167,7 @@ def test_sizing_marks_the_checks_its_sizes_broke(runs):
     # sizing.json marks them, are exactly the pairs that fail in the sized plan's
     # pairs.csv and passed in the demo's (the two folders' own tables)
     root, a, b = runs
-    pa, pb = read(a / "pairs.csv"), read(b / "pairs.csv")
-    pst = {frozenset((x, y)): s for x, y, s in zip(pa["a"], pa["b"], pa["status"])}
-    broke = {
-        frozenset((x, y))
-        for x, y, s in zip(pb["a"], pb["b"], pb["status"])
-        if pst.get(frozenset((x, y))) == "pass" and s == "fail"
-    }
+    broke = _pairs_that_broke(a, b)
     info = json.loads((b / "sizing.json").read_text(encoding="utf-8"))
     marked = {
         frozenset(u["footings"])
