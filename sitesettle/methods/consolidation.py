@@ -585,44 +585,10 @@ def sublayer_degree_of_consolidation(
     return np.where(np.isnan(c)[:, None, None], np.nan, out)
 
 
-def _series_mean(a, b, u0, L, ct, one_face) -> np.ndarray:
-    """Mean excess pore pressure of each sublayer of finite layers (Fourier series)."""
-    m, n = a.shape
-    h = b - a
-    span = np.where(one_face, 2.0 * L, L)  # the doubly drained equivalent layer
-    with np.errstate(divide="ignore", invalid="ignore"):
-        need = np.where(ct > 0, span / math.pi * np.sqrt(SERIES_EXPONENT / ct), 1.0)
-    terms = int(np.clip(np.nanmax(np.ceil(need)) if len(need) else 1, 1, MAX_SERIES_TERMS))
-    out = np.zeros((m, n))
-    step = max(1, _CHUNK // max(1, n * terms))
-    j = np.arange(1, terms + 1, dtype=float)
-    for s in range(0, m, step):
-        sl = slice(s, s + step)
-        # one face: k = (2i−1)π/(2L); both: k = iπ/L
-        k = np.where(
-            one_face[sl, None],
-            (2.0 * j - 1.0) * math.pi / (2.0 * L[sl, None]),
-            j * math.pi / L[sl, None],
-        )  # (mc, N)
-        integ = _mean_sin(k[:, None, :], a[sl, :, None], b[sl, :, None])  # (mc, n, N)
-        bn = 2.0 / L[sl, None] * np.einsum("mj,mjn->mn", u0[sl], integ)
-        decay = np.exp(-(k**2) * ct[sl, None])
-        with np.errstate(divide="ignore", invalid="ignore"):
-            mean = np.einsum("mn,mjn->mj", bn * decay, integ) / h[sl]
-        out[sl] = np.where(h[sl] > 0, mean, 0.0)
-    return out
-
-
-def _series_terms(span, ct) -> int:
-    """Series terms for the times factor ``ct`` = cv·t of every layer (at least 1)."""
-    with np.errstate(divide="ignore", invalid="ignore"):
-        need = np.where(ct > 0, span / math.pi * np.sqrt(SERIES_EXPONENT / ct), 1.0)
-    return int(np.clip(np.nanmax(np.ceil(need)) if len(need) else 1, 1, MAX_SERIES_TERMS))
-
-
 def _series_terms_each(span, c, times) -> list[int]:
-    """:func:`_series_terms` at each of ``times``, for all times at once (the same numbers:
-    the largest of the same values)."""
+    """Series terms needed at each of ``times`` [yr] (at least 1, at most
+    ``MAX_SERIES_TERMS``): the most any layer needs for exp(−k²·cv·t) of the last
+    term to fall below exp(−SERIES_EXPONENT), k = Nπ/span."""
     if not len(span):
         return [1] * len(times)
     ct = c[:, None] * np.asarray(times, dtype=float)[None, :]  # (m, nt)
@@ -633,11 +599,12 @@ def _series_terms_each(span, c, times) -> list[int]:
 
 
 def _series_means(a, b, u0, L, c, times, one_face) -> np.ndarray:
-    """(m, n, nt) mean excess pore pressure of the sublayers of finite layers at each time > 0.
+    """(m, n, nt) mean excess pore pressure of the sublayers of finite layers at each time > 0
+    (Fourier series of Terzaghi's solution).
 
-    The same numbers as :func:`_series_mean` time by time: each time keeps its own
-    number of terms, and the sublayer integrals ∫sin(kζ)dζ and the coefficients b_k,
-    which do not depend on time, are computed once for the most terms asked.
+    Each time keeps its own number of terms (:func:`_series_terms_each`); the sublayer
+    integrals ∫sin(kζ)dζ, which do not depend on time, are computed once for the most
+    terms asked.
     """
     m, n = a.shape
     nt = len(times)
@@ -650,6 +617,7 @@ def _series_means(a, b, u0, L, c, times, one_face) -> np.ndarray:
     j = np.arange(1, terms + 1, dtype=float)
     for s in range(0, m, step):
         sl = slice(s, s + step)
+        # one face: k = (2i−1)π/(2L); both: k = iπ/L
         k_all = np.where(
             one_face[sl, None],
             (2.0 * j - 1.0) * math.pi / (2.0 * L[sl, None]),
