@@ -617,18 +617,22 @@ def _empty_sublayers() -> fld.Sublayers:
     )
 
 
-def same_loads(a: stress.Loads, b: stress.Loads) -> bool:
-    """True when two sets of loads are the same, bit for bit (their stresses are then equal).
+def same_loads(a: stress.Loads, b: stress.Loads, *, pressure: bool = True) -> bool:
+    """True when two sets of loads are the same, bit for bit (their stresses are then
+    equal); with ``pressure=False``, when their geometry is (one stress pass serves both).
 
     >>> sq = stress.Loads.rectangles([0.0], [0.0], [2.0], [2.0], [0.0], [100.0], [1.0])
     >>> same_loads(sq, sq.with_pressure([100.0])), same_loads(sq, sq.with_pressure([90.0]))
     (True, False)
+    >>> same_loads(sq, sq.with_pressure([90.0]), pressure=False)
+    True
     """
     if a is b:
         return True
     if len(a) != len(b) or len(a.outlines) != len(b.outlines):
         return False
-    names = ("kind", "x", "y", "length", "width", "rotation", "radius", "pressure", "depth")
+    names = ("kind", "x", "y", "length", "width", "rotation", "radius", "depth")
+    names += ("pressure",) if pressure else ()
     arrays = [(getattr(a, k), getattr(b, k)) for k in names] + list(zip(a.outlines, b.outlines))
     return all(
         u is v
@@ -656,17 +660,22 @@ def _stresses(ctx: Context, sub: fld.Sublayers, tol: float, group=None) -> None:
             group = np.where(sub.owner >= 0, 0, 2)
         groups = [g for g in (np.flatnonzero(group == k) for k in range(3)) if len(g)]
 
-        def sums(loads):
-            a, b = np.zeros(len(xyz)), np.zeros(len(xyz))
-            for g in groups:
-                a[g], b[g] = stress.stress_sums(loads, xyz[g], tolerance=tol, notes=notes)
-            return a, b
-
-        sub.sz, sub.t = sums(ctx.loads_full)
-        if same_loads(ctx.loads_full, ctx.loads_sust):  # e.g. a stage of dead load only
-            sub.sz_sust = sub.sz.copy()
+        full, sust = ctx.loads_full, ctx.loads_sust
+        if same_loads(full, sust):  # e.g. a stage of dead load only
+            passes = [(full, full.pressure[None, :])]
+        elif same_loads(full, sust, pressure=False):  # both states in one pass
+            passes = [(full, np.stack([full.pressure, sust.pressure]))]
         else:
-            sub.sz_sust, _ = sums(ctx.loads_sust)
+            passes = [(full, full.pressure[None, :]), (sust, sust.pressure[None, :])]
+        a, b = np.zeros((2, len(xyz))), np.zeros((2, len(xyz)))
+        row = 0
+        for loads, qs in passes:
+            for g in groups:
+                sa, sb = stress.stress_states(loads, qs, xyz[g], tolerance=tol, notes=notes)
+                a[row : row + len(qs), g], b[row : row + len(qs), g] = sa, sb
+            row += len(qs)
+        sub.sz, sub.t = a[0], b[0]
+        sub.sz_sust = a[0].copy() if row == 1 else a[1]
         _outline_notes(ctx, notes)
     else:
         sub.sz = sub.t = sub.sz_sust = np.zeros(len(xyz))

@@ -56,6 +56,18 @@ NT_HAS_OCT = 30  # 1 where the expansion includes the octupole (third order)
 NT_OCT = 31  # 31–40 octupole xxx, xxy, xyy, yyy, xxw, xyw, yyw, xww, yww, www
 NT_COLS = 41
 
+# columns of the per-state node table ``st`` (K, n, ST_COLS): the moments of one
+# load state about the shared centre C, and the amplitudes of its bound's terms
+ST_Q0 = 0  # monopole Σ q A
+ST_DIP = 1  # 1–3 dipole
+ST_QUAD = 4  # 4–9 quadrupole xx, xy, yy, xw, yw, ww
+ST_OCT = 10  # 10–19 octupole, in the order of NT_OCT
+ST_F = 20  # Σ |q| A
+ST_M3 = 21  # radial moments M3, M4 (the harmonic bound of T)
+ST_M4 = 22
+ST_AMP = 23  # 23–28 the six amplitudes of the first bound (TERM_A order)
+ST_COLS = 29
+
 #: power of W in each of the six bound terms, and its kernel (0 σz, 1 T)
 TERM_A = np.array([3, 2, 1, 0, 1, 0], dtype=np.int64)
 TERM_KERNEL = np.array([0, 0, 0, 0, 1, 1], dtype=np.int64)
@@ -104,28 +116,26 @@ _W_RATIO, _W_CONST = _stationary_tables()
 
 
 @_compiled
-def _sup_terms(amp, b, hh, vmin, vmax, dd):
-    """Σ over six terms amp · sup (v + Δ)^a (h² + v²)^(−b/2), v in [vmin, vmax],
-    for σz (terms 0–3) and T (terms 4, 5).
+def _sup_geometry(nz, b, hh, vmin, vmax, dd, g):
+    """g[k] = sup (v + Δ)^a (h² + v²)^(−b/2) over v in [vmin, vmax] for the six
+    terms of the bound (a = TERM_A[k], b = b[k]) where ``nz[k]``, else 0.
 
     Each term is unimodal in v with its maximum at the positive root of
     (b − a)v² + bΔv − ah² = 0, clipped to the range; on one plane (Δ = 0) the
     root is h·√(a/(b − a)) and the value there has a closed form
     (:func:`_stationary_tables`), so one square root serves every term."""
-    es = 0.0
-    et = 0.0
     flat = dd == 0.0
     h = math.sqrt(hh) if flat else 0.0
     ir_lo = 1.0 / math.sqrt(hh + vmin * vmin)
     ir_hi = -1.0
     for k in range(6):
-        ak = amp[k]
-        if ak == 0.0:
+        if not nz[k]:
+            g[k] = 0.0
             continue
         a = TERM_A[k]
         bk = b[k]
         if a == 0:
-            val = ak * _ipow(ir_lo, bk)
+            val = _ipow(ir_lo, bk)
         else:
             if flat:
                 vs = _W_RATIO[a, bk] * h
@@ -133,26 +143,38 @@ def _sup_terms(amp, b, hh, vmin, vmax, dd):
                 bd = bk * dd
                 vs = (-bd + math.sqrt(bd * bd + 4.0 * (bk - a) * a * hh)) / (2.0 * (bk - a))
             if vs <= vmin:
-                val = ak * _ipow(ir_lo, bk) * _ipow(vmin + dd, a)
+                val = _ipow(ir_lo, bk) * _ipow(vmin + dd, a)
             elif vs >= vmax:
                 if ir_hi < 0.0:
                     ir_hi = 1.0 / math.sqrt(hh + vmax * vmax)
-                val = ak * _ipow(ir_hi, bk) * _ipow(vmax + dd, a)
+                val = _ipow(ir_hi, bk) * _ipow(vmax + dd, a)
             elif flat:
-                val = ak * _W_CONST[a, bk] * _ipow(1.0 / h, bk - a)
+                val = _W_CONST[a, bk] * _ipow(1.0 / h, bk - a)
             else:
-                val = ak * _ipow(1.0 / math.sqrt(hh + vs * vs), bk) * _ipow(vs + dd, a)
+                val = _ipow(1.0 / math.sqrt(hh + vs * vs), bk) * _ipow(vs + dd, a)
+        g[k] = val
+
+
+@_compiled
+def _sup_terms(amp, b, hh, vmin, vmax, dd):
+    """Σ over six terms amp · sup (v + Δ)^a (h² + v²)^(−b/2), v in [vmin, vmax],
+    for σz (terms 0–3) and T (terms 4, 5) (:func:`_sup_geometry`)."""
+    g = np.empty(6)
+    _sup_geometry(amp != 0.0, b, hh, vmin, vmax, dd, g)
+    es = 0.0
+    et = 0.0
+    for k in range(6):
         if TERM_KERNEL[k] == 0:
-            es += val
+            es += amp[k] * g[k]
         else:
-            et += val
+            et += amp[k] * g[k]
     return es, et
 
 
 @_compiled
-def harmonic_bound(nt, node, lo0, lo1, lo2, hi0, hi1, hi2):
-    """Harmonic bound of T's far-field error of ``node`` over the box, and its
-    part from the Legendre terms of order ≥ 4 (inf, inf where ρ ≥ r_c)."""
+def _harmonic_factors(nt, node, lo0, lo1, lo2, hi0, hi1, hi2):
+    """(a3, a4) with T's harmonic bound a3·M3 + a4·M4 over the box (a4·M4 the
+    part of the Legendre terms of order ≥ 4); (inf, inf) where ρ ≥ r_c."""
     c0 = nt[node, NT_C]
     c1 = nt[node, NT_C + 1]
     c2 = nt[node, NT_C + 2]
@@ -168,35 +190,77 @@ def harmonic_bound(nt, node, lo0, lo1, lo2, hi0, hi1, hi2):
     ir2 = ir * ir
     ir6 = ir2 * ir2 * ir2
     sx = 5.0 / (1.0 - x) + x / ((1.0 - x) * (1.0 - x))
-    tail = K_THETA * nt[node, NT_M + 4] * ir6 * sx
-    return K_THETA * nt[node, NT_H3] * nt[node, NT_M + 3] * (ir6 * rc) + tail, tail
+    return K_THETA * nt[node, NT_H3] * (ir6 * rc), K_THETA * ir6 * sx
 
 
 @_compiled
-def pair_bound(nt, amp1, b1, node, lo0, lo1, lo2, hi0, hi1, hi2, lam):
-    """Bound e of the far-field error of ``node`` at every point of the box
-    [lo, hi], and whether the node contributes nothing there (all points above
-    its planes). ``lam`` < 0 computes T's harmonic bound always; otherwise only
-    where the first bound lies in (λ·LAZY_LO, λ·LAZY_HI]. e = inf where some
-    point is not below the node's deepest plane."""
+def harmonic_bound(nt, node, lo0, lo1, lo2, hi0, hi1, hi2):
+    """Harmonic bound of T's far-field error of ``node`` (its moments in ``nt``)
+    over the box, and its part from the Legendre terms of order ≥ 4 (inf, inf
+    where ρ ≥ r_c)."""
+    a3, a4 = _harmonic_factors(nt, node, lo0, lo1, lo2, hi0, hi1, hi2)
+    if a4 == math.inf:
+        return math.inf, math.inf
+    tail = a4 * nt[node, NT_M + 4]
+    return a3 * nt[node, NT_M + 3] + tail, tail
+
+
+@_compiled
+def pair_bound(nt, st, nzt, b1, node, lo0, lo1, lo2, hi0, hi1, hi2, lam, e, et, g):
+    """Bound e[k] of the far-field error of ``node`` in each load state k at every
+    point of the box [lo, hi]; returns (every e[k] ≤ lam[k], the node contributes
+    nothing there: all points above its planes). ``lam[0]`` < 0 computes T's
+    harmonic bound always; otherwise where the first bound of some state lies in
+    (λ·LAZY_LO, λ·LAZY_HI]. e = inf where some point is not below the node's
+    deepest plane. ``nzt[node]`` tells the terms whose amplitude is not 0 in
+    some state; ``et`` (K,) and ``g`` (6,) are scratch. The geometry of the
+    bound (the sup of each term over the box, the harmonic factors) is
+    computed once for all states; each state's bound is its amplitudes times it."""
+    ns = st.shape[0]
     dmin = nt[node, NT_DMIN]
     dmax = nt[node, NT_DMAX]
     if hi2 <= dmin:
-        return 0.0, True
+        for s in range(ns):
+            e[s] = 0.0
+        return True, True
     vmin = lo2 - dmax
     if not vmin > 0.0:
-        return math.inf, False
+        for s in range(ns):
+            e[s] = math.inf
+        return False, False
     vmax = hi2 - dmax
     gx = max(max(lo0 - nt[node, NT_HI], nt[node, NT_LO] - hi0), 0.0)
     gy = max(max(lo1 - nt[node, NT_HI + 1], nt[node, NT_LO + 1] - hi1), 0.0)
     hh = gx * gx + gy * gy
     dd = dmax - dmin
-    es, et = _sup_terms(amp1[node], b1[node], hh, vmin, vmax, dd)
-    e1 = max(es, et)
-    if lam < 0.0 or (e1 > LAZY_LO * lam and e1 <= LAZY_HI * lam):
-        eh, _ = harmonic_bound(nt, node, lo0, lo1, lo2, hi0, hi1, hi2)
-        et = min(et, eh)
-    return max(es, et), False
+    _sup_geometry(nzt[node], b1[node], hh, vmin, vmax, dd, g)
+    harm = lam[0] < 0.0
+    for s in range(ns):
+        es = 0.0
+        tt = 0.0
+        for k in range(6):
+            v = st[s, node, ST_AMP + k] * g[k]
+            if TERM_KERNEL[k] == 0:
+                es += v
+            else:
+                tt += v
+        e[s] = es
+        et[s] = tt
+        e1 = max(es, tt)
+        if e1 > LAZY_LO * lam[s] and e1 <= LAZY_HI * lam[s]:
+            harm = True
+    if harm:
+        a3, a4 = _harmonic_factors(nt, node, lo0, lo1, lo2, hi0, hi1, hi2)
+        if a4 != math.inf:
+            for s in range(ns):
+                eh = a3 * st[s, node, ST_M3] + a4 * st[s, node, ST_M4]
+                et[s] = min(et[s], eh)
+    ok = True
+    for s in range(ns):
+        e[s] = max(e[s], et[s])
+        if not e[s] <= lam[s]:
+            ok = False
+    return ok, False
 
 
 @njit(inline="always", **_JIT)
@@ -253,28 +317,30 @@ def _third_order(X, Y, W, W2, W3, ir2, ir3, o, lx, ly, trw):
 
 
 @_compiled
-def multipole_add(nt, node, px, py, pz, out_s, out_t, p0, p1):
+def _multipole_slice(nt, mom, iq, idp, iqd, ioc, node, px, py, pz, out_s, out_t, p0, p1):
     """Add the multipole (σz, T) of ``node`` to the points p0…p1−1 of the result
     arrays: the Taylor expansion of the kernels about the node's centre C to
     second order (monopole Q0, dipole d, quadrupole Q: q0·k − d·∇k + ½ Q:∇∇k,
     :func:`_second_order`) and to third order (− (1/6) O:∇³k, :func:`_third_order`)
-    where the node holds an octupole. The node's moments are read once and the
-    loop runs over contiguous slices, which the compiler vectorises; each
+    where the node holds an octupole. C and the order come from ``nt``, the
+    moments from row ``node`` of ``mom`` at columns ``iq`` (Q0), ``idp`` (dipole),
+    ``iqd`` (quadrupole) and ``ioc`` (octupole). The moments are read once and
+    the loop runs over contiguous slices, which the compiler vectorises; each
     point's value is formed by the same operations in the same order as a
     scalar loop, so the result does not depend on how points are grouped."""
     c0 = nt[node, 0]
     c1 = nt[node, 1]
     c2 = nt[node, 2]
-    q0 = nt[node, 3]
-    dx = nt[node, 4]
-    dy = nt[node, 5]
-    dw = nt[node, 6]
-    qxx = nt[node, 7]
-    qxy = nt[node, 8]
-    qyy = nt[node, 9]
-    qxw = nt[node, 10]
-    qyw = nt[node, 11]
-    qww = nt[node, 12]
+    q0 = mom[node, iq]
+    dx = mom[node, idp]
+    dy = mom[node, idp + 1]
+    dw = mom[node, idp + 2]
+    qxx = mom[node, iqd]
+    qxy = mom[node, iqd + 1]
+    qyy = mom[node, iqd + 2]
+    qxw = mom[node, iqd + 3]
+    qyw = mom[node, iqd + 4]
+    qww = mom[node, iqd + 5]
     hxx = 0.5 * qxx
     hyy = 0.5 * qyy
     ss = qxx + qyy
@@ -285,9 +351,9 @@ def multipole_add(nt, node, px, py, pz, out_s, out_t, p0, p1):
     ot = out_t[p0:p1]
     has_oct = nt[node, NT_HAS_OCT] > 0.0
     o = (
-        nt[node, NT_OCT], nt[node, NT_OCT + 1], nt[node, NT_OCT + 2], nt[node, NT_OCT + 3],
-        nt[node, NT_OCT + 4], nt[node, NT_OCT + 5], nt[node, NT_OCT + 6],
-        nt[node, NT_OCT + 7], nt[node, NT_OCT + 8], nt[node, NT_OCT + 9],
+        mom[node, ioc], mom[node, ioc + 1], mom[node, ioc + 2], mom[node, ioc + 3],
+        mom[node, ioc + 4], mom[node, ioc + 5], mom[node, ioc + 6],
+        mom[node, ioc + 7], mom[node, ioc + 8], mom[node, ioc + 9],
     )  # fmt: skip
     lx = o[0] + o[2]
     ly = o[1] + o[3]
@@ -309,6 +375,12 @@ def multipole_add(nt, node, px, py, pz, out_s, out_t, p0, p1):
             t2 += t3
         os_[k] += K_SIGMA * s2
         ot[k] += K_THETA * t2
+
+
+@_compiled
+def multipole_add(nt, node, px, py, pz, out_s, out_t, p0, p1):
+    """:func:`_multipole_slice` with the moments of the node table ``nt``."""
+    _multipole_slice(nt, nt, NT_Q0, NT_DIP, NT_QUAD, NT_OCT, node, px, py, pz, out_s, out_t, p0, p1)
 
 
 @_compiled
@@ -349,15 +421,22 @@ def rectangle(hl, hw, u, v, w):
 
 
 @_compiled
-def bounds_many(nt, amp1, b1, nodes, lo, hi, lam):
-    """pair_bound of (box k, nodes[k]) for K pairs; ``lam`` (K,) or negative."""
+def bounds_many(nt, st, nzt, b1, nodes, lo, hi, lam):
+    """pair_bound of (box k, nodes[k]) for n pairs, in every state: e (n, K) and
+    the "contributes nothing" flags (n,); ``lam`` (n,), the threshold of pair k
+    in every state (negative: the harmonic bound always)."""
     n = len(nodes)
-    e = np.empty(n)
+    ns = st.shape[0]
+    e = np.empty((n, ns))
     zero = np.empty(n, dtype=np.bool_)
+    lk = np.empty(ns)
+    et = np.empty(ns)
+    g = np.empty(6)
     for k in range(n):
-        e[k], zero[k] = pair_bound(
-            nt, amp1, b1, nodes[k],
-            lo[k, 0], lo[k, 1], lo[k, 2], hi[k, 0], hi[k, 1], hi[k, 2], lam[k],
+        lk[:] = lam[k]
+        _, zero[k] = pair_bound(
+            nt, st, nzt, b1, nodes[k],
+            lo[k, 0], lo[k, 1], lo[k, 2], hi[k, 0], hi[k, 1], hi[k, 2], lk, e[k], et, g,
         )  # fmt: skip
     return e, zero
 
@@ -407,12 +486,14 @@ def traverse(
     g_off,
     g_size,
     nt,
-    amp1,
+    st,
+    nzt,
     b1,
     left,
     right,
     load,
     rect,
+    rq,
     mode,
     lam0,
     tau0,
@@ -427,27 +508,36 @@ def traverse(
     nexact,
     capacity,
 ):
-    """Dual traversal of the load tree and the point groups from each root group.
+    """Dual traversal of the load tree and the point groups from each root group,
+    for K load states on one geometry at once.
 
     A (group, node) pair is accepted for the far field of all the group's
-    points when its bound e ≤ λ (``mode`` 0: λ = ``lam0``; 1: λ = τ0·F(node));
-    then its multipole is added at the group's points and e to the bound sum
-    ``esum`` of each of the group's blocks. A (block, single load) pair that is
-    not accepted is summed exactly here for a rectangle (``rect`` holds per load
-    x, y, cos, sin, half length, half width, pressure, depth, and 1 for a
-    rectangle) or returned for the caller otherwise. Else the larger of the
-    two (plan extent, the node when ≥ ``split_ratio`` × the group's) is split.
-    Pairs whose group lies wholly above the node's planes are dropped.
+    points when its bound in every state k is e_k ≤ λ_k (``mode`` 0: λ_k =
+    ``lam0[k]``; 1: λ_k = τ0[k]·F_k(node)); then each state's multipole (moments
+    ``st[k]``) is added at the group's points (``out_s[k]``, ``out_t[k]``) and
+    e_k to the bound sum ``esum[k]`` of each of the group's blocks. A (block,
+    single load) pair that is not accepted is summed exactly here for a
+    rectangle (``rect`` holds per load x, y, cos, sin, half length, half width,
+    pressure, depth, and 1 for a rectangle; ``rq[k]`` the pressures of state k),
+    the kernel once and its value times each state's pressure, or returned for
+    the caller otherwise. Else the larger of the two (plan extent, the node when
+    ≥ ``split_ratio`` × the group's) is split. Pairs whose group lies wholly
+    above the node's planes are dropped.
 
     The pair stack and the list of pairs left to the caller start with
     ``capacity`` entries and double when full. Returns those (block, load)
     pairs and the number of traversal pairs accepted or summed exactly.
     """
+    ns = st.shape[0]
     o_blk = np.empty(capacity, dtype=np.int64)
     o_load = np.empty(capacity, dtype=np.int64)
     n_other = 0
     s_g = np.empty(capacity, dtype=np.int64)
     s_n = np.empty(capacity, dtype=np.int64)
+    lam = np.empty(ns)
+    e = np.empty(ns)
+    et = np.empty(ns)
+    gs = np.empty(6)
     pairs = 0
     nb = g_size[0]
     for r in range(len(roots)):
@@ -458,21 +548,28 @@ def traverse(
             top -= 1
             g = s_g[top]
             node = s_n[top]
-            lam = lam0 if mode == 0 else tau0 * nt[node, NT_F]
-            e, zero = pair_bound(
-                nt, amp1, b1, node,
-                g_lo[g, 0], g_lo[g, 1], g_lo[g, 2], g_hi[g, 0], g_hi[g, 1], g_hi[g, 2], lam,
+            for s in range(ns):
+                lam[s] = lam0[s] if mode == 0 else tau0[s] * st[s, node, ST_F]
+            ok, zero = pair_bound(
+                nt, st, nzt, b1, node,
+                g_lo[g, 0], g_lo[g, 1], g_lo[g, 2], g_hi[g, 0], g_hi[g, 1], g_hi[g, 2],
+                lam, e, et, gs,
             )  # fmt: skip
             if zero:
                 continue
             lev = g_level[g]
-            if e <= lam:
+            if ok:
                 pairs += 1
                 p0 = g_start[g]
-                multipole_add(nt, node, px, py, pz, out_s, out_t, p0, p0 + g_count[g])
+                for s in range(ns):
+                    _multipole_slice(
+                        nt, st[s], ST_Q0, ST_DIP, ST_QUAD, ST_OCT, node,
+                        px, py, pz, out_s[s], out_t[s], p0, p0 + g_count[g],
+                    )  # fmt: skip
                 b0 = g_index[g] << lev
                 for blk in range(b0, min(b0 + (1 << lev), nb)):
-                    esum[blk] += e
+                    for s in range(ns):
+                        esum[s, blk] += e[s]
                     nfar[blk] += 1
                 continue
             j = load[node]
@@ -480,17 +577,19 @@ def traverse(
                 pairs += 1
                 nexact[g] += 1
                 if rect[j, 8] > 0.0:
-                    x, y, c, s = rect[j, 0], rect[j, 1], rect[j, 2], rect[j, 3]
-                    hl, hw, q, dep = rect[j, 4], rect[j, 5], rect[j, 6], rect[j, 7]
+                    x, y, c, sn = rect[j, 0], rect[j, 1], rect[j, 2], rect[j, 3]
+                    hl, hw, dep = rect[j, 4], rect[j, 5], rect[j, 7]
                     p0 = g_start[g]
                     for k in range(p0, p0 + g_count[g]):
                         w = pz[k] - dep
                         if w > 0.0:
                             dx = px[k] - x
                             dy = py[k] - y
-                            a, om = rectangle(hl, hw, dx * c + dy * s, dy * c - dx * s, w)
-                            out_s[k] += q * a
-                            out_t[k] += q * om * K_THETA
+                            a, om = rectangle(hl, hw, dx * c + dy * sn, dy * c - dx * sn, w)
+                            for s in range(ns):
+                                q = rq[s, j]
+                                out_s[s, k] += q * a
+                                out_t[s, k] += q * om * K_THETA
                 else:
                     if n_other == len(o_blk):
                         o_blk = _grow(o_blk, n_other)

@@ -1725,34 +1725,90 @@ def stress_sums(
     (N,) results and the tree's tables (about 0.3 kB per load); the exact sum
     works in chunks of 32,768 (point × load) elements.
     """
+    sz, tt = stress_states(loads, loads.pressure[None, :], points, tolerance=tolerance, notes=notes)
+    return sz[0], tt[0]
+
+
+def stress_states(
+    loads: Loads, pressures, points, *, tolerance: float = 1e-3, notes: list | None = None
+) -> tuple[np.ndarray, np.ndarray]:
+    r"""σz and T of K load states on one geometry, in one pass (:func:`stress_sums` each).
+
+    Parameters
+    ----------
+    loads : Loads
+        The loaded areas (their own pressures are not used).
+    pressures : array_like
+        (K, n) pressure of each of the n loads in each of K states, e.g. the full
+        and the sustained loads of a plan. [kPa]
+    points : array_like
+        (N, 3) points: x, y and z, the depth below ground. [m]
+    tolerance : float, optional
+        Allowed error of each state's sums as a fraction of that state's largest
+        |pressure|; 0 gives the exact sums.
+    notes : list, optional
+        As for :func:`stress_sums` (one note per state and simplified outline).
+
+    Returns
+    -------
+    sigma_z, T : numpy.ndarray
+        (K, N) vertical stress and T of each state [kPa]; NaN where a coordinate
+        is NaN.
+
+    Notes
+    -----
+    Every state's sums are those of :func:`stress_sums` and keep its bound:
+    |σz − exact| ≤ ε_k and |T − exact| ≤ ε_k in state k, ε_k = tolerance ·
+    max|q_k|. The states share what depends on geometry alone: the load tree, its
+    clusters' centre C (the centroid weighted by Σ_k |q_k|·A, inside each
+    cluster's convex hull as the proof needs), the point blocks, the traversal,
+    the geometric factor of every bound term (each state's bound is its own
+    moments M_k times it) and the kernel of every exact rectangle (times each
+    state's pressure). A (group, cluster) pair is accepted only when its bound
+    fits the threshold of every state, and a block keeps a pass's result only
+    when every state's bound sum does (the fallback rule ε_k·F_k/F_k,total holds
+    state by state), so the proof of :func:`stress_sums` applies to each state.
+    Only the multipole itself and the exact circles and polygons are evaluated
+    once per state.
+    """
     if tolerance < 0 or not np.isfinite(tolerance):
         raise InputError("tolerance", f"{tolerance!r}", "a fraction >= 0")
+    qs = np.atleast_2d(np.asarray(pressures, dtype=float))
+    if qs.ndim != 2 or qs.shape[1] != len(loads) or not np.isfinite(qs).all():
+        raise InputError(
+            "pressures", f"shape {qs.shape}", f"(K, {len(loads)}) finite pressures [kPa]"
+        )
     pts = _check_points(points)
-    n = len(pts)
-    sz, tt = np.zeros(n), np.zeros(n)
+    n, ns = len(pts), len(qs)
+    sz, tt = np.zeros((ns, n)), np.zeros((ns, n))
     good = np.flatnonzero(np.isfinite(pts).all(axis=1))
     bad = np.ones(n, dtype=bool)
     bad[good] = False
-    sz[bad] = tt[bad] = np.nan
-    active = np.flatnonzero(loads.pressure != 0) if len(loads) else np.zeros(0, dtype=int)
+    sz[:, bad] = tt[:, bad] = np.nan
+    active = np.flatnonzero((qs != 0).any(axis=0)) if len(loads) else np.zeros(0, dtype=int)
     if len(good) == 0 or len(active) == 0:
         return sz, tt
     p = pts[good]
-    eps = tolerance * float(np.max(np.abs(loads.pressure)))
-    budget, eps_far = _chain_budgets(loads, active, eps)
-    found: dict = {}
+    states = [loads.with_pressure(q) for q in qs]
+    eps = tolerance * np.abs(qs).max(axis=1)
+    budgets, eps_far = zip(*(_chain_budgets(ld, active, e) for ld, e in zip(states, eps)))
+    found: list[dict] = [{} for _ in states]
     if tolerance == 0 or len(active) * len(good) <= 4 * _CHUNK_ELEMENTS or len(active) < 8:
-        a, b = _exact_dense(loads, active, p[:, 0], p[:, 1], p[:, 2], budget, found)
-        sz[good], tt[good] = a, b
+        for k, ld in enumerate(states):
+            a, b = _exact_dense(ld, active, p[:, 0], p[:, 1], p[:, 2], budgets[k], found[k])
+            sz[k, good], tt[k, good] = a, b
     else:
-        sz[good], tt[good] = _tc.treecode(
-            loads._geometry(),
-            active,
-            p,
-            eps_far,
-            lambda j, x, y, z: _exact_pairs(loads, j, x, y, z, budget, found),
-        )
-    _report_chains(loads, found, notes)
+
+        def exact(j, x, y, z):
+            parts = [
+                _exact_pairs(ld, j, x, y, z, budgets[k], found[k]) for k, ld in enumerate(states)
+            ]
+            return np.stack([a for a, _ in parts]), np.stack([b for _, b in parts])
+
+        a, b = _tc.treecode(loads._geometry(), active, p, np.array(eps_far), exact, pressures=qs)
+        sz[:, good], tt[:, good] = a, b
+    for ld, f in zip(states, found):
+        _report_chains(ld, f, notes)
     return sz, tt
 
 

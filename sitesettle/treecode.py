@@ -168,20 +168,24 @@ def _segments(starts, stops):
     return starts[rep] + np.arange(int(size.sum())) - first[rep], rep, first
 
 
-def _build(q, cen, area, mu, inert, reach, sym, ext, idx):
+def _build(qs, cen, area, mu, inert, reach, sym, ext, idx):
     """The load tree over loads ``idx``, built one level at a time (vectorised).
 
-    A node holds a contiguous range of a permutation of the loads; a node of
+    ``qs`` (K, n) holds the pressures of K load states on the same geometry. A
+    node holds a contiguous range of a permutation of the loads; a node of
     m > 1 loads is split at m // 2 after a stable sort of its centroids along
     the plan axis of their larger extent. Nodes are numbered in depth-first
     preorder, so the subtree of node i is the range [i, end[i]) (a full binary
     tree: 2m − 1 nodes for m loads): the left child of node i is i + 1, the
-    right child i + 2·(m // 2). Returns per node the topology, the multipole
-    moments about the |q|A-weighted centroid C, the moments of the bound
-    (:func:`_cluster_moments`), the octupole of clusters of rectangles and
-    circles (:func:`_third_moments`), the bounding box
-    and the depths of its planes.
+    right child i + 2·(m // 2). Returns per node the topology, the centre C (the
+    centroid weighted by Σ_k |q_k|·A, so |q|A for one state), the bounding box
+    and the depths of its planes, and per state and node (leading axis K) the
+    multipole moments about C, the moments of the bound
+    (:func:`_cluster_moments`) and the octupole of clusters of rectangles and
+    circles (:func:`_third_moments`).
     """
+    qs = np.atleast_2d(qs)
+    ns = len(qs)
     m = len(idx)
     n = 2 * m - 1
     perm = np.asarray(idx, dtype=np.intp).copy()
@@ -191,11 +195,11 @@ def _build(q, cen, area, mu, inert, reach, sym, ext, idx):
         "load": np.full(n, -1),
         "end": np.zeros(n, dtype=int),
         "c": np.zeros((n, 3)),
-        "F": np.zeros(n),
-        "Q0": np.zeros(n),
-        "dip": np.zeros((n, 3)),
-        "quad": np.zeros((n, 6)),
-        "M": np.zeros((n, 5)),
+        "F": np.zeros((ns, n)),
+        "Q0": np.zeros((ns, n)),
+        "dip": np.zeros((ns, n, 3)),
+        "quad": np.zeros((ns, n, 6)),
+        "M": np.zeros((ns, n, 5)),
         "rho": np.zeros(n),
         "delta": np.zeros(n),
         "order": np.zeros(n, dtype=int),
@@ -203,9 +207,10 @@ def _build(q, cen, area, mu, inert, reach, sym, ext, idx):
         "dmax": np.zeros(n),
         "lo": np.zeros((n, 3)),
         "hi": np.zeros((n, 3)),
-        "oct": np.zeros((n, 10)),
+        "oct": np.zeros((ns, n, 10)),
         "has_oct": np.zeros(n, dtype=bool),
     }
+    weight = np.abs(qs).sum(axis=0) * area
     ids = np.zeros(1, dtype=np.intp)
     a0, a1 = np.zeros(1, dtype=np.intp), np.full(1, m, dtype=np.intp)
     while len(ids):
@@ -220,45 +225,47 @@ def _build(q, cen, area, mu, inert, reach, sym, ext, idx):
         def top(v, fn, first=first):
             return fn.reduceat(v, first)
 
-        aq = np.abs(q[j]) * area[j]
-        f = add(aq)
-        c = np.column_stack([add(aq * cen[j, k]) for k in range(3)]) / f[:, None]
+        wj = weight[j]
+        c = np.column_stack([add(wj * cen[j, k]) for k in range(3)]) / add(wj)[:, None]
         h = cen[j] - c[rep]
-        qa = q[j] * area[j]
         d2 = (h * h).sum(axis=1)
         d = np.sqrt(d2)
         o = out
         o["end"][ids] = ids + 2 * size - 1
-        o["c"][ids], o["F"][ids], o["Q0"][ids] = c, f, add(qa)
-        o["dip"][ids] = np.column_stack([add(qa * h[:, k]) for k in range(3)])
+        o["c"][ids] = c
         ixx, ixy, iyy = inert[j, 0, 0], inert[j, 0, 1], inert[j, 1, 1]
-        o["quad"][ids] = np.column_stack(
-            [
-                add(q[j] * ixx + qa * h[:, 0] ** 2),
-                add(q[j] * ixy + qa * h[:, 0] * h[:, 1]),
-                add(q[j] * iyy + qa * h[:, 1] ** 2),
-                add(qa * h[:, 0] * h[:, 2]),
-                add(qa * h[:, 1] * h[:, 2]),
-                add(qa * h[:, 2] ** 2),
-            ]
-        )
-        o["M"][ids] = _cluster_moments(np.abs(q[j]), mu[j], h, inert[j], reach[j], sym[j], rep)
+        single = size == 1
+        all_sym = top(sym[j].astype(np.int8), np.minimum) > 0
+        third = ~single & all_sym
+        for s, q in enumerate(qs):
+            qj = q[j]
+            qa = qj * area[j]
+            o["F"][s, ids], o["Q0"][s, ids] = add(np.abs(qj) * area[j]), add(qa)
+            o["dip"][s, ids] = np.column_stack([add(qa * h[:, k]) for k in range(3)])
+            o["quad"][s, ids] = np.column_stack(
+                [
+                    add(qj * ixx + qa * h[:, 0] ** 2),
+                    add(qj * ixy + qa * h[:, 0] * h[:, 1]),
+                    add(qj * iyy + qa * h[:, 1] ** 2),
+                    add(qa * h[:, 0] * h[:, 2]),
+                    add(qa * h[:, 1] * h[:, 2]),
+                    add(qa * h[:, 2] ** 2),
+                ]
+            )
+            o["M"][s, ids] = _cluster_moments(np.abs(qj), mu[j], h, inert[j], reach[j], sym[j], rep)
+            if third.any():
+                o["oct"][s, ids[third]] = _third_moments(qj, area[j], h, inert[j], rep)[third]
         o["rho"][ids] = top(d + reach[j], np.maximum)
         lo = np.column_stack([cen[j, 0] - ext[j, 0], cen[j, 1] - ext[j, 1], cen[j, 2]])
         hi = np.column_stack([cen[j, 0] + ext[j, 0], cen[j, 1] + ext[j, 1], cen[j, 2]])
         o["lo"][ids], o["hi"][ids] = top(lo, np.minimum), top(hi, np.maximum)
         o["dmin"][ids], o["dmax"][ids] = o["lo"][ids, 2], o["hi"][ids, 2]
         o["delta"][ids] = top(np.abs(h[:, 2]), np.maximum)
-        single = size == 1
-        all_sym = top(sym[j].astype(np.int8), np.minimum) > 0
         # rectangles and circles only: a single one has no third moments about
         # its centroid, a cluster of them carries its octupole; either way the
         # expansion is exact to third order and the remainder is of order 4
         o["order"][ids] = np.where(all_sym, 4, 3)
-        third = ~single & all_sym
-        if third.any():
-            o["oct"][ids[third]] = _third_moments(q[j], area[j], h, inert[j], rep)[third]
-            o["has_oct"][ids[third]] = True
+        o["has_oct"][ids[third]] = True
         o["load"][ids[single]] = perm[a0[single]]
         # split the nodes of more than one load
         k = np.flatnonzero(~single)
@@ -280,38 +287,55 @@ def _build(q, cen, area, mu, inert, reach, sym, ext, idx):
 
 
 class Tree:
-    """Binary tree of load clusters with their multipole moments (internal)."""
+    """Binary tree of load clusters with their multipole moments (internal).
 
-    def __init__(self, geo: LoadGeometry, idx: np.ndarray):
-        q = geo.pressure
+    ``pressures`` (K, n) gives K load states on the loads' geometry (default:
+    the geometry's own pressures, K = 1): the topology, centre and boxes are
+    shared, the moments are per state (``st``, one table per state in the layout
+    of the ``farfield.ST_*`` columns). ``nt`` holds the geometry and the first
+    state's moments (the single-state tables of the tests and ``far``)."""
+
+    def __init__(self, geo: LoadGeometry, idx: np.ndarray, pressures=None):
+        qs = np.atleast_2d(geo.pressure if pressures is None else pressures)
         cen = geo.centre
         area, mu, inert, reach, sym = geo.area, geo.mu, geo.inertia, geo.reach, geo.symmetric
         self.rect = geo.rectangles
-        t = _build(q, cen, area, mu, inert, reach, sym, geo.extent, np.asarray(idx))
+        #: (K, n_loads) pressure of every load in every state (the exact rectangles')
+        self.pressures = np.ascontiguousarray(qs, dtype=float)
+        t = _build(qs, cen, area, mu, inert, reach, sym, geo.extent, np.asarray(idx))
         self.n = len(t["load"])
         self.load, self.end = t["load"], t["end"]
         self.left, self.right = t["left"], t["right"]
-        self.c, self.F, self.Q0, self.dip, self.quad = t["c"], t["F"], t["Q0"], t["dip"], t["quad"]
-        self.M, self.rho, self.delta, self.order = t["M"], t["rho"], t["delta"], t["order"]
+        self.c = t["c"]
+        self.F, self.Q0, self.dip, self.quad = t["F"][0], t["Q0"][0], t["dip"][0], t["quad"][0]
+        self.M, self.rho, self.delta, self.order = t["M"][0], t["rho"], t["delta"], t["order"]
         self.dmin, self.dmax, self.lo, self.hi = t["dmin"], t["dmax"], t["lo"], t["hi"]
         self.extent = np.sqrt(((self.hi[:, :2] - self.lo[:, :2]) ** 2).sum(axis=1))
         self.leaf = self.load >= 0
         # clusters of rectangles and circles carry the octupole O (third order)
-        self.oct, self.has_oct = t["oct"], t["has_oct"]
+        self.oct, self.has_oct = t["oct"][0], t["has_oct"]
         # coefficient of M₃ in the harmonic bound of T: 4 (the order-3 Legendre
         # term), 0 where the expansion is of order 3 (octupole) or the third
         # moments vanish (a single centrally symmetric load): order n = 4
         self.h3 = np.where(self.order == 4, 0.0, 4.0)
-        # the bound's six terms per node (σz: j = 0…3, T: j = 0, 1, the order of
-        # farfield.TERM_A), each coefficient · δ^j · M_{n−j} with the power b of 1/r
-        # (a = 3 − j, b = 5 + n − j for σz; a = 1 − j, b = 3 + n − j for T)
-        amp1, b1 = [], []
+        # the bound's six terms per node and state (σz: j = 0…3, T: j = 0, 1, the
+        # order of farfield.TERM_A), each coefficient · δ^j · M_{n−j} with the
+        # power b of 1/r (a = 3 − j, b = 5 + n − j for σz; a = 1 − j, b = 3 + n − j
+        # for T)
+        rows = np.arange(self.n)
+        coefs, b1 = [], []
         for kernel, (p, m) in enumerate(((3, 5), (1, 3))):
             for j in range(p + 1):
-                coef = np.array([dict(_BOUND[o][kernel]).get(j, 0.0) for o in self.order])
-                mom = self.M[np.arange(self.n), self.order - j]
-                amp1.append(coef * self.delta**j * mom)
+                coefs.append(
+                    (np.array([dict(_BOUND[o][kernel]).get(j, 0.0) for o in self.order]), j)
+                )
                 b1.append(m + self.order - j)
+        amp = np.stack(
+            [
+                np.column_stack([c * self.delta**j * M[rows, self.order - j] for c, j in coefs])
+                for M in t["M"]
+            ]
+        )
 
         # the same as flat tables for the compiled loops (sitesettle.farfield)
         nt = np.zeros((self.n, ff.NT_COLS))
@@ -328,13 +352,25 @@ class Tree:
         nt[:, ff.NT_HAS_OCT] = self.has_oct
         nt[:, ff.NT_OCT : ff.NT_OCT + 10] = self.oct
         self.nt = nt
-        self.amp1 = np.column_stack(amp1)
+        st = np.zeros((len(qs), self.n, ff.ST_COLS))
+        st[:, :, ff.ST_Q0] = t["Q0"]
+        st[:, :, ff.ST_DIP : ff.ST_DIP + 3] = t["dip"]
+        st[:, :, ff.ST_QUAD : ff.ST_QUAD + 6] = t["quad"]
+        st[:, :, ff.ST_OCT : ff.ST_OCT + 10] = t["oct"]
+        st[:, :, ff.ST_F] = t["F"]
+        st[:, :, ff.ST_M3] = t["M"][:, :, 3]
+        st[:, :, ff.ST_M4] = t["M"][:, :, 4]
+        st[:, :, ff.ST_AMP : ff.ST_AMP + 6] = amp
+        self.st = st
+        self.amp1 = amp[0]
         self.b1 = np.column_stack(b1).astype(np.int64)
         # child and load indices as the compiled traversal takes them
         self.links = tuple(
             np.asarray(v, dtype=np.int64) for v in (self.left, self.right, self.load)
         )
-        self.tables = (self.nt, self.amp1, self.b1)
+        #: (n, 6) the bound's terms whose amplitude is not 0 in some state
+        self.nzt = np.ascontiguousarray((amp != 0.0).any(axis=0))
+        self.tables = (self.nt, self.st, self.nzt, self.b1)
 
     def bounds(self, lo, hi):
         """Per node: truncation bound valid at every point of the box [lo, hi], and
@@ -344,7 +380,8 @@ class Tree:
         return self.pair_bounds(lo, hi, np.arange(self.n))
 
     def pair_bounds(self, lo, hi, nodes, lam=None):
-        """Bound e and "contributes nothing" flag of each (box, node) pair.
+        """Bound e (of the first load state) and "contributes nothing" flag of each
+        (box, node) pair.
 
         ``lo``, ``hi`` are (K, 3) boxes of points and ``nodes`` (K,) node indices.
         Each term of the bound has the form W^a / r^b with W the kernel's vertical
@@ -367,7 +404,7 @@ class Tree:
         hi = np.ascontiguousarray(np.broadcast_to(hi, (len(nodes), 3)), dtype=float)
         lam = np.full(len(nodes), -1.0) if lam is None else np.ascontiguousarray(lam, dtype=float)
         e, zero = ff.bounds_many(*self.tables, nodes, lo, hi, lam)
-        return e, zero
+        return e[:, 0], zero
 
     def _harmonic_bound(self, lo, hi, nodes):
         """Harmonic bound of T's far-field error for (box, node) pairs whose points
@@ -547,40 +584,53 @@ _STATS: dict | None = None
 _STATS_LOCK = threading.Lock()
 
 
-def treecode(geo: LoadGeometry, active, p, eps, exact_pairs, stats=None):
+def treecode(geo: LoadGeometry, active, p, eps, exact_pairs, stats=None, pressures=None):
     """(σz, T) at points p (N, 3) from the loads ``active`` of ``geo``, each
     within ε [kPa] of the exact sum (see sitesettle.stress.stress_sums).
 
-    ``exact_pairs(j, x, y, z)`` returns the exact (σz, T) of load j[k] at point
-    k, for the circles and polygons that the compiled traversal leaves to it.
+    With ``pressures`` (K, n), K load states on the same geometry are summed in
+    one traversal: the results are (K, N) and ``eps`` holds each state's ε
+    (a pair is accepted when its bound fits every state's threshold, so each
+    state's sum is within its own ε). ``exact_pairs(j, x, y, z)`` returns the
+    exact (σz, T) of load j[k] at point k in every state, (K, m) each, for the
+    circles and polygons that the compiled traversal leaves to it (for one
+    state, (m,) arrays will do).
     """
     if stats is None:
         stats = _STATS
-    tree = Tree(geo, active)
-    out_s, out_t = np.zeros(len(p)), np.zeros(len(p))
+    single = pressures is None
+    tree = Tree(geo, active, pressures)
+    ns = len(tree.pressures)
+    eps = np.broadcast_to(np.asarray(eps, dtype=float), (ns,)).copy()
+    out_s, out_t = np.zeros((ns, len(p))), np.zeros((ns, len(p)))
     todo = np.arange(len(p))
+    root_f = tree.st[:, 0, ff.ST_F]
     for k in _THRESHOLDS:
         if k is None:
-            rule = (1, 0.0, eps / tree.F[0])
+            tau = np.divide(eps, root_f, out=np.zeros(ns), where=root_f > 0)
+            rule = (1, np.zeros(ns), tau)
         else:
-            rule = (0, eps * 2.0**-k, 0.0)
+            rule = (0, eps * 2.0**-k, np.zeros(ns))
         a, b, bad = _treecode_pass(tree, p[todo], eps, rule, k is None, exact_pairs, stats)
-        out_s[todo], out_t[todo] = a, b
+        out_s[:, todo], out_t[:, todo] = a, b
         todo = todo[bad]
         if len(todo) == 0:
             break
+    if single:
+        return out_s[0], out_t[0]
     return out_s, out_t
 
 
 def _treecode_pass(tree, p, eps, rule, final, exact_pairs, stats):
-    """One pass of the treecode; returns (σz, T) and the points whose bound failed."""
+    """One pass of the treecode; returns (σz, T) (K, N) and the points whose bound failed."""
     order, starts, counts, blo, bhi = _point_blocks(p, _CELL, _BAND_RATIO, _BAND_Z0, _BLOCK_MAX)
     groups = _Groups(starts, counts, blo, bhi, _GROUP_LEVELS)
     ps = p[order]
     px, py, pz = (np.ascontiguousarray(ps[:, i]) for i in range(3))
     nb = len(starts)
-    rs, rt = np.zeros(len(p)), np.zeros(len(p))
-    esum = np.zeros(nb)
+    ns = len(tree.pressures)
+    rs, rt = np.zeros((ns, len(p))), np.zeros((ns, len(p)))
+    esum = np.zeros((ns, nb))
     nfar = np.zeros(nb, dtype=np.int64)
     nexact = np.zeros(nb, dtype=np.int64)
     gtab = (
@@ -599,6 +649,7 @@ def _treecode_pass(tree, p, eps, rule, final, exact_pairs, stats):
     # are disjoint, so the threads write disjoint parts of the result arrays
     nchunk = min(len(roots), 8 * _THREADS)
     chunks = [c for c in np.array_split(roots, nchunk) if len(c)]
+    mode, lam0, tau0 = rule
 
     def run(chunk):
         return ff.traverse(
@@ -607,7 +658,10 @@ def _treecode_pass(tree, p, eps, rule, final, exact_pairs, stats):
             *tree.tables,
             *tree.links,
             tree.rect,
-            *rule,
+            tree.pressures,
+            mode,
+            lam0,
+            tau0,
             _SPLIT_RATIO,
             px,
             py,
@@ -627,7 +681,7 @@ def _treecode_pass(tree, p, eps, rule, final, exact_pairs, stats):
         done = [run(c) for c in chunks]
     ob = np.concatenate([d[0] for d in done])
     ol = np.concatenate([d[1] for d in done])
-    bad_block = np.zeros(nb, dtype=bool) if final else esum > eps
+    bad_block = np.zeros(nb, dtype=bool) if final else (esum > eps[:, None]).any(axis=0)
     if stats is not None:
         ok = ~bad_block
         add = {
@@ -646,9 +700,11 @@ def _treecode_pass(tree, p, eps, rule, final, exact_pairs, stats):
     for sl in _pair_chunks(counts[ob], _EXACT_CHUNK):
         pidx, rep = _expand(starts[ob[sl]], counts[ob[sl]])
         a, b = exact_pairs(ol[sl][rep], px[pidx], py[pidx], pz[pidx])
-        _accumulate(rs, rt, pidx, a, b)
-    sz, tt = np.empty(len(p)), np.empty(len(p))
-    sz[order], tt[order] = rs, rt
+        a, b = np.atleast_2d(a), np.atleast_2d(b)
+        for s in range(ns):
+            _accumulate(rs[s], rt[s], pidx, a[s], b[s])
+    sz, tt = np.empty((ns, len(p))), np.empty((ns, len(p)))
+    sz[:, order], tt[:, order] = rs, rt
     bad = np.zeros(len(p), dtype=bool)
     bad[order] = np.repeat(bad_block, counts)
     return sz, tt, bad

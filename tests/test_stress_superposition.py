@@ -637,3 +637,83 @@ def test_harmonic_bound_of_t_is_not_loose():
     ratios = [r for r in ratios if r is not None]
     assert len(ratios) > 200
     assert max(ratios) > 1.0 / 30.0
+
+
+# ---------------------------------------------------------------------------
+# Several load states in one pass (stress_states)
+# ---------------------------------------------------------------------------
+
+
+def _mixed_plan(rng, spacing=6.0):
+    """An invented grid of pads with circles and an unloading triangle."""
+    return S.Loads.concat(
+        grid_plan(10, 9, spacing=spacing, seed=int(rng.integers(1000))),
+        S.Loads.circles(rng.uniform(0, 50, 4), rng.uniform(0, 50, 4), 1.4, 160.0, 1.1),
+        S.Loads.polygons([[(0, -10), (8, -10), (4, -6)]], -80.0, 0.8),
+    )
+
+
+@settings(max_examples=10, deadline=None)
+@given(
+    seed=st.integers(0, 2**31 - 1),
+    tol=st.sampled_from([1e-3, 1e-2]),
+    scale=st.sampled_from([1.0, 1e-3]),
+    columns=st.booleans(),
+)
+def test_states_in_one_pass_each_within_its_own_bound(seed, tol, scale, columns):
+    # K states on one geometry summed in one traversal: each state's σz and T stay
+    # within tolerance · (that state's max|q|) of its own exact sum (the bound of
+    # stress_sums, state by state), also for a state a thousand times smaller
+    # than the others (its own ε is then a thousand times smaller), for zero and
+    # for negative pressures
+    rng = np.random.default_rng(seed)
+    loads = _mixed_plan(rng)
+    n = len(loads)
+    q0 = loads.pressure
+    qs = np.stack(
+        [
+            q0,
+            q0 * rng.uniform(0.3, 1.0, n),  # e.g. the sustained part
+            np.where(rng.random(n) < 0.3, 0.0, q0) * scale,  # some loads not yet applied
+        ]
+    )
+    if columns:  # vertical columns, the analysis' layout
+        xy = rng.uniform(-8, 60, (80, 2))
+        z = np.linspace(0.5, 30.0, 20)
+        pts = np.column_stack([np.repeat(xy, len(z), axis=0), np.tile(z, len(xy))])
+    else:
+        pts = random_points(rng, 1600, (-10, 70), (-12, 60), (0.0, 30.0))
+    sz, tt = S.stress_states(loads, qs, pts, tolerance=tol)
+    assert sz.shape == tt.shape == (3, len(pts))
+    for k, q in enumerate(qs):
+        exact = S.stress_sums(loads.with_pressure(q), pts, tolerance=0)
+        allowed = tol * np.abs(q).max()
+        assert np.abs(sz[k] - exact[0]).max() <= allowed
+        assert np.abs(tt[k] - exact[1]).max() <= allowed
+
+
+def test_one_state_is_stress_sums_and_states_are_linear():
+    rng = np.random.default_rng(11)
+    loads = _mixed_plan(rng)
+    pts = random_points(rng, 3000, (-10, 70), (-12, 60), (0.5, 30.0))
+    one = S.stress_states(loads, loads.pressure[None, :], pts)
+    ref = S.stress_sums(loads, pts)
+    np.testing.assert_array_equal(one[0][0], ref[0])  # the same engine, bit for bit
+    np.testing.assert_array_equal(one[1][0], ref[1])
+    # a state equal to another gives the same numbers in the same pass
+    two = S.stress_states(loads, np.stack([loads.pressure, loads.pressure]), pts)
+    np.testing.assert_array_equal(two[0][0], two[0][1])
+    # exact sums are linear in the pressures (tolerance 0: no acceptance at all)
+    half = S.stress_states(loads, np.stack([loads.pressure, 0.5 * loads.pressure]), pts,
+                           tolerance=0)  # fmt: skip
+    np.testing.assert_allclose(half[0][1], 0.5 * half[0][0], rtol=1e-12, atol=1e-12)
+
+
+@pytest.mark.parametrize(
+    "pressures, match",
+    [(np.zeros((2, 3)), "pressures"), (np.full((1, 90), np.nan), "pressures")],
+)
+def test_states_bad_pressures(pressures, match):
+    loads = grid_plan(10, 9)
+    with pytest.raises(InputError, match=match):
+        S.stress_states(loads, pressures, np.zeros((4, 3)) + 2.0)
