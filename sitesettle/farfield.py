@@ -116,9 +116,9 @@ _W_RATIO, _W_CONST = _stationary_tables()
 
 
 @_compiled
-def _sup_geometry(nz, b, hh, vmin, vmax, dd, g):
+def _sup_geometry(nz, b, row, hh, vmin, vmax, dd, g):
     """g[k] = sup (v + Δ)^a (h² + v²)^(−b/2) over v in [vmin, vmax] for the six
-    terms of the bound (a = TERM_A[k], b = b[k]) where ``nz[k]``, else 0.
+    terms of the bound (a = TERM_A[k], b = b[row, k]) where ``nz[row, k]``, else 0.
 
     Each term is unimodal in v with its maximum at the positive root of
     (b − a)v² + bΔv − ah² = 0, clipped to the range; on one plane (Δ = 0) the
@@ -129,11 +129,11 @@ def _sup_geometry(nz, b, hh, vmin, vmax, dd, g):
     ir_lo = 1.0 / math.sqrt(hh + vmin * vmin)
     ir_hi = -1.0
     for k in range(6):
-        if not nz[k]:
+        if not nz[row, k]:
             g[k] = 0.0
             continue
         a = TERM_A[k]
-        bk = b[k]
+        bk = b[row, k]
         if a == 0:
             val = _ipow(ir_lo, bk)
         else:
@@ -160,7 +160,7 @@ def _sup_terms(amp, b, hh, vmin, vmax, dd):
     """Σ over six terms amp · sup (v + Δ)^a (h² + v²)^(−b/2), v in [vmin, vmax],
     for σz (terms 0–3) and T (terms 4, 5) (:func:`_sup_geometry`)."""
     g = np.empty(6)
-    _sup_geometry(amp != 0.0, b, hh, vmin, vmax, dd, g)
+    _sup_geometry((amp != 0.0).reshape(1, 6), b.reshape(1, 6), 0, hh, vmin, vmax, dd, g)
     es = 0.0
     et = 0.0
     for k in range(6):
@@ -233,7 +233,7 @@ def pair_bound(nt, st, nzt, b1, node, lo0, lo1, lo2, hi0, hi1, hi2, lam, e, et, 
     gy = max(max(lo1 - nt[node, NT_HI + 1], nt[node, NT_LO + 1] - hi1), 0.0)
     hh = gx * gx + gy * gy
     dd = dmax - dmin
-    _sup_geometry(nzt[node], b1[node], hh, vmin, vmax, dd, g)
+    _sup_geometry(nzt, b1, node, hh, vmin, vmax, dd, g)
     harm = lam[0] < 0.0
     for s in range(ns):
         es = 0.0
@@ -317,70 +317,80 @@ def _third_order(X, Y, W, W2, W3, ir2, ir3, o, lx, ly, trw):
 
 
 @_compiled
-def _multipole_slice(nt, mom, iq, idp, iqd, ioc, node, px, py, pz, out_s, out_t, p0, p1):
-    """Add the multipole (σz, T) of ``node`` to the points p0…p1−1 of the result
-    arrays: the Taylor expansion of the kernels about the node's centre C to
-    second order (monopole Q0, dipole d, quadrupole Q: q0·k − d·∇k + ½ Q:∇∇k,
+def multipole_add(nt, st, node, px, py, pz, out_s, out_t, p0, p1, scratch):
+    """Add the multipole (σz, T) of ``node`` in every load state k of ``st``
+    (K, n, ST_COLS) to the points p0…p1−1 of ``out_s[k]``, ``out_t[k]``: the
+    Taylor expansion of the kernels about the node's centre C to second order
+    (monopole Q0, dipole d, quadrupole Q: q0·k − d·∇k + ½ Q:∇∇k,
     :func:`_second_order`) and to third order (− (1/6) O:∇³k, :func:`_third_order`)
-    where the node holds an octupole. C and the order come from ``nt``, the
-    moments from row ``node`` of ``mom`` at columns ``iq`` (Q0), ``idp`` (dipole),
-    ``iqd`` (quadrupole) and ``ioc`` (octupole). The moments are read once and
-    the loop runs over contiguous slices, which the compiler vectorises; each
-    point's value is formed by the same operations in the same order as a
-    scalar loop, so the result does not depend on how points are grouped."""
+    where the node holds an octupole (``nt``).
+
+    The offsets from C and the powers of 1/r are formed once per point, for all
+    states (in ``scratch``, (5, ≥ p1 − p0)), then each state's polynomial with its
+    moments read once, in a loop over contiguous slices that the compiler
+    vectorises. Each point's value is formed by the same operations in the same
+    order as a scalar loop, so the result depends neither on how points are
+    grouped nor on the other states."""
     c0 = nt[node, 0]
     c1 = nt[node, 1]
     c2 = nt[node, 2]
-    q0 = mom[node, iq]
-    dx = mom[node, idp]
-    dy = mom[node, idp + 1]
-    dw = mom[node, idp + 2]
-    qxx = mom[node, iqd]
-    qxy = mom[node, iqd + 1]
-    qyy = mom[node, iqd + 2]
-    qxw = mom[node, iqd + 3]
-    qyw = mom[node, iqd + 4]
-    qww = mom[node, iqd + 5]
-    hxx = 0.5 * qxx
-    hyy = 0.5 * qyy
-    ss = qxx + qyy
+    m = p1 - p0
     xs = px[p0:p1]
     ys = py[p0:p1]
     zs = pz[p0:p1]
-    os_ = out_s[p0:p1]
-    ot = out_t[p0:p1]
-    has_oct = nt[node, NT_HAS_OCT] > 0.0
-    o = (
-        mom[node, ioc], mom[node, ioc + 1], mom[node, ioc + 2], mom[node, ioc + 3],
-        mom[node, ioc + 4], mom[node, ioc + 5], mom[node, ioc + 6],
-        mom[node, ioc + 7], mom[node, ioc + 8], mom[node, ioc + 9],
-    )  # fmt: skip
-    lx = o[0] + o[2]
-    ly = o[1] + o[3]
-    trw = o[4] + o[6]
-    for k in range(len(xs)):
+    for k in range(m):
         X = xs[k] - c0
         Y = ys[k] - c1
         W = zs[k] - c2
-        W2 = W * W
-        W3 = W2 * W
-        ir2 = 1.0 / (X * X + Y * Y + W2)
-        ir3 = ir2 * math.sqrt(ir2)
-        s2, t2 = _second_order(
-            X, Y, W, W2, W3, ir2, ir3, q0, dx, dy, dw, hxx, hyy, qxy, qxw, qyw, qww, ss
-        )
-        if has_oct:
-            s3, t3 = _third_order(X, Y, W, W2, W3, ir2, ir3, o, lx, ly, trw)
-            s2 += s3
-            t2 += t3
-        os_[k] += K_SIGMA * s2
-        ot[k] += K_THETA * t2
-
-
-@_compiled
-def multipole_add(nt, node, px, py, pz, out_s, out_t, p0, p1):
-    """:func:`_multipole_slice` with the moments of the node table ``nt``."""
-    _multipole_slice(nt, nt, NT_Q0, NT_DIP, NT_QUAD, NT_OCT, node, px, py, pz, out_s, out_t, p0, p1)
+        ir2 = 1.0 / (X * X + Y * Y + W * W)
+        scratch[0, k] = X
+        scratch[1, k] = Y
+        scratch[2, k] = W
+        scratch[3, k] = ir2
+        scratch[4, k] = ir2 * math.sqrt(ir2)
+    has_oct = nt[node, NT_HAS_OCT] > 0.0
+    for s in range(st.shape[0]):
+        q0 = st[s, node, ST_Q0]
+        dx = st[s, node, ST_DIP]
+        dy = st[s, node, ST_DIP + 1]
+        dw = st[s, node, ST_DIP + 2]
+        qxx = st[s, node, ST_QUAD]
+        qxy = st[s, node, ST_QUAD + 1]
+        qyy = st[s, node, ST_QUAD + 2]
+        qxw = st[s, node, ST_QUAD + 3]
+        qyw = st[s, node, ST_QUAD + 4]
+        qww = st[s, node, ST_QUAD + 5]
+        hxx = 0.5 * qxx
+        hyy = 0.5 * qyy
+        ss = qxx + qyy
+        oc = ST_OCT
+        o = (
+            st[s, node, oc], st[s, node, oc + 1], st[s, node, oc + 2], st[s, node, oc + 3],
+            st[s, node, oc + 4], st[s, node, oc + 5], st[s, node, oc + 6],
+            st[s, node, oc + 7], st[s, node, oc + 8], st[s, node, oc + 9],
+        )  # fmt: skip
+        lx = o[0] + o[2]
+        ly = o[1] + o[3]
+        trw = o[4] + o[6]
+        os_ = out_s[s, p0:p1]
+        ot = out_t[s, p0:p1]
+        for k in range(m):
+            X = scratch[0, k]
+            Y = scratch[1, k]
+            W = scratch[2, k]
+            W2 = W * W
+            W3 = W2 * W
+            ir2 = scratch[3, k]
+            ir3 = scratch[4, k]
+            a2, b2 = _second_order(
+                X, Y, W, W2, W3, ir2, ir3, q0, dx, dy, dw, hxx, hyy, qxy, qxw, qyw, qww, ss
+            )
+            if has_oct:
+                a3, b3 = _third_order(X, Y, W, W2, W3, ir2, ir3, o, lx, ly, trw)
+                a2 += a3
+                b2 += b3
+            os_[k] += K_SIGMA * a2
+            ot[k] += K_THETA * b2
 
 
 @_compiled
@@ -455,14 +465,16 @@ def harmonic_many(nt, nodes, lo, hi):
 
 
 @_compiled
-def multipole_many(nt, nodes, px, py, pz):
-    """Multipole (σz, T) of nodes[k] at point k, for 1-D arrays of one length
-    (:func:`multipole_add` one point at a time, for tests and small sums)."""
+def multipole_many(nt, st, nodes, px, py, pz):
+    """Multipole (σz, T) of nodes[k] at point k in every state, (K, n) each, for
+    1-D arrays of one length (:func:`multipole_add` one point at a time, for tests
+    and small sums)."""
     n = len(nodes)
-    sz = np.zeros(n)
-    tt = np.zeros(n)
+    sz = np.zeros((st.shape[0], n))
+    tt = np.zeros((st.shape[0], n))
+    scratch = np.empty((5, 1))
     for k in range(n):
-        multipole_add(nt, nodes[k], px, py, pz, sz, tt, k, k + 1)
+        multipole_add(nt, st, nodes[k], px, py, pz, sz, tt, k, k + 1, scratch)
     return sz, tt
 
 
@@ -538,6 +550,10 @@ def traverse(
     e = np.empty(ns)
     et = np.empty(ns)
     gs = np.empty(6)
+    most = 0
+    for g in range(len(g_count)):
+        most = max(most, g_count[g])
+    scratch = np.empty((5, most))
     pairs = 0
     nb = g_size[0]
     for r in range(len(roots)):
@@ -561,11 +577,8 @@ def traverse(
             if ok:
                 pairs += 1
                 p0 = g_start[g]
-                for s in range(ns):
-                    _multipole_slice(
-                        nt, st[s], ST_Q0, ST_DIP, ST_QUAD, ST_OCT, node,
-                        px, py, pz, out_s[s], out_t[s], p0, p0 + g_count[g],
-                    )  # fmt: skip
+                p1 = p0 + g_count[g]
+                multipole_add(nt, st, node, px, py, pz, out_s, out_t, p0, p1, scratch)
                 b0 = g_index[g] << lev
                 for blk in range(b0, min(b0 + (1 << lev), nb)):
                     for s in range(ns):

@@ -420,14 +420,15 @@ class Tree:
         return ff.harmonic_many(self.nt, nodes, lo, hi)
 
     def far(self, nodes, px, py, pz):
-        """Multipole (σz, T) of ``nodes`` at the points, summed over the nodes (to
-        second order; to third where a node carries an octupole)."""
+        """Multipole (σz, T) of ``nodes`` at the points in the first load state,
+        summed over the nodes (to second order; to third where a node carries an
+        octupole)."""
         nodes = np.asarray(nodes, dtype=np.int64)
         px, py, pz = (np.asarray(v, dtype=float) for v in (px, py, pz))
         k = np.repeat(nodes[None, :], len(px), axis=0).ravel()
         rep = lambda v: np.repeat(v, len(nodes))  # noqa: E731
-        a, b = ff.multipole_many(self.nt, k, rep(px), rep(py), rep(pz))
-        return a.reshape(len(px), -1).sum(axis=1), b.reshape(len(px), -1).sum(axis=1)
+        a, b = ff.multipole_many(self.nt, self.st[:1], k, rep(px), rep(py), rep(pz))
+        return a[0].reshape(len(px), -1).sum(axis=1), b[0].reshape(len(px), -1).sum(axis=1)
 
 
 def _morton(ix, iy):

@@ -108,8 +108,8 @@ def _taylor_reference(tree, node, p):
 
 
 def _multipole(tree, node, p):
-    a, b = ff.multipole_many(tree.nt, np.array([node]), p[:1], p[1:2], p[2:3])
-    return np.array([a[0], b[0]])
+    a, b = ff.multipole_many(tree.nt, tree.st[:1], np.array([node]), p[:1], p[1:2], p[2:3])
+    return np.array([a[0, 0], b[0, 0]])
 
 
 def test_multipole_is_the_taylor_expansion():
