@@ -116,26 +116,28 @@ _W_RATIO, _W_CONST = _stationary_tables()
 
 
 @_compiled
-def _sup_geometry(nz, b, row, hh, vmin, vmax, dd, g):
-    """g[k] = sup (v + Δ)^a (h² + v²)^(−b/2) over v in [vmin, vmax] for the six
-    terms of the bound (a = TERM_A[k], b = b[row, k]) where ``nz[row, k]``, else 0.
+def _sup_terms(amp, b, hh, vmin, vmax, dd):
+    """Σ over six terms amp · sup (v + Δ)^a (h² + v²)^(−b/2), v in [vmin, vmax],
+    for σz (terms 0–3) and T (terms 4, 5).
 
     Each term is unimodal in v with its maximum at the positive root of
     (b − a)v² + bΔv − ah² = 0, clipped to the range; on one plane (Δ = 0) the
     root is h·√(a/(b − a)) and the value there has a closed form
     (:func:`_stationary_tables`), so one square root serves every term."""
+    es = 0.0
+    et = 0.0
     flat = dd == 0.0
     h = math.sqrt(hh) if flat else 0.0
     ir_lo = 1.0 / math.sqrt(hh + vmin * vmin)
     ir_hi = -1.0
     for k in range(6):
-        if not nz[row, k]:
-            g[k] = 0.0
+        ak = amp[k]
+        if ak == 0.0:
             continue
         a = TERM_A[k]
-        bk = b[row, k]
+        bk = b[k]
         if a == 0:
-            val = _ipow(ir_lo, bk)
+            val = ak * _ipow(ir_lo, bk)
         else:
             if flat:
                 vs = _W_RATIO[a, bk] * h
@@ -143,38 +145,27 @@ def _sup_geometry(nz, b, row, hh, vmin, vmax, dd, g):
                 bd = bk * dd
                 vs = (-bd + math.sqrt(bd * bd + 4.0 * (bk - a) * a * hh)) / (2.0 * (bk - a))
             if vs <= vmin:
-                val = _ipow(ir_lo, bk) * _ipow(vmin + dd, a)
+                val = ak * _ipow(ir_lo, bk) * _ipow(vmin + dd, a)
             elif vs >= vmax:
                 if ir_hi < 0.0:
                     ir_hi = 1.0 / math.sqrt(hh + vmax * vmax)
-                val = _ipow(ir_hi, bk) * _ipow(vmax + dd, a)
+                val = ak * _ipow(ir_hi, bk) * _ipow(vmax + dd, a)
             elif flat:
-                val = _W_CONST[a, bk] * _ipow(1.0 / h, bk - a)
+                val = ak * _W_CONST[a, bk] * _ipow(1.0 / h, bk - a)
             else:
-                val = _ipow(1.0 / math.sqrt(hh + vs * vs), bk) * _ipow(vs + dd, a)
-        g[k] = val
-
-
-@_compiled
-def _sup_terms(amp, b, hh, vmin, vmax, dd):
-    """Σ over six terms amp · sup (v + Δ)^a (h² + v²)^(−b/2), v in [vmin, vmax],
-    for σz (terms 0–3) and T (terms 4, 5) (:func:`_sup_geometry`)."""
-    g = np.empty(6)
-    _sup_geometry((amp != 0.0).reshape(1, 6), b.reshape(1, 6), 0, hh, vmin, vmax, dd, g)
-    es = 0.0
-    et = 0.0
-    for k in range(6):
+                val = ak * _ipow(1.0 / math.sqrt(hh + vs * vs), bk) * _ipow(vs + dd, a)
         if TERM_KERNEL[k] == 0:
-            es += amp[k] * g[k]
+            es += val
         else:
-            et += amp[k] * g[k]
+            et += val
     return es, et
 
 
 @_compiled
-def _harmonic_factors(nt, node, lo0, lo1, lo2, hi0, hi1, hi2):
-    """(a3, a4) with T's harmonic bound a3·M3 + a4·M4 over the box (a4·M4 the
-    part of the Legendre terms of order ≥ 4); (inf, inf) where ρ ≥ r_c."""
+def harmonic_bound(nt, m3, m4, node, lo0, lo1, lo2, hi0, hi1, hi2):
+    """Harmonic bound of T's far-field error of ``node`` over the box, for its
+    radial moments M3 = ``m3``, M4 = ``m4`` (of one load state), and its part
+    from the Legendre terms of order ≥ 4 (inf, inf where ρ ≥ r_c)."""
     c0 = nt[node, NT_C]
     c1 = nt[node, NT_C + 1]
     c2 = nt[node, NT_C + 2]
@@ -190,77 +181,38 @@ def _harmonic_factors(nt, node, lo0, lo1, lo2, hi0, hi1, hi2):
     ir2 = ir * ir
     ir6 = ir2 * ir2 * ir2
     sx = 5.0 / (1.0 - x) + x / ((1.0 - x) * (1.0 - x))
-    return K_THETA * nt[node, NT_H3] * (ir6 * rc), K_THETA * ir6 * sx
+    tail = K_THETA * m4 * ir6 * sx
+    return K_THETA * nt[node, NT_H3] * m3 * (ir6 * rc) + tail, tail
 
 
 @_compiled
-def harmonic_bound(nt, node, lo0, lo1, lo2, hi0, hi1, hi2):
-    """Harmonic bound of T's far-field error of ``node`` (its moments in ``nt``)
-    over the box, and its part from the Legendre terms of order ≥ 4 (inf, inf
-    where ρ ≥ r_c)."""
-    a3, a4 = _harmonic_factors(nt, node, lo0, lo1, lo2, hi0, hi1, hi2)
-    if a4 == math.inf:
-        return math.inf, math.inf
-    tail = a4 * nt[node, NT_M + 4]
-    return a3 * nt[node, NT_M + 3] + tail, tail
-
-
-@_compiled
-def pair_bound(nt, st, nzt, b1, node, lo0, lo1, lo2, hi0, hi1, hi2, lam, e, et, g):
-    """Bound e[k] of the far-field error of ``node`` in each load state k at every
-    point of the box [lo, hi]; returns (every e[k] ≤ lam[k], the node contributes
-    nothing there: all points above its planes). ``lam[0]`` < 0 computes T's
-    harmonic bound always; otherwise where the first bound of some state lies in
+def pair_bound(nt, st, s, b1, node, lo0, lo1, lo2, hi0, hi1, hi2, lam):
+    """Bound e of the far-field error of ``node`` in load state ``s`` (its moments
+    ``st[s]``) at every point of the box [lo, hi], and whether the node
+    contributes nothing there (all points above its planes). ``lam`` < 0 computes
+    T's harmonic bound always; otherwise only where the first bound lies in
     (λ·LAZY_LO, λ·LAZY_HI]. e = inf where some point is not below the node's
-    deepest plane. ``nzt[node]`` tells the terms whose amplitude is not 0 in
-    some state; ``et`` (K,) and ``g`` (6,) are scratch. The geometry of the
-    bound (the sup of each term over the box, the harmonic factors) is
-    computed once for all states; each state's bound is its amplitudes times it."""
-    ns = st.shape[0]
+    deepest plane."""
     dmin = nt[node, NT_DMIN]
     dmax = nt[node, NT_DMAX]
     if hi2 <= dmin:
-        for s in range(ns):
-            e[s] = 0.0
-        return True, True
+        return 0.0, True
     vmin = lo2 - dmax
     if not vmin > 0.0:
-        for s in range(ns):
-            e[s] = math.inf
-        return False, False
+        return math.inf, False
     vmax = hi2 - dmax
     gx = max(max(lo0 - nt[node, NT_HI], nt[node, NT_LO] - hi0), 0.0)
     gy = max(max(lo1 - nt[node, NT_HI + 1], nt[node, NT_LO + 1] - hi1), 0.0)
     hh = gx * gx + gy * gy
     dd = dmax - dmin
-    _sup_geometry(nzt, b1, node, hh, vmin, vmax, dd, g)
-    harm = lam[0] < 0.0
-    for s in range(ns):
-        es = 0.0
-        tt = 0.0
-        for k in range(6):
-            v = st[s, node, ST_AMP + k] * g[k]
-            if TERM_KERNEL[k] == 0:
-                es += v
-            else:
-                tt += v
-        e[s] = es
-        et[s] = tt
-        e1 = max(es, tt)
-        if e1 > LAZY_LO * lam[s] and e1 <= LAZY_HI * lam[s]:
-            harm = True
-    if harm:
-        a3, a4 = _harmonic_factors(nt, node, lo0, lo1, lo2, hi0, hi1, hi2)
-        if a4 != math.inf:
-            for s in range(ns):
-                eh = a3 * st[s, node, ST_M3] + a4 * st[s, node, ST_M4]
-                et[s] = min(et[s], eh)
-    ok = True
-    for s in range(ns):
-        e[s] = max(e[s], et[s])
-        if not e[s] <= lam[s]:
-            ok = False
-    return ok, False
+    es, et = _sup_terms(st[s, node, ST_AMP : ST_AMP + 6], b1[node], hh, vmin, vmax, dd)
+    e1 = max(es, et)
+    if lam < 0.0 or (e1 > LAZY_LO * lam and e1 <= LAZY_HI * lam):
+        eh, _ = harmonic_bound(
+            nt, st[s, node, ST_M3], st[s, node, ST_M4], node, lo0, lo1, lo2, hi0, hi1, hi2
+        )
+        et = min(et, eh)
+    return max(es, et), False
 
 
 @njit(inline="always", **_JIT)
@@ -431,22 +383,16 @@ def rectangle(hl, hw, u, v, w):
 
 
 @_compiled
-def bounds_many(nt, st, nzt, b1, nodes, lo, hi, lam):
-    """pair_bound of (box k, nodes[k]) for n pairs, in every state: e (n, K) and
-    the "contributes nothing" flags (n,); ``lam`` (n,), the threshold of pair k
-    in every state (negative: the harmonic bound always)."""
+def bounds_many(nt, st, b1, nodes, lo, hi, lam):
+    """pair_bound of (box k, nodes[k]) for n pairs in the first load state;
+    ``lam`` (n,) or negative."""
     n = len(nodes)
-    ns = st.shape[0]
-    e = np.empty((n, ns))
+    e = np.empty(n)
     zero = np.empty(n, dtype=np.bool_)
-    lk = np.empty(ns)
-    et = np.empty(ns)
-    g = np.empty(6)
     for k in range(n):
-        lk[:] = lam[k]
-        _, zero[k] = pair_bound(
-            nt, st, nzt, b1, nodes[k],
-            lo[k, 0], lo[k, 1], lo[k, 2], hi[k, 0], hi[k, 1], hi[k, 2], lk, e[k], et, g,
+        e[k], zero[k] = pair_bound(
+            nt, st, 0, b1, nodes[k],
+            lo[k, 0], lo[k, 1], lo[k, 2], hi[k, 0], hi[k, 1], hi[k, 2], lam[k],
         )  # fmt: skip
     return e, zero
 
@@ -458,9 +404,11 @@ def harmonic_many(nt, nodes, lo, hi):
     eh = np.empty(n)
     tail = np.empty(n)
     for k in range(n):
+        node = nodes[k]
         eh[k], tail[k] = harmonic_bound(
-            nt, nodes[k], lo[k, 0], lo[k, 1], lo[k, 2], hi[k, 0], hi[k, 1], hi[k, 2]
-        )
+            nt, nt[node, NT_M + 3], nt[node, NT_M + 4], node,
+            lo[k, 0], lo[k, 1], lo[k, 2], hi[k, 0], hi[k, 1], hi[k, 2],
+        )  # fmt: skip
     return eh, tail
 
 
@@ -499,7 +447,6 @@ def traverse(
     g_size,
     nt,
     st,
-    nzt,
     b1,
     left,
     right,
@@ -546,10 +493,7 @@ def traverse(
     n_other = 0
     s_g = np.empty(capacity, dtype=np.int64)
     s_n = np.empty(capacity, dtype=np.int64)
-    lam = np.empty(ns)
     e = np.empty(ns)
-    et = np.empty(ns)
-    gs = np.empty(6)
     most = 0
     for g in range(len(g_count)):
         most = max(most, g_count[g])
@@ -564,13 +508,19 @@ def traverse(
             top -= 1
             g = s_g[top]
             node = s_n[top]
+            # accepted when every state's bound fits its threshold (the first
+            # state that does not ends the test: rejected pairs cost one bound)
+            ok = True
+            zero = False
             for s in range(ns):
-                lam[s] = lam0[s] if mode == 0 else tau0[s] * st[s, node, ST_F]
-            ok, zero = pair_bound(
-                nt, st, nzt, b1, node,
-                g_lo[g, 0], g_lo[g, 1], g_lo[g, 2], g_hi[g, 0], g_hi[g, 1], g_hi[g, 2],
-                lam, e, et, gs,
-            )  # fmt: skip
+                lam = lam0[s] if mode == 0 else tau0[s] * st[s, node, ST_F]
+                e[s], zero = pair_bound(
+                    nt, st, s, b1, node,
+                    g_lo[g, 0], g_lo[g, 1], g_lo[g, 2], g_hi[g, 0], g_hi[g, 1], g_hi[g, 2], lam,
+                )  # fmt: skip
+                if zero or not e[s] <= lam:
+                    ok = False
+                    break
             if zero:
                 continue
             lev = g_level[g]
@@ -580,9 +530,13 @@ def traverse(
                 p1 = p0 + g_count[g]
                 multipole_add(nt, st, node, px, py, pz, out_s, out_t, p0, p1, scratch)
                 b0 = g_index[g] << lev
-                for blk in range(b0, min(b0 + (1 << lev), nb)):
-                    for s in range(ns):
-                        esum[s, blk] += e[s]
+                b1_ = min(b0 + (1 << lev), nb)
+                for s in range(ns):
+                    es = e[s]  # a local: the loop then need not reload it after each store
+                    row = esum[s]
+                    for blk in range(b0, b1_):
+                        row[blk] += es
+                for blk in range(b0, b1_):
                     nfar[blk] += 1
                 continue
             j = load[node]

@@ -368,9 +368,7 @@ class Tree:
         self.links = tuple(
             np.asarray(v, dtype=np.int64) for v in (self.left, self.right, self.load)
         )
-        #: (n, 6) the bound's terms whose amplitude is not 0 in some state
-        self.nzt = np.ascontiguousarray((amp != 0.0).any(axis=0))
-        self.tables = (self.nt, self.st, self.nzt, self.b1)
+        self.tables = (self.nt, self.st, self.b1)
 
     def bounds(self, lo, hi):
         """Per node: truncation bound valid at every point of the box [lo, hi], and
@@ -404,7 +402,7 @@ class Tree:
         hi = np.ascontiguousarray(np.broadcast_to(hi, (len(nodes), 3)), dtype=float)
         lam = np.full(len(nodes), -1.0) if lam is None else np.ascontiguousarray(lam, dtype=float)
         e, zero = ff.bounds_many(*self.tables, nodes, lo, hi, lam)
-        return e[:, 0], zero
+        return e, zero
 
     def _harmonic_bound(self, lo, hi, nodes):
         """Harmonic bound of T's far-field error for (box, node) pairs whose points
