@@ -377,6 +377,9 @@ class Integration:
     #: (n_columns,) 0 footing, 1 query point, 2 map: the points of each kind are
     #: summed apart (:func:`_stresses`)
     column_group: np.ndarray | None = None
+    #: (n_states, 3, n_sub) superposed σz, T and sustained σz of the loads of every
+    #: stage but the last (``Context.states``), summed with the full loads
+    stage_stress: np.ndarray | None = None
 
 
 #: the kinds of column whose stresses are summed in separate calls
@@ -454,6 +457,7 @@ def integrate(
     own_notes: dict[int, list[str]] = {}
     own_params: dict[int, dict[str, float]] = {}
     groups = _column_groups(pts.kind)
+    staged: list = []  # per pass, the stresses of the stages' load states
     first = True
     passes = 0
     while active.any():
@@ -492,7 +496,7 @@ def integrate(
             owner=pts.owner[col],
         )
         say("stresses", min(0.1 + 0.1 * passes, 0.6))
-        _stresses(ctx, sub, st.stress_tolerance, group=groups[col])
+        staged.append(_stresses(ctx, sub, st.stress_tolerance, group=groups[col]))
         sub.sig0 = gc.effective_stress(col, mid)
         fld.sublayer_strains(
             sub, tab, ctx.ground, spt_modulus, cohesive_immediate=st.cohesive_immediate
@@ -552,6 +556,9 @@ def integrate(
     if parts:
         first_pass[: len(parts[0])] = True
         first_pass = first_pass[order]
+    stage_stress = None
+    if staged and staged[0] is not None:
+        stage_stress = np.concatenate(staged, axis=2)[:, :, order]
     bottom = np.where(z_to > pts.base, z_to, pts.base)
     bound = np.where(bottom >= rigid - 1e-9, 0.0, bound)
     reason = np.where(
@@ -568,8 +575,9 @@ def integrate(
         ),
     )
     return Integration(
-        sub, bottom, reason, bound, own_notes, spt_modulus, first_pass, own_params, groups
-    )
+        sub, bottom, reason, bound, own_notes, spt_modulus, first_pass, own_params, groups,
+        stage_stress,
+    )  # fmt: skip
 
 
 def _subset(gc: GroundColumns, cols: np.ndarray) -> GroundColumns:
@@ -645,40 +653,84 @@ def same_loads(a: stress.Loads, b: stress.Loads, *, pressure: bool = True) -> bo
     )
 
 
-def _stresses(ctx: Context, sub: fld.Sublayers, tol: float, group=None) -> None:
+def _stresses(
+    ctx: Context, sub: fld.Sublayers, tol: float, group=None, *, stages: bool = True
+) -> np.ndarray | None:
     """Superposed stresses of all loads and the own footing's, full and sustained (in place).
 
     ``group`` (n_sub,) sorts the sublayers into footing, query and map columns
     (:func:`_column_groups`; by default footing columns and the rest), whose
     stresses are summed in separate calls: the treecode groups the points of one
     call, so this keeps every footing's and query point's result independent of
-    the map grid (each within the stated bound either way)."""
+    the map grid (each within the stated bound either way).
+
+    Every load state of one geometry is summed in the same pass
+    (:func:`sitesettle.stress.stress_states`): the full and sustained loads and,
+    with ``stages``, those of every construction stage but the last
+    (``ctx.states``), whose superposed σz, T and sustained σz are returned as an
+    (n_states, 3, n_sub) array (None without stages)."""
     xyz = np.column_stack([sub.x, sub.y, sub.mid])
-    if len(ctx.loads_full) and len(xyz):
+    full, sust = ctx.loads_full, ctx.loads_sust
+    states = ctx.states if stages else ()
+    staged = np.zeros((len(states), 3, len(xyz))) if states else None
+    if len(full) and len(xyz):
         notes: list = []
         if group is None:
             group = np.where(sub.owner >= 0, 0, 2)
         groups = [g for g in (np.flatnonzero(group == k) for k in range(3)) if len(g)]
-
-        full, sust = ctx.loads_full, ctx.loads_sust
-        if same_loads(full, sust):  # e.g. a stage of dead load only
-            passes = [(full, full.pressure[None, :])]
-        elif same_loads(full, sust, pressure=False):  # both states in one pass
-            passes = [(full, np.stack([full.pressure, sust.pressure]))]
-        else:
-            passes = [(full, full.pressure[None, :]), (sust, sust.pressure[None, :])]
-        a, b = np.zeros((2, len(xyz))), np.zeros((2, len(xyz)))
-        row = 0
-        for loads, qs in passes:
+        passes, where = _state_rows([full, sust] + [ld for state in states for ld in state[2:]])
+        sums = []
+        for geo, rows in passes:
+            qs = np.stack(rows)
+            a, b = np.zeros((len(qs), len(xyz))), np.zeros((len(qs), len(xyz)))
             for g in groups:
-                sa, sb = stress.stress_states(loads, qs, xyz[g], tolerance=tol, notes=notes)
-                a[row : row + len(qs), g], b[row : row + len(qs), g] = sa, sb
-            row += len(qs)
-        sub.sz, sub.t = a[0], b[0]
-        sub.sz_sust = a[0].copy() if row == 1 else a[1]
+                a[:, g], b[:, g] = stress.stress_states(geo, qs, xyz[g], tolerance=tol, notes=notes)
+            sums.append((a, b))
+
+        def at(k):
+            i, r = where[k]
+            return sums[i][0][r], sums[i][1][r]
+
+        (sub.sz, sub.t), sub.sz_sust = at(0), at(1)[0].copy()
+        for k in range(len(states)):
+            (staged[k, 0], staged[k, 1]), staged[k, 2] = at(2 + 2 * k), at(3 + 2 * k)[0]
         _outline_notes(ctx, notes)
     else:
         sub.sz = sub.t = sub.sz_sust = np.zeros(len(xyz))
+    _own_stresses(ctx, sub, xyz)
+    return staged
+
+
+def _state_rows(wanted: list[stress.Loads]):
+    """The stress passes for a list of load states: one pass per geometry (the
+    states of a plan share the footings' outlines; a caller may hand in others)
+    with one row per distinct pressure vector, and for each state its (pass, row).
+
+    >>> sq = stress.Loads.rectangles([0.0], [0.0], [2.0], [2.0], [0.0], [100.0], [1.0])
+    >>> passes, where = _state_rows([sq, sq.with_pressure([90.0]), sq.with_pressure([100.0])])
+    >>> len(passes), [len(rows) for _, rows in passes], where
+    (1, [2], [(0, 0), (0, 1), (0, 0)])
+    """
+    passes: list[tuple[stress.Loads, list[np.ndarray]]] = []
+    where = []
+    for ld in wanted:
+        i = next(
+            (k for k, (geo, _) in enumerate(passes) if same_loads(geo, ld, pressure=False)), None
+        )
+        if i is None:
+            passes.append((ld, []))
+            i = len(passes) - 1
+        rows = passes[i][1]
+        r = next((k for k, q in enumerate(rows) if np.array_equal(q, ld.pressure)), None)
+        if r is None:
+            rows.append(ld.pressure)
+            r = len(rows) - 1
+        where.append((i, r))
+    return passes, where
+
+
+def _own_stresses(ctx: Context, sub: fld.Sublayers, xyz: np.ndarray) -> None:
+    """The stresses of each owned sublayer's own footing, full and sustained (in place)."""
     sub.own_sz = np.zeros(len(xyz))
     sub.own_t = np.zeros(len(xyz))
     owned = np.flatnonzero(sub.owner >= 0)
@@ -763,10 +815,14 @@ def column_chunks(col: np.ndarray, per_row: int, limit: int = HISTORY_CHUNK) -> 
     return out
 
 
-def _state(ctx: Context, run: Integration, tab, gc, state) -> tuple[Context, fld.Sublayers]:
+def _state(
+    ctx: Context, run: Integration, tab, gc, state, index: int | None = None
+) -> tuple[Context, fld.Sublayers]:
     """The sublayers' stresses and strains under the loads of one stage's state.
 
-    ``state`` is (q_full, q_sust, loads_full, loads_sust). The same columns and
+    ``state`` is (q_full, q_sust, loads_full, loads_sust), ``ctx.states[index]``
+    (its superposed stresses then come from ``run.stage_stress``, summed with the
+    full loads; without an index they are summed here). The same columns and
     sublayers as the full run; the own-load methods applied on the first pass's
     sublayers as :func:`integrate` does, with the state's pressures.
     """
@@ -774,8 +830,12 @@ def _state(ctx: Context, run: Integration, tab, gc, state) -> tuple[Context, fld
     qf, qs, lf, ls = state
     sctx = replace(ctx, q_full=qf, q_sust=qs, loads_full=lf, loads_sust=ls)
     d = run.sub.take(np.arange(len(run.sub)))
-    group = run.column_group[d.col] if run.column_group is not None else None
-    _stresses(sctx, d, st.stress_tolerance, group=group)
+    if index is not None and run.stage_stress is not None:
+        d.sz, d.t, d.sz_sust = (v.copy() for v in run.stage_stress[index])
+        _own_stresses(sctx, d, np.column_stack([d.x, d.y, d.mid]))
+    else:
+        group = run.column_group[d.col] if run.column_group is not None else None
+        _stresses(sctx, d, st.stress_tolerance, group=group, stages=False)
     d.sig0 = run.sub.sig0
     fld.sublayer_strains(
         d, tab, ctx.ground, run.spt_modulus, cohesive_immediate=st.cohesive_immediate
@@ -923,7 +983,7 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
         elif kept is not None and keys[j] == keys[j - 1]:
             sctx, ssub = kept  # a stage that adds no load: the same state again
         else:
-            sctx, ssub = _state(ctx, run, tab, gc, ctx.states[j])
+            sctx, ssub = _state(ctx, run, tab, gc, ctx.states[j], j)
         kept = (sctx, ssub) if j < K - 1 and keys[j + 1] == keys[j] else None
         # state j enters increment j (+) and increment j + 1 (−)
         own_t, own_w, own_q = nodes[j]

@@ -299,3 +299,43 @@ def test_stages_and_area_loads_are_drawn(tmp_path):
     assert any(t.get_text().strip() == "occupancy" for t in ax.texts)
     assert any(abs(line.get_xdata()[0] - 0.5) < 1e-12 for line in ax.lines
                if len(line.get_xdata()) == 2)
+
+
+def test_stage_states_summed_with_the_full_loads_keep_their_own_bound():
+    # a group of 12 pads (enough for the treecode) in three stages: the superposed
+    # stresses of every stage's load state are summed in the same pass as the full
+    # and sustained loads; each stays within the engine's bound (tolerance × that
+    # state's largest pressure) of the exact sum of that state's loads alone
+    from sitesettle import analysis as A
+    from sitesettle import stress
+    from sitesettle.columns import GroundColumns
+    from sitesettle.field import Tables
+
+    pads = [
+        rect(f"P{i}", 3.5 * (i % 4), 4.0 * (i // 4), 1.5 + 0.1 * i, depth=1.0,
+             load=400.0 + 30.0 * i, live=120.0, sustained=0.5, fill=0.0)
+        for i in range(12)
+    ]  # fmt: skip
+    stages = (LoadStage("frame", 0.0, 0.0, dead=0.6), LoadStage("finishes", 0.5, 0.0, dead=0.4),
+              LoadStage("use", 2.0, 0.0, live=1.0))  # fmt: skip
+    plain = site_of(pads, [SAND, ROCK], [12.0, 5.0], stress_tolerance=1e-3)
+    site = dataclasses.replace(plain, stages=stages)
+    ctx = A.prepare(site)
+    assert len(ctx.states) == 2
+    pts, _ = A.evaluation_points(site, with_map=False)
+    gc = GroundColumns.build(ctx.ground, pts.xy)
+    tab = Tables.build(gc, str(site.analysis.granular_method))
+    run = A.integrate(ctx, pts, gc, tab, lambda *a: None)
+    assert run.stage_stress.shape == (2, 3, len(run.sub))
+    xyz = np.column_stack([run.sub.x, run.sub.y, run.sub.mid])
+    tol = site.analysis.stress_tolerance
+    for k, (_, _, lf, ls) in enumerate(ctx.states):
+        for row, loads, part in ((0, lf, 0), (1, lf, 1), (2, ls, 0)):
+            exact = stress.stress_sums(loads, xyz, tolerance=0)[part]
+            err = np.abs(run.stage_stress[k, row] - exact).max()
+            assert err <= tol * np.abs(loads.pressure).max()
+    # once every stage is on, linear-elastic ground settles as under the whole load
+    # applied at once (superposition), to the engine's tolerance
+    staged = analyse(site, with_map=False, with_checks=False).at_design_life()
+    once = analyse(plain, with_map=False, with_checks=False).at_design_life()
+    np.testing.assert_allclose(staged, once, rtol=2e-3)
