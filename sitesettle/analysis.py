@@ -32,7 +32,7 @@ from sitesettle import field as fld
 from sitesettle.columns import GroundColumns, Points
 from sitesettle.errors import InputError
 from sitesettle.ground import Ground
-from sitesettle.options import Behaviour, DepthRule
+from sitesettle.options import Behaviour, DepthRule, LargePlan
 from sitesettle.results import QueryResults, Results, SettlementMap, Trace
 from sitesettle.site import Footing, LoadStage, Site
 
@@ -1100,7 +1100,9 @@ def analyse(
     site = ctx.site  # excavations resolved to their pressures
     pts, layout = evaluation_points(site, with_map=with_map)
     # refused or warned before any stress is computed (PlanTooLarge: an InputError)
-    large = budget.assess(plan_estimate(ctx, pts, layout))
+    large = budget.assess(
+        plan_estimate(ctx, pts, layout), refuse=str(st.large_plan) == LargePlan.REFUSE.value
+    )
     if large:
         ctx.warnings.append(large)
         if on_warning is not None:

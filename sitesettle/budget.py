@@ -161,15 +161,24 @@ def available_memory() -> float:
 
 
 def assess(
-    est: Estimate, *, physical: float | None = None, available: float | None = None
+    est: Estimate,
+    *,
+    physical: float | None = None,
+    available: float | None = None,
+    refuse: bool = True,
 ) -> str | None:
     """Refuse a plan too large for the machine; the warning for a large one, or None.
+
+    With ``refuse=False`` (``[analysis] large_plan = "run"``, e.g. on a machine
+    with swap) a plan beyond :data:`REFUSE_MEMORY_RATIO` × the physical memory is
+    not refused: the warning then says so, with the estimate.
 
     Raises
     ------
     PlanTooLarge
         When the estimated peak memory exceeds :data:`REFUSE_MEMORY_RATIO` × the
-        physical memory: the message gives the estimate and what to change.
+        physical memory and ``refuse``: the message gives the estimate, what to
+        change, and how to run it all the same.
 
     >>> small = estimate(counts(39, 3235, 3024, 7, 2, 0.1))
     >>> assess(small, physical=16e9, available=12e9) is None
@@ -183,15 +192,22 @@ def assess(
     physical = physical_memory() if physical is None else float(physical)
     available = available_memory() if available is None else float(available)
     c = est.counts
-    if est.bytes > REFUSE_MEMORY_RATIO * physical:
+    beyond = est.bytes > REFUSE_MEMORY_RATIO * physical
+    if beyond and refuse:
         raise PlanTooLarge(
             "the plan",
             f"too large for this machine: the analysis would need {est.describe()}, more "
             f"than {REFUSE_MEMORY_RATIO:g} × its {physical / 1e9:.1f} GB of memory",
-            _what_to_change(c),
+            _what_to_change(c) + '; or, to run it all the same (swap), [analysis] '
+            'large_plan = "run"',
         )
     notes = []
-    if est.bytes > WARN_MEMORY_RATIO * available:
+    if beyond:
+        notes.append(
+            f"more than {REFUSE_MEMORY_RATIO:g} × the {physical / 1e9:.1f} GB of memory of this "
+            'machine (run because [analysis] large_plan = "run"; it may swap or fail)'
+        )
+    elif est.bytes > WARN_MEMORY_RATIO * available:
         notes.append(
             f"more than {WARN_MEMORY_RATIO:.0%} of the {available / 1e9:.1f} GB of memory "
             "available now"

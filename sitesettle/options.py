@@ -105,6 +105,13 @@ class FoundationKind(Choice):
     RAFT = "raft"  #: a raft or mat under several columns or a core
 
 
+class LargePlan(Choice):
+    """What a run does with a plan estimated to need more memory than the machine has."""
+
+    REFUSE = "refuse"  #: stop before any stress is computed, exit code 2 (default)
+    RUN = "run"  #: run it all the same, with a warning naming the estimate (e.g. with swap)
+
+
 class LiveLoadStart(Choice):
     """When the live load arrives, for the movement the structure feels."""
 

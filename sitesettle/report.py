@@ -758,6 +758,7 @@ _SETTING_MEANING = {
     "stress_tolerance": "stress engine tolerance (fraction of the largest pressure)",
     "cohesive_immediate": "clay settles on loading by its undrained modulus",
     "clay_settlement": "how undrained and consolidation settlement of clay combine",
+    "large_plan": "a plan estimated beyond the machine's memory: refused or run",
 }
 
 

@@ -366,6 +366,9 @@ class AnalysisSettings:
     #: when the live load arrives: "checked_after" (just after [checks] checked_after,
     #: so the checked movement includes its immediate part) or "start" (time 0)
     live_load_from: str = "checked_after"
+    #: a plan estimated to need more than twice the machine's memory: "refuse" it
+    #: (exit 2, nothing computed) or "run" it with a warning (sitesettle.budget)
+    large_plan: str = "refuse"
 
 
 @dataclass(frozen=True)

@@ -42,9 +42,13 @@ def _huge():
     )
 
 
+def _guard(monkeypatch):
+    for name in ("stress_sums", "stress_states", "own_stress"):
+        monkeypatch.setattr(stress, name, _no_stress)
+
+
 def test_a_huge_plan_is_refused_before_any_stress(machine, monkeypatch):
-    monkeypatch.setattr(stress, "stress_sums", _no_stress)
-    monkeypatch.setattr(stress, "own_stress", _no_stress)
+    _guard(monkeypatch)
     with pytest.raises(budget.PlanTooLarge) as err:
         sitesettle.analyse(_huge())
     assert isinstance(err.value, InputError)  # exit code 2, one message
@@ -60,7 +64,7 @@ def test_the_command_refuses_it_with_exit_2_and_writes_nothing(
     shutil.copytree(DEMO, folder)
     # the demo (about 0.75 GB by the estimate) on a machine of 0.25 GB: refused
     monkeypatch.setattr(budget, "physical_memory", lambda: 0.25 * GB)
-    monkeypatch.setattr(stress, "stress_sums", _no_stress)
+    _guard(monkeypatch)
     out = tmp_path / "results"
     assert main(["check", str(folder), "--out", str(out)]) == 2
     err = capsys.readouterr().err
@@ -74,18 +78,46 @@ def test_a_large_plan_is_warned_before_the_work(monkeypatch):
     monkeypatch.setattr(budget, "physical_memory", lambda: 64 * GB)
     monkeypatch.setattr(budget, "available_memory", lambda: 0.1 * GB)  # little free memory
     calls = []
-    real = stress.stress_sums
+    real = stress.stress_states
 
     def counted(*args, **kwargs):
         calls.append("stress")
         return real(*args, **kwargs)
 
-    monkeypatch.setattr(stress, "stress_sums", counted)
+    monkeypatch.setattr(stress, "stress_states", counted)
     seen = []
     res = sitesettle.analyse(site, on_warning=lambda msg: seen.append((msg, len(calls))))
     assert len(seen) == 1 and seen[0][1] == 0  # told before the first stress
+    assert calls  # and the stresses were then computed (the counter counts)
     assert "a large plan" in seen[0][0] and "80%" in seen[0][0]
     assert seen[0][0] in res.warnings
+
+
+def test_large_plan_run_overrides_the_refusal_with_a_warning(monkeypatch):
+    # [analysis] large_plan = "run": a plan beyond 2 × the memory is run all the same
+    # (a machine with swap), with a warning that says so; the default refuses it
+    site = make_site(nx=3, ny=2)
+    monkeypatch.setattr(budget, "physical_memory", lambda: 0.01 * GB)
+    monkeypatch.setattr(budget, "available_memory", lambda: 0.01 * GB)
+    with pytest.raises(budget.PlanTooLarge, match='large_plan = "run"'):
+        sitesettle.analyse(site, with_map=False)
+    run = dataclasses.replace(site, analysis=dataclasses.replace(site.analysis, large_plan="run"))
+    res = sitesettle.analyse(run, with_map=False)
+    note = [w for w in res.warnings if w.startswith("a large plan")]
+    assert len(note) == 1 and 'large_plan = "run"' in note[0] and "may swap" in note[0]
+    assert res.total.shape[0] == len(site.footings)
+
+
+def test_large_plan_from_the_command_line(machine, monkeypatch, tmp_path, capsys):
+    folder = tmp_path / "demo"
+    shutil.copytree(DEMO, folder)
+    monkeypatch.setattr(budget, "physical_memory", lambda: 0.25 * GB)
+    out = tmp_path / "results"
+    args = ["check", str(folder), "--out", str(out), "--quiet"]
+    assert main([*args, "--set", "analysis.large_plan=maybe"]) == 2
+    assert "large_plan" in capsys.readouterr().err and not out.exists()
+    assert main([*args, "--set", "analysis.large_plan=run"]) == 1  # the demo fails checks
+    assert "large_plan" in (out / "summary.json").read_text(encoding="utf-8")
 
 
 def test_time_over_ten_minutes_is_warned(machine):

@@ -33,6 +33,7 @@ from sitesettle.options import (
     DepthRule,
     EndOfPrimary,
     GranularMethod,
+    LargePlan,
     LiveLoadStart,
     RigidTilt,
     ShapeInterpolation,
@@ -108,6 +109,7 @@ TABLES: dict[str, tuple[str, ...]] = {
         "clay_settlement",
         "burland_burbidge_pressure",
         "live_load_from",
+        "large_plan",
     ),
     "checks": (
         "criteria",
@@ -274,6 +276,8 @@ def parse_analysis(table: dict, where: str = f"{SITE_FILE} [analysis]") -> Analy
         kw["live_load_from"] = LiveLoadStart.parse(
             table["live_load_from"], f"{where}, key 'live_load_from'"
         ).value
+    if "large_plan" in table:
+        kw["large_plan"] = LargePlan.parse(table["large_plan"], f"{where}, key 'large_plan'").value
     if "cohesive_immediate" in table:
         kw["cohesive_immediate"] = parse_flag(
             table["cohesive_immediate"], f"{where}, key 'cohesive_immediate'"
