@@ -146,6 +146,12 @@ def _parser() -> argparse.ArgumentParser:
     z.add_argument(
         "--thickness", help='concrete thickness for the volumes of sizing.csv (default "0.5 m")'
     )
+    z.add_argument(
+        "--grow-only",
+        action="store_true",
+        help="never make a footing smaller than given (default: the smallest passing size, "
+        "which may shrink a footing that passes as given)",
+    )
     z.add_argument("--units", choices=["si", "us"], help="output units (default: the project's)")
     z.add_argument("--quiet", action="store_true", help="print only errors and the verdict")
     _what_if_arguments(z)
@@ -326,7 +332,8 @@ def _size(args) -> int:
 
     site, notes = _load(args.project, args)
     limits = sized.limits_from_text(
-        args.step, args.min_width, args.max_width, args.bearing_pressure, args.thickness
+        args.step, args.min_width, args.max_width, args.bearing_pressure, args.thickness,
+        grow_only=args.grow_only,
     )
     units = args.units or site.units
     out = Path(args.out) if args.out else Path(_project_folder(args.project)) / "sized"

@@ -93,6 +93,11 @@ class SizingLimits:
         an assumption stated in the table).
     max_rounds : int
         Analyses at most (default 40).
+    grow_only : bool
+        Never make a footing smaller than given (default False: the smallest
+        passing size, which may shrink a footing that passes as given). A footing
+        that passes as given then keeps its size exactly; one that grows goes to
+        the grid; one given above ``max_width`` keeps its size.
     """
 
     step: float = 0.1
@@ -101,6 +106,7 @@ class SizingLimits:
     bearing_pressure: float | None = None
     thickness: float = 0.5
     max_rounds: int = 40
+    grow_only: bool = False
 
     def __post_init__(self) -> None:
         for name in ("step", "min_width", "max_width", "thickness"):
@@ -212,6 +218,10 @@ def _sizable(site: Site, kinds: list[str]) -> list[int]:
 
 
 def _sides(f, kind: str, b: float, step: float) -> dict:
+    """The sides of footing ``f`` (as given) at width ``b``: its own sides at its
+    own width, else its L/B kept on the grid (a strip keeps its length)."""
+    if math.isclose(b, f.width, abs_tol=1e-9):
+        return {"width": f.width} if f.shape == "circle" else {"width": f.width, "length": f.length}
     if f.shape == "circle":
         return {"width": b}
     if kind == "strip":
@@ -461,14 +471,19 @@ def size_footings(
                     lo = max(lo, math.sqrt(need_area * f.width / f.length))
         lower[i] = min(ceil_to(lo, step), ceil_to(limits.max_width, step))
         upper[i] = ceil_to(limits.max_width, step)
+        if limits.grow_only:  # its given size is the least (kept exactly, off the grid too)
+            upper[i] = max(upper[i], f.width)
+            lower[i] = max(lower[i], f.width)
         if lo > limits.max_width:
             bearing_note[i] = (
                 f"the allowable {limits.bearing_pressure:g} kPa needs a width over the "
                 f"maximum {limits.max_width:g} m"
             )
 
+    given = {i: site.footings[i].width for i in sizable}
     width = {
-        i: min(max(ceil_to(site.footings[i].width, step), lower[i]), upper[i]) for i in sizable
+        i: min(max(given[i] if limits.grow_only else ceil_to(given[i], step), lower[i]), upper[i])
+        for i in sizable
     }
     lo_b: dict[int, float | None] = dict.fromkeys(sizable)
     hi_b: dict[int, float | None] = dict.fromkeys(sizable)
@@ -519,7 +534,7 @@ def size_footings(
                 excess = need[i]
                 factor = (own / (own - excess)) ** (1.0 / kk) if own > excess else MAX_GROWTH
                 factor = min(max(factor, 1.0), MAX_GROWTH)
-                nxt[i] = min(max(ceil_to(b * factor, step), round(b + step, 10)), upper[i])
+                nxt[i] = min(max(ceil_to(b * factor, step), above(b, step)), upper[i])
             else:
                 hi_b[i] = b
                 if lo_b[i] is not None and lo_b[i] >= b - 1e-9:
@@ -556,8 +571,19 @@ def _mid(lo: float, hi: float, step: float) -> float:
     """The grid width halfway between a failing ``lo`` and a passing ``hi`` (> lo, ≤ hi)."""
     m = ceil_to(0.5 * (lo + hi), step)
     if m <= lo + 1e-9:
-        m = round(lo + step, 10)
+        m = above(lo, step)
     return min(m, hi)
+
+
+def above(b: float, step: float) -> float:
+    """The first width of the grid above ``b`` (which may lie off the grid: a
+    footing kept at its given size) [m].
+
+    >>> above(1.2, 0.1), above(1.22, 0.1)
+    (1.3, 1.3)
+    """
+    up = ceil_to(b, step)
+    return up if up > b + 1e-9 else round(b + step, 10)
 
 
 def _outcome(

@@ -145,6 +145,46 @@ def test_a_symmetric_group_stays_symmetric():
     assert max(out.results.total[:, -1]) <= LIMIT
 
 
+def test_grow_only_keeps_passing_pads_exactly_and_grows_the_failing_one():
+    # a lightly loaded pad of 3.07 × 3.33 m passes 25 mm at any width from the bearing
+    # cap up: by default it is reduced to the cap's width on the grid (the test
+    # above), with --grow-only it keeps its size exactly, off the grid as given; a
+    # heavy pad beside it that fails as given grows to the grid width just above the
+    # Steinbrenner width B* (as the isolated pad of the first test: the light one is
+    # 30 m away and adds under 0.1 mm)
+    load = 1200.0
+
+    def s(b):
+        return float(elastic.steinbrenner_centre_settlement(load / b**2, b, b, H, E, NU))
+
+    b_star = brentq(lambda b: s(b) - LIMIT, 0.3, 6.0)
+    light = pad("L", 30.0, 0.0, 3.07, 300.0)
+    light = dataclasses.replace(light, length=3.33)
+    site = site_of([light, pad("P", 0, 0, 1.0, load)], [sand(), ROCK], [H, 5.0])
+    shrink = size_footings(site, SizingLimits(step=0.1))
+    assert shrink.site.footing("L").width < 3.07  # the default proposes the smallest
+    out = size_footings(site, SizingLimits(step=0.1, grow_only=True))
+    assert out.passed
+    kept = out.site.footing("L")
+    assert (kept.width, kept.length) == (3.07, 3.33)  # exactly as given
+    b = out.site.footing("P").width
+    assert abs(b - ceil_to(b_star, 0.1)) <= 0.1 + 1e-9
+    assert b >= 1.0  # never smaller than given
+    assert b >= b_star - 0.1
+
+
+def test_grow_only_never_shrinks_a_footing():
+    # the 3 × 3 group of the symmetry test with uneven sizes as given: with
+    # grow_only every footing is at least its given size, and the plan passes
+    fs = [pad(f"P{i}{j}", 4.0 * i, 4.0 * j, 1.2 + 0.15 * ((i + 2 * j) % 3), 900.0)
+          for i in range(3) for j in range(3)]  # fmt: skip
+    site = site_of(fs, [sand(), ROCK], [H, 5.0])
+    out = size_footings(site, SizingLimits(step=0.1, grow_only=True))
+    for f0, f1 in zip(site.footings, out.site.footings):
+        assert f1.width >= f0.width - 1e-12 and f1.length >= f0.length - 1e-12
+    assert out.passed
+
+
 def test_a_pad_over_a_deep_clay_says_why_sizing_cannot_pass():
     # 6 m of dense sand (60 MPa) over 8 m of soft clay: at 6 m below a 2–4 m pad the
     # Boussinesq stress depends on the load far more than on the pad's width, so the

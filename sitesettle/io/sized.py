@@ -43,7 +43,8 @@ _DECIMALS = {"m": 3, "kPa": 1, "m2": 3, "m3": 3, "mm": 1}
 
 
 def limits_from_text(
-    step=None, min_width=None, max_width=None, bearing_pressure=None, thickness=None
+    step=None, min_width=None, max_width=None, bearing_pressure=None, thickness=None,
+    grow_only: bool = False,
 ) -> SizingLimits:
     """:class:`SizingLimits` from option texts (None: the default).
 
@@ -53,6 +54,8 @@ def limits_from_text(
         Lengths (``"0.1 m"``, ``"6 in"``; a bare number in m).
     bearing_pressure : str or float, optional
         Allowable net bearing pressure (``"200 kPa"``, ``"4 ksf"``; bare: kPa).
+    grow_only : bool, optional
+        Never make a footing smaller than given.
 
     Returns
     -------
@@ -74,7 +77,7 @@ def limits_from_text(
     ):
         if value is not None:
             kw[name] = units.parse(value, dim, f"--{name.replace('_', '-')}")
-    return SizingLimits(**kw)
+    return SizingLimits(**kw, grow_only=bool(grow_only))
 
 
 def _text(rows: list[list], header: list[str], comments: list[str]) -> bytes:
@@ -175,6 +178,8 @@ def changes_csv(outcome: SizingOutcome, limits: SizingLimits) -> bytes:
         "full service load; concrete = plan area × "
         f"{limits.thickness:g} m thickness (an assumption, --thickness).",
     ]
+    if limits.grow_only:
+        comments.append("--grow-only: no footing was made smaller than given.")
     return _text(rows, list(CHANGE_COLUMNS), comments)
 
 
@@ -185,6 +190,7 @@ def sizing_json(outcome: SizingOutcome, limits: SizingLimits) -> bytes:
         "min_width_m": limits.min_width,
         "max_width_m": limits.max_width,
         "bearing_pressure_kPa": limits.bearing_pressure,
+        "grow_only": limits.grow_only,
         "analyses": outcome.rounds,
         "converged": outcome.converged,
         "passed": outcome.passed,
