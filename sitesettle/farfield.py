@@ -56,16 +56,17 @@ NT_HAS_OCT = 30  # 1 where the expansion includes the octupole (third order)
 NT_OCT = 31  # 31–40 octupole xxx, xxy, xyy, yyy, xxw, xyw, yyw, xww, yww, www
 NT_COLS = 41
 
-# columns of the per-state node table ``st`` (K, n, ST_COLS): the moments of one
-# load state about the shared centre C, and the amplitudes of its bound's terms
-ST_Q0 = 0  # monopole Σ q A
-ST_DIP = 1  # 1–3 dipole
-ST_QUAD = 4  # 4–9 quadrupole xx, xy, yy, xw, yw, ww
-ST_OCT = 10  # 10–19 octupole, in the order of NT_OCT
-ST_F = 20  # Σ |q| A
-ST_M3 = 21  # radial moments M3, M4 (the harmonic bound of T)
-ST_M4 = 22
-ST_AMP = 23  # 23–28 the six amplitudes of the first bound (TERM_A order)
+# columns of the per-state node table ``st`` (K, n, ST_COLS): what the bound of one
+# load state needs first (read for every pair, so together at the row's start),
+# then its multipole moments about the shared centre C (read when accepted)
+ST_AMP = 0  # 0–5 the six amplitudes of the first bound (TERM_A order)
+ST_F = 6  # Σ |q| A
+ST_M3 = 7  # radial moments M3, M4 (the harmonic bound of T)
+ST_M4 = 8
+ST_Q0 = 9  # monopole Σ q A
+ST_DIP = 10  # 10–12 dipole
+ST_QUAD = 13  # 13–18 quadrupole xx, xy, yy, xw, yw, ww
+ST_OCT = 19  # 19–28 octupole, in the order of NT_OCT
 ST_COLS = 29
 
 #: power of W in each of the six bound terms, and its kernel (0 σz, 1 T)
@@ -77,6 +78,9 @@ TERM_KERNEL = np.array([0, 0, 0, 0, 1, 1], dtype=np.int64)
 #: the acceptance or a block's sum
 LAZY_LO = 0.25
 LAZY_HI = 5.0
+
+#: points per chunk of the multipole's scratch (5 × 256 doubles: 10 kB, in L1)
+MULTIPOLE_CHUNK = 256
 
 _JIT = {"nogil": True, "fastmath": False, "error_model": "numpy"}
 
@@ -278,71 +282,73 @@ def multipole_add(nt, st, node, px, py, pz, out_s, out_t, p0, p1, scratch):
     where the node holds an octupole (``nt``).
 
     The offsets from C and the powers of 1/r are formed once per point, for all
-    states (in ``scratch``, (5, ≥ p1 − p0)), then each state's polynomial with its
-    moments read once, in a loop over contiguous slices that the compiler
-    vectorises. Each point's value is formed by the same operations in the same
+    states (in ``scratch``, (5, MULTIPOLE_CHUNK), a chunk of points at a time so
+    that it stays in the first-level cache), then each state's polynomial, in a
+    loop over contiguous slices that the compiler vectorises. Each point's value is formed by the same operations in the same
     order as a scalar loop, so the result depends neither on how points are
     grouped nor on the other states."""
     c0 = nt[node, 0]
     c1 = nt[node, 1]
     c2 = nt[node, 2]
-    m = p1 - p0
-    xs = px[p0:p1]
-    ys = py[p0:p1]
-    zs = pz[p0:p1]
-    for k in range(m):
-        X = xs[k] - c0
-        Y = ys[k] - c1
-        W = zs[k] - c2
-        ir2 = 1.0 / (X * X + Y * Y + W * W)
-        scratch[0, k] = X
-        scratch[1, k] = Y
-        scratch[2, k] = W
-        scratch[3, k] = ir2
-        scratch[4, k] = ir2 * math.sqrt(ir2)
     has_oct = nt[node, NT_HAS_OCT] > 0.0
-    for s in range(st.shape[0]):
-        q0 = st[s, node, ST_Q0]
-        dx = st[s, node, ST_DIP]
-        dy = st[s, node, ST_DIP + 1]
-        dw = st[s, node, ST_DIP + 2]
-        qxx = st[s, node, ST_QUAD]
-        qxy = st[s, node, ST_QUAD + 1]
-        qyy = st[s, node, ST_QUAD + 2]
-        qxw = st[s, node, ST_QUAD + 3]
-        qyw = st[s, node, ST_QUAD + 4]
-        qww = st[s, node, ST_QUAD + 5]
-        hxx = 0.5 * qxx
-        hyy = 0.5 * qyy
-        ss = qxx + qyy
-        oc = ST_OCT
-        o = (
-            st[s, node, oc], st[s, node, oc + 1], st[s, node, oc + 2], st[s, node, oc + 3],
-            st[s, node, oc + 4], st[s, node, oc + 5], st[s, node, oc + 6],
-            st[s, node, oc + 7], st[s, node, oc + 8], st[s, node, oc + 9],
-        )  # fmt: skip
-        lx = o[0] + o[2]
-        ly = o[1] + o[3]
-        trw = o[4] + o[6]
-        os_ = out_s[s, p0:p1]
-        ot = out_t[s, p0:p1]
+    for c in range(p0, p1, MULTIPOLE_CHUNK):  # chunks whose scratch stays in L1
+        ce = min(c + MULTIPOLE_CHUNK, p1)
+        m = ce - c
+        xs = px[c:ce]
+        ys = py[c:ce]
+        zs = pz[c:ce]
         for k in range(m):
-            X = scratch[0, k]
-            Y = scratch[1, k]
-            W = scratch[2, k]
-            W2 = W * W
-            W3 = W2 * W
-            ir2 = scratch[3, k]
-            ir3 = scratch[4, k]
-            a2, b2 = _second_order(
-                X, Y, W, W2, W3, ir2, ir3, q0, dx, dy, dw, hxx, hyy, qxy, qxw, qyw, qww, ss
-            )
-            if has_oct:
-                a3, b3 = _third_order(X, Y, W, W2, W3, ir2, ir3, o, lx, ly, trw)
-                a2 += a3
-                b2 += b3
-            os_[k] += K_SIGMA * a2
-            ot[k] += K_THETA * b2
+            X = xs[k] - c0
+            Y = ys[k] - c1
+            W = zs[k] - c2
+            ir2 = 1.0 / (X * X + Y * Y + W * W)
+            scratch[0, k] = X
+            scratch[1, k] = Y
+            scratch[2, k] = W
+            scratch[3, k] = ir2
+            scratch[4, k] = ir2 * math.sqrt(ir2)
+        for s in range(st.shape[0]):
+            q0 = st[s, node, ST_Q0]
+            dx = st[s, node, ST_DIP]
+            dy = st[s, node, ST_DIP + 1]
+            dw = st[s, node, ST_DIP + 2]
+            qxx = st[s, node, ST_QUAD]
+            qxy = st[s, node, ST_QUAD + 1]
+            qyy = st[s, node, ST_QUAD + 2]
+            qxw = st[s, node, ST_QUAD + 3]
+            qyw = st[s, node, ST_QUAD + 4]
+            qww = st[s, node, ST_QUAD + 5]
+            hxx = 0.5 * qxx
+            hyy = 0.5 * qyy
+            ss = qxx + qyy
+            oc = ST_OCT
+            o = (
+                st[s, node, oc], st[s, node, oc + 1], st[s, node, oc + 2], st[s, node, oc + 3],
+                st[s, node, oc + 4], st[s, node, oc + 5], st[s, node, oc + 6],
+                st[s, node, oc + 7], st[s, node, oc + 8], st[s, node, oc + 9],
+            )  # fmt: skip
+            lx = o[0] + o[2]
+            ly = o[1] + o[3]
+            trw = o[4] + o[6]
+            os_ = out_s[s, c:ce]
+            ot = out_t[s, c:ce]
+            for k in range(m):
+                X = scratch[0, k]
+                Y = scratch[1, k]
+                W = scratch[2, k]
+                W2 = W * W
+                W3 = W2 * W
+                ir2 = scratch[3, k]
+                ir3 = scratch[4, k]
+                a2, b2 = _second_order(
+                    X, Y, W, W2, W3, ir2, ir3, q0, dx, dy, dw, hxx, hyy, qxy, qxw, qyw, qww, ss
+                )
+                if has_oct:
+                    a3, b3 = _third_order(X, Y, W, W2, W3, ir2, ir3, o, lx, ly, trw)
+                    a2 += a3
+                    b2 += b3
+                os_[k] += K_SIGMA * a2
+                ot[k] += K_THETA * b2
 
 
 @_compiled
@@ -420,7 +426,7 @@ def multipole_many(nt, st, nodes, px, py, pz):
     n = len(nodes)
     sz = np.zeros((st.shape[0], n))
     tt = np.zeros((st.shape[0], n))
-    scratch = np.empty((5, 1))
+    scratch = np.empty((5, MULTIPOLE_CHUNK))
     for k in range(n):
         multipole_add(nt, st, nodes[k], px, py, pz, sz, tt, k, k + 1, scratch)
     return sz, tt
@@ -494,10 +500,7 @@ def traverse(
     s_g = np.empty(capacity, dtype=np.int64)
     s_n = np.empty(capacity, dtype=np.int64)
     e = np.empty(ns)
-    most = 0
-    for g in range(len(g_count)):
-        most = max(most, g_count[g])
-    scratch = np.empty((5, most))
+    scratch = np.empty((5, MULTIPOLE_CHUNK))
     pairs = 0
     nb = g_size[0]
     for r in range(len(roots)):
