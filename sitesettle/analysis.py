@@ -387,11 +387,6 @@ def _column_groups(kind) -> np.ndarray:
     return np.array([_GROUP_OF_KIND.get(k, 2) for k in kind], dtype=int)
 
 
-def _boundaries(gc: GroundColumns, c: int, planes: np.ndarray) -> np.ndarray:
-    b = np.concatenate([gc.tops[c], planes])
-    return b[np.isfinite(b)]
-
-
 def _field_modulus_min(ctx, tab, gc, cols, z, spt_modulus) -> np.ndarray:
     """(n, k) smallest field modulus of every granular stratum below depth z [kPa]."""
     n, k = len(cols), tab.behaviour.shape[1]
@@ -459,28 +454,17 @@ def integrate(
     while active.any():
         passes += 1
         cols = np.flatnonzero(active)
-        rows = {k: [] for k in ("col", "top", "bottom")}
-        for c in cols:
-            key = (float(pts.base[c]), float(pts.scale[c]))
-            if key not in templates:
-                templates[key] = colmod.regular_edges(
-                    key[0], key[1], st.sublayer_fraction, colmod.MAX_INTEGRATION_DEPTH
-                )
-            e = colmod.column_edges(
-                pts.base[c],
-                pts.scale[c],
-                st.sublayer_fraction,
-                z_from[c],
-                z_to[c],
-                _boundaries(gc, c, planes),
-                templates[key],
-            )
-            rows["col"].append(np.full(len(e) - 1, c))
-            rows["top"].append(e[:-1])
-            rows["bottom"].append(e[1:])
-        col = np.concatenate(rows["col"]).astype(int)
-        top = np.concatenate(rows["top"])
-        bot = np.concatenate(rows["bottom"])
+        bnd = np.hstack([gc.tops[cols], np.broadcast_to(planes, (len(cols), len(planes)))])
+        row, top, bot = colmod.many_column_edges(
+            pts.base[cols],
+            pts.scale[cols],
+            st.sublayer_fraction,
+            z_from[cols],
+            z_to[cols],
+            bnd,
+            templates,
+        )
+        col = cols[row]
         mid = 0.5 * (top + bot)
         sub = fld.Sublayers(
             col=col,
