@@ -111,15 +111,21 @@ def area_loads(loads) -> stress.Loads:
 def pressure_parts(site: Site, ground: Ground) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Per footing: the dead part of the net pressure (with the fill and the removed
     overburden), the live pressure and its sustained part [kPa]."""
-    dead, live, sust = [], [], []
-    cols = ground.columns([f.x for f in site.footings], [f.y for f in site.footings])
-    for f, col in zip(site.footings, cols):
-        s0 = float(col.total_stress(np.array([f.depth]))[0])
-        extra = f.fill_unit_weight * f.depth - s0
-        dead.append(f.dead_load / f.area + extra)
-        live.append(f.live_load / f.area)
-        sust.append(f.sustained_live_fraction * f.live_load / f.area)
-    return np.array(dead), np.array(live), np.array(sust)
+    fs = site.footings
+    if not fs:
+        return np.zeros(0), np.zeros(0), np.zeros(0)
+    xy = np.array([[f.x, f.y] for f in fs], dtype=float)
+    depth = np.array([f.depth for f in fs], dtype=float)
+    gc = GroundColumns.build(ground, xy)
+    s0 = gc.total_stress(np.arange(len(fs)), depth)  # under each centre, at its base
+    s0 = np.where(np.isnan(depth) | (depth < 0), np.nan, s0)  # as Column.total_stress
+    area = np.array([f.area for f in fs], dtype=float)
+    dead_load = np.array([f.dead_load for f in fs], dtype=float)
+    live_load = np.array([f.live_load for f in fs], dtype=float)
+    fill = np.array([f.fill_unit_weight for f in fs], dtype=float)
+    frac = np.array([f.sustained_live_fraction for f in fs], dtype=float)
+    extra = fill * depth - s0
+    return dead_load / area + extra, live_load / area, frac * live_load / area
 
 
 def net_pressures(site: Site, ground: Ground) -> tuple[np.ndarray, np.ndarray, list[str]]:
@@ -131,7 +137,10 @@ def net_pressures(site: Site, ground: Ground) -> tuple[np.ndarray, np.ndarray, l
     the ground: granular strata rebound with the unloading modulus and clay swells
     on Cr (docs/methods.md §4.7), with a warning that names the footing.
     """
-    dead, live, sust = pressure_parts(site, ground)
+    return _net_from_parts(site, *pressure_parts(site, ground))
+
+
+def _net_from_parts(site: Site, dead, live, sust) -> tuple[np.ndarray, np.ndarray, list[str]]:
     qf, qs = dead + live, dead + sust
     warn = [
         f"footing {f.id}: net pressure {min(a, b):.1f} kPa < 0: it unloads the ground, "
@@ -235,7 +244,8 @@ def prepare(site: Site) -> Context:
     times = np.unique(np.array([*st.report_times, st.design_life, *marks], dtype=float))
     times = times[times > 0]
     life = int(np.argmin(np.abs(times - st.design_life)))
-    q_full, q_sust, warnings = net_pressures(site, ground)
+    parts = pressure_parts(site, ground)
+    q_full, q_sust, warnings = _net_from_parts(site, *parts)
     loads_full, load_of = footing_loads(site.footings, q_full)
     order = np.argsort(load_of)
     loads_sust = loads_full.with_pressure(q_sust[order])
@@ -246,7 +256,7 @@ def prepare(site: Site) -> Context:
         loads_sust = stress.Loads.concat(loads_sust, area)  # permanent: sustained in full
     states = []
     if len(stages) > 1:
-        dead, live, sust = pressure_parts(site, ground)
+        dead, live, sust = parts
         cd = np.cumsum([stg.dead for stg in stages])
         cl = np.cumsum([stg.live for stg in stages])
         first = {}
@@ -566,7 +576,6 @@ def _subset(gc: GroundColumns, cols: np.ndarray) -> GroundColumns:
         outside_hull=gc.outside_hull[cols],
         variant=gc.variant[cols],
         variants=gc.variants,
-        columns=[],
     )
 
 
@@ -1460,8 +1469,10 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
     life = ctx.life
     names = [s.name for s in site.strata]
     out: dict[str, list[Trace]] = {f.id: [] for f in site.footings}
-    own_life = (hist.imm_own + hist.creep_own + hist.cons_own + hist.sec_own)[:, life]
-    nb_life = (hist.imm_nb + hist.creep_nb + hist.cons_nb + hist.sec_nb)[:, life]
+    # the design-life column of each part first (the same sums, element by element)
+    at = {name: getattr(hist, name)[:, life] for name in _TIMED}
+    own_life = at["imm_own"] + at["creep_own"] + at["cons_own"] + at["sec_own"]
+    nb_life = at["imm_nb"] + at["creep_nb"] + at["cons_nb"] + at["sec_nb"]
     h = sub.h
     coh = tab.behaviour[sub.col, sub.stratum] == "cohesive" if len(sub) else np.zeros(0, bool)
     sp = np.where(
@@ -1487,10 +1498,10 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
     starts = np.searchsorted(sub.col, np.arange(len(pts)))
     ends = np.searchsorted(sub.col, np.arange(len(pts)), side="right")
     parts = {
-        "on loading (mm)": (hist.imm_own + hist.imm_nb)[:, life] * 1000,
-        "creep (mm)": (hist.creep_own + hist.creep_nb)[:, life] * 1000,
-        "consolidation (mm)": (hist.cons_own + hist.cons_nb)[:, life] * 1000,
-        "secondary (mm)": (hist.sec_own + hist.sec_nb)[:, life] * 1000,
+        "on loading (mm)": (at["imm_own"] + at["imm_nb"]) * 1000,
+        "creep (mm)": (at["creep_own"] + at["creep_nb"]) * 1000,
+        "consolidation (mm)": (at["cons_own"] + at["cons_nb"]) * 1000,
+        "secondary (mm)": (at["sec_own"] + at["sec_nb"]) * 1000,
         "σ'p (kPa)": np.where(coh, sp, np.nan),
         "final σ' (kPa)": np.where(coh, final, np.nan),
         "branch": branch,
@@ -1531,28 +1542,16 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
     # sublayers of the footings' columns, not those of the map and query points)
     shown = np.flatnonzero(pts.kind[sub.col] == "footing") if n_sub else np.zeros(0, int)
     if n_sub:
-        f_shown = f_used[shown]
-        part = np.where(
+        source = _modulus_source(
+            f_used[shown],
             coh[shown],
-            np.where(np.isfinite(sub.modulus[shown]), "undrained E given", ""),
-            np.where(
-                np.isfinite(e_given[shown]),
-                "given",
-                np.where(
-                    sounded[shown],
-                    np.char.add(
-                        np.char.add("", np.char.mod("%.2f", f_shown)), "·qc from soundings"
-                    ),
-                    np.where(
-                        np.isfinite(qc_given[shown]),
-                        np.char.add(np.char.mod("%.2f", f_shown), "·qc given"),
-                        "from SPT (Burland & Burbidge)",
-                    ),
-                ),
-            ),
+            np.isfinite(sub.modulus[shown]),
+            np.isfinite(e_given[shown]),
+            sounded[shown],
+            np.isfinite(qc_given[shown]),
+            n_sub,
+            shown,
         )
-        source = np.full(n_sub, "", dtype=part.dtype)
-        source[shown] = part
     else:
         source = np.zeros(0, dtype=object)
     qc_used = (
@@ -1573,18 +1572,22 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
         "E source": source,
         **parts,
     }
+    # per sublayer once (the traces take slices)
+    own_stress = np.where(coh, sub.own_sust, sub.own_sz)
+    nb_stress = np.where(coh, sub.sz_sust - sub.own_sust, sub.sz - sub.own_sz)
+    strain = np.divide(own_life + nb_life, h, out=np.zeros_like(h), where=h > 0)
+    stratum_name = np.array(names, dtype=object)[sub.stratum] if n_sub else np.zeros(0, object)
+    method_text = np.empty(n_sub, dtype=object)  # what the traces show (footing columns)
+    method_text[shown] = [str(x) if x else "none" for x in sub.method[shown]]
+    noted = np.flatnonzero(hist.drainage_note != "") if n_sub else np.zeros(0, int)
     for c in np.flatnonzero(pts.kind == "footing"):
         m = slice(int(starts[c]), int(ends[c]))
         i = int(pts.owner[c])
         rows = {
             "sigma_v0": sub.sig0[m],
-            "own_stress": np.where(coh[m], sub.own_sust[m], sub.own_sz[m]),
-            "neighbour_stress": np.where(
-                coh[m], sub.sz_sust[m] - sub.own_sust[m], sub.sz[m] - sub.own_sz[m]
-            ),
-            "strain": np.divide(
-                own_life[m] + nb_life[m], h[m], out=np.zeros_like(h[m]), where=h[m] > 0
-            ),
+            "own_stress": own_stress[m],
+            "neighbour_stress": nb_stress[m],
+            "strain": strain[m],
             "own_settlement": own_life[m],
             "neighbour_settlement": nb_life[m],
             "influence": sub.iz[m],
@@ -1592,8 +1595,9 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
         }
         details = {key: values[m] for key, values in parts.items()}
         notes = list(run.own_notes.get(int(c), []))
+        lo, hi = np.searchsorted(noted, [m.start, m.stop])
         for text, stratum in sorted(
-            {(t, names[k]) for t, k in zip(hist.drainage_note[m], sub.stratum[m]) if t}
+            {(hist.drainage_note[r], names[sub.stratum[r]]) for r in noted[lo:hi]}
         ):
             notes.append(text if str(text).startswith(f"{stratum}:") else f"{stratum}: {text}")
         notes.append(
@@ -1609,14 +1613,41 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
                 point=(float(pts.xy[c][0]), float(pts.xy[c][1])),
                 top=sub.top[m],
                 bottom=sub.bottom[m],
-                stratum=tuple(names[k] for k in sub.stratum[m]),
-                method=tuple(str(x) if x else "none" for x in sub.method[m]),
+                stratum=tuple(stratum_name[m]),
+                method=tuple(method_text[m]),
                 details=details,
                 notes=tuple(notes),
                 **rows,
             )
         )
     return {key: tuple(v) for key, v in out.items()}
+
+
+def _modulus_source(f_used, coh, eu_given, e_given, sounded, qc_given, n_sub, shown):
+    """The text of each shown sublayer's modulus source, (n_sub,) ('' where not shown).
+
+    Each distinct text is formatted once (the factors E/qc take few values) and
+    then indexed: the same strings as formatting every sublayer.
+    """
+    u, inv = np.unique(f_used, return_inverse=True)
+    inv = inv.ravel()
+    fixed = ["undrained E given", "", "given", "from SPT (Burland & Burbidge)"]
+    text = [f"{v:.2f}" for v in u]
+    table = np.array(
+        fixed + [t + "·qc from soundings" for t in text] + [t + "·qc given" for t in text]
+    )
+    code = np.where(
+        coh,
+        np.where(eu_given, 0, 1),
+        np.where(
+            e_given,
+            2,
+            np.where(sounded, 4 + inv, np.where(qc_given, 4 + len(u) + inv, 3)),
+        ),
+    )
+    source = np.full(n_sub, "", dtype=table.dtype)
+    source[shown] = table[code]
+    return source
 
 
 # --------------------------------------------------------------------------- section

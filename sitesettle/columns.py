@@ -19,7 +19,7 @@ Boussinesq point-load envelope and Hooke's law / the e–log σ' line.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -224,36 +224,27 @@ class GroundColumns:
     outside_hull: np.ndarray
     variant: np.ndarray
     variants: list
-    columns: list = field(repr=False)  # the ground.Column objects (for traces and drawing)
 
     @staticmethod
     def build(ground, xy: np.ndarray) -> GroundColumns:
-        cols = ground.columns(xy[:, 0], xy[:, 1]) if len(xy) else []
-        ids: dict[int, int] = {}
-        variants: list = []
-        variant = np.zeros(len(cols), dtype=int)
-        for c, col in enumerate(cols):
-            key = id(col.strata)
-            if key not in ids:
-                ids[key] = len(variants)
-                variants.append(col.strata)
-            variant[c] = ids[key]
         ns = len(ground.strata)
-        if cols:
-            tops = np.array([c.tops for c in cols], dtype=float)
-            bottoms = np.array([c.bottoms for c in cols], dtype=float)
+        if len(xy):
+            g = ground.column_arrays(xy[:, 0], xy[:, 1])
+            tops, bottoms, water, hull = g.tops, g.bottoms, g.water, g.outside_hull
+            variant, variants = g.variant, g.variants
         else:
             tops = bottoms = np.zeros((0, ns))
+            water, hull = np.zeros(0), np.zeros(0, dtype=bool)
+            variant, variants = np.zeros(0, dtype=int), []
         return GroundColumns(
             x=xy[:, 0].astype(float),
             y=xy[:, 1].astype(float),
             tops=tops,
             bottoms=bottoms,
-            water=np.array([c.water_depth for c in cols], dtype=float),
-            outside_hull=np.array([c.outside_hull for c in cols], dtype=bool),
+            water=water,
+            outside_hull=hull,
             variant=variant,
             variants=variants,
-            columns=cols,
         )
 
     def parameter(self, get, dtype=float) -> np.ndarray:
