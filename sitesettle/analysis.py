@@ -893,10 +893,7 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
     nodes = [ramp_nodes(t - stg.start, stg.duration) for stg in stages]
     nt = len(t)
     n_sub = len(run.sub)
-    out = {name: np.zeros((n_sub, nt)) for name in _TIMED}
-    degree = np.full((n_sub, nt), np.nan)
-    path = np.full(n_sub, np.nan)
-    note = np.full(n_sub, "", dtype=object)
+    out = degree = path = note = None  # made once the first state's sublayers are
     clay = tab.behaviour.size and (tab.behaviour == Behaviour.COHESIVE.value).any()
     units = fld.consolidating_units(gc, tab, ctx.ground.investigated_depth) if clay else None
     keys = [_state_key(state) for state in ctx.states] + [None]
@@ -909,6 +906,11 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
         else:
             sctx, ssub = _state(ctx, run, tab, gc, ctx.states[j])
         kept = (sctx, ssub) if j < K - 1 and keys[j + 1] == keys[j] else None
+        if out is None:  # after the state's own copies are freed: a lower peak
+            out = {name: np.zeros((n_sub, nt)) for name in _TIMED}
+            degree = np.full((n_sub, nt), np.nan)
+            path = np.full(n_sub, np.nan)
+            note = np.full(n_sub, "", dtype=object)
         # state j enters increment j (+) and increment j + 1 (−)
         own_t, own_w, own_q = nodes[j]
         nxt_t, nxt_w, nxt_q = nodes[j + 1] if j + 1 < K else (np.zeros(0),) * 3
@@ -917,7 +919,7 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
             continue
         a, b = len(own_t), len(own_t) + len(nxt_t)
         for rows in column_chunks(ssub.col, len(grid)):  # whole columns at a time
-            part = ssub.take(np.arange(rows.start, rows.stop))
+            part = ssub.take(rows)  # views of the state's arrays (histories only read them)
             h = _histories(
                 sctx,
                 part,
@@ -1122,7 +1124,7 @@ def analyse(
             f"{FAILURE_SETTLEMENT_RATIO:.0%} of its width ({f.width:g} m), {when}; check the "
             "moduli, the loads and their units"
         )
-    _far_warnings(site, warnings, with_checks)
+    auto_pairs = _far_warnings(site, warnings, with_checks)
     chk = None
     if with_checks:
         chk = checks_mod.check_movements(
@@ -1137,6 +1139,7 @@ def analyse(
             station_total=feet["station_total"],
             query=None if query is None else (query.ids, query.xy, query.total),
             on_loading=results.immediate[:, ctx.life],
+            auto_pairs=auto_pairs,
         )
     say("done", 1.0)
     return Results(**{**results.__dict__, "checks": chk, "warnings": tuple(warnings)})
@@ -1158,9 +1161,12 @@ def plan_estimate(ctx: Context, pts: Points, layout: dict) -> budget.Estimate:
     )
 
 
-def _far_warnings(site, warnings: list[str], with_checks: bool) -> None:
+def _far_warnings(site, warnings: list[str], with_checks: bool) -> np.ndarray | None:
     """Footings and boreholes far from the plan (likely coordinate typos), and the
-    automatic pairs not formed because their footings are too far apart."""
+    automatic pairs not formed because their footings are too far apart.
+
+    Returns the automatic pairs the checks use (those not too far apart), when it
+    searched for them (None otherwise): the neighbour search is made once."""
     fs = site.footings
     far = checks_mod.far_footings(fs)
     for i, dist, spacing in far:
@@ -1181,9 +1187,11 @@ def _far_warnings(site, warnings: list[str], with_checks: bool) -> None:
                         f"{kind} {b.id} is {d:.0f} m from the nearest footing (the plan spans "
                         f"{extent:.0f} m): check its coordinates"
                     )
+    auto = None
     if with_checks and str(getattr(site.checks, "pairs", "auto")).lower().endswith("auto"):
         pairs = checks_mod.footing_pairs(fs)
         long = checks_mod.long_span_pairs(fs, pairs)
+        auto = pairs[~long]  # what footing_pairs(fs, drop_long=True) gives
         for a, b in pairs[long]:
             d = float(np.hypot(fs[a].x - fs[b].x, fs[a].y - fs[b].y))
             warnings.append(
@@ -1191,6 +1199,7 @@ def _far_warnings(site, warnings: list[str], with_checks: bool) -> None:
                 f"far beyond the plan's spacing ({spacing:.1f} m); list the pair in [checks] "
                 "to check it"
             )
+    return auto
 
 
 def assemble_footings(ctx: Context, pts: Points, cols: dict, run: Integration, significant):
@@ -1212,39 +1221,59 @@ def assemble_footings(ctx: Context, pts: Points, cols: dict, run: Integration, s
     tilt_dir = np.zeros(nf)
     depth = np.zeros(nf)
     sig = np.full(nf, np.nan)
-    starts = np.searchsorted(owner, np.arange(nf))
-    ends = np.searchsorted(owner, np.arange(nf), side="right")
-    for i in range(nf):
-        cs = fcols[starts[i] : ends[i]]
-        stn = pts.station[cs]
-        k = int(stn.max()) + 1
-        point_xy[i, : len(cs)] = pts.xy[cs]
-        point_total[i, : len(cs)] = cols["tot"][cs]
+    if nf:
+        # every footing's points are consecutive (footing order); its stations 0…k−1
+        starts = np.searchsorted(owner, np.arange(nf))
+        n_pts = counts
+        k_of = np.maximum.reduceat(stations, starts) + 1  # stations of each footing
+        s_off = np.cumsum(k_of) - k_of
+        gst = s_off[owner] + stations  # each point's station, numbered across the plan
+        n_st = int(k_of.sum())
+        per_station = np.bincount(gst, minlength=n_st)[:, None]
         parts = {}
-        for name in out:
-            acc = np.zeros((k, nt))
-            np.add.at(acc, stn, cols[name][cs])
-            parts[name] = acc / np.bincount(stn, minlength=k)[:, None]
-        sxy = np.zeros((k, 2))
-        np.add.at(sxy, stn, pts.xy[cs])
-        sxy /= np.bincount(stn, minlength=k)[:, None]
+        for name in out:  # the mean of each station's points (added in point order)
+            acc = np.zeros((n_st, nt))
+            np.add.at(acc, gst, cols[name][fcols])
+            parts[name] = acc / per_station
+        sxy = np.zeros((n_st, 2))
+        np.add.at(sxy, gst, pts.xy[fcols])
+        sxy /= per_station
         stot = parts["imm"] + parts["creep"] + parts["con"] + parts["sec"]
-        station_xy[i, :k] = sxy
-        station_total[i, :k] = stot
-        g = int(np.argmax(stot[:, ctx.life])) if k > 1 else 0
+        st_owner = np.repeat(np.arange(nf), k_of)
+        st_index = np.arange(n_st) - s_off[st_owner]
+        station_xy[st_owner, st_index] = sxy
+        station_total[st_owner, st_index] = stot
+        # the governing station: the one settling most at the design life
+        life_st = np.full((nf, nst), -np.inf)
+        life_st[st_owner, st_index] = stot[:, ctx.life]
+        g = np.where(k_of > 1, np.argmax(life_st, axis=1), 0)
         for name in out:
-            out[name][i] = parts[name][g]
-        if len(cs) >= 3:
-            tilt[i], tilt_dir[i] = checks_mod.footing_tilt(pts.xy[cs], cols["tot"][cs, ctx.life])
-        depth[i] = float(np.max(run.bottom[cs]))
-        s = significant[cs]
-        sig[i] = float(np.nanmax(s)) if np.isfinite(s).any() else site.footings[i].depth
+            out[name][:] = parts[name][s_off + g]
+        pos = np.arange(len(fcols)) - starts[owner]  # each point's place in its footing
+        point_xy[owner, pos] = pts.xy[fcols]
+        point_total[owner, pos] = cols["tot"][fcols]
+        # tilt of the footings with three points or more, in groups of equal count
+        for m in np.unique(n_pts[n_pts >= 3]):
+            which = np.flatnonzero(n_pts == m)
+            rows = fcols[starts[which][:, None] + np.arange(m)[None, :]]
+            tilt[which], tilt_dir[which] = checks_mod.footing_tilt(
+                pts.xy[rows], cols["tot"][rows, ctx.life]
+            )
+        depth[:] = np.maximum.reduceat(run.bottom[fcols], starts)
+        sf = significant[fcols]
+        has = np.logical_or.reduceat(np.isfinite(sf), starts)
+        with np.errstate(invalid="ignore"):
+            top_sig = np.fmax.reduceat(sf, starts)
+        sig[:] = np.where(has, top_sig, [f.depth for f in site.footings])
     sub = run.sub
     found: list[set] = [set() for _ in range(nf)]
     owned = np.flatnonzero((sub.owner >= 0) & (pts.kind[sub.col] == "footing"))
-    pairs = {(int(o), str(mth)) for o, mth in zip(sub.owner[owned], sub.method[owned]) if mth}
-    for o, mth in pairs:
-        found[o].add(mth)
+    if len(owned):  # each footing's distinct methods
+        names, code = np.unique(sub.method[owned], return_inverse=True)
+        key = np.unique(sub.owner[owned].astype(np.int64) * len(names) + code.ravel())
+        for o, c in zip(key // len(names), key % len(names)):
+            if names[c]:
+                found[int(o)].add(str(names[c]))
     methods = [" + ".join(sorted(ms)) if ms else "none" for ms in found]
     out.update(
         point_xy=point_xy,
@@ -1388,16 +1417,8 @@ def _depth_warnings(ctx, pts, gc, tab, sub, hist, run, cols, ratio_rule, warning
     deep = ctx.ground.investigated_depth
     below = sub.mid > deep
     if below.any() and len(fcols):
-        tot_life = (
-            hist.imm_own
-            + hist.imm_nb
-            + hist.creep_own
-            + hist.creep_nb
-            + hist.cons_own
-            + hist.cons_nb
-            + hist.sec_own
-            + hist.sec_nb
-        )[:, life]
+        at = [getattr(hist, name)[:, life] for name in _TIMED]  # the same sum, column first
+        tot_life = at[0] + at[1] + at[2] + at[3] + at[4] + at[5] + at[6] + at[7]
         part = np.bincount(
             sub.col[below], weights=np.nan_to_num(tot_life[below]), minlength=len(pts)
         )

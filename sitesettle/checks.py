@@ -850,11 +850,14 @@ def _index(ids: dict[str, int], fid: str, where: str) -> int:
     return ids[fid]
 
 
-def _pair_list(footings: Sequence[Footing], settings: CheckSettings, extra_ids=()):
+def _pair_list(
+    footings: Sequence[Footing], settings: CheckSettings, extra_ids=(), auto_pairs=None
+):
     """Pairs to check: {(a, b): origin}, plus the structure lines as index arrays.
 
     ``extra_ids`` (query points) may appear in listed pairs and structure lines;
-    their indices follow the footings'.
+    their indices follow the footings'. ``auto_pairs`` is
+    ``footing_pairs(footings, drop_long=True)`` when the caller has it already.
     """
     rule = PairRule.parse(settings.pairs, "[checks] pairs")
     ids = {f.id: i for i, f in enumerate(footings)}
@@ -868,7 +871,9 @@ def _pair_list(footings: Sequence[Footing], settings: CheckSettings, extra_ids=(
         ids[q] = len(footings) + j
     pairs: dict[tuple[int, int], str] = {}
     if rule == PairRule.AUTO:
-        for a, b in footing_pairs(footings, drop_long=True):
+        if auto_pairs is None:
+            auto_pairs = footing_pairs(footings, drop_long=True)
+        for a, b in auto_pairs:
             pairs[(int(a), int(b))] = "auto"
     for fa, fb in settings.listed_pairs:
         where = f'listed pair ("{fa}", "{fb}")'
@@ -922,6 +927,7 @@ def check_movements(
     station_total: np.ndarray | None = None,
     query: tuple | None = None,
     on_loading: np.ndarray | None = None,
+    auto_pairs: np.ndarray | None = None,
 ) -> Checks:
     """Check every footing, neighbour pair and structure line against a criteria set.
 
@@ -952,6 +958,9 @@ def check_movements(
     on_loading : numpy.ndarray, optional
         (n_f,) settlement on loading [m], for the bearing-failure proxy: above
         :data:`BEARING_PROXY` × B a footing's status is ``"beyond_range"``.
+    auto_pairs : numpy.ndarray, optional
+        (n, 2) ``footing_pairs(footings, drop_long=True)`` when the caller has made
+        it already (the neighbour search is then not repeated).
 
     Returns
     -------
@@ -1041,7 +1050,7 @@ def check_movements(
         st_removed = st_moved - plane
 
     # structure lines, by sagging and hogging zones
-    pair_origin, lines = _pair_list(footings, settings, q_ids)
+    pair_origin, lines = _pair_list(footings, settings, q_ids, auto_pairs)
     hog_pairs: set[tuple[int, int]] = set()
     rows = []
     for idx in lines:

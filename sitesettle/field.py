@@ -654,8 +654,8 @@ def histories(
         width = int(lens.max())
         g = len(starts)
         pad = np.full((g, width), -1)
-        for q, (s0_, ln) in enumerate(zip(starts, lens)):
-            pad[q, :ln] = idx[s0_ : s0_ + ln]
+        group_of = np.repeat(np.arange(g), lens)  # the group of each sorted clay sublayer
+        pad[group_of, np.arange(len(idx)) - np.repeat(starts, lens)] = idx
         valid = pad >= 0
         pi = np.where(valid, pad, idx[0])
         gu = ukey[starts]  # the unit of each group
@@ -733,8 +733,7 @@ def histories(
             on = (load[m] > 0) & within[m] & mask[m]
             target[m] = np.where(on[:, None], s * sub.h[m][:, None], 0.0)
         hdr_out[m] = hdr_s[m]
-        for q in range(g):
-            note[pad[q][valid[q]]] = units.note[gu[q]]
+        note[idx] = units.note[gu[group_of]]
     return History(
         imm_own=imm_own,
         imm_nb=imm_tot - imm_own,
