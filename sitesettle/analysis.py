@@ -1061,6 +1061,7 @@ def analyse(
     _depth_warnings(ctx, pts, gc, tab, sub, hist, run, cols, ratio_rule, warnings)
     feet = assemble_footings(ctx, pts, cols, run, significant)
     traces = _traces(ctx, pts, gc, sub, hist, run, tab)
+    del hist  # the per-time arrays of every sublayer: not needed past here
     outside = np.asarray(
         ctx.ground.outside_hull([f.x for f in site.footings], [f.y for f in site.footings]),
         dtype=bool,
@@ -1507,15 +1508,11 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
     )
     sp = np.maximum(sp, sub.sig0)
     final = sub.sig0 + np.maximum(sub.sz_sust, 0.0)
-    branch = np.where(
-        ~coh,
-        "",
-        np.where(
-            final <= sp + 1e-9,
-            "recompression (OC)",
-            np.where(sp <= sub.sig0 + 1e-9, "virgin (NC)", "OC → NC"),
-        ),
-    )
+    # texts as object arrays indexing a few strings (not a fixed-width copy of each)
+    branches = np.array(["", "recompression (OC)", "virgin (NC)", "OC → NC"], dtype=object)
+    branch = branches[
+        np.where(~coh, 0, np.where(final <= sp + 1e-9, 1, np.where(sp <= sub.sig0 + 1e-9, 2, 3)))
+    ]
     starts = np.searchsorted(sub.col, np.arange(len(pts)))
     ends = np.searchsorted(sub.col, np.arange(len(pts)), side="right")
     parts = {
@@ -1527,7 +1524,7 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
         "final σ' (kPa)": np.where(coh, final, np.nan),
         "branch": branch,
         "primary strain": np.where(coh, sub.eps_tot, np.nan),
-        "U(t)": hist.degree[:, life],
+        "U(t)": hist.degree[:, life].copy(),  # (not a view that keeps every time alive)
         "drainage path (m)": hist.drainage_path,
     }
     # what a checker needs to redo a sublayer by hand
@@ -1655,7 +1652,8 @@ def _modulus_source(f_used, coh, eu_given, e_given, sounded, qc_given, n_sub, sh
     fixed = ["undrained E given", "", "given", "from SPT (Burland & Burbidge)"]
     text = [f"{v:.2f}" for v in u]
     table = np.array(
-        fixed + [t + "·qc from soundings" for t in text] + [t + "·qc given" for t in text]
+        fixed + [t + "·qc from soundings" for t in text] + [t + "·qc given" for t in text],
+        dtype=object,
     )
     code = np.where(
         coh,
@@ -1666,7 +1664,7 @@ def _modulus_source(f_used, coh, eu_given, e_given, sounded, qc_given, n_sub, sh
             np.where(sounded, 4 + inv, np.where(qc_given, 4 + len(u) + inv, 3)),
         ),
     )
-    source = np.full(n_sub, "", dtype=table.dtype)
+    source = np.full(n_sub, "", dtype=object)
     source[shown] = table[code]
     return source
 
