@@ -872,6 +872,107 @@ def _add_nodes(acc, values, weight, index, sign: float) -> None:
         acc[:, q] += sign * part
 
 
+@dataclass
+class Reduced:
+    """What the assembly needs of the histories: per-column sums over time and
+    per-sublayer values at the design life (not every sublayer at every time).
+
+    ``cols``: "imm", "creep", "con", "sec" (own + other loads of each part) and
+    "own" (all parts of the own load), (n_columns, n_t) [m], each summed over the
+    column's sublayers as :func:`per_column` does; ``life``: each part of
+    :data:`_TIMED`, (n_sub,) at the design life [m]; ``degree``: U of the total
+    load at the design life (n_sub,); ``drainage_path`` and ``drainage_note``
+    (n_sub,) as in :class:`sitesettle.field.History`.
+    """
+
+    cols: dict
+    life: dict
+    degree: np.ndarray
+    drainage_path: np.ndarray
+    drainage_note: np.ndarray
+
+
+class _Reducer:
+    """Adds whole columns' histories into a :class:`Reduced` (rows in column order)."""
+
+    def __init__(self, col: np.ndarray, n_columns: int, nt: int, life: int):
+        n_sub = len(col)
+        self.col, self.life = col, life
+        self.cols = {k: np.zeros((n_columns, nt)) for k in ("imm", "creep", "con", "sec", "own")}
+        self.at = {name: np.zeros(n_sub) for name in _TIMED}
+        self.degree = np.full(n_sub, np.nan)
+        self.path = np.full(n_sub, np.nan)
+        self.note = np.full(n_sub, "", dtype=object)
+
+    def add(self, rows: slice, parts: dict) -> None:
+        """``parts``: each name of :data:`_TIMED` → (rows, n_t) of whole columns."""
+        col = self.col[rows]
+        if not len(col):
+            return
+        lo, hi = int(col[0]), int(col[-1]) + 1
+        c = col - lo
+        p = parts
+        for key, v in (
+            ("imm", p["imm_own"] + p["imm_nb"]),
+            ("creep", p["creep_own"] + p["creep_nb"]),
+            ("con", p["cons_own"] + p["cons_nb"]),
+            ("sec", p["sec_own"] + p["sec_nb"]),
+            ("own", p["imm_own"] + p["creep_own"] + p["cons_own"] + p["sec_own"]),
+        ):
+            # the columns of the rows are whole: their sums are complete here (as
+            # per_column makes them), added to zeros
+            acc = self.cols[key][lo:hi]
+            for j in range(v.shape[1]):
+                acc[:, j] += np.bincount(c, weights=np.nan_to_num(v[:, j]), minlength=hi - lo)
+        for name in _TIMED:
+            self.at[name][rows] = p[name][:, self.life]
+
+    def result(self) -> Reduced:
+        return Reduced(self.cols, self.at, self.degree, self.path, self.note)
+
+
+def reduced_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mask=None):
+    """The histories of a single load applied at time 0, reduced (:class:`Reduced`)."""
+    sub = run.sub
+    h = _histories(ctx, sub, tab, gc, own_mask=own_mask, total_mask=total_mask)
+    red = _Reducer(sub.col, len(run.bottom), len(ctx.times), ctx.life)
+    red.add(slice(0, len(sub)), {name: getattr(h, name) for name in _TIMED})
+    red.degree[:] = h.degree[:, ctx.life]
+    red.path[:] = h.drainage_path
+    red.note[:] = h.drainage_note
+    return red.result()
+
+
+#: the fields of a load state's sublayers that the histories read and that differ
+#: from the full run's (the geometry, σ'v0 and the owner are the full run's arrays)
+_STATE_FIELDS = (
+    "sz", "t", "sz_sust", "own_sz", "own_t", "own_sust", "gran_own", "gran_nb",
+    "und_own", "und_nb", "eps_own", "eps_tot", "creep",
+)  # fmt: skip
+
+
+def _slim_state(ssub: fld.Sublayers, full: fld.Sublayers) -> fld.Sublayers:
+    """A state's sublayers for the histories only: its own stresses and strains, the
+    full run's geometry (the same sublayers in the same order), nothing else."""
+    keep = {k: getattr(ssub, k) for k in _STATE_FIELDS}
+    geometry = {k: getattr(full, k) for k in ("col", "top", "bottom", "stratum", "x", "y")}
+    return fld.Sublayers(**geometry, owner=full.owner, sig0=full.sig0, **keep)
+
+
+def _common_bounds(chunkings: list[list[slice]], n: int) -> list[slice]:
+    """Row ranges bounded where every chunking has a boundary (each chunk of every
+    chunking lies inside one range).
+
+    >>> _common_bounds([[slice(0, 2), slice(2, 5)], [slice(0, 5)]], 5)
+    [slice(0, 5, None)]
+    """
+    common = np.arange(n + 1)
+    for chunks in chunkings:
+        common = np.intersect1d(common, [c.start for c in chunks] + [n])
+    b = np.union1d(common, [0, n]).tolist()
+    return [slice(a, z) for a, z in zip(b[:-1], b[1:]) if z > a]
+
+
 def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mask=None):
     """Histories of the load stages, each increment from its own start, by superposition.
 
@@ -886,6 +987,13 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
     start (superposition of load increments, as for staged loading in Terzaghi's
     theory; exact where the model is linear, and the usual approximation for e–log
     clay, which it makes exact once every increment is consolidated).
+
+    Returns the sums the assembly needs (:class:`Reduced`). The stresses and
+    strains of every stage's state are made first (their sublayers kept slim:
+    :func:`_slim_state`); the histories are then made and summed whole columns
+    at a time, every state's in turn, so that no (sublayer × time) array of the
+    whole plan exists. Each state's histories use the same rows at a time and
+    the same times as when made state by state, and are added in the same order.
     """
     t = ctx.times
     stages = ctx.stages
@@ -893,57 +1001,64 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
     nodes = [ramp_nodes(t - stg.start, stg.duration) for stg in stages]
     nt = len(t)
     n_sub = len(run.sub)
-    out = degree = path = note = None  # made once the first state's sublayers are
     clay = tab.behaviour.size and (tab.behaviour == Behaviour.COHESIVE.value).any()
     units = fld.consolidating_units(gc, tab, ctx.ground.investigated_depth) if clay else None
     keys = [_state_key(state) for state in ctx.states] + [None]
-    kept = None  # the previous state's sublayers, kept only when the next state is equal
-    for j in range(K):  # one state at a time: memory of two histories, not K
+    states = []
+    for j in range(K):  # every state's stresses and strains, one _state call each
         if j == K - 1:
-            sctx, ssub = ctx, run.sub
-        elif kept is not None and keys[j] == keys[j - 1]:
-            sctx, ssub = kept  # a stage that adds no load: the same state again
+            states.append((ctx, run.sub))
+        elif j > 0 and keys[j] == keys[j - 1]:
+            states.append(states[-1])  # a stage that adds no load: the same state again
         else:
             sctx, ssub = _state(ctx, run, tab, gc, ctx.states[j])
-        kept = (sctx, ssub) if j < K - 1 and keys[j + 1] == keys[j] else None
-        if out is None:  # after the state's own copies are freed: a lower peak
-            out = {name: np.zeros((n_sub, nt)) for name in _TIMED}
-            degree = np.full((n_sub, nt), np.nan)
-            path = np.full(n_sub, np.nan)
-            note = np.full(n_sub, "", dtype=object)
-        # state j enters increment j (+) and increment j + 1 (−)
+            states.append((sctx, _slim_state(ssub, run.sub)))
+            del ssub
+    plan = []  # per state: its grid of times, the two increments' node counts, its chunks
+    for j in range(K):
         own_t, own_w, own_q = nodes[j]
         nxt_t, nxt_w, nxt_q = nodes[j + 1] if j + 1 < K else (np.zeros(0),) * 3
         grid = np.concatenate([own_t, nxt_t, t if j == K - 1 else np.zeros(0)])
-        if not len(grid):
-            continue
         a, b = len(own_t), len(own_t) + len(nxt_t)
-        for rows in column_chunks(ssub.col, len(grid)):  # whole columns at a time
-            part = ssub.take(rows)  # views of the state's arrays (histories only read them)
-            h = _histories(
-                sctx,
-                part,
-                tab,
-                gc,
-                own_mask=None if own_mask is None else own_mask[rows],
-                total_mask=None if total_mask is None else total_mask[rows],
-                times=grid,
-                units=units,
-            )
-            del part
-            if j == K - 1:
-                degree[rows] = h.degree[:, -nt:]
-                path[rows] = h.drainage_path
-                note[rows] = h.drainage_note
-            for name in _TIMED:
-                v = getattr(h, name)
-                acc = out[name][rows]
-                _add_nodes(acc, v[:, :a], own_w, own_q, 1.0)
-                if b > a:
-                    _add_nodes(acc, v[:, a:b], nxt_w, nxt_q, -1.0)
-            del h
-        del ssub
-    return fld.History(**out, degree=degree, drainage_path=path, drainage_note=note)
+        chunks = column_chunks(run.sub.col, len(grid)) if len(grid) else []
+        plan.append((grid, a, b, own_w, own_q, nxt_w, nxt_q, chunks))
+    red = _Reducer(run.sub.col, len(run.bottom), nt, ctx.life)
+    ranges = _common_bounds([p[-1] for p in plan if len(p[0])], n_sub)
+    for span in ranges:  # whole columns; every state's chunks inside it
+        out = {name: np.zeros((span.stop - span.start, nt)) for name in _TIMED}
+        for j in range(K):  # state j enters increment j (+) and increment j + 1 (−)
+            grid, a, b, own_w, own_q, nxt_w, nxt_q, chunks = plan[j]
+            if not len(grid):
+                continue
+            sctx, ssub = states[j]
+            for rows in chunks:
+                if rows.start < span.start or rows.stop > span.stop:
+                    continue
+                h = _histories(
+                    sctx,
+                    ssub.take(rows),  # views (the histories only read them)
+                    tab,
+                    gc,
+                    own_mask=None if own_mask is None else own_mask[rows],
+                    total_mask=None if total_mask is None else total_mask[rows],
+                    times=grid,
+                    units=units,
+                )
+                local = slice(rows.start - span.start, rows.stop - span.start)
+                if j == K - 1:
+                    red.degree[rows] = h.degree[:, -nt:][:, ctx.life]
+                    red.path[rows] = h.drainage_path
+                    red.note[rows] = h.drainage_note
+                for name in _TIMED:
+                    v = getattr(h, name)
+                    acc = out[name][local]
+                    _add_nodes(acc, v[:, :a], own_w, own_q, 1.0)
+                    if b > a:
+                        _add_nodes(acc, v[:, a:b], nxt_w, nxt_q, -1.0)
+                del h
+        red.add(span, out)
+        del out
+    return red.result()
 
 
 def _state_key(state) -> bytes:
@@ -1046,15 +1161,9 @@ def analyse(
     if len(ctx.stages) > 1 or ctx.stages[0].start > 0 or ctx.stages[0].duration > 0:
         hist = staged_histories(ctx, run, tab, gc, **masks)
     else:
-        hist = _histories(ctx, sub, tab, gc, **masks)
+        hist = reduced_histories(ctx, run, tab, gc, **masks)
     say("assembling", 0.85)
-    cols = {
-        "imm": per_column(sub, hist.imm_own + hist.imm_nb, n),
-        "creep": per_column(sub, hist.creep_own + hist.creep_nb, n),
-        "con": per_column(sub, hist.cons_own + hist.cons_nb, n),
-        "sec": per_column(sub, hist.sec_own + hist.sec_nb, n),
-        "own": per_column(sub, hist.imm_own + hist.creep_own + hist.cons_own + hist.sec_own, n),
-    }
+    cols = dict(hist.cols)  # per column: the sums of its sublayers (per_column)
     cols["tot"] = cols["imm"] + cols["creep"] + cols["con"] + cols["sec"]
     cols["nb"] = cols["tot"] - cols["own"]
     warnings = ctx.warnings
@@ -1418,7 +1527,7 @@ def _depth_warnings(ctx, pts, gc, tab, sub, hist, run, cols, ratio_rule, warning
     deep = ctx.ground.investigated_depth
     below = sub.mid > deep
     if below.any() and len(fcols):
-        at = [getattr(hist, name)[:, life] for name in _TIMED]  # the same sum, column first
+        at = [hist.life[name] for name in _TIMED]  # the same sum, at the design life
         tot_life = at[0] + at[1] + at[2] + at[3] + at[4] + at[5] + at[6] + at[7]
         part = np.bincount(
             sub.col[below], weights=np.nan_to_num(tot_life[below]), minlength=len(pts)
@@ -1492,7 +1601,7 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
     names = [s.name for s in site.strata]
     out: dict[str, list[Trace]] = {f.id: [] for f in site.footings}
     # the design-life column of each part first (the same sums, element by element)
-    at = {name: getattr(hist, name)[:, life] for name in _TIMED}
+    at = hist.life
     own_life = at["imm_own"] + at["creep_own"] + at["cons_own"] + at["sec_own"]
     nb_life = at["imm_nb"] + at["creep_nb"] + at["cons_nb"] + at["sec_nb"]
     h = sub.h
@@ -1524,7 +1633,7 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
         "final σ' (kPa)": np.where(coh, final, np.nan),
         "branch": branch,
         "primary strain": np.where(coh, sub.eps_tot, np.nan),
-        "U(t)": hist.degree[:, life].copy(),  # (not a view that keeps every time alive)
+        "U(t)": hist.degree,
         "drainage path (m)": hist.drainage_path,
     }
     # what a checker needs to redo a sublayer by hand

@@ -262,15 +262,30 @@ class GroundColumns:
     def total_stress(self, col: np.ndarray, z: np.ndarray) -> np.ndarray:
         """In-situ total vertical stress [kPa] at depth z of column col (vectorised
         :meth:`sitesettle.ground.Column.total_stress`)."""
-        dry = self.parameter(lambda s: s.unit_weight)[col]
-        sat = self.parameter(lambda s: s.saturated_unit_weight)[col]
+        if len(col) == 0:
+            return np.zeros(0)
         tops, bots, zw = self.tops[col], self.bottoms[col], self.water[col][:, None]
-        zz = z[:, None]
-        above = np.clip(np.minimum(np.minimum(zz, bots), zw) - tops, 0.0, None)
-        below = np.clip(np.minimum(zz, bots) - np.maximum(tops, zw), 0.0, None)
-        return (np.where(above > 0, above * dry, 0.0) + np.where(below > 0, below * sat, 0.0)).sum(
-            axis=1
-        )
+        zz = np.asarray(z, dtype=float)[:, None]
+        # the thickness of each stratum above z and above / below the water table
+        # (the same operations as ground.Column.total_stress, with fewer temporaries)
+        zb = np.minimum(zz, bots)
+        above = np.minimum(zb, zw)
+        above -= tops
+        np.clip(above, 0.0, None, out=above)
+        below = zb
+        below -= np.maximum(tops, zw)
+        np.clip(below, 0.0, None, out=below)
+        for part, name in ((above, "unit_weight"), (below, "saturated_unit_weight")):
+            gamma = self._unit_weights(name)[self.variant[col]]
+            dry = ~(part > 0)
+            np.multiply(part, gamma, out=part)
+            part[dry] = 0.0
+        above += below
+        return above.sum(axis=1)
+
+    def _unit_weights(self, name: str) -> np.ndarray:
+        """(n_variants, n_strata) unit weights of each variant of the strata [kN/m³]."""
+        return np.array([[getattr(s, name) for s in strata] for strata in self.variants], float)
 
     def effective_stress(self, col: np.ndarray, z: np.ndarray) -> np.ndarray:
         """In-situ vertical effective stress σ'v0 [kPa] at depth z of column col."""
