@@ -539,13 +539,14 @@ def integrate(
         active = ~done & (nxt > z_to + 1e-9)
         z_from = np.where(active, z_to, z_from)
         z_to = np.where(active, nxt, z_to)
-    sub = fld.Sublayers.concat(parts) if parts else _empty_sublayers()
+    n_first = len(parts[0]) if parts else 0
+    sub = fld.Sublayers.concat(parts) if parts else _empty_sublayers()  # (empties the parts)
+    del parts
     order = np.lexsort((sub.top, sub.col))
     sub = sub.take(order)
     first_pass = np.zeros(len(sub), dtype=bool)
-    if parts:
-        first_pass[: len(parts[0])] = True
-        first_pass = first_pass[order]
+    first_pass[:n_first] = True
+    first_pass = first_pass[order]
     bottom = np.where(z_to > pts.base, z_to, pts.base)
     bound = np.where(bottom >= rigid - 1e-9, 0.0, bound)
     reason = np.where(

@@ -202,8 +202,18 @@ class Sublayers:
 
     @staticmethod
     def concat(parts: list[Sublayers]) -> Sublayers:
-        names = Sublayers.__dataclass_fields__
-        return Sublayers(**{k: np.concatenate([getattr(p, k) for p in parts]) for k in names})
+        """The sublayers of all ``parts``, in order.
+
+        The parts are emptied as they are joined (each of their arrays is dropped
+        once copied, every field set to None): the memory of the parts and of the
+        whole is not held twice. Do not use a part afterwards.
+        """
+        out = {}
+        for k in Sublayers.__dataclass_fields__:
+            out[k] = np.concatenate([getattr(p, k) for p in parts])
+            for p in parts:
+                setattr(p, k, None)
+        return Sublayers(**out)
 
     def take(self, index) -> Sublayers:
         return Sublayers(
