@@ -967,10 +967,11 @@ def _common_bounds(chunkings: list[list[slice]], n: int) -> list[slice]:
     >>> _common_bounds([[slice(0, 2), slice(2, 5)], [slice(0, 5)]], 5)
     [slice(0, 5, None)]
     """
-    common = np.arange(n + 1)
+    common = None
     for chunks in chunkings:
-        common = np.intersect1d(common, [c.start for c in chunks] + [n])
-    b = np.union1d(common, [0, n]).tolist()
+        starts = np.array([c.start for c in chunks] + [n])
+        common = starts if common is None else np.intersect1d(common, starts)
+    b = np.union1d([] if common is None else common, [0, n]).astype(int).tolist()
     return [slice(a, z) for a, z in zip(b[:-1], b[1:]) if z > a]
 
 

@@ -823,10 +823,10 @@ def _strip_rows(footings, st_xy, st_moved, cset) -> list[dict]:
     a flexible strip, which the wall it carries bridges (the deflection ratio is the
     measure for a wall; Burland & Wroth 1974)."""
     rows = []
-    for i, f in enumerate(footings):
+    n_ok = np.isfinite(st_xy[..., 0]).sum(axis=1) if len(footings) else np.zeros(0, int)
+    for i in np.flatnonzero(n_ok >= 3):  # the footings with three stations or more
+        f = footings[i]
         ok = np.isfinite(st_xy[i, :, 0])
-        if ok.sum() < 3:
-            continue
         rot = relative_rotation_along(st_xy[i, ok], st_moved[i, ok])
         row, _ = _line_row(
             (f.id,), None, st_xy[i, ok], st_moved[i, ok], cset, rot, " along the strip"

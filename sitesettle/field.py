@@ -404,9 +404,13 @@ def own_load_settlement(
             dgi = sch.Diagram(*(np.asarray(a)[fi] if a is not None else None for a in dg))
             cols = c[m]
             dp = q_full[fi]
-            sig_base = gc.effective_stress(cols, fd[fi])
             zp = fd[fi] + np.asarray(sch.peak_depth(fw[fi], dgi))
-            sig_p = gc.effective_stress(cols, zp)
+            # σ'v0 at the base and at the peak: one value per column (its rows share
+            # the column and the footing), looked up once per column
+            _, one, back = np.unique(cols, return_index=True, return_inverse=True)
+            back = back.ravel()
+            sig_base = gc.effective_stress(cols[one], fd[fi][one])[back]
+            sig_p = gc.effective_stress(cols[one], zp[one])[back]
             peak = (
                 sch.peak_factor(dp, np.maximum(sig_p, MIN_PEAK_STRESS)) if ver == "1978" else None
             )
