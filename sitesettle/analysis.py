@@ -952,6 +952,10 @@ _STATE_FIELDS = (
 )  # fmt: skip
 
 
+#: bytes per sublayer of a slim state (its 13 arrays)
+_SLIM_BYTES = 8 * len(_STATE_FIELDS)
+
+
 def _slim_state(ssub: fld.Sublayers, full: fld.Sublayers) -> fld.Sublayers:
     """A state's sublayers for the histories only: its own stresses and strains, the
     full run's geometry (the same sublayers in the same order), nothing else."""
@@ -1006,16 +1010,10 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
     clay = tab.behaviour.size and (tab.behaviour == Behaviour.COHESIVE.value).any()
     units = fld.consolidating_units(gc, tab, ctx.ground.investigated_depth) if clay else None
     keys = [_state_key(state) for state in ctx.states] + [None]
-    states = []
-    for j in range(K):  # every state's stresses and strains, one _state call each
-        if j == K - 1:
-            states.append((ctx, run.sub))
-        elif j > 0 and keys[j] == keys[j - 1]:
-            states.append(states[-1])  # a stage that adds no load: the same state again
-        else:
-            sctx, ssub = _state(ctx, run, tab, gc, ctx.states[j])
-            states.append((sctx, _slim_state(ssub, run.sub)))
-            del ssub
+    # which stage reuses the state before it (a stage that adds no load), and how
+    # many states have to be made
+    same = [0 < j < K - 1 and keys[j] == keys[j - 1] for j in range(K)]
+    n_made = sum(1 for j in range(K - 1) if not same[j])
     plan = []  # per state: its grid of times, the two increments' node counts, its chunks
     for j in range(K):
         own_t, own_w, own_q = nodes[j]
@@ -1026,13 +1024,33 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
         plan.append((grid, a, b, own_w, own_q, nxt_w, nxt_q, chunks))
     red = _Reducer(run.sub.col, len(run.bottom), nt, ctx.life)
     ranges = _common_bounds([p[-1] for p in plan if len(p[0])], n_sub)
+    # column ranges one after the other, every state's in turn (all states' sublayers
+    # kept, slim), when that holds less than one range of the whole plan with each
+    # state made in turn (one state's sublayers and the accumulators of every row)
+    if len(ranges) > 1 and n_made * _SLIM_BYTES > _SLIM_BYTES + 8 * len(_TIMED) * nt:
+        ranges = [slice(0, n_sub)] if n_sub else []
+    made: dict = {}
+
+    def state(j):
+        """The sublayers of state j: made once, dropped once no later stage needs them."""
+        if j == K - 1:
+            return ctx, run.sub
+        if same[j]:
+            return state(j - 1)
+        if j not in made:
+            sctx, ssub = _state(ctx, run, tab, gc, ctx.states[j])
+            made[j] = (sctx, _slim_state(ssub, run.sub))
+            del ssub
+        return made[j]
+
+    one_range = len(ranges) == 1
     for span in ranges:  # whole columns; every state's chunks inside it
         out = {name: np.zeros((span.stop - span.start, nt)) for name in _TIMED}
         for j in range(K):  # state j enters increment j (+) and increment j + 1 (−)
             grid, a, b, own_w, own_q, nxt_w, nxt_q, chunks = plan[j]
             if not len(grid):
                 continue
-            sctx, ssub = states[j]
+            sctx, ssub = state(j)
             for rows in chunks:
                 if rows.start < span.start or rows.stop > span.stop:
                     continue
@@ -1058,6 +1076,9 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
                     if b > a:
                         _add_nodes(acc, v[:, a:b], nxt_w, nxt_q, -1.0)
                 del h
+            if one_range and not (j + 1 < K and same[j + 1]):
+                made.clear()  # no later stage needs this state (the next one makes its own)
+            del ssub
         red.add(span, out)
         del out
     return red.result()
