@@ -49,6 +49,10 @@ class PairRule(Choice):
 # --- neighbour pairs ---------------------------------------------------------------------
 
 
+#: distances computed at once when points are compared with every point (rows × points)
+_FULL_SCAN_ELEMENTS = 1_000_000
+
+
 def _sector_candidates(xy: np.ndarray, tol: float) -> np.ndarray:
     """Pairs (a, b) where b is the nearest point to a in one of six 60° sectors.
 
@@ -95,9 +99,14 @@ def _sector_candidates(xy: np.ndarray, tol: float) -> np.ndarray:
         d2, i2 = tree.query(xy[todo], k=k2)
         a2, b2, todo = pick(todo, d2.reshape(len(todo), k2), i2.reshape(len(todo), k2), k2 == n)
         pairs.append(np.stack([a2, b2], axis=1))
-    for a in todo:  # hull points, collinear plans: look at every point
-        d = np.hypot(*(xy - xy[a]).T)[None, :]
-        aa, bb, _ = pick(np.array([a]), d, np.arange(n)[None, :], complete=True)
+    # hull points, collinear plans: look at every point (a block of points at a time,
+    # each row as it would be alone: the same distances, the same picks)
+    block = max(1, _FULL_SCAN_ELEMENTS // max(1, n))
+    for k0 in range(0, len(todo), block):
+        a = np.asarray(todo[k0 : k0 + block])
+        d = np.hypot(xy[None, :, 0] - xy[a, None, 0], xy[None, :, 1] - xy[a, None, 1])
+        j = np.broadcast_to(np.arange(n)[None, :], d.shape)
+        aa, bb, _ = pick(a, d, j, complete=True)
         pairs.append(np.stack([aa, bb], axis=1))
     cand = np.concatenate(pairs).astype(np.intp)
     cand = np.sort(cand, axis=1)
