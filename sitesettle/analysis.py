@@ -1628,7 +1628,7 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
     own_life = at["imm_own"] + at["creep_own"] + at["cons_own"] + at["sec_own"]
     nb_life = at["imm_nb"] + at["creep_nb"] + at["cons_nb"] + at["sec_nb"]
     h = sub.h
-    coh = tab.behaviour[sub.col, sub.stratum] == "cohesive" if len(sub) else np.zeros(0, bool)
+    coh = (tab.behaviour == "cohesive")[sub.col, sub.stratum] if len(sub) else np.zeros(0, bool)
     sp = np.where(
         np.isfinite(tab.sp[sub.col, sub.stratum]),
         tab.sp[sub.col, sub.stratum],
@@ -1728,7 +1728,9 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
     strain = np.divide(own_life + nb_life, h, out=np.zeros_like(h), where=h > 0)
     stratum_name = np.array(names, dtype=object)[sub.stratum] if n_sub else np.zeros(0, object)
     method_text = np.empty(n_sub, dtype=object)  # what the traces show (footing columns)
-    method_text[shown] = [str(x) if x else "none" for x in sub.method[shown]]
+    shown_method = sub.method[shown]  # labels (str): "" where no method applies
+    shown_method[shown_method == ""] = "none"
+    method_text[shown] = shown_method
     noted = np.flatnonzero(hist.drainage_note != "") if n_sub else np.zeros(0, int)
     for c in np.flatnonzero(pts.kind == "footing"):
         m = slice(int(starts[c]), int(ends[c]))
