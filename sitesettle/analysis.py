@@ -111,15 +111,21 @@ def area_loads(loads) -> stress.Loads:
 def pressure_parts(site: Site, ground: Ground) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Per footing: the dead part of the net pressure (with the fill and the removed
     overburden), the live pressure and its sustained part [kPa]."""
-    dead, live, sust = [], [], []
-    cols = ground.columns([f.x for f in site.footings], [f.y for f in site.footings])
-    for f, col in zip(site.footings, cols):
-        s0 = float(col.total_stress(np.array([f.depth]))[0])
-        extra = f.fill_unit_weight * f.depth - s0
-        dead.append(f.dead_load / f.area + extra)
-        live.append(f.live_load / f.area)
-        sust.append(f.sustained_live_fraction * f.live_load / f.area)
-    return np.array(dead), np.array(live), np.array(sust)
+    fs = site.footings
+    if not fs:
+        return np.zeros(0), np.zeros(0), np.zeros(0)
+    xy = np.array([[f.x, f.y] for f in fs], dtype=float)
+    depth = np.array([f.depth for f in fs], dtype=float)
+    gc = GroundColumns.build(ground, xy)
+    s0 = gc.total_stress(np.arange(len(fs)), depth)  # under each centre, at its base
+    s0 = np.where(np.isnan(depth) | (depth < 0), np.nan, s0)  # as Column.total_stress
+    area = np.array([f.area for f in fs], dtype=float)
+    dead_load = np.array([f.dead_load for f in fs], dtype=float)
+    live_load = np.array([f.live_load for f in fs], dtype=float)
+    fill = np.array([f.fill_unit_weight for f in fs], dtype=float)
+    frac = np.array([f.sustained_live_fraction for f in fs], dtype=float)
+    extra = fill * depth - s0
+    return dead_load / area + extra, live_load / area, frac * live_load / area
 
 
 def net_pressures(site: Site, ground: Ground) -> tuple[np.ndarray, np.ndarray, list[str]]:
@@ -131,7 +137,10 @@ def net_pressures(site: Site, ground: Ground) -> tuple[np.ndarray, np.ndarray, l
     the ground: granular strata rebound with the unloading modulus and clay swells
     on Cr (docs/methods.md §4.7), with a warning that names the footing.
     """
-    dead, live, sust = pressure_parts(site, ground)
+    return _net_from_parts(site, *pressure_parts(site, ground))
+
+
+def _net_from_parts(site: Site, dead, live, sust) -> tuple[np.ndarray, np.ndarray, list[str]]:
     qf, qs = dead + live, dead + sust
     warn = [
         f"footing {f.id}: net pressure {min(a, b):.1f} kPa < 0: it unloads the ground, "
@@ -235,7 +244,8 @@ def prepare(site: Site) -> Context:
     times = np.unique(np.array([*st.report_times, st.design_life, *marks], dtype=float))
     times = times[times > 0]
     life = int(np.argmin(np.abs(times - st.design_life)))
-    q_full, q_sust, warnings = net_pressures(site, ground)
+    parts = pressure_parts(site, ground)
+    q_full, q_sust, warnings = _net_from_parts(site, *parts)
     loads_full, load_of = footing_loads(site.footings, q_full)
     order = np.argsort(load_of)
     loads_sust = loads_full.with_pressure(q_sust[order])
@@ -246,7 +256,7 @@ def prepare(site: Site) -> Context:
         loads_sust = stress.Loads.concat(loads_sust, area)  # permanent: sustained in full
     states = []
     if len(stages) > 1:
-        dead, live, sust = pressure_parts(site, ground)
+        dead, live, sust = parts
         cd = np.cumsum([stg.dead for stg in stages])
         cl = np.cumsum([stg.live for stg in stages])
         first = {}
@@ -390,11 +400,6 @@ def _column_groups(kind) -> np.ndarray:
     return np.array([_GROUP_OF_KIND.get(k, 2) for k in kind], dtype=int)
 
 
-def _boundaries(gc: GroundColumns, c: int, planes: np.ndarray) -> np.ndarray:
-    b = np.concatenate([gc.tops[c], planes])
-    return b[np.isfinite(b)]
-
-
 def _field_modulus_min(ctx, tab, gc, cols, z, spt_modulus) -> np.ndarray:
     """(n, k) smallest field modulus of every granular stratum below depth z [kPa]."""
     n, k = len(cols), tab.behaviour.shape[1]
@@ -463,28 +468,17 @@ def integrate(
     while active.any():
         passes += 1
         cols = np.flatnonzero(active)
-        rows = {k: [] for k in ("col", "top", "bottom")}
-        for c in cols:
-            key = (float(pts.base[c]), float(pts.scale[c]))
-            if key not in templates:
-                templates[key] = colmod.regular_edges(
-                    key[0], key[1], st.sublayer_fraction, colmod.MAX_INTEGRATION_DEPTH
-                )
-            e = colmod.column_edges(
-                pts.base[c],
-                pts.scale[c],
-                st.sublayer_fraction,
-                z_from[c],
-                z_to[c],
-                _boundaries(gc, c, planes),
-                templates[key],
-            )
-            rows["col"].append(np.full(len(e) - 1, c))
-            rows["top"].append(e[:-1])
-            rows["bottom"].append(e[1:])
-        col = np.concatenate(rows["col"]).astype(int)
-        top = np.concatenate(rows["top"])
-        bot = np.concatenate(rows["bottom"])
+        bnd = np.hstack([gc.tops[cols], np.broadcast_to(planes, (len(cols), len(planes)))])
+        row, top, bot = colmod.many_column_edges(
+            pts.base[cols],
+            pts.scale[cols],
+            st.sublayer_fraction,
+            z_from[cols],
+            z_to[cols],
+            bnd,
+            templates,
+        )
+        col = cols[row]
         mid = 0.5 * (top + bot)
         sub = fld.Sublayers(
             col=col,
@@ -549,16 +543,18 @@ def integrate(
         active = ~done & (nxt > z_to + 1e-9)
         z_from = np.where(active, z_to, z_from)
         z_to = np.where(active, nxt, z_to)
-    sub = fld.Sublayers.concat(parts) if parts else _empty_sublayers()
+    n_first = len(parts[0]) if parts else 0
+    sub = fld.Sublayers.concat(parts) if parts else _empty_sublayers()  # (empties the parts)
+    del parts
     order = np.lexsort((sub.top, sub.col))
     sub = sub.take(order)
     first_pass = np.zeros(len(sub), dtype=bool)
-    if parts:
-        first_pass[: len(parts[0])] = True
-        first_pass = first_pass[order]
+    first_pass[:n_first] = True
+    first_pass = first_pass[order]
     stage_stress = None
     if staged and staged[0] is not None:
         stage_stress = np.concatenate(staged, axis=2)[:, :, order]
+        del staged
     bottom = np.where(z_to > pts.base, z_to, pts.base)
     bound = np.where(bottom >= rigid - 1e-9, 0.0, bound)
     reason = np.where(
@@ -590,7 +586,6 @@ def _subset(gc: GroundColumns, cols: np.ndarray) -> GroundColumns:
         outside_hull=gc.outside_hull[cols],
         variant=gc.variant[cols],
         variants=gc.variants,
-        columns=[],
     )
 
 
@@ -948,6 +943,112 @@ def _add_nodes(acc, values, weight, index, sign: float) -> None:
         acc[:, q] += sign * part
 
 
+@dataclass
+class Reduced:
+    """What the assembly needs of the histories: per-column sums over time and
+    per-sublayer values at the design life (not every sublayer at every time).
+
+    ``cols``: "imm", "creep", "con", "sec" (own + other loads of each part) and
+    "own" (all parts of the own load), (n_columns, n_t) [m], each summed over the
+    column's sublayers as :func:`per_column` does; ``life``: each part of
+    :data:`_TIMED`, (n_sub,) at the design life [m]; ``degree``: U of the total
+    load at the design life (n_sub,); ``drainage_path`` and ``drainage_note``
+    (n_sub,) as in :class:`sitesettle.field.History`.
+    """
+
+    cols: dict
+    life: dict
+    degree: np.ndarray
+    drainage_path: np.ndarray
+    drainage_note: np.ndarray
+
+
+class _Reducer:
+    """Adds whole columns' histories into a :class:`Reduced` (rows in column order)."""
+
+    def __init__(self, col: np.ndarray, n_columns: int, nt: int, life: int):
+        n_sub = len(col)
+        self.col, self.life = col, life
+        self.cols = {k: np.zeros((n_columns, nt)) for k in ("imm", "creep", "con", "sec", "own")}
+        self.at = {name: np.zeros(n_sub) for name in _TIMED}
+        self.degree = np.full(n_sub, np.nan)
+        self.path = np.full(n_sub, np.nan)
+        self.note = np.full(n_sub, "", dtype=object)
+
+    def add(self, rows: slice, parts: dict) -> None:
+        """``parts``: each name of :data:`_TIMED` → (rows, n_t) of whole columns."""
+        col = self.col[rows]
+        if not len(col):
+            return
+        lo, hi = int(col[0]), int(col[-1]) + 1
+        c = col - lo
+        p = parts
+        for key, v in (
+            ("imm", p["imm_own"] + p["imm_nb"]),
+            ("creep", p["creep_own"] + p["creep_nb"]),
+            ("con", p["cons_own"] + p["cons_nb"]),
+            ("sec", p["sec_own"] + p["sec_nb"]),
+            ("own", p["imm_own"] + p["creep_own"] + p["cons_own"] + p["sec_own"]),
+        ):
+            # the columns of the rows are whole: their sums are complete here (as
+            # per_column makes them), added to zeros
+            acc = self.cols[key][lo:hi]
+            for j in range(v.shape[1]):
+                acc[:, j] += np.bincount(c, weights=np.nan_to_num(v[:, j]), minlength=hi - lo)
+        for name in _TIMED:
+            self.at[name][rows] = p[name][:, self.life]
+
+    def result(self) -> Reduced:
+        return Reduced(self.cols, self.at, self.degree, self.path, self.note)
+
+
+def reduced_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mask=None):
+    """The histories of a single load applied at time 0, reduced (:class:`Reduced`)."""
+    sub = run.sub
+    h = _histories(ctx, sub, tab, gc, own_mask=own_mask, total_mask=total_mask)
+    red = _Reducer(sub.col, len(run.bottom), len(ctx.times), ctx.life)
+    red.add(slice(0, len(sub)), {name: getattr(h, name) for name in _TIMED})
+    red.degree[:] = h.degree[:, ctx.life]
+    red.path[:] = h.drainage_path
+    red.note[:] = h.drainage_note
+    return red.result()
+
+
+#: the fields of a load state's sublayers that the histories read and that differ
+#: from the full run's (the geometry, σ'v0 and the owner are the full run's arrays)
+_STATE_FIELDS = (
+    "sz", "t", "sz_sust", "own_sz", "own_t", "own_sust", "gran_own", "gran_nb",
+    "und_own", "und_nb", "eps_own", "eps_tot", "creep",
+)  # fmt: skip
+
+
+#: bytes per sublayer of a slim state (its 13 arrays)
+_SLIM_BYTES = 8 * len(_STATE_FIELDS)
+
+
+def _slim_state(ssub: fld.Sublayers, full: fld.Sublayers) -> fld.Sublayers:
+    """A state's sublayers for the histories only: its own stresses and strains, the
+    full run's geometry (the same sublayers in the same order), nothing else."""
+    keep = {k: getattr(ssub, k) for k in _STATE_FIELDS}
+    geometry = {k: getattr(full, k) for k in ("col", "top", "bottom", "stratum", "x", "y")}
+    return fld.Sublayers(**geometry, owner=full.owner, sig0=full.sig0, **keep)
+
+
+def _common_bounds(chunkings: list[list[slice]], n: int) -> list[slice]:
+    """Row ranges bounded where every chunking has a boundary (each chunk of every
+    chunking lies inside one range).
+
+    >>> _common_bounds([[slice(0, 2), slice(2, 5)], [slice(0, 5)]], 5)
+    [slice(0, 5, None)]
+    """
+    common = None
+    for chunks in chunkings:
+        starts = np.array([c.start for c in chunks] + [n])
+        common = starts if common is None else np.intersect1d(common, starts)
+    b = np.union1d([] if common is None else common, [0, n]).astype(int).tolist()
+    return [slice(a, z) for a, z in zip(b[:-1], b[1:]) if z > a]
+
+
 def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mask=None):
     """Histories of the load stages, each increment from its own start, by superposition.
 
@@ -962,6 +1063,13 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
     start (superposition of load increments, as for staged loading in Terzaghi's
     theory; exact where the model is linear, and the usual approximation for e–log
     clay, which it makes exact once every increment is consolidated).
+
+    Returns the sums the assembly needs (:class:`Reduced`). The stresses and
+    strains of every stage's state are made first (their sublayers kept slim:
+    :func:`_slim_state`); the histories are then made and summed whole columns
+    at a time, every state's in turn, so that no (sublayer × time) array of the
+    whole plan exists. Each state's histories use the same rows at a time and
+    the same times as when made state by state, and are added in the same order.
     """
     t = ctx.times
     stages = ctx.stages
@@ -969,55 +1077,81 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
     nodes = [ramp_nodes(t - stg.start, stg.duration) for stg in stages]
     nt = len(t)
     n_sub = len(run.sub)
-    out = {name: np.zeros((n_sub, nt)) for name in _TIMED}
-    degree = np.full((n_sub, nt), np.nan)
-    path = np.full(n_sub, np.nan)
-    note = np.full(n_sub, "", dtype=object)
     clay = tab.behaviour.size and (tab.behaviour == Behaviour.COHESIVE.value).any()
     units = fld.consolidating_units(gc, tab, ctx.ground.investigated_depth) if clay else None
     keys = [_state_key(state) for state in ctx.states] + [None]
-    kept = None  # the previous state's sublayers, kept only when the next state is equal
-    for j in range(K):  # one state at a time: memory of two histories, not K
-        if j == K - 1:
-            sctx, ssub = ctx, run.sub
-        elif kept is not None and keys[j] == keys[j - 1]:
-            sctx, ssub = kept  # a stage that adds no load: the same state again
-        else:
-            sctx, ssub = _state(ctx, run, tab, gc, ctx.states[j], j)
-        kept = (sctx, ssub) if j < K - 1 and keys[j + 1] == keys[j] else None
-        # state j enters increment j (+) and increment j + 1 (−)
+    # which stage reuses the state before it (a stage that adds no load), and how
+    # many states have to be made
+    same = [0 < j < K - 1 and keys[j] == keys[j - 1] for j in range(K)]
+    n_made = sum(1 for j in range(K - 1) if not same[j])
+    plan = []  # per state: its grid of times, the two increments' node counts, its chunks
+    for j in range(K):
         own_t, own_w, own_q = nodes[j]
         nxt_t, nxt_w, nxt_q = nodes[j + 1] if j + 1 < K else (np.zeros(0),) * 3
         grid = np.concatenate([own_t, nxt_t, t if j == K - 1 else np.zeros(0)])
-        if not len(grid):
-            continue
         a, b = len(own_t), len(own_t) + len(nxt_t)
-        for rows in column_chunks(ssub.col, len(grid)):  # whole columns at a time
-            part = ssub.take(np.arange(rows.start, rows.stop))
-            h = _histories(
-                sctx,
-                part,
-                tab,
-                gc,
-                own_mask=None if own_mask is None else own_mask[rows],
-                total_mask=None if total_mask is None else total_mask[rows],
-                times=grid,
-                units=units,
-            )
-            del part
-            if j == K - 1:
-                degree[rows] = h.degree[:, -nt:]
-                path[rows] = h.drainage_path
-                note[rows] = h.drainage_note
-            for name in _TIMED:
-                v = getattr(h, name)
-                acc = out[name][rows]
-                _add_nodes(acc, v[:, :a], own_w, own_q, 1.0)
-                if b > a:
-                    _add_nodes(acc, v[:, a:b], nxt_w, nxt_q, -1.0)
-            del h
-        del ssub
-    return fld.History(**out, degree=degree, drainage_path=path, drainage_note=note)
+        chunks = column_chunks(run.sub.col, len(grid)) if len(grid) else []
+        plan.append((grid, a, b, own_w, own_q, nxt_w, nxt_q, chunks))
+    red = _Reducer(run.sub.col, len(run.bottom), nt, ctx.life)
+    ranges = _common_bounds([p[-1] for p in plan if len(p[0])], n_sub)
+    # column ranges one after the other, every state's in turn (all states' sublayers
+    # kept, slim), when that holds less than one range of the whole plan with each
+    # state made in turn (one state's sublayers and the accumulators of every row)
+    if len(ranges) > 1 and n_made * _SLIM_BYTES > _SLIM_BYTES + 8 * len(_TIMED) * nt:
+        ranges = [slice(0, n_sub)] if n_sub else []
+    made: dict = {}
+
+    def state(j):
+        """The sublayers of state j: made once, dropped once no later stage needs them."""
+        if j == K - 1:
+            return ctx, run.sub
+        if same[j]:
+            return state(j - 1)
+        if j not in made:
+            sctx, ssub = _state(ctx, run, tab, gc, ctx.states[j], j)
+            made[j] = (sctx, _slim_state(ssub, run.sub))
+            del ssub
+        return made[j]
+
+    one_range = len(ranges) == 1
+    for span in ranges:  # whole columns; every state's chunks inside it
+        out = {name: np.zeros((span.stop - span.start, nt)) for name in _TIMED}
+        for j in range(K):  # state j enters increment j (+) and increment j + 1 (−)
+            grid, a, b, own_w, own_q, nxt_w, nxt_q, chunks = plan[j]
+            if not len(grid):
+                continue
+            sctx, ssub = state(j)
+            for rows in chunks:
+                if rows.start < span.start or rows.stop > span.stop:
+                    continue
+                h = _histories(
+                    sctx,
+                    ssub.take(rows),  # views (the histories only read them)
+                    tab,
+                    gc,
+                    own_mask=None if own_mask is None else own_mask[rows],
+                    total_mask=None if total_mask is None else total_mask[rows],
+                    times=grid,
+                    units=units,
+                )
+                local = slice(rows.start - span.start, rows.stop - span.start)
+                if j == K - 1:
+                    red.degree[rows] = h.degree[:, -nt:][:, ctx.life]
+                    red.path[rows] = h.drainage_path
+                    red.note[rows] = h.drainage_note
+                for name in _TIMED:
+                    v = getattr(h, name)
+                    acc = out[name][local]
+                    _add_nodes(acc, v[:, :a], own_w, own_q, 1.0)
+                    if b > a:
+                        _add_nodes(acc, v[:, a:b], nxt_w, nxt_q, -1.0)
+                del h
+            if one_range and not (j + 1 < K and same[j + 1]):
+                made.clear()  # no later stage needs this state (the next one makes its own)
+            del ssub
+        red.add(span, out)
+        del out
+    return red.result()
 
 
 def _state_key(state) -> bytes:
@@ -1122,21 +1256,16 @@ def analyse(
     if len(ctx.stages) > 1 or ctx.stages[0].start > 0 or ctx.stages[0].duration > 0:
         hist = staged_histories(ctx, run, tab, gc, **masks)
     else:
-        hist = _histories(ctx, sub, tab, gc, **masks)
+        hist = reduced_histories(ctx, run, tab, gc, **masks)
     say("assembling", 0.85)
-    cols = {
-        "imm": per_column(sub, hist.imm_own + hist.imm_nb, n),
-        "creep": per_column(sub, hist.creep_own + hist.creep_nb, n),
-        "con": per_column(sub, hist.cons_own + hist.cons_nb, n),
-        "sec": per_column(sub, hist.sec_own + hist.sec_nb, n),
-        "own": per_column(sub, hist.imm_own + hist.creep_own + hist.cons_own + hist.sec_own, n),
-    }
+    cols = dict(hist.cols)  # per column: the sums of its sublayers (per_column)
     cols["tot"] = cols["imm"] + cols["creep"] + cols["con"] + cols["sec"]
     cols["nb"] = cols["tot"] - cols["own"]
     warnings = ctx.warnings
     _depth_warnings(ctx, pts, gc, tab, sub, hist, run, cols, ratio_rule, warnings)
     feet = assemble_footings(ctx, pts, cols, run, significant)
     traces = _traces(ctx, pts, gc, sub, hist, run, tab)
+    del hist  # the per-time arrays of every sublayer: not needed past here
     outside = np.asarray(
         ctx.ground.outside_hull([f.x for f in site.footings], [f.y for f in site.footings]),
         dtype=bool,
@@ -1200,7 +1329,7 @@ def analyse(
             f"{FAILURE_SETTLEMENT_RATIO:.0%} of its width ({f.width:g} m), {when}; check the "
             "moduli, the loads and their units"
         )
-    _far_warnings(site, warnings, with_checks)
+    auto_pairs = _far_warnings(site, warnings, with_checks)
     chk = None
     if with_checks:
         chk = checks_mod.check_movements(
@@ -1215,6 +1344,7 @@ def analyse(
             station_total=feet["station_total"],
             query=None if query is None else (query.ids, query.xy, query.total),
             on_loading=results.immediate[:, ctx.life],
+            auto_pairs=auto_pairs,
         )
     say("done", 1.0)
     return Results(**{**results.__dict__, "checks": chk, "warnings": tuple(warnings)})
@@ -1236,9 +1366,12 @@ def plan_estimate(ctx: Context, pts: Points, layout: dict) -> budget.Estimate:
     )
 
 
-def _far_warnings(site, warnings: list[str], with_checks: bool) -> None:
+def _far_warnings(site, warnings: list[str], with_checks: bool) -> np.ndarray | None:
     """Footings and boreholes far from the plan (likely coordinate typos), and the
-    automatic pairs not formed because their footings are too far apart."""
+    automatic pairs not formed because their footings are too far apart.
+
+    Returns the automatic pairs the checks use (those not too far apart), when it
+    searched for them (None otherwise): the neighbour search is made once."""
     fs = site.footings
     far = checks_mod.far_footings(fs)
     for i, dist, spacing in far:
@@ -1259,9 +1392,11 @@ def _far_warnings(site, warnings: list[str], with_checks: bool) -> None:
                         f"{kind} {b.id} is {d:.0f} m from the nearest footing (the plan spans "
                         f"{extent:.0f} m): check its coordinates"
                     )
+    auto = None
     if with_checks and str(getattr(site.checks, "pairs", "auto")).lower().endswith("auto"):
         pairs = checks_mod.footing_pairs(fs)
         long = checks_mod.long_span_pairs(fs, pairs)
+        auto = pairs[~long]  # what footing_pairs(fs, drop_long=True) gives
         for a, b in pairs[long]:
             d = float(np.hypot(fs[a].x - fs[b].x, fs[a].y - fs[b].y))
             warnings.append(
@@ -1269,6 +1404,7 @@ def _far_warnings(site, warnings: list[str], with_checks: bool) -> None:
                 f"far beyond the plan's spacing ({spacing:.1f} m); list the pair in [checks] "
                 "to check it"
             )
+    return auto
 
 
 def assemble_footings(ctx: Context, pts: Points, cols: dict, run: Integration, significant):
@@ -1290,39 +1426,59 @@ def assemble_footings(ctx: Context, pts: Points, cols: dict, run: Integration, s
     tilt_dir = np.zeros(nf)
     depth = np.zeros(nf)
     sig = np.full(nf, np.nan)
-    starts = np.searchsorted(owner, np.arange(nf))
-    ends = np.searchsorted(owner, np.arange(nf), side="right")
-    for i in range(nf):
-        cs = fcols[starts[i] : ends[i]]
-        stn = pts.station[cs]
-        k = int(stn.max()) + 1
-        point_xy[i, : len(cs)] = pts.xy[cs]
-        point_total[i, : len(cs)] = cols["tot"][cs]
+    if nf:
+        # every footing's points are consecutive (footing order); its stations 0…k−1
+        starts = np.searchsorted(owner, np.arange(nf))
+        n_pts = counts
+        k_of = np.maximum.reduceat(stations, starts) + 1  # stations of each footing
+        s_off = np.cumsum(k_of) - k_of
+        gst = s_off[owner] + stations  # each point's station, numbered across the plan
+        n_st = int(k_of.sum())
+        per_station = np.bincount(gst, minlength=n_st)[:, None]
         parts = {}
-        for name in out:
-            acc = np.zeros((k, nt))
-            np.add.at(acc, stn, cols[name][cs])
-            parts[name] = acc / np.bincount(stn, minlength=k)[:, None]
-        sxy = np.zeros((k, 2))
-        np.add.at(sxy, stn, pts.xy[cs])
-        sxy /= np.bincount(stn, minlength=k)[:, None]
+        for name in out:  # the mean of each station's points (added in point order)
+            acc = np.zeros((n_st, nt))
+            np.add.at(acc, gst, cols[name][fcols])
+            parts[name] = acc / per_station
+        sxy = np.zeros((n_st, 2))
+        np.add.at(sxy, gst, pts.xy[fcols])
+        sxy /= per_station
         stot = parts["imm"] + parts["creep"] + parts["con"] + parts["sec"]
-        station_xy[i, :k] = sxy
-        station_total[i, :k] = stot
-        g = int(np.argmax(stot[:, ctx.life])) if k > 1 else 0
+        st_owner = np.repeat(np.arange(nf), k_of)
+        st_index = np.arange(n_st) - s_off[st_owner]
+        station_xy[st_owner, st_index] = sxy
+        station_total[st_owner, st_index] = stot
+        # the governing station: the one settling most at the design life
+        life_st = np.full((nf, nst), -np.inf)
+        life_st[st_owner, st_index] = stot[:, ctx.life]
+        g = np.where(k_of > 1, np.argmax(life_st, axis=1), 0)
         for name in out:
-            out[name][i] = parts[name][g]
-        if len(cs) >= 3:
-            tilt[i], tilt_dir[i] = checks_mod.footing_tilt(pts.xy[cs], cols["tot"][cs, ctx.life])
-        depth[i] = float(np.max(run.bottom[cs]))
-        s = significant[cs]
-        sig[i] = float(np.nanmax(s)) if np.isfinite(s).any() else site.footings[i].depth
+            out[name][:] = parts[name][s_off + g]
+        pos = np.arange(len(fcols)) - starts[owner]  # each point's place in its footing
+        point_xy[owner, pos] = pts.xy[fcols]
+        point_total[owner, pos] = cols["tot"][fcols]
+        # tilt of the footings with three points or more, in groups of equal count
+        for m in np.unique(n_pts[n_pts >= 3]):
+            which = np.flatnonzero(n_pts == m)
+            rows = fcols[starts[which][:, None] + np.arange(m)[None, :]]
+            tilt[which], tilt_dir[which] = checks_mod.footing_tilt(
+                pts.xy[rows], cols["tot"][rows, ctx.life]
+            )
+        depth[:] = np.maximum.reduceat(run.bottom[fcols], starts)
+        sf = significant[fcols]
+        has = np.logical_or.reduceat(np.isfinite(sf), starts)
+        with np.errstate(invalid="ignore"):
+            top_sig = np.fmax.reduceat(sf, starts)
+        sig[:] = np.where(has, top_sig, [f.depth for f in site.footings])
     sub = run.sub
     found: list[set] = [set() for _ in range(nf)]
     owned = np.flatnonzero((sub.owner >= 0) & (pts.kind[sub.col] == "footing"))
-    pairs = {(int(o), str(mth)) for o, mth in zip(sub.owner[owned], sub.method[owned]) if mth}
-    for o, mth in pairs:
-        found[o].add(mth)
+    if len(owned):  # each footing's distinct methods
+        names, code = np.unique(sub.method[owned], return_inverse=True)
+        key = np.unique(sub.owner[owned].astype(np.int64) * len(names) + code.ravel())
+        for o, c in zip(key // len(names), key % len(names)):
+            if names[c]:
+                found[int(o)].add(str(names[c]))
     methods = [" + ".join(sorted(ms)) if ms else "none" for ms in found]
     out.update(
         point_xy=point_xy,
@@ -1466,16 +1622,8 @@ def _depth_warnings(ctx, pts, gc, tab, sub, hist, run, cols, ratio_rule, warning
     deep = ctx.ground.investigated_depth
     below = sub.mid > deep
     if below.any() and len(fcols):
-        tot_life = (
-            hist.imm_own
-            + hist.imm_nb
-            + hist.creep_own
-            + hist.creep_nb
-            + hist.cons_own
-            + hist.cons_nb
-            + hist.sec_own
-            + hist.sec_nb
-        )[:, life]
+        at = [hist.life[name] for name in _TIMED]  # the same sum, at the design life
+        tot_life = at[0] + at[1] + at[2] + at[3] + at[4] + at[5] + at[6] + at[7]
         part = np.bincount(
             sub.col[below], weights=np.nan_to_num(tot_life[below]), minlength=len(pts)
         )
@@ -1547,10 +1695,12 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
     life = ctx.life
     names = [s.name for s in site.strata]
     out: dict[str, list[Trace]] = {f.id: [] for f in site.footings}
-    own_life = (hist.imm_own + hist.creep_own + hist.cons_own + hist.sec_own)[:, life]
-    nb_life = (hist.imm_nb + hist.creep_nb + hist.cons_nb + hist.sec_nb)[:, life]
+    # the design-life column of each part first (the same sums, element by element)
+    at = hist.life
+    own_life = at["imm_own"] + at["creep_own"] + at["cons_own"] + at["sec_own"]
+    nb_life = at["imm_nb"] + at["creep_nb"] + at["cons_nb"] + at["sec_nb"]
     h = sub.h
-    coh = tab.behaviour[sub.col, sub.stratum] == "cohesive" if len(sub) else np.zeros(0, bool)
+    coh = (tab.behaviour == "cohesive")[sub.col, sub.stratum] if len(sub) else np.zeros(0, bool)
     sp = np.where(
         np.isfinite(tab.sp[sub.col, sub.stratum]),
         tab.sp[sub.col, sub.stratum],
@@ -1562,27 +1712,23 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
     )
     sp = np.maximum(sp, sub.sig0)
     final = sub.sig0 + np.maximum(sub.sz_sust, 0.0)
-    branch = np.where(
-        ~coh,
-        "",
-        np.where(
-            final <= sp + 1e-9,
-            "recompression (OC)",
-            np.where(sp <= sub.sig0 + 1e-9, "virgin (NC)", "OC → NC"),
-        ),
-    )
+    # texts as object arrays indexing a few strings (not a fixed-width copy of each)
+    branches = np.array(["", "recompression (OC)", "virgin (NC)", "OC → NC"], dtype=object)
+    branch = branches[
+        np.where(~coh, 0, np.where(final <= sp + 1e-9, 1, np.where(sp <= sub.sig0 + 1e-9, 2, 3)))
+    ]
     starts = np.searchsorted(sub.col, np.arange(len(pts)))
     ends = np.searchsorted(sub.col, np.arange(len(pts)), side="right")
     parts = {
-        "on loading (mm)": (hist.imm_own + hist.imm_nb)[:, life] * 1000,
-        "creep (mm)": (hist.creep_own + hist.creep_nb)[:, life] * 1000,
-        "consolidation (mm)": (hist.cons_own + hist.cons_nb)[:, life] * 1000,
-        "secondary (mm)": (hist.sec_own + hist.sec_nb)[:, life] * 1000,
+        "on loading (mm)": (at["imm_own"] + at["imm_nb"]) * 1000,
+        "creep (mm)": (at["creep_own"] + at["creep_nb"]) * 1000,
+        "consolidation (mm)": (at["cons_own"] + at["cons_nb"]) * 1000,
+        "secondary (mm)": (at["sec_own"] + at["sec_nb"]) * 1000,
         "σ'p (kPa)": np.where(coh, sp, np.nan),
         "final σ' (kPa)": np.where(coh, final, np.nan),
         "branch": branch,
         "primary strain": np.where(coh, sub.eps_tot, np.nan),
-        "U(t)": hist.degree[:, life],
+        "U(t)": hist.degree,
         "drainage path (m)": hist.drainage_path,
     }
     # what a checker needs to redo a sublayer by hand
@@ -1618,28 +1764,16 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
     # sublayers of the footings' columns, not those of the map and query points)
     shown = np.flatnonzero(pts.kind[sub.col] == "footing") if n_sub else np.zeros(0, int)
     if n_sub:
-        f_shown = f_used[shown]
-        part = np.where(
+        source = _modulus_source(
+            f_used[shown],
             coh[shown],
-            np.where(np.isfinite(sub.modulus[shown]), "undrained E given", ""),
-            np.where(
-                np.isfinite(e_given[shown]),
-                "given",
-                np.where(
-                    sounded[shown],
-                    np.char.add(
-                        np.char.add("", np.char.mod("%.2f", f_shown)), "·qc from soundings"
-                    ),
-                    np.where(
-                        np.isfinite(qc_given[shown]),
-                        np.char.add(np.char.mod("%.2f", f_shown), "·qc given"),
-                        "from SPT (Burland & Burbidge)",
-                    ),
-                ),
-            ),
+            np.isfinite(sub.modulus[shown]),
+            np.isfinite(e_given[shown]),
+            sounded[shown],
+            np.isfinite(qc_given[shown]),
+            n_sub,
+            shown,
         )
-        source = np.full(n_sub, "", dtype=part.dtype)
-        source[shown] = part
     else:
         source = np.zeros(0, dtype=object)
     qc_used = (
@@ -1660,18 +1794,24 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
         "E source": source,
         **parts,
     }
+    # per sublayer once (the traces take slices)
+    own_stress = np.where(coh, sub.own_sust, sub.own_sz)
+    nb_stress = np.where(coh, sub.sz_sust - sub.own_sust, sub.sz - sub.own_sz)
+    strain = np.divide(own_life + nb_life, h, out=np.zeros_like(h), where=h > 0)
+    stratum_name = np.array(names, dtype=object)[sub.stratum] if n_sub else np.zeros(0, object)
+    method_text = np.empty(n_sub, dtype=object)  # what the traces show (footing columns)
+    shown_method = sub.method[shown]  # labels (str): "" where no method applies
+    shown_method[shown_method == ""] = "none"
+    method_text[shown] = shown_method
+    noted = np.flatnonzero(hist.drainage_note != "") if n_sub else np.zeros(0, int)
     for c in np.flatnonzero(pts.kind == "footing"):
         m = slice(int(starts[c]), int(ends[c]))
         i = int(pts.owner[c])
         rows = {
             "sigma_v0": sub.sig0[m],
-            "own_stress": np.where(coh[m], sub.own_sust[m], sub.own_sz[m]),
-            "neighbour_stress": np.where(
-                coh[m], sub.sz_sust[m] - sub.own_sust[m], sub.sz[m] - sub.own_sz[m]
-            ),
-            "strain": np.divide(
-                own_life[m] + nb_life[m], h[m], out=np.zeros_like(h[m]), where=h[m] > 0
-            ),
+            "own_stress": own_stress[m],
+            "neighbour_stress": nb_stress[m],
+            "strain": strain[m],
             "own_settlement": own_life[m],
             "neighbour_settlement": nb_life[m],
             "influence": sub.iz[m],
@@ -1679,8 +1819,9 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
         }
         details = {key: values[m] for key, values in parts.items()}
         notes = list(run.own_notes.get(int(c), []))
+        lo, hi = np.searchsorted(noted, [m.start, m.stop])
         for text, stratum in sorted(
-            {(t, names[k]) for t, k in zip(hist.drainage_note[m], sub.stratum[m]) if t}
+            {(hist.drainage_note[r], names[sub.stratum[r]]) for r in noted[lo:hi]}
         ):
             notes.append(text if str(text).startswith(f"{stratum}:") else f"{stratum}: {text}")
         notes.append(
@@ -1696,14 +1837,42 @@ def _traces(ctx, pts, gc, sub, hist, run, tab) -> dict[str, tuple[Trace, ...]]:
                 point=(float(pts.xy[c][0]), float(pts.xy[c][1])),
                 top=sub.top[m],
                 bottom=sub.bottom[m],
-                stratum=tuple(names[k] for k in sub.stratum[m]),
-                method=tuple(str(x) if x else "none" for x in sub.method[m]),
+                stratum=tuple(stratum_name[m]),
+                method=tuple(method_text[m]),
                 details=details,
                 notes=tuple(notes),
                 **rows,
             )
         )
     return {key: tuple(v) for key, v in out.items()}
+
+
+def _modulus_source(f_used, coh, eu_given, e_given, sounded, qc_given, n_sub, shown):
+    """The text of each shown sublayer's modulus source, (n_sub,) ('' where not shown).
+
+    Each distinct text is formatted once (the factors E/qc take few values) and
+    then indexed: the same strings as formatting every sublayer.
+    """
+    u, inv = np.unique(f_used, return_inverse=True)
+    inv = inv.ravel()
+    fixed = ["undrained E given", "", "given", "from SPT (Burland & Burbidge)"]
+    text = [f"{v:.2f}" for v in u]
+    table = np.array(
+        fixed + [t + "·qc from soundings" for t in text] + [t + "·qc given" for t in text],
+        dtype=object,
+    )
+    code = np.where(
+        coh,
+        np.where(eu_given, 0, 1),
+        np.where(
+            e_given,
+            2,
+            np.where(sounded, 4 + inv, np.where(qc_given, 4 + len(u) + inv, 3)),
+        ),
+    )
+    source = np.full(n_sub, "", dtype=object)
+    source[shown] = table[code]
+    return source
 
 
 # --------------------------------------------------------------------------- section

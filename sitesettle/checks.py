@@ -49,6 +49,10 @@ class PairRule(Choice):
 # --- neighbour pairs ---------------------------------------------------------------------
 
 
+#: distances computed at once when points are compared with every point (rows × points)
+_FULL_SCAN_ELEMENTS = 1_000_000
+
+
 def _sector_candidates(xy: np.ndarray, tol: float) -> np.ndarray:
     """Pairs (a, b) where b is the nearest point to a in one of six 60° sectors.
 
@@ -95,9 +99,14 @@ def _sector_candidates(xy: np.ndarray, tol: float) -> np.ndarray:
         d2, i2 = tree.query(xy[todo], k=k2)
         a2, b2, todo = pick(todo, d2.reshape(len(todo), k2), i2.reshape(len(todo), k2), k2 == n)
         pairs.append(np.stack([a2, b2], axis=1))
-    for a in todo:  # hull points, collinear plans: look at every point
-        d = np.hypot(*(xy - xy[a]).T)[None, :]
-        aa, bb, _ = pick(np.array([a]), d, np.arange(n)[None, :], complete=True)
+    # hull points, collinear plans: look at every point (a block of points at a time,
+    # each row as it would be alone: the same distances, the same picks)
+    block = max(1, _FULL_SCAN_ELEMENTS // max(1, n))
+    for k0 in range(0, len(todo), block):
+        a = np.asarray(todo[k0 : k0 + block])
+        d = np.hypot(xy[None, :, 0] - xy[a, None, 0], xy[None, :, 1] - xy[a, None, 1])
+        j = np.broadcast_to(np.arange(n)[None, :], d.shape)
+        aa, bb, _ = pick(a, d, j, complete=True)
         pairs.append(np.stack([aa, bb], axis=1))
     cand = np.concatenate(pairs).astype(np.intp)
     cand = np.sort(cand, axis=1)
@@ -823,10 +832,10 @@ def _strip_rows(footings, st_xy, st_moved, cset) -> list[dict]:
     a flexible strip, which the wall it carries bridges (the deflection ratio is the
     measure for a wall; Burland & Wroth 1974)."""
     rows = []
-    for i, f in enumerate(footings):
+    n_ok = np.isfinite(st_xy[..., 0]).sum(axis=1) if len(footings) else np.zeros(0, int)
+    for i in np.flatnonzero(n_ok >= 3):  # the footings with three stations or more
+        f = footings[i]
         ok = np.isfinite(st_xy[i, :, 0])
-        if ok.sum() < 3:
-            continue
         rot = relative_rotation_along(st_xy[i, ok], st_moved[i, ok])
         row, _ = _line_row(
             (f.id,), None, st_xy[i, ok], st_moved[i, ok], cset, rot, " along the strip"
@@ -850,11 +859,14 @@ def _index(ids: dict[str, int], fid: str, where: str) -> int:
     return ids[fid]
 
 
-def _pair_list(footings: Sequence[Footing], settings: CheckSettings, extra_ids=()):
+def _pair_list(
+    footings: Sequence[Footing], settings: CheckSettings, extra_ids=(), auto_pairs=None
+):
     """Pairs to check: {(a, b): origin}, plus the structure lines as index arrays.
 
     ``extra_ids`` (query points) may appear in listed pairs and structure lines;
-    their indices follow the footings'.
+    their indices follow the footings'. ``auto_pairs`` is
+    ``footing_pairs(footings, drop_long=True)`` when the caller has it already.
     """
     rule = PairRule.parse(settings.pairs, "[checks] pairs")
     ids = {f.id: i for i, f in enumerate(footings)}
@@ -868,7 +880,9 @@ def _pair_list(footings: Sequence[Footing], settings: CheckSettings, extra_ids=(
         ids[q] = len(footings) + j
     pairs: dict[tuple[int, int], str] = {}
     if rule == PairRule.AUTO:
-        for a, b in footing_pairs(footings, drop_long=True):
+        if auto_pairs is None:
+            auto_pairs = footing_pairs(footings, drop_long=True)
+        for a, b in auto_pairs:
             pairs[(int(a), int(b))] = "auto"
     for fa, fb in settings.listed_pairs:
         where = f'listed pair ("{fa}", "{fb}")'
@@ -922,6 +936,7 @@ def check_movements(
     station_total: np.ndarray | None = None,
     query: tuple | None = None,
     on_loading: np.ndarray | None = None,
+    auto_pairs: np.ndarray | None = None,
 ) -> Checks:
     """Check every footing, neighbour pair and structure line against a criteria set.
 
@@ -952,6 +967,9 @@ def check_movements(
     on_loading : numpy.ndarray, optional
         (n_f,) settlement on loading [m], for the bearing-failure proxy: above
         :data:`BEARING_PROXY` × B a footing's status is ``"beyond_range"``.
+    auto_pairs : numpy.ndarray, optional
+        (n, 2) ``footing_pairs(footings, drop_long=True)`` when the caller has made
+        it already (the neighbour search is then not repeated).
 
     Returns
     -------
@@ -1041,7 +1059,7 @@ def check_movements(
         st_removed = st_moved - plane
 
     # structure lines, by sagging and hogging zones
-    pair_origin, lines = _pair_list(footings, settings, q_ids)
+    pair_origin, lines = _pair_list(footings, settings, q_ids, auto_pairs)
     hog_pairs: set[tuple[int, int]] = set()
     rows = []
     for idx in lines:

@@ -19,7 +19,7 @@ Boussinesq point-load envelope and Hooke's law / the e–log σ' line.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -224,36 +224,27 @@ class GroundColumns:
     outside_hull: np.ndarray
     variant: np.ndarray
     variants: list
-    columns: list = field(repr=False)  # the ground.Column objects (for traces and drawing)
 
     @staticmethod
     def build(ground, xy: np.ndarray) -> GroundColumns:
-        cols = ground.columns(xy[:, 0], xy[:, 1]) if len(xy) else []
-        ids: dict[int, int] = {}
-        variants: list = []
-        variant = np.zeros(len(cols), dtype=int)
-        for c, col in enumerate(cols):
-            key = id(col.strata)
-            if key not in ids:
-                ids[key] = len(variants)
-                variants.append(col.strata)
-            variant[c] = ids[key]
         ns = len(ground.strata)
-        if cols:
-            tops = np.array([c.tops for c in cols], dtype=float)
-            bottoms = np.array([c.bottoms for c in cols], dtype=float)
+        if len(xy):
+            g = ground.column_arrays(xy[:, 0], xy[:, 1])
+            tops, bottoms, water, hull = g.tops, g.bottoms, g.water, g.outside_hull
+            variant, variants = g.variant, g.variants
         else:
             tops = bottoms = np.zeros((0, ns))
+            water, hull = np.zeros(0), np.zeros(0, dtype=bool)
+            variant, variants = np.zeros(0, dtype=int), []
         return GroundColumns(
             x=xy[:, 0].astype(float),
             y=xy[:, 1].astype(float),
             tops=tops,
             bottoms=bottoms,
-            water=np.array([c.water_depth for c in cols], dtype=float),
-            outside_hull=np.array([c.outside_hull for c in cols], dtype=bool),
+            water=water,
+            outside_hull=hull,
             variant=variant,
             variants=variants,
-            columns=cols,
         )
 
     def parameter(self, get, dtype=float) -> np.ndarray:
@@ -271,15 +262,30 @@ class GroundColumns:
     def total_stress(self, col: np.ndarray, z: np.ndarray) -> np.ndarray:
         """In-situ total vertical stress [kPa] at depth z of column col (vectorised
         :meth:`sitesettle.ground.Column.total_stress`)."""
-        dry = self.parameter(lambda s: s.unit_weight)[col]
-        sat = self.parameter(lambda s: s.saturated_unit_weight)[col]
+        if len(col) == 0:
+            return np.zeros(0)
         tops, bots, zw = self.tops[col], self.bottoms[col], self.water[col][:, None]
-        zz = z[:, None]
-        above = np.clip(np.minimum(np.minimum(zz, bots), zw) - tops, 0.0, None)
-        below = np.clip(np.minimum(zz, bots) - np.maximum(tops, zw), 0.0, None)
-        return (np.where(above > 0, above * dry, 0.0) + np.where(below > 0, below * sat, 0.0)).sum(
-            axis=1
-        )
+        zz = np.asarray(z, dtype=float)[:, None]
+        # the thickness of each stratum above z and above / below the water table
+        # (the same operations as ground.Column.total_stress, with fewer temporaries)
+        zb = np.minimum(zz, bots)
+        above = np.minimum(zb, zw)
+        above -= tops
+        np.clip(above, 0.0, None, out=above)
+        below = zb
+        below -= np.maximum(tops, zw)
+        np.clip(below, 0.0, None, out=below)
+        for part, name in ((above, "unit_weight"), (below, "saturated_unit_weight")):
+            gamma = self._unit_weights(name)[self.variant[col]]
+            dry = ~(part > 0)
+            np.multiply(part, gamma, out=part)
+            part[dry] = 0.0
+        above += below
+        return above.sum(axis=1)
+
+    def _unit_weights(self, name: str) -> np.ndarray:
+        """(n_variants, n_strata) unit weights of each variant of the strata [kN/m³]."""
+        return np.array([[getattr(s, name) for s in strata] for strata in self.variants], float)
 
     def effective_stress(self, col: np.ndarray, z: np.ndarray) -> np.ndarray:
         """In-situ vertical effective stress σ'v0 [kPa] at depth z of column col."""
@@ -352,6 +358,113 @@ def column_edges(
         step = np.arange(len(which)) - np.repeat(np.cumsum(parts) - parts, parts)
         e = np.concatenate([e[:-1][which] + h[which] * step / parts[which], e[-1:]])
     return e
+
+
+def many_column_edges(
+    base: np.ndarray,
+    scale: np.ndarray,
+    fraction: float,
+    top: np.ndarray,
+    bottom: np.ndarray,
+    boundaries: np.ndarray,
+    templates: dict | None = None,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Sublayers of many columns at once: :func:`column_edges` of each, flattened.
+
+    Parameters
+    ----------
+    base, scale, top, bottom : numpy.ndarray
+        (m,) per column: the depth where its sublayers start [m], its sublayer scale
+        [m], and the range to cut into sublayers [m] (``top < bottom``).
+    fraction : float
+        The sublayer fraction of the scale.
+    boundaries : numpy.ndarray
+        (m, nb) per column: stratum boundaries and load planes [m]; entries that are
+        not finite are ignored.
+    templates : dict, optional
+        ``{(base, scale): regular_edges(base, scale, fraction, MAX_INTEGRATION_DEPTH)}``,
+        filled as needed (the caller keeps it between passes).
+
+    Returns
+    -------
+    row, top, bottom : numpy.ndarray
+        Per sublayer: the position of its column in the arguments, and its top and
+        bottom [m]; by column, then by depth. The same numbers as
+        :func:`column_edges` column by column (the same floating-point operations,
+        made on all columns together).
+    """
+    base = np.asarray(base, float)
+    scale = np.asarray(scale, float)
+    top = np.asarray(top, float)
+    bottom = np.asarray(bottom, float)
+    m = len(base)
+    if m == 0:
+        z = np.zeros(0)
+        return np.zeros(0, dtype=np.intp), z, z
+    templates = {} if templates is None else templates
+    bnd = np.asarray(boundaries, float).reshape(m, -1)
+    # the regular edges inside (top, bottom): a contiguous range of each template
+    keys, key_of = np.unique(np.column_stack([base, scale]), axis=0, return_inverse=True)
+    key_of = key_of.ravel()
+    flat, offset = [], 0
+    start = np.empty(m, dtype=np.intp)
+    count = np.empty(m, dtype=np.intp)
+    for q, (b0, s0) in enumerate(keys):
+        key = (float(b0), float(s0))
+        if key not in templates:
+            templates[key] = regular_edges(key[0], key[1], fraction, MAX_INTEGRATION_DEPTH)
+        t = templates[key]
+        rows = np.flatnonzero(key_of == q)
+        lo = np.searchsorted(t, top[rows], side="right")  # first edge > top
+        hi = np.searchsorted(t, bottom[rows], side="left")  # first edge >= bottom
+        start[rows] = offset + lo
+        count[rows] = np.maximum(hi - lo, 0)
+        flat.append(t)
+        offset += len(t)
+    flat = np.concatenate(flat)
+    total = int(count.sum())
+    tpl_row = np.repeat(np.arange(m), count)
+    within = np.arange(total) - np.repeat(np.cumsum(count) - count, count)
+    tpl_idx = within + np.repeat(start, count)
+    inner = (bnd > top[:, None]) & (bnd < bottom[:, None])
+    in_row, in_col = np.nonzero(inner)
+    rows = np.concatenate([np.arange(m), tpl_row, in_row, np.arange(m)])
+    vals = np.concatenate([top, flat[tpl_idx], bnd[in_row, in_col], bottom])
+    is_bnd = np.concatenate(
+        [np.ones(m, bool), np.zeros(total, bool), np.ones(len(in_row), bool), np.ones(m, bool)]
+    )
+    order = np.lexsort((vals, rows))
+    rows, vals, is_bnd = rows[order], vals[order], is_bnd[order]
+    # unique values per column; a value is a boundary if any of its copies is one
+    first = np.r_[True, (rows[1:] != rows[:-1]) | (vals[1:] != vals[:-1])]
+    at = np.flatnonzero(first)
+    is_bnd = np.logical_or.reduceat(is_bnd, at)
+    rows, vals = rows[at], vals[at]
+    # slivers next to a boundary are merged
+    sliver = np.minimum(MIN_SUBLAYER, SLIVER_FRACTION * fraction * scale)[rows]
+    same = rows[1:] == rows[:-1]
+    gap = np.diff(vals)
+    d_prev = np.r_[np.inf, np.where(same, gap, np.inf)]
+    d_next = np.r_[np.where(same, gap, np.inf), np.inf]
+    keep = is_bnd | ((d_prev >= sliver) & (d_next >= sliver))
+    rows, vals = rows[keep], vals[keep]
+    # no sublayer thicker than DEPTH_FRACTION of its depth: split
+    inside = np.flatnonzero(rows[1:] == rows[:-1])  # each sublayer's top edge
+    e0 = vals[inside]
+    h = vals[inside + 1] - e0
+    cap = np.maximum(DEPTH_FRACTION * e0, SHALLOW_SUBLAYER)
+    parts = np.ceil(h / cap - 1e-9).astype(int)
+    which = np.repeat(np.arange(len(h)), parts)
+    step = np.arange(len(which)) - np.repeat(np.cumsum(parts) - parts, parts)
+    tops = e0[which] + h[which] * step / parts[which]
+    row = rows[inside][which]
+    # each piece's bottom: the next piece's top in its column, or the column's last edge
+    last = np.r_[row[1:] != row[:-1], True]
+    bots = np.empty_like(tops)
+    bots[:-1] = tops[1:]
+    col_end = vals[np.r_[np.flatnonzero(rows[1:] != rows[:-1]), len(rows) - 1]]
+    bots[last] = col_end[row[last]] if len(row) else bots[last]
+    return row.astype(np.intp), tops, bots
 
 
 # --------------------------------------------------------------------------- depth bound

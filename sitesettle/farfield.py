@@ -284,9 +284,9 @@ def multipole_add(nt, st, node, px, py, pz, out_s, out_t, p0, p1, scratch):
     The offsets from C and the powers of 1/r are formed once per point, for all
     states (in ``scratch``, (5, MULTIPOLE_CHUNK), a chunk of points at a time so
     that it stays in the first-level cache), then each state's polynomial, in a
-    loop over contiguous slices that the compiler vectorises. Each point's value is formed by the same operations in the same
-    order as a scalar loop, so the result depends neither on how points are
-    grouped nor on the other states."""
+    loop over contiguous slices that the compiler vectorises. Each point's value
+    is formed by the same operations in the same order as a scalar loop, so the
+    result depends neither on how points are grouped nor on the other states."""
     c0 = nt[node, 0]
     c1 = nt[node, 1]
     c2 = nt[node, 2]

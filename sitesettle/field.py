@@ -136,8 +136,8 @@ def field_modulus(
     footings' Burland & Burbidge results (``spt_modulus``, NaN when none).
     """
     e = tab.youngs[col, k]
-    version = np.where(tab.method[col, k] == GranularMethod.SCHMERTMANN_1970.value, "1970", "1978")
-    factor = np.where(version == "1970", FIELD_CONE_FACTOR["1970"], FIELD_CONE_FACTOR["1978"])
+    is70 = (tab.method == GranularMethod.SCHMERTMANN_1970.value)[col, k]  # (the table, then rows)
+    factor = np.where(is70, FIELD_CONE_FACTOR["1970"], FIELD_CONE_FACTOR["1978"])
     qc = tab.qc[col, k].copy()
     need = tab.sound[col, k] & np.isnan(e)
     if need.any():
@@ -202,8 +202,18 @@ class Sublayers:
 
     @staticmethod
     def concat(parts: list[Sublayers]) -> Sublayers:
-        names = Sublayers.__dataclass_fields__
-        return Sublayers(**{k: np.concatenate([getattr(p, k) for p in parts]) for k in names})
+        """The sublayers of all ``parts``, in order.
+
+        The parts are emptied as they are joined (each of their arrays is dropped
+        once copied, every field set to None): the memory of the parts and of the
+        whole is not held twice. Do not use a part afterwards.
+        """
+        out = {}
+        for k in Sublayers.__dataclass_fields__:
+            out[k] = np.concatenate([getattr(p, k) for p in parts])
+            for p in parts:
+                setattr(p, k, None)
+        return Sublayers(**out)
 
     def take(self, index) -> Sublayers:
         return Sublayers(
@@ -235,9 +245,9 @@ def sublayer_strains(
     """
     n = len(sub)
     c, k = sub.col, sub.stratum
-    beh = tab.behaviour[c, k] if n else np.zeros(0, dtype=object)
-    gran = beh == Behaviour.GRANULAR.value
-    coh = beh == Behaviour.COHESIVE.value
+    # each comparison made on the (columns × strata) table, then read per sublayer
+    gran = (tab.behaviour == Behaviour.GRANULAR.value)[c, k] if n else np.zeros(0, bool)
+    coh = (tab.behaviour == Behaviour.COHESIVE.value)[c, k] if n else np.zeros(0, bool)
     h = sub.h
     sub.gran_own = np.zeros(n)
     sub.gran_nb = np.zeros(n)
@@ -312,7 +322,7 @@ def granular_field(sub: Sublayers, m: np.ndarray, tab: Tables, ground, spt_modul
     sub.gran_own[m] = np.where(keep, sub.gran_own[m], own)
     sub.gran_nb[m] = elastic.vertical_strain(nb_sz, hs_nb, e_nb, nu) * sub.h[m]
     sub.modulus[m] = np.where(keep & np.isfinite(sub.modulus[m]), sub.modulus[m], E)
-    sub.creep[m] = creep_kinds(tab.method[c, k])
+    sub.creep[m] = creep_kinds(tab.method)[c, k]
     sub.method[m] = np.where(keep, sub.method[m], "elastic")
 
 
@@ -362,14 +372,12 @@ def own_load_settlement(
     if not owned.any():
         return OwnLoad(notes, spt_mod, params)
     c, k = sub.col, sub.stratum
-    beh = tab.behaviour[c, k]
-    meth = tab.method[c, k]
-    gran = owned & (beh == Behaviour.GRANULAR.value)
-    is_sch = gran & np.isin(
-        meth, [GranularMethod.SCHMERTMANN.value, GranularMethod.SCHMERTMANN_1970.value]
-    )
-    is_el = gran & (meth == GranularMethod.ELASTIC.value)
-    is_bb = gran & (meth == GranularMethod.BURLAND_BURBIDGE.value)
+    # each comparison made on the (columns × strata) table, then read per sublayer
+    gran = owned & (tab.behaviour == Behaviour.GRANULAR.value)[c, k]
+    is_70 = (tab.method == GranularMethod.SCHMERTMANN_1970.value)[c, k]
+    is_sch = gran & ((tab.method == GranularMethod.SCHMERTMANN.value)[c, k] | is_70)
+    is_el = gran & (tab.method == GranularMethod.ELASTIC.value)[c, k]
+    is_bb = gran & (tab.method == GranularMethod.BURLAND_BURBIDGE.value)[c, k]
     # a footing whose net pressure is not positive (it unloads the ground) rebounds
     # elastically with the unloading modulus: the loading methods do not apply
     loaded = np.zeros(len(sub), dtype=bool)
@@ -385,18 +393,20 @@ def own_load_settlement(
     diag70 = sch.diagram(lb, version="1970")
     if is_sch.any():
         for ver, dg in (("1978", diag78), ("1970", diag70)):
-            m = np.flatnonzero(
-                is_sch & ((meth == GranularMethod.SCHMERTMANN_1970.value) == (ver == "1970"))
-            )
+            m = np.flatnonzero(is_sch & (is_70 == (ver == "1970")))
             if not len(m):
                 continue
             fi = sub.owner[m]
             dgi = sch.Diagram(*(np.asarray(a)[fi] if a is not None else None for a in dg))
             cols = c[m]
             dp = q_full[fi]
-            sig_base = gc.effective_stress(cols, fd[fi])
             zp = fd[fi] + np.asarray(sch.peak_depth(fw[fi], dgi))
-            sig_p = gc.effective_stress(cols, zp)
+            # σ'v0 at the base and at the peak: one value per column (its rows share
+            # the column and the footing), looked up once per column
+            _, one, back = np.unique(cols, return_index=True, return_inverse=True)
+            back = back.ravel()
+            sig_base = gc.effective_stress(cols[one], fd[fi][one])[back]
+            sig_p = gc.effective_stress(cols[one], zp[one])[back]
             peak = (
                 sch.peak_factor(dp, np.maximum(sig_p, MIN_PEAK_STRESS)) if ver == "1978" else None
             )
@@ -451,22 +461,19 @@ def own_below_reach(sub: Sublayers, tab: Tables) -> None:
     owned = sub.owner >= 0
     if not owned.any() or not len(sub):
         return
-    meth = tab.method[sub.col, sub.stratum]
-    gran = tab.behaviour[sub.col, sub.stratum] == Behaviour.GRANULAR.value
-    by_method = (
-        owned
-        & gran
-        & np.isin(
-            meth,
-            [
-                GranularMethod.SCHMERTMANN.value,
-                GranularMethod.SCHMERTMANN_1970.value,
-                GranularMethod.BURLAND_BURBIDGE.value,
-            ],
-        )
-    )
+    c, k = sub.col, sub.stratum
+    gran = (tab.behaviour == Behaviour.GRANULAR.value)[c, k]  # (the table, then rows)
+    named = np.isin(
+        tab.method,
+        [
+            GranularMethod.SCHMERTMANN.value,
+            GranularMethod.SCHMERTMANN_1970.value,
+            GranularMethod.BURLAND_BURBIDGE.value,
+        ],
+    )[c, k]
+    by_method = owned & gran & named
     sub.gran_own[by_method] = 0.0
-    sub.method[by_method] = meth[by_method]
+    sub.method[by_method] = tab.method[c[by_method], k[by_method]]
 
 
 def bb_influence_depth(width: float, depth_below: np.ndarray, n: np.ndarray, bottoms: np.ndarray):
@@ -641,7 +648,7 @@ def histories(
     hdr_out = np.full(n, np.nan)
     note = np.full(n, "", dtype=object)
     c, k = sub.col, sub.stratum
-    coh = tab.behaviour[c, k] == Behaviour.COHESIVE.value if n else np.zeros(0, dtype=bool)
+    coh = (tab.behaviour == Behaviour.COHESIVE.value)[c, k] if n else np.zeros(0, dtype=bool)
     if coh.any():
         if units is None:
             units = consolidating_units(gc, tab, investigated_depth)
@@ -654,8 +661,8 @@ def histories(
         width = int(lens.max())
         g = len(starts)
         pad = np.full((g, width), -1)
-        for q, (s0_, ln) in enumerate(zip(starts, lens)):
-            pad[q, :ln] = idx[s0_ : s0_ + ln]
+        group_of = np.repeat(np.arange(g), lens)  # the group of each sorted clay sublayer
+        pad[group_of, np.arange(len(idx)) - np.repeat(starts, lens)] = idx
         valid = pad >= 0
         pi = np.where(valid, pad, idx[0])
         gu = ukey[starts]  # the unit of each group
@@ -733,8 +740,7 @@ def histories(
             on = (load[m] > 0) & within[m] & mask[m]
             target[m] = np.where(on[:, None], s * sub.h[m][:, None], 0.0)
         hdr_out[m] = hdr_s[m]
-        for q in range(g):
-            note[pad[q][valid[q]]] = units.note[gu[q]]
+        note[idx] = units.note[gu[group_of]]
     return History(
         imm_own=imm_own,
         imm_nb=imm_tot - imm_own,

@@ -229,6 +229,24 @@ class Column:
         return self.total_stress(z) - self.pore_pressure(z)
 
 
+@dataclass(frozen=True)
+class ColumnArrays:
+    """The ground at many plan positions as arrays (n positions, k strata).
+
+    ``tops``/``bottoms`` (n, k) [m] (the last bottom infinite), ``water`` (n,) the
+    water-table depth [m] (inf: none), ``outside_hull`` (n,), and ``variant`` (n,)
+    the index into ``variants``, the distinct tuples of strata (measured interval
+    values make strata differ between positions).
+    """
+
+    tops: np.ndarray
+    bottoms: np.ndarray
+    water: np.ndarray
+    outside_hull: np.ndarray
+    variant: np.ndarray
+    variants: list
+
+
 def _borehole_tops(site: Site) -> np.ndarray:
     """(n_boreholes, n_strata) top depth of each stratum at each borehole (see module notes)."""
     names = [s.name for s in site.strata]
@@ -344,6 +362,30 @@ class Ground:
         """
         xb, yb = np.broadcast_arrays(np.asarray(x, float), np.asarray(y, float))
         xf, yf = xb.ravel(), yb.ravel()
+        g = self.column_arrays(xf, yf)
+        return [
+            Column(
+                x=float(xf[m]),
+                y=float(yf[m]),
+                strata=g.variants[g.variant[m]],
+                tops=g.tops[m],
+                bottoms=g.bottoms[m],
+                water_depth=float(g.water[m]),
+                outside_hull=bool(g.outside_hull[m]),
+            )
+            for m in range(len(xf))
+        ]
+
+    def column_arrays(self, x, y) -> ColumnArrays:
+        """The ground at many plan positions as arrays (what :meth:`columns` holds,
+        without a :class:`Column` object per position).
+
+        Parameters
+        ----------
+        x, y : array_like
+            (n,) plan positions [m].
+        """
+        xf, yf = np.asarray(x, float).ravel(), np.asarray(y, float).ravel()
         weights = self._plan.weights(xf, yf)
         tops = np.maximum.accumulate(self._plan(self._tops, xf, yf, weights=weights), axis=-1)
         if self._water is None:
@@ -360,38 +402,37 @@ class Ground:
             if ok.any():
                 j[ok] = tree.query(q[ok])[1]
             picks[key] = values[j]
-        out = []
-        # columns with the same measured values (the same nearest borehole) share
-        # one tuple of strata: built once, not once per column
-        # (keyed by the bytes of the values, so that NaN matches NaN)
-        made: dict[bytes, tuple] = {}
+        # positions with the same measured values (the same nearest borehole) share
+        # one tuple of strata, built once (keyed by the bytes of the values, so that
+        # NaN matches NaN), numbered in the order they first appear
         keys = list(picks)
         table = np.column_stack([picks[k] for k in keys] or [np.zeros(len(xf))]).astype(float)
-        for m in range(len(xf)):
-            key = table[m].tobytes()
-            strata = made.get(key)
-            if strata is None:
-                changed = list(self.strata)
-                changes: dict[int, dict] = {}
-                for (i, field), v in zip(keys, table[m]):
-                    changes.setdefault(i, {})[field] = float(v)
-                    if field == "cone_resistance":
-                        changes[i]["use_soundings"] = False
-                for i, kw in changes.items():
-                    changed[i] = dataclasses.replace(changed[i], **kw)
-                strata = made[key] = tuple(changed)
-            out.append(
-                Column(
-                    x=float(xf[m]),
-                    y=float(yf[m]),
-                    strata=strata,
-                    tops=tops[m],
-                    bottoms=np.append(tops[m, 1:], np.inf),
-                    water_depth=float(water[m]),
-                    outside_hull=bool(weights[2][m]),
-                )
-            )
-        return out
+        table = np.ascontiguousarray(table)
+        rows = table.view(np.dtype((np.void, table.dtype.itemsize * table.shape[1]))).ravel()
+        _, first, inverse = np.unique(rows, return_index=True, return_inverse=True)
+        rank = np.empty(len(first), dtype=int)
+        rank[np.argsort(first, kind="stable")] = np.arange(len(first))
+        variant = rank[inverse.ravel()]
+        variants = []
+        for m in np.sort(first):
+            changed = list(self.strata)
+            changes: dict[int, dict] = {}
+            for (i, field), v in zip(keys, table[m]):
+                changes.setdefault(i, {})[field] = float(v)
+                if field == "cone_resistance":
+                    changes[i]["use_soundings"] = False
+            for i, kw in changes.items():
+                changed[i] = dataclasses.replace(changed[i], **kw)
+            variants.append(tuple(changed))
+        bottoms = np.concatenate([tops[:, 1:], np.full((len(xf), 1), np.inf)], axis=1)
+        return ColumnArrays(
+            tops=tops,
+            bottoms=bottoms,
+            water=np.asarray(water, float),
+            outside_hull=np.asarray(weights[2], bool),
+            variant=variant,
+            variants=variants,
+        )
 
     # -- cone soundings -------------------------------------------------------
     def nearest_sounding(self, x: float, y: float) -> Sounding | None:
