@@ -12,6 +12,7 @@ import math
 
 import numpy as np
 import pandas as pd
+import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -170,3 +171,129 @@ def test_df_table_matches_the_row_loop(ids, data, with_status):
         [_e(report._header(c)) for c in text.columns], rows, row_classes=classes, numeric=numeric
     )
     assert got == want
+
+
+# ------------------------------------------------------------------------ DXF
+
+
+def _ezdxf_site_dxf(results, path, units="si"):
+    """site.dxf made with ezdxf's entity objects and ``saveas`` (the earlier writer)."""
+    import ezdxf
+
+    from sitesettle.io import cad, output
+
+    u = output._units(units)
+    L = output._scale("length", u)
+    drawing = ezdxf.new("R2013", setup=False)
+    drawing.header["$INSUNITS"] = cad.INSUNITS[u]
+    for name, colour in cad.LAYERS.items():
+        drawing.layers.add(name, color=colour)
+    msp = drawing.modelspace()
+    h = cad._text_height(results) * L
+
+    def label(text, x, y, layer):
+        msp.add_text(text, height=h, dxfattribs={"layer": layer}).set_placement(
+            (x, y), align=ezdxf.enums.TextEntityAlignment.MIDDLE_CENTER
+        )
+
+    for f in results.site.footings:
+        if f.shape == "circle":
+            msp.add_circle((f.x * L, f.y * L), f.width / 2.0 * L, dxfattribs={"layer": "FOOTINGS"})
+        else:
+            pts = [(float(a) * L, float(b) * L) for a, b in np.asarray(f.outline, float)]
+            msp.add_lwpolyline(pts, close=True, dxfattribs={"layer": "FOOTINGS"})
+        label(f.id, f.x * L, f.y * L, "FOOTINGS")
+    pt = output.pair_table(results, u)
+    xy = {m: (p[0] * L, p[1] * L) for m, p in zip(results.member_ids, results.member_xy)}
+    for a, b, status in zip(pt["a"], pt["b"], pt["status"]):
+        msp.add_line(
+            xy[a], xy[b], dxfattribs={"layer": "PAIRS", "color": cad.PAIR_COLOURS.get(status, 8)}
+        )
+    ct = output.contour_table(results, u)
+    level_col = output.column("level", "settlement", u)
+    unit = output.UNITS["settlement"][u].suffix
+    for level, geom in zip(ct[level_col], ct.geometry):
+        coords = np.asarray(geom.coords, float) * L
+        if len(coords) < 2:
+            continue
+        line = msp.add_lwpolyline(
+            [(float(a), float(b)) for a, b in coords], dxfattribs={"layer": "CONTOURS"}
+        )
+        line.dxf.elevation = float(level)
+        mid = coords[len(coords) // 2]
+        label(f"{level:g} {unit}", float(mid[0]), float(mid[1]), "CONTOURS")
+    for p in results.site.points:
+        msp.add_point((p.x * L, p.y * L), dxfattribs={"layer": "POINTS"})
+        label(p.id, p.x * L, p.y * L + h, "POINTS")
+    drawing.saveas(path)
+
+
+@pytest.fixture
+def fixed_dxf_dates(monkeypatch):
+    """ezdxf's fixed dates and GUIDs (its option for tests), so two saves can be compared."""
+    import ezdxf
+
+    monkeypatch.setattr(ezdxf.options, "write_fixed_meta_data_for_testing", True)
+
+
+@pytest.mark.parametrize("units", ["si", "us"])
+def test_site_dxf_is_the_file_ezdxf_saves(tmp_path, fixed_dxf_dates, units):
+    from sitesettle.io import cad
+
+    from _factories import make_results
+
+    results = make_results(ids=["C1", "C$2", "C 3^", "Ø4", "<b>", "C6"])
+    cad.write_dxf(results, tmp_path / "fast.dxf", units)
+    _ezdxf_site_dxf(results, tmp_path / "ezdxf.dxf", units)
+    assert (tmp_path / "fast.dxf").read_bytes() == (tmp_path / "ezdxf.dxf").read_bytes()
+
+
+_coord = st.one_of(
+    st.floats(min_value=-1e7, max_value=1e7, allow_nan=False),
+    st.sampled_from([0.0, -0.0, 1e-300, 0.1, 123456.789012]),
+)
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    texts=st.lists(st.text(max_size=12), min_size=1, max_size=4),
+    xy=st.lists(st.tuples(_coord, _coord), min_size=1, max_size=6),
+    r=st.floats(min_value=1e-6, max_value=1e4),
+    h=st.floats(min_value=0.01, max_value=20),
+    elevation=st.one_of(_coord, st.just(0.0)),
+    colour=st.sampled_from([1, 3, 8, 256]),
+)
+def test_direct_dxf_entities_are_the_tags_ezdxf_writes(texts, xy, r, h, elevation, colour):
+    """Each entity kind of site.dxf, written directly and by ezdxf, with the same handles."""
+    import io
+
+    import ezdxf
+    from ezdxf.lldxf.tagwriter import TagWriter
+
+    from sitesettle.io.cad import _Entities
+
+    doc = ezdxf.new("R2013", setup=False)
+    msp = doc.modelspace()
+    mine = _Entities(doc.entitydb.handles.copy(), msp.block_record_handle)
+    (x0, y0) = xy[0]
+    msp.add_circle((x0, y0), r, dxfattribs={"layer": "A"})
+    mine.circle("A", x0, y0, r)
+    msp.add_lwpolyline(xy, close=True, dxfattribs={"layer": "A"})
+    mine.lwpolyline("A", np.array(xy), closed=True)
+    line = msp.add_lwpolyline(xy, dxfattribs={"layer": "B"})
+    line.dxf.elevation = elevation
+    mine.lwpolyline("B", np.array(xy), closed=False, elevation=elevation)
+    msp.add_line(xy[0], xy[-1], dxfattribs={"layer": "P", "color": colour})
+    mine.line("P", xy[0], xy[-1], colour)
+    msp.add_point((x0, y0), dxfattribs={"layer": "Q"})
+    mine.point("Q", x0, y0)
+    for t in texts:
+        msp.add_text(t, height=h, dxfattribs={"layer": "T"}).set_placement(
+            (x0, y0), align=ezdxf.enums.TextEntityAlignment.MIDDLE_CENTER
+        )
+        mine.text("T", t, x0, y0, h)
+    stream = io.StringIO()
+    writer = TagWriter(stream, dxfversion=doc.dxfversion)
+    for e in msp:
+        e.export_dxf(writer)
+    assert mine.getvalue() == stream.getvalue()
