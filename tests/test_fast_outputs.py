@@ -176,8 +176,10 @@ def test_df_table_matches_the_row_loop(ids, data, with_status):
 # ------------------------------------------------------------------------ DXF
 
 
-def _ezdxf_site_dxf(results, path, units="si"):
-    """site.dxf made with ezdxf's entity objects and ``saveas`` (the earlier writer)."""
+def _ezdxf_site_dxf(results, path, units="si", fixed_classes=True):
+    """site.dxf made with ezdxf's entity objects and ``saveas`` (the earlier writer), its
+    CLASS definitions in the fixed order of :func:`sitesettle.io.cad._fixed_class_order`
+    (ezdxf alone orders two of them by the hash seed)."""
     import ezdxf
 
     from sitesettle.io import cad, output
@@ -225,6 +227,8 @@ def _ezdxf_site_dxf(results, path, units="si"):
     for p in results.site.points:
         msp.add_point((p.x * L, p.y * L), dxfattribs={"layer": "POINTS"})
         label(p.id, p.x * L, p.y * L + h, "POINTS")
+    if fixed_classes:
+        cad._fixed_class_order(drawing)
     drawing.saveas(path)
 
 
@@ -238,14 +242,26 @@ def fixed_dxf_dates(monkeypatch):
 
 @pytest.mark.parametrize("units", ["si", "us"])
 def test_site_dxf_is_the_file_ezdxf_saves(tmp_path, fixed_dxf_dates, units):
-    from sitesettle.io import cad
-
     from _factories import make_results
+
+    from sitesettle.io import cad
 
     results = make_results(ids=["C1", "C$2", "C 3^", "Ø4", "<b>", "C6"])
     cad.write_dxf(results, tmp_path / "fast.dxf", units)
     _ezdxf_site_dxf(results, tmp_path / "ezdxf.dxf", units)
-    assert (tmp_path / "fast.dxf").read_bytes() == (tmp_path / "ezdxf.dxf").read_bytes()
+    fast, slow = (tmp_path / "fast.dxf").read_bytes(), (tmp_path / "ezdxf.dxf").read_bytes()
+    assert fast == slow
+    # the fixed order is an order of the same class definitions ezdxf writes alone
+    _ezdxf_site_dxf(results, tmp_path / "plain.dxf", units, fixed_classes=False)
+    plain = (tmp_path / "plain.dxf").read_bytes()
+    assert len(plain) == len(fast) and _classes(plain) == _classes(fast)
+
+
+def _classes(dxf: bytes) -> list[bytes]:
+    """The CLASS definitions of a DXF file, sorted."""
+    start = dxf.index(b"CLASSES\n")
+    section = dxf[start : dxf.index(b"  0\nENDSEC", start)]
+    return sorted(section.split(b"  0\nCLASS\n"))
 
 
 _coord = st.one_of(

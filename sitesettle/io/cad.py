@@ -110,6 +110,7 @@ def write_dxf(results, path: pathlib.Path, units: str = "si") -> None:
         ents.point("POINTS", p.x * L, p.y * L)
         ents.text("POINTS", p.id, p.x * L, p.y * L + h, h)
 
+    _fixed_class_order(drawing)
     stream = io.StringIO()
     drawing.write(stream)  # after the entities took their handles: $HANDSEED follows them
     text = stream.getvalue()
@@ -120,6 +121,22 @@ def write_dxf(results, path: pathlib.Path, units: str = "si") -> None:
     text = text[:at] + ents.getvalue() + text[at:]
     with open(path, "w", encoding=drawing.output_encoding, errors="dxfreplace") as fp:
         fp.write(text)
+
+
+def _fixed_class_order(drawing) -> None:
+    """Register the document's CLASS definitions in a fixed order before it is written.
+
+    ezdxf adds the classes of the object types in use (LAYOUT, ACDBPLACEHOLDER) in
+    the iteration order of a set of strings, which changes with Python's hash seed
+    from run to run; registered here first (the required ones in ezdxf's list order,
+    then the types in use sorted by name) the same drawing gives the same file.
+    """
+    from ezdxf.sections.classes import REQ_R2004, REQUIRED_CLASSES
+
+    for name in REQUIRED_CLASSES.get(drawing.dxfversion, REQ_R2004):
+        drawing.classes.add_class(name)
+    for name in sorted(drawing.entitydb.dxf_types_in_use()):
+        drawing.classes.add_class(name)
 
 
 class _Entities:
