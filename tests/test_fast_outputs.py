@@ -313,3 +313,164 @@ def test_direct_dxf_entities_are_the_tags_ezdxf_writes(texts, xy, r, h, elevatio
     for e in msp:
         e.export_dxf(writer)
     assert mine.getvalue() == stream.getvalue()
+
+
+# -------------------------------------------------------------------- figures
+
+
+def _pixels(png: bytes) -> np.ndarray:
+    import io
+
+    from PIL import Image
+
+    return np.asarray(Image.open(io.BytesIO(png)))
+
+
+@pytest.fixture(scope="module")
+def drawn():
+    from _factories import make_results, make_section
+
+    results = make_results(ids=["C1", "C$2", "C3", "C4", "C5", "C6"])
+    return results, make_section(results)
+
+
+def test_one_draw_saving_gives_the_pixels_of_savefig(drawn):
+    """The layout run once at the saving resolution, then one draw: savefig's own pixels."""
+    import io
+
+    from sitesettle.io import output
+
+    results, section = drawn
+    for name in output.figure_names(section):
+        slow = io.BytesIO()
+        fig = _figure(name, results, section)
+        fig.savefig(slow, format="png", dpi=output.FIGURE_DPI)  # layout engine on: two draws
+        import matplotlib.pyplot as plt
+
+        plt.close(fig)
+        fast = output.figure_png(name, results, section=section)
+        a, b = _pixels(slow.getvalue()), _pixels(fast)
+        assert a.shape == b.shape and (a == b).all(), name
+
+
+def _figure(name, results, section):
+    from sitesettle import plots
+
+    if name == "plan":
+        return plots.plan(results).figure
+    if name == "contours":
+        return plots.contours(results).figure
+    if name == "settlement_time":
+        ax1, ax2 = plots.history_axes()
+        return plots.history(results, ax=ax1, pair_ax=ax2).figure
+    return plots.section(section, site=results.site).figure
+
+
+def _reaped(pids) -> bool:
+    import os
+
+    for pid in pids:
+        try:
+            os.waitpid(pid, os.WNOHANG)
+        except ChildProcessError:
+            continue
+        return False  # still our child: not reaped
+    return True
+
+
+@pytest.mark.parametrize("workers", [0, 1, 2])
+def test_figures_from_workers_are_the_figures_drawn_here(drawn, workers):
+    from sitesettle.io import figure_workers, output
+
+    results, section = drawn
+    here = output.make_figures(results, section=section)
+    with figure_workers.rendering(results, section=section, workers=workers) as job:
+        got = job.result()
+    assert len(job.pids) == min(workers, 4) and _reaped(job.pids)
+    assert list(got) == list(here) and got == here
+
+
+def test_a_worker_that_dies_is_replaced_by_drawing_here(drawn, monkeypatch):
+    import os
+
+    from sitesettle.io import figure_workers, output
+
+    results, section = drawn
+    parent = os.getpid()
+    real = output.figure_png
+
+    def dies_in_a_worker(name, *a, **k):
+        if os.getpid() != parent:
+            os._exit(3)
+        return real(name, *a, **k)
+
+    monkeypatch.setattr(output, "figure_png", dies_in_a_worker)
+    with figure_workers.rendering(results, section=section, workers=2) as job:
+        got = job.result()
+    assert len(job.pids) == 2 and _reaped(job.pids)
+    assert got == {n: real(n, results, section=section) for n in output.figure_names(section)}
+
+
+def test_a_silent_worker_is_killed_and_its_figures_drawn_here(drawn, monkeypatch):
+    import os
+    import time
+
+    from sitesettle.io import figure_workers, output
+
+    results, section = drawn
+    parent = os.getpid()
+    real = output.figure_png
+
+    def hangs_in_a_worker(name, *a, **k):
+        if os.getpid() != parent:
+            time.sleep(60)
+        return real(name, *a, **k)
+
+    monkeypatch.setattr(output, "figure_png", hangs_in_a_worker)
+    monkeypatch.setattr(figure_workers, "SILENCE_LIMIT", 1.0)
+    t = time.monotonic()
+    with figure_workers.rendering(results, section=section, workers=1) as job:
+        got = job.result()
+    assert time.monotonic() - t < 30 and _reaped(job.pids)
+    assert set(got) == set(output.figure_names(section))
+
+
+def test_an_error_while_writing_reaps_the_workers_and_leaves_no_folder(
+    drawn, monkeypatch, tmp_path
+):
+    from sitesettle.io import figure_workers, output
+
+    results, section = drawn
+    started = []
+    real_start = figure_workers.FigureJob._start
+
+    def spy(self, names):
+        real_start(self, names)
+        started.extend(self.pids[-1:])
+
+    def broken_dxf(*a, **k):
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(figure_workers.FigureJob, "_start", spy)
+    monkeypatch.setattr(figure_workers, "usable_cores", lambda: 2)
+    import sitesettle.io.cad as cad
+
+    monkeypatch.setattr(cad, "write_dxf", broken_dxf)
+    with pytest.raises(OSError, match="No space"):
+        output.write_results(results, tmp_path / "out", section=section)
+    assert started and _reaped(started)
+    assert not (tmp_path / "out").exists() and [p.name for p in tmp_path.iterdir()] == []
+
+
+def test_figure_shares_balance_the_drawing():
+    from sitesettle.io.figure_workers import shares
+
+    names = ["plan", "contours", "settlement_time", "section"]
+    assert shares(names, 1) == [["plan", "contours", "settlement_time", "section"]]
+    two = shares(names, 2)
+    assert sorted(sum(two, [])) == sorted(names) and len(two) == 2
+    assert {frozenset(s) for s in two} == {
+        frozenset({"plan", "settlement_time"}),  # weights 3 + 2 against 3 + 1
+        frozenset({"contours", "section"}),
+    }
+    assert len(shares(names[:1], 2)) == 1  # no empty share
