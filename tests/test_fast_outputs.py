@@ -474,3 +474,16 @@ def test_figure_shares_balance_the_drawing():
         frozenset({"contours", "section"}),
     }
     assert len(shares(names[:1], 2)) == 1  # no empty share
+
+
+@pytest.mark.parametrize("units", ["si", "us"])
+def test_the_report_filled_in_after_the_figures_is_the_report_with_them(drawn, monkeypatch, units):
+    from sitesettle.io import output
+    from sitesettle.report import render_report
+
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1800000000")  # the same run date twice
+    results, section = drawn
+    figures = {n: bytes([k]) * (50 + k) for k, n in enumerate(output.figure_names(section))}
+    page, marked = output._report_with_markers(results, list(figures), units)
+    whole = render_report(results, figures, units=units, page="letter" if units == "us" else "A4")
+    assert output._fill_markers(page, marked, figures) == whole
