@@ -487,3 +487,16 @@ def test_the_report_filled_in_after_the_figures_is_the_report_with_them(drawn, m
     page, marked = output._report_with_markers(results, list(figures), units)
     whole = render_report(results, figures, units=units, page="letter" if units == "us" else "A4")
     assert output._fill_markers(page, marked, figures) == whole
+
+
+@pytest.mark.parametrize("cores, expected", [(1, 0), (2, 2), (8, 2)])
+def test_workers_by_usable_cores(drawn, monkeypatch, cores, expected):
+    """One core: everything drawn here; two or more: up to MAX_WORKERS workers."""
+    from sitesettle.io import figure_workers
+
+    results, section = drawn
+    monkeypatch.setattr(figure_workers, "usable_cores", lambda: cores)
+    with figure_workers.rendering(results, section=section) as job:
+        assert len(job.pids) == expected
+        got = job.result()
+    assert len(got) == 4 and _reaped(job.pids)
