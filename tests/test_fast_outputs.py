@@ -489,13 +489,14 @@ def test_the_report_filled_in_after_the_figures_is_the_report_with_them(drawn, m
     assert output._fill_markers(page, marked, figures) == whole
 
 
-@pytest.mark.parametrize("cores, expected", [(1, 0), (2, 2), (8, 2)])
-def test_workers_by_usable_cores(drawn, monkeypatch, cores, expected):
+@pytest.mark.parametrize("cores, most, expected", [(1, 2, 0), (2, 2, 2), (8, 2, 2), (8, 1, 1)])
+def test_workers_by_usable_cores(drawn, monkeypatch, cores, most, expected):
     """One core: everything drawn here; two or more: up to MAX_WORKERS workers."""
     from sitesettle.io import figure_workers
 
     results, section = drawn
     monkeypatch.setattr(figure_workers, "usable_cores", lambda: cores)
+    monkeypatch.setattr(figure_workers, "MAX_WORKERS", most)
     with figure_workers.rendering(results, section=section) as job:
         assert len(job.pids) == expected
         got = job.result()

@@ -38,8 +38,12 @@ import time
 import traceback
 import warnings
 
-#: at most this many worker processes (the figures split into this many shares)
-MAX_WORKERS = 2
+#: at most this many worker processes (the figures split into this many shares). One:
+#: it draws every figure while the run writes the rest, for no more CPU time than
+#: drawing in the run (a second worker imports matplotlib again and copies more of
+#: the run's memory: about 1 s more CPU on the demo, and no gain on two cores that
+#: the run's own writing already shares)
+MAX_WORKERS = 1
 #: a worker that sends nothing for this long [s] is taken as hung: killed, and its
 #: figures drawn in the calling process
 SILENCE_LIMIT = 300.0
