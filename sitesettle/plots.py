@@ -169,23 +169,10 @@ def _set_plan_limits(ax, results: Results, L: float, pad_fraction: float = 0.08)
     ax.set_aspect("equal")
 
 
-def _footing_outlines(results: Results, L: float, collection=None, **kw):
-    """The footing outlines as one collection of closed polygons (``collection`` given
-    the flags of the footings to draw, else all).
+def _footing_patches(results: Results, L: float):
+    from matplotlib.patches import Polygon
 
-    A :class:`~matplotlib.collections.PolyCollection` of the outlines draws the
-    paths a PatchCollection of ``Polygon`` patches draws (the same pixels, checked
-    in the tests) without making a patch object per footing.
-    """
-    from matplotlib.collections import PolyCollection
-
-    fs = results.site.footings
-    verts = [
-        np.asarray(f.outline, float) * L
-        for k, f in enumerate(fs)
-        if collection is None or collection[k]
-    ]
-    return PolyCollection(verts, closed=True, **kw)
+    return [Polygon(np.asarray(f.outline, float) * L, closed=True) for f in results.site.footings]
 
 
 def _place_axes(fig) -> None:
@@ -393,7 +380,7 @@ def plan_figure(results: Results, *, ax=None, units: str = "si", _axes: bool = F
     :data:`FAIL_COLOUR`; passing pairs are thin grey lines. A colour bar, a legend,
     a north arrow (plan y axis = north) and a scale bar complete it.
     """
-    from matplotlib.collections import LineCollection
+    from matplotlib.collections import LineCollection, PatchCollection
     from matplotlib.colors import Normalize
     from matplotlib.lines import Line2D
     from matplotlib.patches import Patch
@@ -447,9 +434,8 @@ def plan_figure(results: Results, *, ax=None, units: str = "si", _axes: bool = F
         handles.append(Patch(facecolor="#f3ead7", edgecolor="#8a6d3b", ls="--",
                              label="area load (excavation in blue)"))
 
-    patches = _footing_outlines(
-        results,
-        L,
+    patches = PatchCollection(
+        _footing_patches(results, L),
         cmap=SETTLEMENT_CMAP,
         norm=norm,
         edgecolor="#222222",
@@ -459,22 +445,20 @@ def plan_figure(results: Results, *, ax=None, units: str = "si", _axes: bool = F
     patches.set_array(np.ma.masked_invalid(total))
     ax.add_collection(patches)
     if bad_f.any():
-        # one collection of the failing outlines (not a patch each: the layout measures
-        # every artist of the axes)
-        ax.add_collection(
-            _footing_outlines(
-                results,
-                L,
-                bad_f,
-                facecolor="none",
-                edgecolor=FAIL_COLOUR,
-                linewidths=2.6,
-                joinstyle="miter",  # a patch's corners
-                capstyle="butt",
-                zorder=5,
-            ),
-            autolim=False,
-        )
+        from matplotlib.patches import Polygon
+
+        for f, bad in zip(results.site.footings, bad_f):
+            if bad:
+                ax.add_patch(
+                    Polygon(
+                        np.asarray(f.outline, float) * L,
+                        closed=True,
+                        fill=False,
+                        edgecolor=FAIL_COLOUR,
+                        linewidth=2.6,
+                        zorder=5,
+                    )
+                )
         handles.append(
             Patch(facecolor="none", edgecolor=FAIL_COLOUR, linewidth=2.6, label="footing fails")
         )
@@ -554,6 +538,7 @@ def contour_figure(results: Results, *, ax=None, units: str = "si", _axes: bool 
     Without a map, the footing values are interpolated on their Delaunay triangles
     and the figure says so: such contours are not a computed settlement field.
     """
+    from matplotlib.collections import PatchCollection
 
     fig, ax = _new_axes(ax, (9.0, 7.0))
     S, su = _settlement_unit(units)
@@ -620,9 +605,8 @@ def contour_figure(results: Results, *, ax=None, units: str = "si", _axes: bool 
             )
             ax.clabel(cs, fmt="%g", fontsize=7)
     ax.add_collection(
-        _footing_outlines(
-            results,
-            L,
+        PatchCollection(
+            _footing_patches(results, L),
             facecolor=(1, 1, 1, 0.55),
             edgecolor="black",
             linewidths=0.9,
