@@ -196,18 +196,29 @@ end = time.perf_counter()
 prev = t
 for (stage, at), nxt in zip(marks, [m[1] for m in marks[1:]] + [end]):
     out["analyse: " + stage] = out.get("analyse: " + stage, 0.0) + (nxt - at)
-for name in ("footing_table", "pair_table", "time_table", "summary_dict", "write_geopackage",
-             "make_figures"):
-    fn = getattr(output, name, None)
+def timing(owner, name, label):
+    fn = getattr(owner, name, None)
     if fn is None:
-        continue
-    def timed(*a, _fn=fn, _name=name, **k):
+        return
+    def timed(*a, _fn=fn, **k):
         t = time.perf_counter(); v = _fn(*a, **k)
-        out["output: " + _name] = out.get("output: " + _name, 0.0) + time.perf_counter() - t
+        out["output: " + label] = out.get("output: " + label, 0.0) + time.perf_counter() - t
         return v
-    setattr(output, name, timed)
+    setattr(owner, name, timed)
+for name in ("footing_table", "pair_table", "time_table", "summary_dict", "write_geopackage",
+             "make_figures", "_write_csv"):
+    timing(output, name, name)
+import sitesettle.report, sitesettle.io.cad
+timing(sitesettle.report, "render_report", "render_report")
+timing(sitesettle.io.cad, "write_dxf", "write_dxf")
+try:  # figures drawn in worker processes: the time this process waits for them
+    from sitesettle.io import figure_workers
+    timing(figure_workers.FigureJob, "result", "figures (waiting for the workers)")
+except ImportError:
+    pass
 t = time.perf_counter()
-output.write_results(r, sys.argv[3])
+from sitesettle.analysis import worst_pair_section
+output.write_results(r, sys.argv[3], section=worst_pair_section(r))  # as the command line
 out["output: all"] = time.perf_counter() - t
 print(json.dumps(out))
 """

@@ -169,6 +169,39 @@ def _table(
     return "".join(out)
 
 
+def _column_table(
+    header: list[str],
+    columns: list[list[str]],
+    *,
+    row_classes: list[str] | None = None,
+    numeric: set[int] | None = None,
+) -> str:
+    """The HTML of :func:`_table` from the cells given column by column (escaped text).
+
+    The same bytes as ``_table(header, rows, ...)`` with ``rows`` the transpose of
+    ``columns``; each column's cells are wrapped in one pass, then the rows joined,
+    with no per-cell test of the column's kind.
+    """
+    numeric = numeric or set()
+    wrapped = [
+        [f"<td class='num'>{c}</td>" for c in col]
+        if j in numeric
+        else [f"<td>{c}</td>" for c in col]
+        for j, col in enumerate(columns)
+    ]
+    n = len(columns[0]) if columns else 0
+    if row_classes:
+        starts = [f"<tr class='{c}'>" if c else "<tr>" for c in row_classes]
+    else:
+        starts = ["<tr>"] * n
+    body = "".join([s + "".join(cells) + "</tr>" for s, *cells in zip(starts, *wrapped)])
+    head = "".join([f"<th>{h}</th>" for h in header])
+    return (
+        f"<div class='scroll'><table><thead><tr>{head}</tr></thead><tbody>{body}"
+        "</tbody></table></div>"
+    )
+
+
 def pd_float(series) -> bool:
     """True for a float column."""
     return str(series.dtype).startswith("float")
@@ -218,24 +251,31 @@ def _df_table(df, status=None, units: str = "si") -> str:
             f"{v:.2f}" if np.isfinite(v) else "" for v in df["utilisation"].to_numpy(float)
         ]
     numeric = {j for j, c in enumerate(df.columns) if str(df[c].dtype).startswith(("float", "int"))}
-    rows, classes = [], []
-    for _, r in text.iterrows():
-        cells = []
-        for c in text.columns:
-            v = r[c]
-            if c == "status":
-                cells.append(
-                    f"<span class='{_e(v) if v in ('pass', 'fail') else ''}'>{_e(v)}</span>"
-                )
-            elif isinstance(v, (bool, np.bool_)):
-                cells.append("yes" if v else "no")
-            else:
-                cells.append(_e(v))
-        rows.append(cells)
-        st = r.get("status") if status is None else status.iloc[len(classes)]
-        classes.append("fail" if st == "fail" else "")
-    return _table(
-        [_e(_header(c)) for c in text.columns], rows, row_classes=classes, numeric=numeric
+    # column by column (one pass per column, no pandas row objects); each cell as the
+    # row-by-row loop made it: status as a marked span, booleans as yes/no, the rest escaped
+    columns = []
+    for c in text.columns:
+        values = text[c].tolist()
+        if c == "status":
+            cells = [
+                f"<span class='{_e(v) if v in ('pass', 'fail') else ''}'>{_e(v)}</span>"
+                for v in values
+            ]
+        else:
+            cells = [
+                ("yes" if v else "no") if isinstance(v, (bool, np.bool_)) else _e(v)
+                for v in values
+            ]
+        columns.append(cells)
+    if status is not None:
+        states = status.tolist()
+    elif "status" in text.columns:
+        states = text["status"].tolist()
+    else:
+        states = [None] * len(text)
+    classes = ["fail" if st == "fail" else "" for st in states]
+    return _column_table(
+        [_e(_header(c)) for c in text.columns], columns, row_classes=classes, numeric=numeric
     )
 
 
@@ -666,9 +706,18 @@ def _stratum_rows(results: Results, q: _Q) -> tuple[list[str], list[list[str]]]:
             src = t.details.get("E source")
             if src is None or t.modulus is None:
                 continue
-            for name, s, e in zip(t.stratum, src, t.modulus):
-                if str(s).startswith("from SPT") and np.isfinite(e):
-                    spt.setdefault(name, []).append(float(e))
+            # per trace, not per sublayer: the sublayers whose E comes from SPT N
+            e = np.asarray(t.modulus, float)
+            n = min(len(t.stratum), len(src), len(e))
+            if n == 0:
+                continue
+            text = np.asarray(src[:n])
+            if text.dtype.kind != "U":
+                text = np.asarray([str(v) for v in text.tolist()], dtype=str)
+            from_spt = np.char.startswith(text, "from SPT")
+            keep = np.flatnonzero(from_spt & np.isfinite(e[:n]))
+            for j in keep.tolist():
+                spt.setdefault(t.stratum[j], []).append(float(e[j]))
     header = [
         "stratum",
         "behaviour",
@@ -1226,28 +1275,70 @@ def _trace_column(t, key: str) -> np.ndarray:
     return np.asarray(v) if not isinstance(v, tuple) else np.array(v, dtype=object)
 
 
+def _trace_cell(q: _Q, v, key: str, qty: str, dec) -> str:
+    """One cell of a trace table (the rule :func:`_trace_cells` applies to a whole column)."""
+    if dec is None:
+        return _e(v)
+    if qty:
+        if qty == "settlement" and q.us:
+            dec = 4
+        return q.v(v, qty, dec if not (q.us and qty == "pressure") else 3)
+    if key == "primary strain":
+        return _num(v, "{:.4e}")
+    return _num(v, f"{{:.{dec}f}}")
+
+
+def _trace_cells(q: _Q, col: np.ndarray, rows: np.ndarray, key: str, qty: str, dec) -> list[str]:
+    """The cells of one trace column at ``rows``, as :func:`_trace_cell` makes each.
+
+    A float or integer column is formatted in one pass (NaN and ±inf as "–", as
+    ``_Q.v`` and ``_num`` give them); any other column (text, booleans, objects)
+    cell by cell through :func:`_trace_cell`.
+    """
+    values = col[rows]
+    if dec is None:
+        if values.dtype.kind not in "OUS":
+            return [_e(v) for v in values]
+        memo: dict[str, str] = {}  # strata, methods and sources repeat down a column
+        out = []
+        for v in values.tolist():
+            if type(v) is str:  # only text is looked up: 0.0 == -0.0 and 1 == True as keys
+                cell = memo.get(v)
+                if cell is None:
+                    cell = memo[v] = _e(v)
+            else:
+                cell = _e(v)
+            out.append(cell)
+        return out
+    if values.dtype.kind not in "fiu":
+        return [_trace_cell(q, v, key, qty, dec) for v in values]
+    x = values.astype(float)
+    finite = np.isfinite(x).tolist()
+    if qty:
+        if qty == "settlement" and q.us:
+            dec = 4
+        if q.us and qty == "pressure":
+            dec = 3
+        x = x * q.spec[qty][1]
+        fmt = f"%.{dec}f"
+    elif key == "primary strain":
+        fmt = "%.4e"
+    else:
+        fmt = f"%.{dec}f"
+    return [fmt % v if ok else "–" for v, ok in zip(x.tolist(), finite)]
+
+
 def _trace_table(t, rows: np.ndarray, spec, units: str) -> str:
     q = _Q(units)
     heads = [q.h(h, qty) if qty else h for h, _, qty, _ in spec]
-    cols = [_trace_column(t, key) for _, key, _, _ in spec]
-    body = []
-    for r in rows:
-        cells = []
-        for (_h, key, qty, dec), col in zip(spec, cols):
-            v = col[r]
-            if dec is None:
-                cells.append(_e(v))
-            elif qty:
-                if qty == "settlement" and q.us:
-                    dec = 4
-                cells.append(q.v(v, qty, dec if not (q.us and qty == "pressure") else 3))
-            elif key == "primary strain":
-                cells.append(_num(v, "{:.4e}"))
-            else:
-                cells.append(_num(v, f"{{:.{dec}f}}"))
-        body.append(cells)
+    rows = np.asarray(rows, int)
+    columns = [
+        _trace_cells(q, _trace_column(t, key), rows, key, qty, dec) for _, key, qty, dec in spec
+    ]
     numeric = {j for j, (_, _, _, d) in enumerate(spec) if d is not None}
-    return _table(heads, body, numeric=numeric).replace("<table>", "<table class='trace'>", 1)
+    return _column_table(heads, columns, numeric=numeric).replace(
+        "<table>", "<table class='trace'>", 1
+    )
 
 
 def _governing_points(results: Results, i: int, traces) -> set[int]:

@@ -282,8 +282,10 @@ def test_failure_midway_keeps_the_old_folder_and_no_temp(tmp_path, monkeypatch, 
 
 
 def test_failure_on_first_write_leaves_nothing(tmp_path, monkeypatch):
+    # every figure is drawn by figure_png (in a worker process or, after a worker's
+    # failure, here)
     monkeypatch.setattr(
-        output, "make_figures", lambda *a, **k: (_ for _ in ()).throw(OSError("no space"))
+        output, "figure_png", lambda *a, **k: (_ for _ in ()).throw(OSError("no space"))
     )
     with pytest.raises(OSError):
         write_results(make_results(), tmp_path / "r")

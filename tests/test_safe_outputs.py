@@ -71,7 +71,7 @@ def test_a_run_that_fails_while_writing_keeps_the_old_results(
     def interrupted(*args, **kwargs):  # Ctrl-C while the figures are drawn
         raise KeyboardInterrupt
 
-    monkeypatch.setattr(output, "make_figures", interrupted)
+    monkeypatch.setattr(output, "figure_png", interrupted)  # each figure, worker or here
     rc = main(["check", str(project), "--quiet"])
     _, err = capsys.readouterr()
     assert rc == 130

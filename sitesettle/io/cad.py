@@ -24,6 +24,7 @@ distance 0). A block's attributes are named by their tags (``ID``, ``DEAD_LOAD``
 
 from __future__ import annotations
 
+import io
 import math
 import pathlib
 
@@ -53,6 +54,12 @@ def _text_height(results) -> float:
 def write_dxf(results, path: pathlib.Path, units: str = "si") -> None:
     """Write ``site.dxf`` (DXF R2013): footings, pairs, contours and query points.
 
+    The document (header, tables, blocks, objects) is made and written by ezdxf;
+    the entities are written as DXF text directly (:class:`_Entities`), tag for
+    tag as ezdxf writes them, with handles ezdxf hands out in the same order, so
+    the file is the one ezdxf would save and reads back with ``ezdxf.readfile``.
+    ezdxf's own entity objects took most of the time of a large plan.
+
     Parameters
     ----------
     results : Results
@@ -73,27 +80,20 @@ def write_dxf(results, path: pathlib.Path, units: str = "si") -> None:
     for name, colour in LAYERS.items():
         drawing.layers.add(name, color=colour)
     msp = drawing.modelspace()
-    h = _text_height(results) * L
-
-    def label(text: str, x: float, y: float, layer: str) -> None:
-        msp.add_text(text, height=h, dxfattribs={"layer": layer}).set_placement(
-            (x, y), align=ezdxf.enums.TextEntityAlignment.MIDDLE_CENTER
-        )
+    ents = _Entities(drawing.entitydb.handles, msp.block_record_handle)
+    h = float(_text_height(results) * L)
 
     for f in results.site.footings:
         if f.shape == "circle":
-            msp.add_circle((f.x * L, f.y * L), f.width / 2.0 * L, dxfattribs={"layer": "FOOTINGS"})
+            ents.circle("FOOTINGS", f.x * L, f.y * L, f.width / 2.0 * L)
         else:
-            pts = [(float(a) * L, float(b) * L) for a, b in np.asarray(f.outline, float)]
-            msp.add_lwpolyline(pts, close=True, dxfattribs={"layer": "FOOTINGS"})
-        label(f.id, f.x * L, f.y * L, "FOOTINGS")
+            ents.lwpolyline("FOOTINGS", np.asarray(f.outline, float) * L, closed=True)
+        ents.text("FOOTINGS", f.id, f.x * L, f.y * L, h)
 
     pt = output.pair_table(results, u)
     xy = {m: (p[0] * L, p[1] * L) for m, p in zip(results.member_ids, results.member_xy)}
     for a, b, status in zip(pt["a"], pt["b"], pt["status"]):
-        msp.add_line(
-            xy[a], xy[b], dxfattribs={"layer": "PAIRS", "color": PAIR_COLOURS.get(status, 8)}
-        )
+        ents.line("PAIRS", xy[a], xy[b], PAIR_COLOURS.get(status, 8))
 
     ct = output.contour_table(results, u)
     level_col = output.column("level", "settlement", u)
@@ -102,18 +102,112 @@ def write_dxf(results, path: pathlib.Path, units: str = "si") -> None:
         coords = np.asarray(geom.coords, float) * L
         if len(coords) < 2:
             continue
-        line = msp.add_lwpolyline(
-            [(float(a), float(b)) for a, b in coords], dxfattribs={"layer": "CONTOURS"}
-        )
-        line.dxf.elevation = float(level)
+        ents.lwpolyline("CONTOURS", coords, closed=False, elevation=float(level))
         mid = coords[len(coords) // 2]
-        label(f"{level:g} {unit}", float(mid[0]), float(mid[1]), "CONTOURS")
+        ents.text("CONTOURS", f"{level:g} {unit}", float(mid[0]), float(mid[1]), h)
 
     for p in results.site.points:
-        msp.add_point((p.x * L, p.y * L), dxfattribs={"layer": "POINTS"})
-        label(p.id, p.x * L, p.y * L + h, "POINTS")
+        ents.point("POINTS", p.x * L, p.y * L)
+        ents.text("POINTS", p.id, p.x * L, p.y * L + h, h)
 
-    drawing.saveas(path)
+    _fixed_class_order(drawing)
+    stream = io.StringIO()
+    drawing.write(stream)  # after the entities took their handles: $HANDSEED follows them
+    text = stream.getvalue()
+    empty = "  0\nSECTION\n  2\nENTITIES\n  0\nENDSEC\n"
+    if text.count(empty) != 1:  # pragma: no cover - another ezdxf layout of the section
+        raise RuntimeError("ezdxf wrote an ENTITIES section of an unexpected form")
+    at = text.index(empty) + len("  0\nSECTION\n  2\nENTITIES\n")
+    text = text[:at] + ents.getvalue() + text[at:]
+    with open(path, "w", encoding=drawing.output_encoding, errors="dxfreplace") as fp:
+        fp.write(text)
+
+
+def _fixed_class_order(drawing) -> None:
+    """Register the document's CLASS definitions in a fixed order before it is written.
+
+    ezdxf adds the classes of the object types in use (LAYOUT, ACDBPLACEHOLDER) in
+    the iteration order of a set of strings, which changes with Python's hash seed
+    from run to run; registered here first (the required ones in ezdxf's list order,
+    then the types in use sorted by name) the same drawing gives the same file.
+    """
+    from ezdxf.sections.classes import REQ_R2004, REQUIRED_CLASSES
+
+    for name in REQUIRED_CLASSES.get(drawing.dxfversion, REQ_R2004):
+        drawing.classes.add_class(name)
+    for name in sorted(drawing.entitydb.dxf_types_in_use()):
+        drawing.classes.add_class(name)
+
+
+class _Entities:
+    """The ENTITIES of the model space as DXF text, written as ezdxf 1.x writes them.
+
+    Each method writes one entity with the tags, order and number formatting of
+    ezdxf's export (group code right-aligned in 3 columns, ``str`` of a float,
+    optional tags left out at their defaults) and takes its handle from ezdxf's
+    handle generator, as ezdxf's ``add_*`` would. Text goes through ezdxf's own
+    one-line fixer (line breaks and a trailing ``^`` removed), as on ``add_text``.
+    """
+
+    def __init__(self, handles, owner: str):
+        from ezdxf.lldxf.validator import fix_one_line_text, is_valid_one_line_text
+
+        self._valid, self._fix = is_valid_one_line_text, fix_one_line_text
+        self._next = handles.next
+        self._owner = owner
+        self._parts: list[str] = []
+
+    def _head(self, kind: str, layer: str, colour: int | None = None) -> str:
+        c = f" 62\n{colour}\n" if colour is not None and colour != 256 else ""
+        return (
+            f"  0\n{kind}\n  5\n{self._next()}\n330\n{self._owner}\n100\nAcDbEntity\n"
+            f"  8\n{layer}\n{c}"
+        )
+
+    def circle(self, layer: str, x: float, y: float, r: float) -> None:
+        self._parts.append(
+            f"{self._head('CIRCLE', layer)}100\nAcDbCircle\n"
+            f" 10\n{float(x)}\n 20\n{float(y)}\n 30\n0.0\n 40\n{float(r)}\n"
+        )
+
+    def lwpolyline(self, layer: str, xy, *, closed: bool, elevation: float = 0.0) -> None:
+        xy = np.asarray(xy, float).reshape(-1, 2)
+        head = self._head("LWPOLYLINE", layer)
+        if len(xy) == 0:  # ezdxf does not export a polyline without vertices
+            return
+        elev = f" 38\n{float(elevation)}\n" if elevation != 0 else ""
+        pts = "".join([f" 10\n{x}\n 20\n{y}\n" for x, y in xy.tolist()])
+        self._parts.append(
+            f"{head}100\nAcDbPolyline\n 90\n{len(xy)}\n 70\n{1 if closed else 0}\n{elev}{pts}"
+        )
+
+    def line(self, layer: str, a, b, colour: int) -> None:
+        self._parts.append(
+            f"{self._head('LINE', layer, colour)}100\nAcDbLine\n"
+            f" 10\n{float(a[0])}\n 20\n{float(a[1])}\n 30\n0.0\n"
+            f" 11\n{float(b[0])}\n 21\n{float(b[1])}\n 31\n0.0\n"
+        )
+
+    def point(self, layer: str, x: float, y: float) -> None:
+        self._parts.append(
+            f"{self._head('POINT', layer)}100\nAcDbPoint\n"
+            f" 10\n{float(x)}\n 20\n{float(y)}\n 30\n0.0\n"
+        )
+
+    def text(self, layer: str, text: object, x: float, y: float, height: float) -> None:
+        """A one-line TEXT centred on (x, y) (ezdxf's ``MIDDLE_CENTER`` placement)."""
+        s = str(text)
+        if not self._valid(s):
+            s = self._fix(s)
+        x, y = float(x), float(y)
+        self._parts.append(
+            f"{self._head('TEXT', layer)}100\nAcDbText\n"
+            f" 10\n{x}\n 20\n{y}\n 30\n0.0\n 40\n{float(height)}\n  1\n{s}\n 72\n1\n"
+            f" 11\n{x}\n 21\n{y}\n 31\n0.0\n100\nAcDbText\n 73\n2\n"
+        )
+
+    def getvalue(self) -> str:
+        return "".join(self._parts)
 
 
 # ------------------------------------------------------------------- reading

@@ -641,11 +641,26 @@ def _write_layers(results: Results, path: Path, units: str) -> None:
 
 
 def _figure_bytes(fig) -> bytes:
+    """The figure as PNG bytes (closed afterwards), drawn once.
+
+    With a layout engine, ``savefig`` draws the figure twice: once with drawing
+    switched off to run the layout, then for real. Here the layout runs once at
+    the saving resolution (the steps ``Figure.draw`` takes: aspect, layout,
+    aspect), the engine is switched off and the figure drawn a single time: the
+    same pixels (checked in the tests) for the cost of one draw.
+    """
     import io
 
     import matplotlib.pyplot as plt
+    from matplotlib import cbook
+
+    from sitesettle.plots import _place_axes
 
     buf = io.BytesIO()
+    if fig.get_layout_engine() is not None and fig.axes:
+        with cbook._setattr_cm(fig, dpi=FIGURE_DPI):
+            _place_axes(fig)
+        fig.set_layout_engine("none")
     fig.savefig(
         buf,
         format="png",
@@ -656,23 +671,35 @@ def _figure_bytes(fig) -> bytes:
     return buf.getvalue()
 
 
-def make_figures(results: Results, *, units: str = "si", section=None) -> dict[str, bytes]:
-    """The PNG figures as bytes: plan, contours, settlement_time and (with a section) section."""
+def figure_names(section=None) -> list[str]:
+    """The PNG figures of a results folder, in the report's order."""
+    return ["plan", "contours", "settlement_time"] + (["section"] if section is not None else [])
+
+
+def figure_png(name: str, results: Results, *, units: str = "si", section=None) -> bytes:
+    """One figure of :func:`figure_names` as PNG bytes."""
     from sitesettle import plots
 
-    figs = {
-        "plan": _figure_bytes(plots.plan(results, units=units).figure),
-        "contours": _figure_bytes(plots.contours(results, units=units).figure),
+    if name == "plan":
+        fig = plots.plan(results, units=units).figure
+    elif name == "contours":
+        fig = plots.contours(results, units=units).figure
+    elif name == "settlement_time":
+        ax1, ax2 = plots.history_axes()
+        fig = plots.history(results, ax=ax1, units=units, pair_ax=ax2).figure
+    elif name == "section" and section is not None:
+        fig = plots.section(section, units=units, site=results.site).figure
+    else:
+        raise ValueError(f"no figure {name!r}")
+    return _figure_bytes(fig)
+
+
+def make_figures(results: Results, *, units: str = "si", section=None) -> dict[str, bytes]:
+    """The PNG figures as bytes: plan, contours, settlement_time and (with a section) section."""
+    return {
+        name: figure_png(name, results, units=units, section=section)
+        for name in figure_names(section)
     }
-    ax1, ax2 = plots.history_axes()
-    figs["settlement_time"] = _figure_bytes(
-        plots.history(results, ax=ax1, units=units, pair_ax=ax2).figure
-    )
-    if section is not None:
-        figs["section"] = _figure_bytes(
-            plots.section(section, units=units, site=results.site).figure
-        )
-    return figs
 
 
 #: the file whose ``"program": "sitesettle"`` marks a results folder as ours
@@ -996,37 +1023,75 @@ def write_folder(
 def _write_all(
     results: Results, folder: Path, units: str, progress: Callable[[str], None], section
 ) -> None:
-    from sitesettle.io import frames
-    from sitesettle.report import render_report
+    from sitesettle.io import figure_workers, frames
 
-    # the CSV files are the DataFrames of sitesettle.io.frames (the Results methods),
-    # with their index as the first columns
-    progress("footings.csv")
-    _write_csv(frames.footings(results, units).reset_index(), folder / "footings.csv")
-    progress("pairs.csv")
-    _write_csv(frames.pairs(results, units).reset_index(), folder / "pairs.csv")
-    progress("settlement_time.csv")
-    _write_csv(frames.history(results, units).reset_index(), folder / "settlement_time.csv")
-    if results.points is not None:
-        progress("points.csv")
-        _write_csv(frames.query_points(results, units).reset_index(), folder / "points.csv")
-    lines = frames.lines(results, units)
-    if len(lines):
-        progress("lines.csv")
-        _write_csv(lines.reset_index(), folder / "lines.csv")
-    progress("summary.json")
-    _write_json(summary_dict(results, units), folder / "summary.json")
-    progress("site.gpkg")
-    write_geopackage(results, folder / "site.gpkg", units)
-    progress("site.dxf")
-    from sitesettle.io.cad import write_dxf
+    # the figures are drawn in worker processes (when there are cores for them) while
+    # this process writes the tables, layers, drawing and the report around them
+    with figure_workers.rendering(results, units=units, section=section) as job:
+        # the CSV files are the DataFrames of sitesettle.io.frames (the Results
+        # methods), with their index as the first columns
+        progress("footings.csv")
+        _write_csv(frames.footings(results, units).reset_index(), folder / "footings.csv")
+        progress("pairs.csv")
+        _write_csv(frames.pairs(results, units).reset_index(), folder / "pairs.csv")
+        progress("settlement_time.csv")
+        _write_csv(frames.history(results, units).reset_index(), folder / "settlement_time.csv")
+        if results.points is not None:
+            progress("points.csv")
+            _write_csv(frames.query_points(results, units).reset_index(), folder / "points.csv")
+        lines = frames.lines(results, units)
+        if len(lines):
+            progress("lines.csv")
+            _write_csv(lines.reset_index(), folder / "lines.csv")
+        progress("summary.json")
+        _write_json(summary_dict(results, units), folder / "summary.json")
+        progress("site.gpkg")
+        write_geopackage(results, folder / "site.gpkg", units)
+        progress("site.dxf")
+        from sitesettle.io.cad import write_dxf
 
-    write_dxf(results, folder / "site.dxf", units)
-    progress("figures")
-    figures = make_figures(results, units=units, section=section)
+        write_dxf(results, folder / "site.dxf", units)
+        progress("figures")
+        # the report around the figures now, each figure's place held by a marker
+        page, marked = _report_with_markers(results, job.names, units)
+        figures = job.result()
     for name, png in figures.items():
         (folder / f"{name}.png").write_bytes(png)
     progress("report.html")
+    (folder / "report.html").write_text(_fill_markers(page, marked, figures), encoding="utf-8")
+
+
+def _report_with_markers(results: Results, names: list[str], units: str):
+    """The report with a unique marker image in place of each figure: (html, name → marker).
+
+    The report embeds each figure as base64 text; rendered with marker bytes, each
+    marker's base64 text appears once and is replaced by the figure's own base64
+    text (:func:`_fill_markers`), which gives the HTML that rendering with the figures
+    gives, character for character.
+    """
+    from sitesettle.report import render_report
+
+    token = uuid.uuid4().hex
+    marked = {name: f"sitesettle figure {name} {token}".encode("ascii") for name in names}
     # US units print on Letter, SI on A4 (either prints on both: the page rule is a default)
-    html = render_report(results, figures, units=units, page="letter" if units == "us" else "A4")
-    (folder / "report.html").write_text(html, encoding="utf-8")
+    html = render_report(results, marked, units=units, page="letter" if units == "us" else "A4")
+    return html, marked
+
+
+def _fill_markers(html: str, marked: dict[str, bytes], figures: dict[str, bytes]) -> str:
+    """The report with each marker's base64 text replaced by its figure's (one join)."""
+    import base64
+
+    places = []
+    for name, marker in marked.items():
+        key = base64.b64encode(marker).decode("ascii")
+        at = html.rfind(key)  # the figures come near the end of the report
+        if at < 0 or html.find(key) != at:  # pragma: no cover - a marker is random
+            raise RuntimeError(f"the report's place of figure {name!r} was not found once")
+        places.append((at, len(key), base64.b64encode(figures[name]).decode("ascii")))
+    parts, end = [], 0
+    for at, size, data in sorted(places):
+        parts += [html[end:at], data]
+        end = at + size
+    parts.append(html[end:])
+    return "".join(parts)
