@@ -352,7 +352,9 @@ def column_edges(
     # sublayers would otherwise span a shallow clay whole)
     h = np.diff(e)
     cap = np.maximum(DEPTH_FRACTION * e[:-1], SHALLOW_SUBLAYER)
-    parts = np.ceil(h / cap - 1e-9).astype(int)
+    # at least one part: a sublayer thinner than 1e-9 of its cap (a boundary a hair
+    # below another) is kept whole, never dropped
+    parts = np.maximum(np.ceil(h / cap - 1e-9), 1).astype(int)
     if np.any(parts > 1):
         which = np.repeat(np.arange(len(h)), parts)
         step = np.arange(len(which)) - np.repeat(np.cumsum(parts) - parts, parts)
@@ -453,7 +455,9 @@ def many_column_edges(
     e0 = vals[inside]
     h = vals[inside + 1] - e0
     cap = np.maximum(DEPTH_FRACTION * e0, SHALLOW_SUBLAYER)
-    parts = np.ceil(h / cap - 1e-9).astype(int)
+    # at least one part: a sublayer thinner than 1e-9 of its cap (a boundary a hair
+    # below another) is kept whole, never dropped
+    parts = np.maximum(np.ceil(h / cap - 1e-9), 1).astype(int)
     which = np.repeat(np.arange(len(h)), parts)
     step = np.arange(len(which)) - np.repeat(np.cumsum(parts) - parts, parts)
     tops = e0[which] + h[which] * step / parts[which]

@@ -8,7 +8,7 @@ written out here, as the reference.
 from __future__ import annotations
 
 import numpy as np
-from hypothesis import given, settings
+from hypothesis import example, given, settings
 from hypothesis import strategies as st
 
 from sitesettle import columns as colmod
@@ -63,6 +63,16 @@ def _columns(draw):
 
 @settings(max_examples=150, deadline=None)
 @given(_columns())
+@example(  # a boundary 1e-163 below the top: a sublayer far under 1e-9 of its cap
+    (
+        np.zeros(2),
+        np.full(2, 0.6),
+        0.05,
+        np.zeros(2),
+        np.ones(2),
+        np.array([[0.0], [1.35985569e-163]]),
+    )
+)
 def test_many_column_edges_is_the_column_loop(case):
     """The sublayers of all columns at once equal column_edges column by column, exactly."""
     base, scale, fraction, top, bottom, bnd = case
