@@ -813,31 +813,41 @@ def column_chunks(col: np.ndarray, per_row: int, limit: int = HISTORY_CHUNK) -> 
 def _state(
     ctx: Context, run: Integration, tab, gc, state, index: int | None = None
 ) -> tuple[Context, fld.Sublayers]:
-    """The sublayers' stresses and strains under the loads of one stage's state.
+    """The sublayers' stresses and strains under the loads of one stage's state, slim.
 
     ``state`` is (q_full, q_sust, loads_full, loads_sust), ``ctx.states[index]``
     (its superposed stresses then come from ``run.stage_stress``, summed with the
     full loads; without an index they are summed here). The same columns and
     sublayers as the full run; the own-load methods applied on the first pass's
-    sublayers as :func:`integrate` does, with the state's pressures.
+    sublayers as :func:`integrate` does, with the state's pressures. Returned as
+    :func:`_slim_state` keeps it: the full run's geometry (shared, read only) and the
+    state's own :data:`_STATE_FIELDS`, in the full run's order. The working copies
+    are dropped as soon as they are split, so that at most about two sets of the
+    plan's sublayers are held at once.
     """
     st = ctx.site.analysis
     qf, qs, lf, ls = state
     sctx = replace(ctx, q_full=qf, q_sust=qs, loads_full=lf, loads_sust=ls)
-    d = run.sub.take(np.arange(len(run.sub)))
+    full = run.sub
+    # the geometry and σ'v0 shared with the full run (never written); the state's
+    # stresses and strains are new arrays
+    d = fld.Sublayers(
+        **{k: getattr(full, k) for k in ("col", "top", "bottom", "stratum", "x", "y", "owner")},
+        sig0=full.sig0,
+    )
     if index is not None and run.stage_stress is not None:
         d.sz, d.t, d.sz_sust = (v.copy() for v in run.stage_stress[index])
         _own_stresses(sctx, d, np.column_stack([d.x, d.y, d.mid]))
     else:
         group = run.column_group[d.col] if run.column_group is not None else None
         _stresses(sctx, d, st.stress_tolerance, group=group, stages=False)
-    d.sig0 = run.sub.sig0
     fld.sublayer_strains(
         d, tab, ctx.ground, run.spt_modulus, cohesive_immediate=st.cohesive_immediate
     )
     first = np.flatnonzero(run.first_pass)
     rest = np.flatnonzero(~run.first_pass)
-    a = d.take(first)
+    a, b = d.take(first), d.take(rest)
+    del d
     fld.own_load_settlement(
         a,
         tab,
@@ -856,10 +866,13 @@ def _state(
         ctx.ground,
         run.spt_modulus,
     )
-    b = d.take(rest)
     fld.own_below_reach(b, tab)
-    both = fld.Sublayers.concat([a, b])
-    return sctx, both.take(np.argsort(np.concatenate([first, rest])))
+    slim = _slim_state(fld.Sublayers.concat([a, b]), full)  # first pass, then the rest
+    order = np.empty(len(full), dtype=np.intp)
+    order[np.concatenate([first, rest])] = np.arange(len(full))
+    for k in _STATE_FIELDS:  # back in the full run's order
+        setattr(slim, k, getattr(slim, k)[order])
+    return sctx, slim
 
 
 #: the parts of a History that change with time (the others are per sublayer)
@@ -1108,9 +1121,7 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
         if same[j]:
             return state(j - 1)
         if j not in made:
-            sctx, ssub = _state(ctx, run, tab, gc, ctx.states[j], j)
-            made[j] = (sctx, _slim_state(ssub, run.sub))
-            del ssub
+            made[j] = _state(ctx, run, tab, gc, ctx.states[j], j)
         return made[j]
 
     one_range = len(ranges) == 1
