@@ -105,12 +105,29 @@ class _Worker:
                 self.finished = True
 
 
+#: the signals held back over fork()
+_HELD = (signal.SIGINT, signal.SIGTERM)
+
+
+def _block() -> None:
+    """Hold back SIGINT and SIGTERM in the calling thread (where POSIX masks exist)."""
+    if hasattr(signal, "pthread_sigmask"):
+        signal.pthread_sigmask(signal.SIG_BLOCK, _HELD)
+
+
+def _unblock() -> None:
+    """Let SIGINT and SIGTERM through again; one that came meanwhile is handled now."""
+    if hasattr(signal, "pthread_sigmask"):
+        signal.pthread_sigmask(signal.SIG_UNBLOCK, _HELD)
+
+
 def _child(names, fd, parent, results, units, section) -> None:
     """The worker: draw ``names``, send each as it is done, then exit (never returns)."""
     code = 0
     try:
         signal.signal(signal.SIGINT, signal.SIG_DFL)
         signal.signal(signal.SIGTERM, signal.SIG_DFL)
+        _unblock()  # blocked by the parent around fork (FigureJob._start)
         with contextlib.suppress(Exception):  # Linux: die with the parent
             import ctypes
 
@@ -157,6 +174,9 @@ class FigureJob:
             try:
                 for share in shares(self.names, workers):
                     self._start(share)
+            except BaseException:  # a signal, say: the workers started so far are reaped
+                self.close()
+                raise
             finally:
                 gc.unfreeze()
 
@@ -170,22 +190,32 @@ class FigureJob:
         parent = os.getpid()
         sys.stdout.flush()
         sys.stderr.flush()
+        # SIGINT and SIGTERM are held back over the fork: Python runs the at-fork
+        # hooks (logging's, for one) in the parent right after fork(), and an
+        # exception that a signal handler raises inside a hook is printed and
+        # dropped, so the run would go on and end as if never interrupted. Held
+        # back, the signal is handled once they are unblocked, in this frame.
+        _block()
         try:
-            with warnings.catch_warnings():
-                # Python 3.12+ warns that fork() in a process with threads may deadlock
-                # the child; the worker only draws (matplotlib, numpy) and a silent
-                # worker is killed and replaced by drawing here (SILENCE_LIMIT)
-                warnings.simplefilter("ignore", DeprecationWarning)
-                pid = os.fork()
-        except OSError:  # no more processes: draw here
-            os.close(r)
+            try:
+                with warnings.catch_warnings():
+                    # Python 3.12+ warns that fork() in a process with threads may
+                    # deadlock the child; the worker only draws (matplotlib, numpy) and
+                    # a silent worker is killed and replaced by drawing here
+                    # (SILENCE_LIMIT)
+                    warnings.simplefilter("ignore", DeprecationWarning)
+                    pid = os.fork()
+            except OSError:  # no more processes: draw here
+                os.close(r)
+                os.close(w)
+                return
+            if pid == 0:  # pragma: no cover - the child (coverage does not follow it)
+                os.close(r)
+                _child(names, w, parent, *self._args)  # never returns (os._exit)
+            self._workers.append(_Worker(pid, r, names))  # known before a signal ends the run
             os.close(w)
-            return
-        if pid == 0:  # pragma: no cover - the child (coverage does not follow it)
-            os.close(r)
-            _child(names, w, parent, *self._args)
-        os.close(w)
-        self._workers.append(_Worker(pid, r, names))
+        finally:
+            _unblock()  # in the parent; a signal that came meanwhile is handled here
 
     def _collect(self) -> None:
         """Read every worker until it has finished, failed, died or gone silent."""
