@@ -209,7 +209,7 @@ for name in ("footing_table", "pair_table", "time_table", "summary_dict", "write
              "make_figures", "_write_csv"):
     timing(output, name, name)
 import sitesettle.report, sitesettle.io.cad
-timing(sitesettle.report, "render_report", "render_report")
+timing(sitesettle.report, "report_parts", "render_report")
 timing(sitesettle.io.cad, "write_dxf", "write_dxf")
 try:  # figures drawn in worker processes: the time this process waits for them
     from sitesettle.io import figure_workers

@@ -1434,10 +1434,11 @@ def _trace(results: Results, fid: str, units: str, why: str, i: int | None = Non
     return "".join(parts)
 
 
-def _traces(results: Results, units: str) -> str:
+def _trace_parts(results: Results, units: str) -> list[str]:
+    """The calculation traces section, a piece per traced footing."""
     ids = traced_footings(results)
     if not ids:
-        return "<p>No footings.</p>"
+        return ["<p>No footings.</p>"]
     c = results.checks
     parts = [
         "<p>Every failing footing is traced at all its evaluation points, then the worst "
@@ -1453,7 +1454,7 @@ def _traces(results: Results, units: str) -> str:
         else:
             why = "the worst passing footing"
         parts.append(_trace(results, fid, units, why, i))
-    return "".join(parts)
+    return parts
 
 
 def _sign_off(site, date: str) -> str:
@@ -1488,7 +1489,24 @@ def render_report(
     date: str | None = None,
     page: str = "A4",
 ) -> str:
-    """The whole report as one HTML string.
+    """The whole report as one HTML string: ``"".join(report_parts(...))`` (the
+    parameters of :func:`report_parts`)."""
+    return "".join(report_parts(results, figures, units=units, date=date, page=page))
+
+
+def report_parts(
+    results: Results,
+    figures: dict[str, bytes],
+    *,
+    units: str = "si",
+    date: str | None = None,
+    page: str = "A4",
+) -> list[str]:
+    """The whole report as HTML pieces, in order (joined: :func:`render_report`).
+
+    A plan with thousands of failing footings has a report of hundreds of
+    megabytes, nearly all of it the calculation traces: kept as one piece per
+    trace, it is written piece by piece and never held whole, nor twice.
 
     Order: verdict and governing results, the inputs echoed in full, methods and
     their validity, the per-footing and per-pair tables, the calculation traces,
@@ -1542,7 +1560,7 @@ def render_report(
     body.append(h2())
     body.append(_results_tables(results, units))
     body.append(h2())
-    body.append(_traces(results, units))
+    body.extend(_trace_parts(results, units))
     body.append(h2())
     if not figures:
         body.append("<p>No figures were made.</p>")
@@ -1569,9 +1587,10 @@ def render_report(
     body.append(h2())
     body.append(f"<p>Made by sitesettle {_e(sitesettle.__version__)} on {_e(when)}.</p>")
     css = _CSS + _page_css(page, footer)
-    return (
+    head = (
         "<!DOCTYPE html>\n<html lang='en'><head><meta charset='utf-8'>"
         "<meta name='viewport' content='width=device-width, initial-scale=1'>"
         f"<title>{title}</title><style>{css}</style></head>"
-        f"<body><main>{''.join(body)}</main></body></html>\n"
+        "<body><main>"
     )
+    return [head, *body, "</main></body></html>\n"]

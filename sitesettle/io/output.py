@@ -1058,7 +1058,9 @@ def _write_all(
     for name, png in figures.items():
         (folder / f"{name}.png").write_bytes(png)
     progress("report.html")
-    (folder / "report.html").write_text(_fill_markers(page, marked, figures), encoding="utf-8")
+    with open(folder / "report.html", "w", encoding="utf-8") as f:
+        for piece in _fill_markers(page, marked, figures):
+            f.write(piece)  # piece by piece: the report is never held whole
 
 
 def _report_with_markers(results: Results, names: list[str], units: str):
@@ -1067,31 +1069,32 @@ def _report_with_markers(results: Results, names: list[str], units: str):
     The report embeds each figure as base64 text; rendered with marker bytes, each
     marker's base64 text appears once and is replaced by the figure's own base64
     text (:func:`_fill_markers`), which gives the HTML that rendering with the figures
-    gives, character for character.
+    gives, character for character. The report comes as its pieces
+    (:func:`sitesettle.report.report_parts`), to be written one by one.
     """
-    from sitesettle.report import render_report
+    from sitesettle.report import report_parts
 
     token = uuid.uuid4().hex
     marked = {name: f"sitesettle figure {name} {token}".encode("ascii") for name in names}
     # US units print on Letter, SI on A4 (either prints on both: the page rule is a default)
-    html = render_report(results, marked, units=units, page="letter" if units == "us" else "A4")
-    return html, marked
+    parts = report_parts(results, marked, units=units, page="letter" if units == "us" else "A4")
+    return parts, marked
 
 
-def _fill_markers(html: str, marked: dict[str, bytes], figures: dict[str, bytes]) -> str:
-    """The report with each marker's base64 text replaced by its figure's (one join)."""
+def _fill_markers(
+    parts: list[str], marked: dict[str, bytes], figures: dict[str, bytes]
+) -> list[str]:
+    """The report's pieces with each marker's base64 text replaced by its figure's
+    (each marker found exactly once in all the pieces; only the pieces holding one
+    are copied)."""
     import base64
 
-    places = []
+    out = list(parts)
     for name, marker in marked.items():
         key = base64.b64encode(marker).decode("ascii")
-        at = html.rfind(key)  # the figures come near the end of the report
-        if at < 0 or html.find(key) != at:  # pragma: no cover - a marker is random
+        found = [i for i, p in enumerate(out) if key in p]
+        if len(found) != 1 or out[found[0]].count(key) != 1:  # pragma: no cover - random
             raise RuntimeError(f"the report's place of figure {name!r} was not found once")
-        places.append((at, len(key), base64.b64encode(figures[name]).decode("ascii")))
-    parts, end = [], 0
-    for at, size, data in sorted(places):
-        parts += [html[end:at], data]
-        end = at + size
-    parts.append(html[end:])
-    return "".join(parts)
+        i = found[0]
+        out[i] = out[i].replace(key, base64.b64encode(figures[name]).decode("ascii"))
+    return out
