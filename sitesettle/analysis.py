@@ -821,9 +821,9 @@ def _state(
     sublayers as the full run; the own-load methods applied on the first pass's
     sublayers as :func:`integrate` does, with the state's pressures. Returned as
     :func:`_slim_state` keeps it: the full run's geometry (shared, read only) and the
-    state's own :data:`_STATE_FIELDS`, in the full run's order. The working copies
-    are dropped as soon as they are split, so that at most about two sets of the
-    plan's sublayers are held at once.
+    state's own :data:`_STATE_FIELDS`, in the full run's order. The state's arrays
+    are made once; only where a second pass added sublayers are the first pass's
+    rows copied (for the own-load methods) and written back.
     """
     st = ctx.site.analysis
     qf, qs, lf, ls = state
@@ -844,10 +844,12 @@ def _state(
     fld.sublayer_strains(
         d, tab, ctx.ground, run.spt_modulus, cohesive_immediate=st.cohesive_immediate
     )
+    whole = bool(run.first_pass.all())  # the usual case: no second pass
     first = np.flatnonzero(run.first_pass)
-    rest = np.flatnonzero(~run.first_pass)
-    a, b = d.take(first), d.take(rest)
-    del d
+    # the first pass's rows, to which the own-load methods apply (a copy, unless all)
+    a = d if whole else d.take(first)
+    if not whole:
+        fld.own_below_reach(d, tab, np.flatnonzero(~run.first_pass))  # the rest, in place
     fld.own_load_settlement(
         a,
         tab,
@@ -866,13 +868,14 @@ def _state(
         ctx.ground,
         run.spt_modulus,
     )
-    fld.own_below_reach(b, tab)
-    slim = _slim_state(fld.Sublayers.concat([a, b]), full)  # first pass, then the rest
-    order = np.empty(len(full), dtype=np.intp)
-    order[np.concatenate([first, rest])] = np.arange(len(full))
-    for k in _STATE_FIELDS:  # back in the full run's order
-        setattr(slim, k, getattr(slim, k)[order])
-    return sctx, slim
+    for k in () if whole else _STATE_FIELDS:  # the first pass's results back in their rows
+        v, part = getattr(d, k), getattr(a, k)
+        if v.dtype != part.dtype:  # (never so far: kept exact should a method change one)
+            v = v.astype(np.result_type(v, part))
+            setattr(d, k, v)
+        v[first] = part
+    del a
+    return sctx, _slim_state(d, full)
 
 
 #: the parts of a History that change with time (the others are per sublayer)
@@ -1162,6 +1165,10 @@ def staged_histories(ctx, run: Integration, tab, gc, *, own_mask=None, total_mas
             del ssub
         red.add(span, out)
         del out
+    # the states made are dropped here: ``state`` refers to itself (it recurses), so
+    # the closure and ``made`` form a reference cycle that only the cyclic garbage
+    # collector would free, long after
+    made.clear()
     return red.result()
 
 

@@ -451,17 +451,19 @@ def own_load_settlement(
     return OwnLoad(notes, spt_mod, params)
 
 
-def own_below_reach(sub: Sublayers, tab: Tables) -> None:
+def own_below_reach(sub: Sublayers, tab: Tables, rows: np.ndarray | None = None) -> None:
     """Own granular part of footing-point sublayers deeper than the first pass (in place).
 
     Schmertmann's diagram ends at 2B–4B and Burland & Burbidge's z1 at most at 2B
     below the base, both inside the first pass: deeper, the footing's own method
     adds nothing (its elastic strain is *not* added on top of the method).
+    ``rows`` (indices) limits it to those sublayers of ``sub`` (default: all).
     """
-    owned = sub.owner >= 0
-    if not owned.any() or not len(sub):
+    rows = np.arange(len(sub)) if rows is None else np.asarray(rows, dtype=np.intp)
+    owned = sub.owner[rows] >= 0
+    if not owned.any() or not len(rows):
         return
-    c, k = sub.col, sub.stratum
+    c, k = sub.col[rows], sub.stratum[rows]
     gran = (tab.behaviour == Behaviour.GRANULAR.value)[c, k]  # (the table, then rows)
     named = np.isin(
         tab.method,
@@ -472,8 +474,8 @@ def own_below_reach(sub: Sublayers, tab: Tables) -> None:
         ],
     )[c, k]
     by_method = owned & gran & named
-    sub.gran_own[by_method] = 0.0
-    sub.method[by_method] = tab.method[c[by_method], k[by_method]]
+    sub.gran_own[rows[by_method]] = 0.0
+    sub.method[rows[by_method]] = tab.method[c[by_method], k[by_method]]
 
 
 def bb_influence_depth(width: float, depth_below: np.ndarray, n: np.ndarray, bottoms: np.ndarray):
