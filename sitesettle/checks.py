@@ -53,8 +53,9 @@ class PairRule(Choice):
 _FULL_SCAN_ELEMENTS = 1_000_000
 
 
-def _sector_candidates(xy: np.ndarray, tol: float) -> np.ndarray:
-    """Pairs (a, b) where b is the nearest point to a in one of six 60° sectors.
+def _sector_candidates(xy: np.ndarray, tol: float):
+    """Pairs (a, b) where b is the nearest point to a in one of six 60° sectors; and
+    each point's k nearest (distances and indices, (n, k), nearest first).
 
     Every edge ab of the relative neighbourhood graph is such a pair: if c lies in
     the same 60° sector of a as b and d(a,c) < d(a,b), then the angle bac ≤ 60° gives
@@ -110,7 +111,7 @@ def _sector_candidates(xy: np.ndarray, tol: float) -> np.ndarray:
         pairs.append(np.stack([aa, bb], axis=1))
     cand = np.concatenate(pairs).astype(np.intp)
     cand = np.sort(cand, axis=1)
-    return np.unique(cand, axis=0)
+    return np.unique(cand, axis=0), dist, idx
 
 
 def neighbour_pairs(xy: np.ndarray, groups: np.ndarray | None = None) -> np.ndarray:
@@ -163,22 +164,57 @@ def neighbour_pairs(xy: np.ndarray, groups: np.ndarray | None = None) -> np.ndar
     if n < 2:
         return np.zeros((0, 2), dtype=np.intp)
     tol = NEIGHBOUR_TOLERANCE
-    cand = _sector_candidates(xy, tol)
+    cand, knn_d, knn_i = _sector_candidates(xy, tol)
     cand = cand[g[cand[:, 0]] != g[cand[:, 1]]]
     a, b = cand[:, 0], cand[:, 1]
     r = np.hypot(*(xy[a] - xy[b]).T)
-    tree = cKDTree(xy)
+    blocked = np.zeros(len(cand), dtype=bool)
+    # a point c that blocks ab is nearer to a than r: among a's k nearest whenever the
+    # k-th is at r or beyond ("covered"); those pairs are decided from the lists alone
+    k = knn_i.shape[1]
+    covered = (knn_d[a, -1] >= r) | (k == n)
+    step = max(1, _FULL_SCAN_ELEMENTS // k)
+    for k0 in range(0, len(cand), step):
+        sl = slice(k0, k0 + step)
+        aa, bb, rr = a[sl], b[sl], r[sl]
+        c = knn_i[aa]
+        dac = np.hypot(xy[c, 0] - xy[aa, None, 0], xy[c, 1] - xy[aa, None, 1])
+        dbc = np.hypot(xy[c, 0] - xy[bb, None, 0], xy[c, 1] - xy[bb, None, 1])
+        blk = (c != aa[:, None]) & (c != bb[:, None])
+        blk &= np.maximum(dac, dbc) < (1 - tol) * rr[:, None]
+        blocked[sl] = blk.any(axis=1)
+    # the others (far candidates, near the plan's edge) by ball queries, in chunks of
+    # a bounded number of (pair, point) tests
+    rest = np.flatnonzero(~blocked & ~covered)
+    if len(rest):
+        tree = cKDTree(xy)
+        sizes = np.asarray(tree.query_ball_point(xy[a[rest]], r[rest], return_length=True))
+        ends = np.cumsum(sizes)
+        k0 = 0
+        while k0 < len(rest):
+            k1 = int(np.searchsorted(ends, ends[k0] - sizes[k0] + _FULL_SCAN_ELEMENTS, "right"))
+            k1 = max(k1, k0 + 1)
+            blocked[rest[k0:k1]] = _ball_blocked(
+                xy, tree, a[rest[k0:k1]], b[rest[k0:k1]], r[rest[k0:k1]], tol
+            )
+            k0 = k1
+    pairs = np.sort(np.stack([g[a[~blocked]], g[b[~blocked]]], axis=1), axis=1)
+    return np.unique(pairs, axis=0).reshape(-1, 2)
+
+
+def _ball_blocked(xy, tree, a, b, r, tol) -> np.ndarray:
+    """Whether some point c other than a and b has max(d(a,c), d(b,c)) < (1 − tol)·r,
+    for each pair (a, b), from the points within r of a (a k-d tree ball query)."""
     balls = tree.query_ball_point(xy[a], r)
     sizes = np.fromiter((len(x) for x in balls), dtype=np.intp, count=len(balls))
     c = np.fromiter((i for ball in balls for i in ball), dtype=np.intp, count=int(sizes.sum()))
-    owner = np.repeat(np.arange(len(cand)), sizes)
+    owner = np.repeat(np.arange(len(a)), sizes)
     dac = np.hypot(*(xy[c] - xy[a[owner]]).T)
     dbc = np.hypot(*(xy[c] - xy[b[owner]]).T)
     blocks = (c != a[owner]) & (c != b[owner]) & (np.maximum(dac, dbc) < (1 - tol) * r[owner])
-    blocked = np.zeros(len(cand), dtype=bool)
+    blocked = np.zeros(len(a), dtype=bool)
     np.logical_or.at(blocked, owner, blocks)
-    pairs = np.sort(np.stack([g[a[~blocked]], g[b[~blocked]]], axis=1), axis=1)
-    return np.unique(pairs, axis=0).reshape(-1, 2)
+    return blocked
 
 
 def centre_line_points(footings: Sequence[Footing]) -> tuple[np.ndarray, np.ndarray]:
@@ -859,9 +895,7 @@ def _index(ids: dict[str, int], fid: str, where: str) -> int:
     return ids[fid]
 
 
-def _pair_list(
-    footings: Sequence[Footing], settings: CheckSettings, extra_ids=(), auto_pairs=None
-):
+def _pair_list(footings: Sequence[Footing], settings: CheckSettings, extra_ids=(), auto_pairs=None):
     """Pairs to check: {(a, b): origin}, plus the structure lines as index arrays.
 
     ``extra_ids`` (query points) may appear in listed pairs and structure lines;
