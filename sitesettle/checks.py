@@ -72,6 +72,7 @@ def _sector_candidates(xy: np.ndarray, tol: float):
     dist, idx = dist.reshape(n, k), idx.reshape(n, k)
     scale = max(float(np.ptp(xy, axis=0).max()), 1.0)
     tie = 1.0 + 4.0 * tol
+    hull = _hull(xy)
 
     def pick(a_rows: np.ndarray, d: np.ndarray, j: np.ndarray, complete: bool):
         """Candidates from the neighbour lists (rows) of points a_rows."""
@@ -90,7 +91,15 @@ def _sector_candidates(xy: np.ndarray, tol: float):
         if complete:
             settled = np.ones(len(a_rows), dtype=bool)
         else:
-            settled = np.all(near * tie < d[:, -1:], axis=1)
+            done = near * tie < d[:, -1:]
+            # a sector is complete too when no point of the plan can lie in it beyond
+            # the last of the list (the plan's edge: sectors that hold no point at all)
+            open_ = np.flatnonzero(~done.all(axis=1))
+            if len(open_) and hull is not None:
+                reach = _sector_reach(xy[a_rows[open_]], *hull)
+                margin = 1e-9 * (reach + scale)
+                done[open_] |= reach + margin < d[open_, -1:]
+            settled = done.all(axis=1)
         return a[keep & settled[:, None]], j[keep & settled[:, None]], a_rows[~settled]
 
     a1, b1, todo = pick(np.arange(n), dist, idx, complete=(k == n))
@@ -112,6 +121,53 @@ def _sector_candidates(xy: np.ndarray, tol: float):
     cand = np.concatenate(pairs).astype(np.intp)
     cand = np.sort(cand, axis=1)
     return np.unique(cand, axis=0), dist, idx
+
+
+def _hull(xy: np.ndarray):
+    """The convex hull of the points as (outward unit normals (m, 2), offsets (m,),
+    vertices (v, 2)): inside, n·x + c ≤ 0. None when it has no area (fewer than three
+    points, all on one line)."""
+    from scipy.spatial import ConvexHull, QhullError
+
+    if len(xy) < 3:
+        return None
+    try:
+        h = ConvexHull(xy)
+    except (QhullError, ValueError):
+        return None
+    return h.equations[:, :2], h.equations[:, 2], h.points[h.vertices]
+
+
+def _sector_reach(p: np.ndarray, normals, offsets, vertices) -> np.ndarray:
+    """(len(p), 6): for each point and each 60° sector of :func:`_sector_candidates`,
+    the largest distance from the point to a point of the convex hull inside the
+    sector (widened by 1e-7 rad on each side).
+
+    The hull's part inside a sector is a convex polygon whose corners are the point,
+    where the sector's two edge rays leave the hull and the hull's vertices inside
+    the sector; the distance is largest at one of them. A sector whose reach is
+    shorter than the distance already searched around the point holds no other
+    point of the plan.
+    """
+    eps = 1e-7
+    out = np.zeros((len(p), 6))
+    ang = np.arctan2(vertices[None, :, 1] - p[:, 1:2], vertices[None, :, 0] - p[:, 0:1])
+    dv = np.hypot(vertices[None, :, 0] - p[:, 0:1], vertices[None, :, 1] - p[:, 1:2])
+    inside = -(p @ normals.T + offsets)  # ≥ 0 for points in the hull
+    inside = np.maximum(inside, 0.0)
+    for s in range(6):
+        lo = -math.pi + s * math.pi / 3 - eps
+        width = math.pi / 3 + 2 * eps
+        in_cone = np.mod(ang - lo, 2 * math.pi) <= width
+        far = np.where(in_cone, dv, 0.0).max(axis=1) if vertices.size else np.zeros(len(p))
+        for theta in (lo, lo + width):  # where each edge ray leaves the hull
+            u = np.array([math.cos(theta), math.sin(theta)])
+            nu = normals @ u
+            with np.errstate(divide="ignore", invalid="ignore"):
+                t = np.where(nu > 0, inside / nu, np.inf)
+            far = np.maximum(far, t.min(axis=1))
+        out[:, s] = far
+    return out
 
 
 def neighbour_pairs(xy: np.ndarray, groups: np.ndarray | None = None) -> np.ndarray:
