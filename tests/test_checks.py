@@ -842,3 +842,35 @@ def test_one_footing_and_bad_shapes():
         check_movements(f, times, total.T[:, :0], pxy, pt, CheckSettings())
     with pytest.raises(ValueError, match="point arrays"):
         check_movements(f, times, total, pxy[..., :1], pt, CheckSettings())
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.integers(3, 40), st.integers(0, 2**31 - 1))
+def test_sector_reach_bounds_every_point_of_the_hull_in_the_sector(m, seed):
+    """The reach of each 60° sector (the proof that a sector at the plan's edge holds
+    no point) is at least the distance to every point of the convex hull inside the
+    sector: checked against 20,000 points sampled uniformly in the hull (rejection
+    sampling, scipy's Delaunay for inside-ness: an independent geometry)."""
+    from scipy.spatial import Delaunay
+
+    from sitesettle.checks import _hull, _sector_reach
+
+    rng = np.random.default_rng(seed)
+    xy = rng.uniform(0.0, 50.0, (m, 2))
+    hull = _hull(xy)
+    if hull is None:
+        return
+    tri = Delaunay(xy)
+    sample = rng.uniform(xy.min(axis=0), xy.max(axis=0), (20_000, 2))
+    sample = sample[tri.find_simplex(sample) >= 0]
+    p = xy[rng.integers(0, m, 5)]  # points of the plan: inside or on the hull
+    reach = _sector_reach(p, *hull)
+    for i in range(len(p)):
+        delta = sample - p[i]
+        sector = np.floor((np.arctan2(delta[:, 1], delta[:, 0]) + math.pi) / (math.pi / 3))
+        sector = np.clip(sector, 0, 5).astype(int)
+        dist = np.hypot(delta[:, 0], delta[:, 1])
+        for s in range(6):
+            inside = dist[sector == s]
+            if len(inside):
+                assert inside.max() <= reach[i, s] * (1 + 1e-9) + 1e-9
