@@ -121,6 +121,40 @@ def _unblock() -> None:
         signal.pthread_sigmask(signal.SIG_UNBLOCK, _HELD)
 
 
+class _Deferred:
+    """SIGINT and SIGTERM noted, not handled, while in the block; handled as they
+    would have been just after it (by the handlers that were in place).
+
+    Blocking them in this thread is not enough: the kernel then hands a signal sent
+    to the process to another thread (the stress engine's pool, say), and Python runs
+    the handler in this thread at its next chance, which may be inside an at-fork
+    hook. Outside the main thread (where handlers cannot be set) it only blocks.
+    """
+
+    def __enter__(self):
+        self.came: list[int] = []
+        self.old: dict[int, object] = {}
+        try:
+            for sig in _HELD:
+                self.old[sig] = signal.signal(sig, lambda signum, frame: self.came.append(signum))
+        except ValueError:  # not the main thread
+            self._restore()
+        _block()
+        return self
+
+    def _restore(self) -> None:
+        for sig, handler in self.old.items():
+            signal.signal(sig, handler)
+        self.old = {}
+
+    def __exit__(self, *exc):
+        self._restore()
+        _unblock()  # a signal held back is handled here, by the restored handler
+        for sig in dict.fromkeys(self.came):  # each noted signal once, in order
+            signal.raise_signal(sig)
+        return False
+
+
 def _child(names, fd, parent, results, units, section) -> None:
     """The worker: draw ``names``, send each as it is done, then exit (never returns)."""
     code = 0
@@ -190,13 +224,12 @@ class FigureJob:
         parent = os.getpid()
         sys.stdout.flush()
         sys.stderr.flush()
-        # SIGINT and SIGTERM are held back over the fork: Python runs the at-fork
-        # hooks (logging's, for one) in the parent right after fork(), and an
-        # exception that a signal handler raises inside a hook is printed and
-        # dropped, so the run would go on and end as if never interrupted. Held
-        # back, the signal is handled once they are unblocked, in this frame.
-        _block()
-        try:
+        # SIGINT and SIGTERM are deferred over the fork: Python runs the at-fork
+        # hooks (logging's, for one) around fork(), and an exception that a signal
+        # handler raises inside a hook is printed and dropped, so the run would go on
+        # and end as if never interrupted. Deferred, the signal is handled once the
+        # fork is done, in this frame.
+        with _Deferred():
             try:
                 with warnings.catch_warnings():
                     # Python 3.12+ warns that fork() in a process with threads may
@@ -214,8 +247,6 @@ class FigureJob:
                 _child(names, w, parent, *self._args)  # never returns (os._exit)
             self._workers.append(_Worker(pid, r, names))  # known before a signal ends the run
             os.close(w)
-        finally:
-            _unblock()  # in the parent; a signal that came meanwhile is handled here
 
     def _collect(self) -> None:
         """Read every worker until it has finished, failed, died or gone silent."""
