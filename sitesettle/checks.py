@@ -55,7 +55,8 @@ _FULL_SCAN_ELEMENTS = 1_000_000
 
 def _sector_candidates(xy: np.ndarray, tol: float):
     """Pairs (a, b) where b is the nearest point to a in one of six 60° sectors; and
-    each point's k nearest (distances and indices, (n, k), nearest first).
+    each point's k nearest (distances and indices, (n, k), nearest first) and the k-d
+    tree of the points, for the blocking test that follows.
 
     Every edge ab of the relative neighbourhood graph is such a pair: if c lies in
     the same 60° sector of a as b and d(a,c) < d(a,b), then the angle bac ≤ 60° gives
@@ -120,7 +121,7 @@ def _sector_candidates(xy: np.ndarray, tol: float):
         pairs.append(np.stack([aa, bb], axis=1))
     cand = np.concatenate(pairs).astype(np.intp)
     cand = np.sort(cand, axis=1)
-    return np.unique(cand, axis=0), dist, idx
+    return np.unique(cand, axis=0), dist, idx, tree
 
 
 def _hull(xy: np.ndarray):
@@ -220,7 +221,7 @@ def neighbour_pairs(xy: np.ndarray, groups: np.ndarray | None = None) -> np.ndar
     if n < 2:
         return np.zeros((0, 2), dtype=np.intp)
     tol = NEIGHBOUR_TOLERANCE
-    cand, knn_d, knn_i = _sector_candidates(xy, tol)
+    cand, knn_d, knn_i, tree = _sector_candidates(xy, tol)
     cand = cand[g[cand[:, 0]] != g[cand[:, 1]]]
     a, b = cand[:, 0], cand[:, 1]
     r = np.hypot(*(xy[a] - xy[b]).T)
@@ -243,7 +244,6 @@ def neighbour_pairs(xy: np.ndarray, groups: np.ndarray | None = None) -> np.ndar
     # a bounded number of (pair, point) tests
     rest = np.flatnonzero(~blocked & ~covered)
     if len(rest):
-        tree = cKDTree(xy)
         sizes = np.asarray(tree.query_ball_point(xy[a[rest]], r[rest], return_length=True))
         ends = np.cumsum(sizes)
         k0 = 0
